@@ -1,0 +1,240 @@
+// Plain data shared by the engine, the CLI, the server and the web report.
+// Nothing here does I/O; every type is JSON-serialisable.
+
+/** A problem found in a design file or a config file. Line and column are 1-based. */
+export interface Diagnostic {
+  severity: 'error' | 'warning';
+  /** Stable code, listed in shared/diagnostics.ts and docs/diagnostics.md. */
+  code: string;
+  message: string;
+  line: number | null;
+  column: number | null;
+  /** Path of the offending value inside the document, e.g. ['edges', 3, 'from']. */
+  path?: (string | number)[];
+}
+
+// ---------------------------------------------------------------- design (format pleat/1)
+
+export type NodeOp = 'add' | 'sub' | 'mul' | 'gain' | 'neg' | 'pass';
+
+export interface Unit {
+  id: string;
+  kind: string;
+  stages: number;
+}
+
+export interface DfgNode {
+  id: string;
+  /** 'input', 'output', or an operation kind that some unit has. */
+  kind: string;
+  time?: number;
+  slot?: number;
+  coefficient?: number;
+  op?: NodeOp;
+}
+
+export interface Edge {
+  from: string;
+  to: string;
+  /** Always present after loading (default 0). */
+  delays: number;
+  port?: number;
+}
+
+export interface Folding {
+  factor: number;
+  /** unit id -> node id (or null = idle) per time partition; lists may be shorter than N. */
+  sets: Record<string, (string | null)[]>;
+  latency: 'free' | 'fixed';
+}
+
+/** A loaded, validated design: defaults filled in, order of the file kept. */
+export interface Design {
+  format: 'pleat/1';
+  name: string;
+  description?: string;
+  clockNs?: number;
+  kinds: Record<string, { time: number }>;
+  units: Unit[];
+  nodes: DfgNode[];
+  edges: Edge[];
+  folding: Folding;
+}
+
+export interface LoadResult {
+  /** null when any error diagnostic was found. */
+  design: Design | null;
+  diagnostics: Diagnostic[];
+}
+
+// ---------------------------------------------------------------- analysis results
+
+export interface EdgeResult {
+  from: string;
+  to: string;
+  delays: number;
+  /** null for a tap into an output without slot. */
+  foldedDelay: number | null;
+  retimedDelays: number;
+  retimedFoldedDelay: number | null;
+}
+
+/** One edge of a loop that makes retiming impossible, in DFG terms. */
+export interface ConflictEdge {
+  from: string;
+  to: string;
+  delays: number;
+  foldedDelay: number | null;
+  /** True when the step goes through the shared boundary (inputs or outputs tied together). */
+  viaBoundary?: boolean;
+}
+
+export interface RetimingConflict {
+  /** The DFG loop (or input-to-output path tied by the boundary rule) whose constraints cannot all hold. */
+  edges: ConflictEdge[];
+  /** Sum of delays and of pipeline stages on the loop. */
+  loopDelays: number;
+  loopStages: number;
+  /** Smallest folding factor this loop allows: ceil(loopStages / loopDelays); null if loopDelays = 0. */
+  minFactor: number | null;
+  /** Edges of the loop whose folded delay is negative: the positions that conflict. */
+  conflictingEdges: { from: string; to: string; foldedDelay: number }[];
+  /** What would fix it, in words an engineer can act on. */
+  suggestions: string[];
+}
+
+export interface RetimingResult {
+  needed: boolean;
+  feasible: boolean;
+  /** Every node when feasible (inputs normalised to 0); {} when not. */
+  values: Record<string, number>;
+  /** r(outputs) - r(inputs): iterations of latency that retiming adds. */
+  latencyAdded: number;
+  conflict: RetimingConflict | null;
+  /** Which of the valid solutions is reported, in one sentence. */
+  method?: string;
+}
+
+export interface Utilization {
+  overall: number;
+  units: Record<string, number>;
+}
+
+export interface Registers {
+  perEdge: number;
+  delayLines: number;
+  minimum: number;
+}
+
+/** One variable of lifetime analysis: produced at tIn, last used at tOut (absolute cycles of iteration 0). */
+export interface Lifetime {
+  /** Variable name: the producing node id, or `input->consumer` for a held input. */
+  variable: string;
+  node: string;
+  tIn: number;
+  tOut: number;
+}
+
+export interface LifetimeChart {
+  factor: number;
+  variables: Lifetime[];
+  /** live[t] for t in 0..N-1 in the periodic steady state. */
+  live: number[];
+}
+
+/** Forward-backward allocation in the periodic steady state: one row per partition 0..N-1. */
+export interface Allocation {
+  registers: number;
+  factor: number;
+  /** 'forward-backward' or a documented fallback. */
+  method: string;
+  /**
+   * cells[t][k]: the variable held by register k during partition t (steady state), or null.
+   * A variable instance is written `name` or `name@j` when it is j iterations old (j >= 1).
+   */
+  cells: (string | null)[][];
+  /** Register transfers: at the end of partition `cycle`, `from` (register index or 'unit') loads register `to`. */
+  moves: { cycle: number; variable: string; from: number | 'unit'; to: number }[];
+}
+
+export interface IterationBound {
+  /** numerator / denominator, reduced; value is its float. */
+  value: number;
+  numerator: number;
+  denominator: number;
+  /** Node ids of the critical loop, in order along the edges. */
+  loop: string[];
+}
+
+/** The schedule: which node each unit runs in each partition. */
+export interface ScheduleRow {
+  unit: string;
+  kind: string;
+  stages: number;
+  slots: (string | null)[];
+}
+
+export interface Analysis {
+  factor: number;
+  edges: EdgeResult[];
+  retiming: RetimingResult;
+  utilization: Utilization;
+  /** null when no feasible folded datapath exists. */
+  registers: Registers | null;
+  lifetimes: LifetimeChart | null;
+  /** null when no feasible datapath exists or the table would be too large (see allocationOmitted). */
+  allocation: Allocation | null;
+  allocationOmitted?: string;
+  /** null for a DFG without loops. */
+  iterationBound: IterationBound | null;
+  factorLowerBound: number;
+  schedule: ScheduleRow[];
+  samplePeriodNs: number | null;
+  sampleRateMHz: number | null;
+}
+
+// ---------------------------------------------------------------- rules and report
+
+export type NegativeDelayPolicy = 'fail' | 'retime' | 'warn';
+
+export interface Rules {
+  negative_delays?: NegativeDelayPolicy;
+  min_utilization?: number;
+  min_unit_utilization?: number;
+  max_registers?: number;
+}
+
+export type RuleName = keyof Rules;
+export type RuleSource = 'team' | 'repository' | 'default';
+
+/** The rules in force for one check, each with where it came from. */
+export type EffectiveRules = { [K in RuleName]?: { value: Required<Rules>[K]; source: RuleSource } };
+
+export interface Violation {
+  rule: RuleName;
+  source: RuleSource;
+  limit: number | string;
+  actual: number | string;
+  message: string;
+  /** For min_unit_utilization: the unit that falls short. */
+  unit?: string;
+}
+
+export type Status = 'pass' | 'fail' | 'error';
+
+export interface DesignReport extends Partial<Analysis> {
+  file: string;
+  name: string | null;
+  status: Status;
+  diagnostics: Diagnostic[];
+  violations: Violation[];
+}
+
+export interface Report {
+  format: 'pleat-report/1';
+  tool: { name: 'pleat'; version: string };
+  git: { branch: string | null; commit: string | null; baseBranch?: string | null; baseCommit?: string | null };
+  verdict: Status;
+  rules: EffectiveRules;
+  designs: DesignReport[];
+}
