@@ -1,0 +1,235 @@
+// Method: YAML 1.2 reading with js-yaml (core schema, no positions) under size, alias and count limits, then shared/validate.ts.
+// Convention: never throws; every problem is a Diagnostic with a 1-based line and column, sorted by line.
+import { load } from 'js-yaml';
+import type { Diagnostic, LoadResult } from './types';
+import { diag, diagAt, sortDiagnostics } from './diagnostics';
+import { validateDesign } from './validate';
+import { locate } from './positions';
+
+export interface Limits {
+  /** Largest file, in bytes of UTF-8. */
+  maxBytes: number;
+  /** Most values that YAML aliases may add to the document once expanded. */
+  maxAliasExpansion: number;
+  maxNodes: number;
+  maxEdges: number;
+}
+
+export const DEFAULT_LIMITS: Limits = {
+  maxBytes: 16 * 1024 * 1024,
+  maxAliasExpansion: 1_000_000,
+  maxNodes: 1_000_000,
+  maxEdges: 1_000_000,
+};
+
+/** js-yaml's own nesting bound (its default); deeper documents get `nesting-limit`. */
+const MAX_DEPTH = 100;
+
+/** UTF-8 length of a string; once past `limit` it stops early and returns a lower bound. */
+function utf8Length(text: string, limit: number): number {
+  if (text.length > limit) return text.length; // every UTF-16 unit is at least one byte
+  if (text.length * 3 <= limit) return text.length; // every UTF-16 unit is at most three bytes
+  let bytes = 0;
+  for (let i = 0; i < text.length; i++) {
+    const c = text.charCodeAt(i);
+    if (c < 0x80) bytes += 1;
+    else if (c < 0x800) bytes += 2;
+    else if (c >= 0xd800 && c <= 0xdbff && i + 1 < text.length) {
+      const d = text.charCodeAt(i + 1);
+      if (d >= 0xdc00 && d <= 0xdfff) {
+        bytes += 4;
+        i++;
+      } else bytes += 3;
+    } else bytes += 3;
+    if (bytes > limit) return bytes;
+  }
+  return bytes;
+}
+
+interface YamlError {
+  reason?: unknown;
+  message?: unknown;
+  mark?: { line?: unknown; column?: unknown } | null;
+}
+
+/** Where the second document of a stream starts: the first `---` or `...` line after some content. */
+function secondDocument(text: string): [number, number] {
+  const lines = text.split('\n');
+  let content = false;
+  for (let i = 0; i < lines.length; i++) {
+    const l = lines[i].replace(/\r$/, '');
+    if (/^(---|\.\.\.)(\s|$)/.test(l)) {
+      if (content) return [i + 1, 1];
+      if (l.startsWith('---') && /\S/.test(l.slice(3).replace(/#.*/, ''))) content = true;
+      continue;
+    }
+    if (/^\s*(#.*)?$/.test(l) || l.startsWith('%')) continue;
+    content = true;
+  }
+  return [1, 1];
+}
+
+function yamlDiagnostic(err: unknown, text: string): Diagnostic {
+  const e = (err ?? {}) as YamlError;
+  const reason = typeof e.reason === 'string' && e.reason ? e.reason : String(e.message ?? err);
+  const mark = e.mark;
+  let line = 1;
+  let column = 1;
+  if (mark && typeof mark.line === 'number' && typeof mark.column === 'number') {
+    // js-yaml marks are 0-based
+    line = mark.line + 1;
+    column = mark.column + 1;
+  }
+  if (/maxDepth/.test(reason)) {
+    return diagAt('nesting-limit', `collections are nested more than ${MAX_DEPTH} levels deep; a design needs five at most`, line, column);
+  }
+  if (/input is empty/.test(reason)) {
+    return diagAt('empty-file', 'the file holds no YAML document; a design starts with `format: pleat/1`', 1, 1);
+  }
+  if (/single document/.test(reason)) {
+    const [l, c] = secondDocument(text);
+    return diagAt('yaml-syntax', 'YAML syntax: the file holds more than one document; a design file holds exactly one', l, c);
+  }
+  return diagAt('yaml-syntax', `YAML syntax: ${reason}`, line, column);
+}
+
+/**
+ * Counts the values that aliases add when the shared references js-yaml returns are expanded,
+ * memoising the size of every collection by identity so a bomb costs no more than its text.
+ * Returns the path of the largest single expansion past the bound, or of a structure that contains itself.
+ */
+function aliasProblem(doc: unknown, bound: number): { path: (string | number)[]; selfReference: boolean } | null {
+  if (typeof doc !== 'object' || doc === null) return null;
+  const size = new Map<object, number>(); // finished collections: expanded size
+  const open = new Set<object>(); // collections on the current descent
+  let distinct = 0; // values counted once per collection, as written in the text
+  let largest = 0;
+  let largestPath: (string | number)[] = [];
+
+  interface Frame {
+    obj: object;
+    keys: (string | number)[];
+    i: number;
+    total: number;
+  }
+  const stack: Frame[] = [];
+  const pathOf = (extra: string | number): (string | number)[] => {
+    const p: (string | number)[] = [];
+    for (let k = 1; k < stack.length; k++) p.push(stack[k - 1].keys[stack[k - 1].i - 1]);
+    p.push(extra);
+    return p;
+  };
+  const enter = (obj: object) => {
+    open.add(obj);
+    const keys: (string | number)[] = Array.isArray(obj) ? obj.map((_, i) => i) : Object.keys(obj);
+    distinct += 1;
+    stack.push({ obj, keys, i: 0, total: 1 });
+  };
+  enter(doc);
+  while (stack.length) {
+    const f = stack[stack.length - 1];
+    if (f.i < f.keys.length) {
+      const key = f.keys[f.i++];
+      const child = (f.obj as Record<string | number, unknown>)[key];
+      if (typeof child !== 'object' || child === null) {
+        f.total += 1;
+        distinct += 1;
+        continue;
+      }
+      if (open.has(child)) return { path: pathOf(key), selfReference: true };
+      const known = size.get(child);
+      if (known !== undefined) {
+        // a second sight of the same collection: an alias expands it again
+        f.total += known;
+        if (known > largest) {
+          largest = known;
+          largestPath = pathOf(key);
+        }
+        continue;
+      }
+      enter(child);
+    } else {
+      stack.pop();
+      open.delete(f.obj);
+      size.set(f.obj, f.total);
+      if (stack.length) stack[stack.length - 1].total += f.total;
+      else if (f.total - distinct > bound) return { path: largestPath, selfReference: false };
+    }
+  }
+  return null;
+}
+
+function limitResult(text: string, d: Diagnostic): LoadResult {
+  return { design: null, diagnostics: sortDiagnostics(locate(text, [d])) };
+}
+
+function loadUnchecked(input: string, limits: Limits): LoadResult {
+  const text = input.charCodeAt(0) === 0xfeff ? input.slice(1) : input;
+  const bytes = utf8Length(text, limits.maxBytes);
+  if (bytes > limits.maxBytes) {
+    const size = (n: number) => (n >= 1024 * 1024 ? `${(n / (1024 * 1024)).toFixed(1)} MiB` : `${n} bytes`);
+    return {
+      design: null,
+      diagnostics: [diagAt('file-too-large', `the file is larger than ${size(limits.maxBytes)}, the limit for a design file; split the design`, 1, 1)],
+    };
+  }
+
+  let doc: unknown;
+  try {
+    doc = load(text, { maxDepth: MAX_DEPTH });
+  } catch (err) {
+    return { design: null, diagnostics: [yamlDiagnostic(err, text)] };
+  }
+
+  // Aliases need an anchor (`&`) and a reference (`*`): without both, nothing is shared.
+  if (text.includes('&') && text.includes('*')) {
+    const problem = aliasProblem(doc, limits.maxAliasExpansion);
+    if (problem) {
+      const message = problem.selfReference
+        ? 'a YAML alias refers to a collection that contains it; the document would be infinite'
+        : `YAML aliases expand to more than ${limits.maxAliasExpansion.toLocaleString('en-US')} extra values; write the values out or remove the aliases`;
+      return limitResult(text, diag('alias-limit', message, problem.path));
+    }
+  }
+
+  if (typeof doc === 'object' && doc !== null && !Array.isArray(doc)) {
+    const d = doc as Record<string, unknown>;
+    const over: Diagnostic[] = [];
+    if (Array.isArray(d.nodes) && d.nodes.length > limits.maxNodes) {
+      over.push(diag('too-many-nodes', `the design has ${d.nodes.length} nodes; the limit is ${limits.maxNodes}`, ['nodes']));
+    }
+    if (Array.isArray(d.edges) && d.edges.length > limits.maxEdges) {
+      over.push(diag('too-many-edges', `the design has ${d.edges.length} edges; the limit is ${limits.maxEdges}`, ['edges']));
+    }
+    if (over.length) return { design: null, diagnostics: sortDiagnostics(locate(text, over)) };
+  }
+
+  const { design, diagnostics } = validateDesign(doc);
+  if (diagnostics.length === 0) return { design, diagnostics };
+  return { design, diagnostics: sortDiagnostics(locate(text, diagnostics)) };
+}
+
+/**
+ * Reads a design file's text into a validated, normalised Design. Never throws and never hangs:
+ * every problem, including a failure of the checker itself, comes back as a diagnostic.
+ */
+export function loadDesign(text: string, options?: { limits?: Partial<Limits> }): LoadResult {
+  try {
+    const limits: Limits = { ...DEFAULT_LIMITS };
+    const given = options?.limits ?? {};
+    for (const k of Object.keys(DEFAULT_LIMITS) as (keyof Limits)[]) {
+      const v = given[k];
+      if (typeof v === 'number' && v >= 0) limits[k] = v;
+    }
+    if (typeof text !== 'string') {
+      return { design: null, diagnostics: [diagAt('internal-error', 'the design was not given as text', 1, 1)] };
+    }
+    return loadUnchecked(text, limits);
+  } catch (err) {
+    const what = err instanceof Error ? err.message : String(err);
+    return {
+      design: null,
+      diagnostics: [diagAt('internal-error', `the checker failed while reading this file (${what}); please report it`, 1, 1)],
+    };
+  }
+}

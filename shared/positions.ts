@@ -1,0 +1,175 @@
+// Method: maps a diagnostic's document path to the source offset of that value by walking js-yaml's event stream.
+// Convention: line and column are 1-based, columns count UTF-16 code units; a path that is not in the text falls back to its nearest parent.
+import { parseEvents, getScalarValue, type Event, type ScalarEvent } from 'js-yaml';
+import type { Diagnostic } from './types';
+import { KEY_CODES } from './diagnostics';
+
+// Event type ids of js-yaml's parser (EVENT_ID in its typings).
+const DOCUMENT = 1;
+const SEQUENCE = 2;
+const MAPPING = 3;
+const SCALAR = 4;
+const ALIAS = 5;
+const POP = 6;
+// Quoted scalar styles: their value starts after the quote; point at the quote.
+const SINGLE_QUOTED = 2;
+const DOUBLE_QUOTED = 3;
+
+/** One step of a wanted path; only the paths of the diagnostics are kept, so the walk skips the rest. */
+interface Trie {
+  children: Map<string, Trie> | null;
+  keyOffset: number;
+  valueOffset: number;
+}
+
+function newTrie(): Trie {
+  return { children: null, keyOffset: -1, valueOffset: -1 };
+}
+
+interface Frame {
+  isMap: boolean;
+  trie: Trie | null;
+  index: number;
+  expectKey: boolean;
+  pending: Trie | null;
+  pendingKey: number;
+}
+
+function nodeOffset(ev: Event): number {
+  switch (ev.type) {
+    case SCALAR: {
+      const s = ev as ScalarEvent;
+      if (s.valueStart < 0) return s.anchorStart >= 0 ? s.anchorStart - 1 : s.tagStart;
+      return s.style === SINGLE_QUOTED || s.style === DOUBLE_QUOTED ? s.valueStart - 1 : s.valueStart;
+    }
+    case SEQUENCE:
+    case MAPPING:
+      return ev.start;
+    case ALIAS:
+      return ev.anchorStart - 1; // the `*`
+    default:
+      return -1;
+  }
+}
+
+/** Fills the wanted tries with key and value offsets in one pass over the events of the first document. */
+function walk(text: string, root: Trie): void {
+  const events = parseEvents(text, {});
+  const frames: Frame[] = [];
+  let docs = 0;
+  for (let k = 0; k < events.length; k++) {
+    const ev = events[k];
+    const t = ev.type;
+    if (t === DOCUMENT) {
+      if (++docs > 1) break;
+      continue;
+    }
+    if (t === POP) {
+      frames.pop();
+      continue;
+    }
+    let trie: Trie | null = null;
+    const top = frames.length ? frames[frames.length - 1] : null;
+    if (top === null) {
+      trie = root;
+      root.valueOffset = nodeOffset(ev);
+    } else if (!top.isMap) {
+      const idx = top.index++;
+      if (top.trie?.children) {
+        trie = top.trie.children.get(String(idx)) ?? null;
+        if (trie) trie.valueOffset = nodeOffset(ev);
+      }
+    } else if (top.expectKey) {
+      top.expectKey = false;
+      top.pending = null;
+      if (t === SCALAR && top.trie?.children) {
+        const key = getScalarValue(text, ev as ScalarEvent);
+        top.pending = top.trie.children.get(key) ?? null;
+        top.pendingKey = nodeOffset(ev);
+      }
+      if (t === SEQUENCE || t === MAPPING) frames.push({ isMap: t === MAPPING, trie: null, index: 0, expectKey: true, pending: null, pendingKey: -1 });
+      continue;
+    } else {
+      top.expectKey = true;
+      trie = top.pending;
+      top.pending = null;
+      if (trie) {
+        trie.keyOffset = top.pendingKey;
+        trie.valueOffset = nodeOffset(ev);
+      }
+    }
+    if (t === SEQUENCE || t === MAPPING) {
+      frames.push({ isMap: t === MAPPING, trie: trie?.children ? trie : null, index: 0, expectKey: true, pending: null, pendingKey: -1 });
+    }
+  }
+}
+
+/** 1-based line and column of each offset, by one scan over the text. */
+function lineColumns(text: string, offsets: number[]): Map<number, [number, number]> {
+  const sorted = [...new Set(offsets)].sort((a, b) => a - b);
+  const result = new Map<number, [number, number]>();
+  let line = 1;
+  let lineStart = 0;
+  let scan = 0;
+  for (const off of sorted) {
+    const target = Math.min(Math.max(off, 0), text.length);
+    for (;;) {
+      const nl = text.indexOf('\n', scan);
+      if (nl < 0 || nl >= target) break;
+      line++;
+      lineStart = nl + 1;
+      scan = nl + 1;
+    }
+    result.set(off, [line, target - lineStart + 1]);
+  }
+  return result;
+}
+
+/**
+ * Returns the diagnostics with line and column filled from their `path` (those that already have a
+ * line are kept as they are). Never throws: anything it cannot place goes to line 1, column 1.
+ */
+export function locate(text: string, diagnostics: Diagnostic[]): Diagnostic[] {
+  const wanted = diagnostics.filter((d) => d.line === null || d.column === null);
+  if (wanted.length === 0) return diagnostics;
+  const root = newTrie();
+  for (const d of wanted) {
+    let t = root;
+    for (const seg of d.path ?? []) {
+      const key = String(seg);
+      if (!t.children) t.children = new Map();
+      let c = t.children.get(key);
+      if (!c) {
+        c = newTrie();
+        t.children.set(key, c);
+      }
+      t = c;
+    }
+  }
+  try {
+    walk(text, root);
+  } catch {
+    // js-yaml already read this text once; if its event parser disagrees, fall back to the start.
+  }
+  const chosen = new Map<Diagnostic, number>();
+  for (const d of wanted) {
+    let t: Trie | undefined = root;
+    let off = root.valueOffset;
+    const path = d.path ?? [];
+    for (let i = 0; i < path.length && t; i++) {
+      t = t.children?.get(String(path[i]));
+      if (!t) break;
+      const last = i === path.length - 1;
+      const here = last && KEY_CODES.has(d.code) && t.keyOffset >= 0 ? t.keyOffset : t.valueOffset >= 0 ? t.valueOffset : t.keyOffset;
+      if (here >= 0) off = here;
+    }
+    chosen.set(d, off);
+  }
+  const positions = lineColumns(text, [...chosen.values()]);
+  return diagnostics.map((d) => {
+    if (!chosen.has(d)) return d;
+    const off = chosen.get(d)!;
+    const pos = off >= 0 ? positions.get(off) : undefined;
+    return { ...d, line: pos ? pos[0] : 1, column: pos ? pos[1] : 1 };
+  });
+}
