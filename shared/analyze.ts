@@ -1,0 +1,92 @@
+// Method: runs every analysis of the folding methods (docs/engine.md) on one validated design.
+// Convention: the datapath is the retimed one when retiming was needed and exists, else the original.
+import type { Analysis, Design, EdgeResult, ScheduleRow } from './types';
+import { buildGraph, type IndexedGraph } from './graph';
+import { asNullable, foldedDelays } from './foldedDelay';
+import { retime, retimedDelays } from './retiming';
+import { registerCounts } from './registers';
+import { allocateRegisters } from './allocation';
+import { utilization } from './utilization';
+import { factorLowerBound, iterationBound, loopStructure } from './iterationBound';
+
+export interface AnalyzeOptions {
+  /** Largest allocation table (partitions x registers) the result may carry; default 200,000. */
+  maxAllocationCells?: number;
+}
+
+export const DEFAULT_MAX_ALLOCATION_CELLS = 200_000;
+
+export function analyze(design: Design, options: AnalyzeOptions = {}): Analysis {
+  const maxCells = options.maxAllocationCells ?? DEFAULT_MAX_ALLOCATION_CELLS;
+  const g = buildGraph(design);
+  const N = g.factor;
+  const folded = foldedDelays(g);
+  const { result: retiming, nodeRetiming } = retime(g, folded, design.folding.latency ?? 'free');
+
+  // The delays the folded datapath uses: retimed when a retiming was needed and exists.
+  let finalDelays = g.edgeDelays;
+  let finalFolded = folded;
+  if (retiming.needed && nodeRetiming) {
+    finalDelays = retimedDelays(g, nodeRetiming);
+    finalFolded = foldedDelays(g, finalDelays);
+  }
+
+  const edges: EdgeResult[] = new Array(g.edgeCount);
+  for (let e = 0; e < g.edgeCount; e++) {
+    edges[e] = {
+      from: design.edges[e].from,
+      to: design.edges[e].to,
+      delays: g.edgeDelays[e],
+      foldedDelay: asNullable(folded[e]),
+      retimedDelays: finalDelays[e],
+      retimedFoldedDelay: asNullable(finalFolded[e]),
+    };
+  }
+
+  let registers: Analysis['registers'] = null;
+  let lifetimes: Analysis['lifetimes'] = null;
+  let allocation: Analysis['allocation'] = null;
+  let allocationOmitted: string | undefined;
+  if (retiming.feasible) {
+    const counts = registerCounts(g, finalFolded, finalDelays);
+    registers = counts.registers;
+    lifetimes = counts.lifetimes;
+    const cells = N * registers.minimum;
+    if (cells > maxCells) {
+      allocationOmitted = `the allocation table would have ${N} partitions x ${registers.minimum} registers = ${cells} cells, more than the limit of ${maxCells}`;
+    } else {
+      allocation = allocateRegisters(lifetimes, registers.minimum);
+    }
+  } else {
+    allocationOmitted = 'no feasible folded datapath: retiming cannot remove the negative folded delays';
+  }
+
+  const loops = loopStructure(g);
+  const samplePeriodNs = design.clockNs !== undefined && design.clockNs !== null ? N * design.clockNs : null;
+  const result: Analysis = {
+    factor: N,
+    edges,
+    retiming,
+    utilization: utilization(g),
+    registers,
+    lifetimes,
+    allocation,
+    iterationBound: iterationBound(design, g, loops),
+    factorLowerBound: factorLowerBound(g, loops),
+    schedule: schedule(design, g),
+    samplePeriodNs,
+    sampleRateMHz: samplePeriodNs !== null ? 1000 / samplePeriodNs : null,
+  };
+  if (allocationOmitted !== undefined) result.allocationOmitted = allocationOmitted;
+  return result;
+}
+
+/** One row per unit in file order: the node it runs in each partition, padded to N with null. */
+export function schedule(design: Design, g: IndexedGraph): ScheduleRow[] {
+  return design.units.map((unit) => {
+    const set = design.folding.sets[unit.id] ?? [];
+    const slots = new Array<string | null>(g.factor).fill(null);
+    for (let p = 0; p < set.length && p < g.factor; p++) slots[p] = set[p] ?? null;
+    return { unit: unit.id, kind: unit.kind, stages: unit.stages, slots };
+  });
+}

@@ -1,0 +1,115 @@
+// Method: per-edge and delay-line register counts, and lifetime analysis (Parhi 1999, ch. 6).
+// Convention: not live in the production cycle, live in the last-use cycle, periodic steady state.
+import type { Lifetime, LifetimeChart, Registers } from './types';
+import { INPUT, NO_SLOT, OUTPUT, type IndexedGraph } from './graph';
+
+/**
+ * The variables of lifetime analysis, from the folded delays the datapath uses (all >= 0 or
+ * NaN for taps). A node is a variable when its largest folded delay is positive; a held input
+ * gives one variable per out-edge with delays, named `input->consumer`.
+ */
+export function lifetimeVariables(g: IndexedGraph, folded: Float64Array, delays: Float64Array): Lifetime[] {
+  const out: Lifetime[] = [];
+  for (let u = 0; u < g.nodeCount; u++) {
+    const start = g.outStart[u];
+    const end = g.outStart[u + 1];
+    if (start === end) continue;
+    const id = g.nodeIds[u];
+    if (g.role[u] === INPUT && g.slot[u] === NO_SLOT) {
+      const seen = new Map<string, number>();
+      for (let k = start; k < end; k++) {
+        const e = g.outEdge[k];
+        const d = folded[e];
+        if (Number.isNaN(d) || !(delays[e] > 0)) continue;
+        const v = g.edgeTo[e];
+        let name = `${id}->${g.nodeIds[v]}`;
+        const again = (seen.get(name) ?? 0) + 1;
+        seen.set(name, again);
+        if (again > 1) name += `#${again}`; // a second edge to the same consumer
+        const tIn = g.slot[v];
+        out.push({ variable: name, node: id, tIn, tOut: tIn + d });
+      }
+      continue;
+    }
+    let longest = 0;
+    for (let k = start; k < end; k++) {
+      const d = folded[g.outEdge[k]];
+      if (d > longest) longest = d;
+    }
+    if (longest > 0 && g.slot[u] !== NO_SLOT) {
+      const tIn = g.slot[u] + g.stages[u];
+      out.push({ variable: id, node: id, tIn, tOut: tIn + longest });
+    }
+  }
+  return out;
+}
+
+/**
+ * live[t] = sum over variables of #{ l : tIn + lN < t <= tOut + lN }, 0 <= t < N. Each
+ * variable covers floor(L/N) whole turns of the N partitions plus a run of L mod N partitions
+ * starting after tIn; a circular difference array adds each in O(1), O(variables + N) in all.
+ */
+export function liveCounts(factor: number, variables: readonly Lifetime[]): number[] {
+  const N = factor;
+  const diff = new Float64Array(N + 1);
+  let whole = 0;
+  for (const x of variables) {
+    const length = x.tOut - x.tIn;
+    if (length <= 0) continue;
+    whole += Math.floor(length / N);
+    const rest = length % N;
+    if (rest === 0) continue;
+    const first = (x.tIn + 1) % N;
+    const last = first + rest; // exclusive, may run past N
+    if (last <= N) {
+      diff[first]++;
+      diff[last]--;
+    } else {
+      diff[first]++;
+      diff[N]--;
+      diff[0]++;
+      diff[last - N]--;
+    }
+  }
+  const live = new Array<number>(N);
+  let running = whole;
+  for (let t = 0; t < N; t++) {
+    running += diff[t];
+    live[t] = running;
+  }
+  return live;
+}
+
+/** perEdge, delayLines and the lifetime minimum, with the chart they come from. */
+export function registerCounts(
+  g: IndexedGraph,
+  folded: Float64Array,
+  delays: Float64Array,
+): { registers: Registers; lifetimes: LifetimeChart } {
+  let perEdge = 0;
+  // Longest folded delay leaving each unit (all its nodes share one tapped chain) and each input.
+  const unitLongest = new Float64Array(g.unitIds.length);
+  const nodeLongest = new Float64Array(g.nodeCount);
+  for (let e = 0; e < g.edgeCount; e++) {
+    const d = folded[e];
+    if (Number.isNaN(d)) continue;
+    perEdge += d;
+    const u = g.edgeFrom[e];
+    const unit = g.unitOf[u];
+    if (unit >= 0) {
+      if (d > unitLongest[unit]) unitLongest[unit] = d;
+    } else if (d > nodeLongest[u]) nodeLongest[u] = d;
+  }
+  let delayLines = 0;
+  for (let k = 0; k < unitLongest.length; k++) delayLines += unitLongest[k];
+  for (let u = 0; u < g.nodeCount; u++) if (g.role[u] !== OUTPUT) delayLines += nodeLongest[u];
+
+  const variables = lifetimeVariables(g, folded, delays);
+  const live = liveCounts(g.factor, variables);
+  let minimum = 0;
+  for (const x of live) if (x > minimum) minimum = x;
+  return {
+    registers: { perEdge, delayLines, minimum },
+    lifetimes: { factor: g.factor, variables, live },
+  };
+}

@@ -1,0 +1,250 @@
+// Method: retiming for folding (Parhi 1999, ch. 6) as difference constraints, by shortest paths.
+// Convention: inputs share one value, outputs one (the same with fixed latency); inputs reported as 0.
+import type { ConflictEdge, RetimingConflict, RetimingResult } from './types';
+import { INPUT, NO_SLOT, OPERATION, OUTPUT, shortestPathsFromAll, type IndexedGraph } from './graph';
+import { hasNegative } from './foldedDelay';
+
+export type Latency = 'free' | 'fixed';
+
+/** Which retiming variable each node uses: one per operation, shared ones for the boundary. */
+export interface RetimingVariables {
+  varOf: Int32Array;
+  count: number;
+  /** Shared variable of all inputs and of all outputs (equal when latency is fixed). */
+  inputVar: number;
+  outputVar: number;
+  hasInputs: boolean;
+  hasOutputs: boolean;
+}
+
+export function retimingVariables(g: IndexedGraph, latency: Latency): RetimingVariables {
+  const varOf = new Int32Array(g.nodeCount);
+  let count = 0;
+  for (let i = 0; i < g.nodeCount; i++) if (g.role[i] === OPERATION) varOf[i] = count++;
+  const inputVar = count++;
+  const outputVar = latency === 'fixed' ? inputVar : count++;
+  let hasInputs = false;
+  let hasOutputs = false;
+  for (let i = 0; i < g.nodeCount; i++) {
+    if (g.role[i] === INPUT) {
+      varOf[i] = inputVar;
+      hasInputs = true;
+    } else if (g.role[i] === OUTPUT) {
+      varOf[i] = outputVar;
+      hasOutputs = true;
+    }
+  }
+  return { varOf, count, inputVar, outputVar, hasInputs, hasOutputs };
+}
+
+/** floor(a / n) for integers, exact for negative a too. */
+export function floorDiv(a: number, n: number): number {
+  const r = ((a % n) + n) % n;
+  return (a - r) / n;
+}
+
+/**
+ * The constraint graph: for DFG edge e = U -> V, arc e goes from var(V) to var(U) with weight
+ * floor(D_F/N), or w(e) for a tap (which only has to keep its delay nonnegative).
+ */
+export interface ConstraintGraph {
+  vars: RetimingVariables;
+  arcFrom: Int32Array;
+  arcTo: Int32Array;
+  weight: Float64Array;
+}
+
+export function retimingConstraints(g: IndexedGraph, folded: Float64Array, latency: Latency): ConstraintGraph {
+  const vars = retimingVariables(g, latency);
+  const m = g.edgeCount;
+  const arcFrom = new Int32Array(m);
+  const arcTo = new Int32Array(m);
+  const weight = new Float64Array(m);
+  for (let e = 0; e < m; e++) {
+    arcFrom[e] = vars.varOf[g.edgeTo[e]];
+    arcTo[e] = vars.varOf[g.edgeFrom[e]];
+    const d = folded[e];
+    weight[e] = Number.isNaN(d) ? g.edgeDelays[e] : floorDiv(d, g.factor);
+  }
+  return { vars, arcFrom, arcTo, weight };
+}
+
+export interface RetimingOutcome {
+  result: RetimingResult;
+  /** Retiming of every node (shared values for boundary nodes); null when infeasible. */
+  nodeRetiming: Float64Array | null;
+}
+
+export const METHOD_NOT_NEEDED = 'not needed: no folded delay is negative, every node keeps 0';
+export const METHOD_SHORTEST_PATHS =
+  'shortest paths from a virtual source (Bellman-Ford with subtree disassembly): each node moves only as far as the constraints force, then all values are shifted so that the inputs have 0';
+export const METHOD_SHORTEST_PATHS_NO_INPUTS =
+  'shortest paths from a virtual source (Bellman-Ford with subtree disassembly): each node moves only as far as the constraints force, then all values are shifted so that the smallest is 0 (the design has no input)';
+export const METHOD_INFEASIBLE = 'shortest paths found a negative cycle in the constraints: no retiming exists';
+
+/** Solves the retiming for folding when some folded delay is negative. */
+export function retime(g: IndexedGraph, folded: Float64Array, latency: Latency): RetimingOutcome {
+  if (!hasNegative(folded)) {
+    const values: Record<string, number> = {};
+    for (let i = 0; i < g.nodeCount; i++) values[g.nodeIds[i]] = 0;
+    return {
+      result: { needed: false, feasible: true, values, latencyAdded: 0, conflict: null, method: METHOD_NOT_NEEDED },
+      nodeRetiming: new Float64Array(g.nodeCount),
+    };
+  }
+  const cg = retimingConstraints(g, folded, latency);
+  const { vars } = cg;
+  const sp = shortestPathsFromAll(vars.count, cg.arcFrom, cg.arcTo, cg.weight);
+  if (sp.cycle) {
+    return {
+      result: {
+        needed: true,
+        feasible: false,
+        values: {},
+        latencyAdded: 0,
+        conflict: describeConflict(g, folded, latency, sp.cycle),
+        method: METHOD_INFEASIBLE,
+      },
+      nodeRetiming: null,
+    };
+  }
+  const dist = sp.dist as Float64Array;
+  let shift: number;
+  if (vars.hasInputs) shift = dist[vars.inputVar];
+  else {
+    shift = Infinity;
+    for (let i = 0; i < g.nodeCount; i++) shift = Math.min(shift, dist[vars.varOf[i]]);
+    if (shift === Infinity) shift = 0;
+  }
+  const nodeRetiming = new Float64Array(g.nodeCount);
+  const values: Record<string, number> = {};
+  for (let i = 0; i < g.nodeCount; i++) {
+    const r = dist[vars.varOf[i]] - shift + 0; // + 0 turns -0 into 0
+    nodeRetiming[i] = r;
+    values[g.nodeIds[i]] = r;
+  }
+  const latencyAdded =
+    vars.hasInputs && vars.hasOutputs ? dist[vars.outputVar] - dist[vars.inputVar] + 0 : 0;
+  return {
+    result: {
+      needed: true,
+      feasible: true,
+      values,
+      latencyAdded,
+      conflict: null,
+      method: vars.hasInputs ? METHOD_SHORTEST_PATHS : METHOD_SHORTEST_PATHS_NO_INPUTS,
+    },
+    nodeRetiming,
+  };
+}
+
+/** w_r(e) = w(e) + r(V) - r(U) for every edge. */
+export function retimedDelays(g: IndexedGraph, r: Float64Array): Float64Array {
+  const out = new Float64Array(g.edgeCount);
+  for (let e = 0; e < g.edgeCount; e++) out[e] = g.edgeDelays[e] + r[g.edgeTo[e]] - r[g.edgeFrom[e]];
+  return out;
+}
+
+/**
+ * Turns a negative cycle of the constraint graph back into a DFG loop. Constraint arcs are
+ * reversed DFG edges, so the loop is the cycle read backwards; where two consecutive edges meet
+ * at different boundary nodes (tied by the shared input/output value), a viaBoundary step is
+ * inserted.
+ */
+export function describeConflict(
+  g: IndexedGraph,
+  folded: Float64Array,
+  latency: Latency,
+  cycleArcs: number[],
+): RetimingConflict {
+  const loop = cycleArcs.slice().reverse(); // arc index = DFG edge index
+  // Start after a boundary step if there is one, so the loop reads input ... output; else at
+  // the edge that comes first in the file.
+  let first = 0;
+  for (let k = 0; k < loop.length; k++) {
+    const prevEdge = loop[(k + loop.length - 1) % loop.length];
+    if (g.edgeTo[prevEdge] !== g.edgeFrom[loop[k]]) {
+      first = k;
+      break;
+    }
+    if (loop[k] < loop[first]) first = k;
+  }
+  const ordered = loop.slice(first).concat(loop.slice(0, first));
+
+  const edges: ConflictEdge[] = [];
+  const conflictingEdges: RetimingConflict['conflictingEdges'] = [];
+  let loopDelays = 0;
+  let loopStages = 0;
+  let viaBoundary = false;
+  const units = new Set<number>();
+  const movable = new Set<string>();
+  let movableBoundary = false;
+  for (let k = 0; k < ordered.length; k++) {
+    const e = ordered[k];
+    const from = g.nodeIds[g.edgeFrom[e]];
+    const to = g.nodeIds[g.edgeTo[e]];
+    const d = folded[e];
+    edges.push({ from, to, delays: g.edgeDelays[e], foldedDelay: Number.isNaN(d) ? null : d });
+    loopDelays += g.edgeDelays[e];
+    loopStages += g.stages[g.edgeFrom[e]];
+    if (g.unitOf[g.edgeFrom[e]] >= 0) units.add(g.unitOf[g.edgeFrom[e]]);
+    if (d < 0) {
+      conflictingEdges.push({ from, to, foldedDelay: d });
+      for (const x of [g.edgeFrom[e], g.edgeTo[e]]) {
+        // Operations can change position in their set; boundary nodes with a slot can change slot.
+        const canMove = g.role[x] === OPERATION || g.slot[x] !== NO_SLOT;
+        if (canMove && !movable.has(g.nodeIds[x])) {
+          movable.add(g.nodeIds[x]);
+          if (g.role[x] !== OPERATION) movableBoundary = true;
+        }
+      }
+    }
+    const nextEdge = ordered[(k + 1) % ordered.length];
+    if (g.edgeTo[e] !== g.edgeFrom[nextEdge]) {
+      viaBoundary = true;
+      edges.push({
+        from: to,
+        to: g.nodeIds[g.edgeFrom[nextEdge]],
+        delays: 0,
+        foldedDelay: null,
+        viaBoundary: true,
+      });
+    }
+  }
+  const minFactor = loopDelays > 0 ? Math.max(1, Math.ceil(loopStages / loopDelays)) : null;
+  const N = g.factor;
+  const names = edges.map((x) => x.from);
+  const loopText =
+    names.length <= 8
+      ? names.concat(names[0]).join(' -> ')
+      : `${names.slice(0, 3).join(' -> ')} -> ... (${names.length} nodes) -> ${names[names.length - 1]} -> ${names[0]}`;
+  const listed = (xs: string[]) => (xs.length <= 10 ? xs.join(', ') : `${xs.slice(0, 10).join(', ')} and ${xs.length - 10} more`);
+  const suggestions: string[] = [];
+  if (minFactor !== null && N < minFactor) {
+    suggestions.push(
+      `Raise the folding factor to ${minFactor} or more: the loop ${loopText} has ${loopStages} pipeline stage(s) over ${loopDelays} delay(s), so at N = ${N} its total folded delay N*${loopDelays} - ${loopStages} = ${N * loopDelays - loopStages} is negative whatever the positions.`,
+    );
+  } else if (movable.size > 0) {
+    suggestions.push(
+      `Give ${listed([...movable])} other partitions (positions in the folding sets${
+        movableBoundary ? ', or the slot of the input or output' : ''
+      }): at N = ${N} the loop ${loopText} ${
+        minFactor !== null ? `has room for its ${loopStages} pipeline stage(s)` : 'carries no delay'
+      }, but the chosen partitions leave ${listed(conflictingEdges.map((c) => `${c.from} -> ${c.to} at ${c.foldedDelay}`))} more negative than retiming can repair.`,
+    );
+  }
+  if (loopStages > 0 && units.size > 0) {
+    const unitNames = listed([...units].map((k) => g.unitIds[k]));
+    suggestions.push(
+      `Use fewer pipeline stages on ${unitNames}: the loop carries ${loopStages} stage(s)${
+        loopDelays > 0 ? ` and, at N = ${N}, has room for at most ${N * loopDelays}` : ''
+      }; each stage removed adds one cycle of folded delay on the edge leaving that unit.`,
+    );
+  }
+  if (latency === 'fixed' && viaBoundary) {
+    suggestions.push(
+      'Set folding.latency to free: this conflict runs from the inputs to the outputs, which fixed latency keeps aligned; with free latency retiming may add iterations of latency instead.',
+    );
+  }
+  return { edges, loopDelays, loopStages, minFactor, conflictingEdges, suggestions };
+}
