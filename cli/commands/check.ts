@@ -1,0 +1,294 @@
+// `pleat check [paths...]`: validates and analyses designs, applies the rules in force, prints
+// what to act on and writes the report in the chosen format.
+import { mkdirSync, readFileSync, statSync, writeFileSync } from 'node:fs';
+import path from 'node:path';
+import { Option, type Command } from 'commander';
+import { colorLevel, makeChalk } from '../color';
+import { findConfig, loadConfig, type PleatConfig } from '../config';
+import { CliError, type CliContext, type RegisterCommand } from '../context';
+import { expandGlobs, expandPaths, reportPath } from '../files';
+import { diagnosticLine, type FormatContext, type Formatter } from '../format/common';
+import { formatText } from '../format/text';
+import { gitInfo, gitRoot } from '../git';
+import { mergeRules, applyRules } from '../../shared/rules';
+import { buildReport, designReport, exitCodeOf } from '../../shared/report';
+import type { Analysis, Diagnostic, EffectiveRules, LoadResult, Report, Violation } from '../../shared/types';
+
+export type ReportFormat = 'text' | 'json' | 'junit' | 'github';
+const FORMATS: ReportFormat[] = ['text', 'json', 'junit', 'github'];
+
+export interface CheckOptions {
+  format: ReportFormat;
+  output?: string;
+  config?: string;
+  quiet?: boolean;
+  color: boolean;
+}
+
+export const register: RegisterCommand = (program: Command, ctx: CliContext) => {
+  program
+    .command('check')
+    .description('validate and analyse designs and apply the rules (files, folders, globs; default: the designs of pleat.config.yaml)')
+    .argument('[paths...]', 'design files, folders (searched for *.fold.yaml) or globs')
+    .addOption(new Option('-f, --format <format>', 'report format').choices(FORMATS).default('text'))
+    .option('-o, --output <file>', 'write the report to FILE in the chosen format; the text summary stays on the terminal')
+    .option('-c, --config <file>', 'use this config file instead of looking for pleat.config.yaml')
+    .option('-q, --quiet', 'print only failures and errors')
+    .option('--no-color', 'never colour the output')
+    .action(async (paths: string[], opts: CheckOptions) => {
+      process.exitCode = await runCheck(paths, opts, ctx);
+    });
+};
+
+interface Checked {
+  abs: string;
+  file: string;
+  name: string | null;
+  diagnostics: Diagnostic[];
+  analysis: Analysis | null;
+  violations: Violation[];
+  ruleWarnings: Diagnostic[];
+  ms: number;
+}
+
+export async function runCheck(paths: string[], opts: CheckOptions, ctx: CliContext): Promise<number> {
+  const cwd = process.cwd();
+  const startedAt = new Date().toISOString();
+  // PLEAT_TIMING=1 prints where the time goes (a profiling aid, on standard error).
+  const timing = process.env.PLEAT_TIMING ? new Timer() : null;
+  const err = (s: string) => process.stderr.write(s);
+  const color = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stdout.isTTY, env: process.env }));
+  const errColor = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stderr.isTTY, env: process.env }));
+
+  // Config: given, or found by walking up from the working directory.
+  let config: PleatConfig | null = null;
+  const configFile = opts.config ? path.resolve(cwd, opts.config) : findConfig(cwd);
+  if (opts.config) {
+    let isFile = false;
+    try {
+      isFile = statSync(configFile!).isFile();
+    } catch {
+      isFile = false;
+    }
+    if (!isFile) throw new CliError(`config file not found: ${opts.config}`);
+  }
+  if (configFile) {
+    const shown = path.relative(cwd, configFile) || path.basename(configFile);
+    const { config: c, diagnostics } = await loadConfig(configFile);
+    for (const d of diagnostics) {
+      const line = diagnosticLine(shown, d);
+      err(`${d.severity === 'error' ? errColor.red(line) : errColor.yellow(line)}\n`);
+    }
+    if (!c) throw new CliError(`the config file ${shown} is invalid; nothing was checked`);
+    config = c;
+  }
+
+  // Team rules from the server are a floor; they arrive with the server connection (not yet).
+  const { effective, notes } = mergeRules(null, config?.rules ?? null);
+  if (!opts.quiet) for (const n of notes) err(errColor.yellow(`pleat: ${n.message}\n`));
+
+  // Which files.
+  let files: string[];
+  if (paths.length > 0) {
+    const { files: found, problems } = await expandPaths(paths, cwd);
+    if (problems.length > 0) throw new CliError(problems.join('; '));
+    files = found;
+  } else if (config?.designs) {
+    files = await expandGlobs(config.designs, config.dir);
+    if (files.length === 0) {
+      throw new CliError(`no design files match the designs of ${path.relative(cwd, config.file) || config.file} (${config.designs.join(', ')})`);
+    }
+  } else if (config) {
+    throw new CliError(`nothing to check: give design paths, or list designs globs in ${path.relative(cwd, config.file) || config.file}`);
+  } else {
+    throw new CliError('nothing to check: give design files or folders, or run `pleat init` to write a pleat.config.yaml with designs globs');
+  }
+
+  // Report paths are relative to the repository root (the config's folder), else the working directory.
+  const root = config ? config.dir : cwd;
+  const checked: Checked[] = [];
+  timing?.lap('config and files');
+  const engine = await loadEngine();
+  timing?.lap('engine loaded');
+  for (const abs of files) checked.push(checkOne(abs, reportPath(abs, root), effective, engine, timing));
+  markDuplicateNames(checked, engine.locate);
+
+  const designs = checked.map((c) =>
+    designReport({ file: c.file, name: c.name, diagnostics: c.diagnostics, analysis: c.analysis, violations: c.violations, ruleWarnings: c.ruleWarnings }),
+  );
+  const report = buildReport({ version: ctx.version, git: gitInfo(cwd), rules: effective, designs });
+  timing?.lap('report assembled');
+
+  const timings = new Map(checked.map((c) => [c.file, c.ms]));
+  const wtRoot = gitRoot(cwd);
+  const fctx: FormatContext = {
+    quiet: !!opts.quiet,
+    timings,
+    startedAt,
+    displayFile: (f) => {
+      const rel = path.relative(cwd, path.resolve(root, f));
+      return rel === '' ? f : rel.split(path.sep).join('/');
+    },
+    annotationFile: (f) => (wtRoot ? path.relative(wtRoot, path.resolve(root, f)).split(path.sep).join('/') : f),
+  };
+
+  const format = opts.format;
+  if (opts.output) {
+    const body = (await formatterFor(format))(report, { ...fctx, color: undefined });
+    const out = path.resolve(cwd, opts.output);
+    try {
+      mkdirSync(path.dirname(out), { recursive: true });
+      writeFileSync(out, body);
+    } catch (e) {
+      throw new CliError(`cannot write the report to ${opts.output}: ${(e as Error).message}`);
+    }
+    timing?.lap(`${format} report written`);
+    process.stdout.write(formatText(report, { ...fctx, color }));
+  } else if (format === 'text') {
+    process.stdout.write(formatText(report, { ...fctx, color }));
+  } else {
+    process.stdout.write((await formatterFor(format))(report, fctx));
+  }
+  timing?.lap('terminal output');
+  timing?.print();
+  return exitCodeOf(report);
+}
+
+async function formatterFor(format: ReportFormat): Promise<Formatter> {
+  switch (format) {
+    case 'json':
+      return (await import('../format/json')).formatJson;
+    case 'junit':
+      return (await import('../format/junit')).formatJunit;
+    case 'github':
+      return (await import('../format/github')).formatGithub;
+    default:
+      return formatText;
+  }
+}
+
+interface Engine {
+  loadDesign: (text: string, options?: Record<string, unknown>) => LoadResult;
+  analyze: (design: NonNullable<LoadResult['design']>) => Analysis;
+  locate: (text: string, diagnostics: Diagnostic[]) => Diagnostic[];
+  maxBytes: number;
+}
+
+/** The engine is loaded on first use, so `pleat --version` and `pleat schema` stay quick. */
+async function loadEngine(): Promise<Engine> {
+  const [load, an, pos] = await Promise.all([import('../../shared/load'), import('../../shared/analyze'), import('../../shared/positions')]);
+  const maxBytes = load.DEFAULT_LIMITS.maxBytes;
+  return {
+    loadDesign: load.loadDesign as Engine['loadDesign'],
+    analyze: an.analyze as Engine['analyze'],
+    locate: pos.locate,
+    maxBytes,
+  };
+}
+
+class Timer {
+  private last = performance.now();
+  private readonly laps: [string, number][] = [];
+  lap(what: string): void {
+    const now = performance.now();
+    this.laps.push([what, now - this.last]);
+    this.last = now;
+  }
+  print(): void {
+    const at = process.uptime() * 1000;
+    for (const [what, ms] of this.laps) process.stderr.write(`pleat timing: ${ms.toFixed(1).padStart(8)} ms  ${what}\n`);
+    process.stderr.write(`pleat timing: ${at.toFixed(1).padStart(8)} ms  since the process started\n`);
+  }
+}
+
+function checkOne(abs: string, file: string, effective: EffectiveRules, engine: Engine, timing: Timer | null = null): Checked {
+  const t0 = performance.now();
+  const result: Checked = { abs, file, name: null, diagnostics: [], analysis: null, violations: [], ruleWarnings: [], ms: 0 };
+  try {
+    // Refuse oversized files before reading them into memory.
+    // Synchronous reads: files are checked one after the other, and node:fs/promises costs start-up time.
+    const s = statSync(abs);
+    if (s.size > engine.maxBytes) {
+      const mib = (n: number) => (n / (1024 * 1024)).toFixed(1);
+      result.diagnostics.push({ severity: 'error', code: 'file-too-large', message: `the file is ${mib(s.size)} MiB; the limit is ${mib(engine.maxBytes)} MiB`, line: 1, column: 1 });
+      result.ms = performance.now() - t0;
+      return result;
+    }
+    const text = readFileSync(abs, 'utf8');
+    timing?.lap(`${file}: read`);
+    const loaded = engine.loadDesign(text);
+    timing?.lap(`${file}: loaded and validated`);
+    result.diagnostics = loaded.diagnostics;
+    if (loaded.design) {
+      result.name = loaded.design.name;
+      const analysis = engine.analyze(loaded.design);
+      timing?.lap(`${file}: analysed`);
+      result.analysis = analysis;
+      const { violations, warnings } = applyRules(analysis, effective);
+      // Violations and rule warnings name a place in the file (the first negative edge, the
+      // folding sets): give them a line and column while the text is at hand.
+      result.violations = placeViolations(text, violations, engine.locate);
+      result.ruleWarnings = warnings.some((w) => w.path) ? engine.locate(text, warnings) : warnings;
+    } else {
+      result.name = sniffName(text);
+    }
+  } catch (e) {
+    const code = (e as NodeJS.ErrnoException).code;
+    if (code && /^E[A-Z]+$/.test(code)) {
+      result.diagnostics.push({ severity: 'error', code: 'file-unreadable', message: `cannot read the file: ${(e as Error).message}`, line: null, column: null });
+    } else {
+      // An engine failure on one design is reported on that design; the others are still checked.
+      result.diagnostics.push({ severity: 'error', code: 'internal-error', message: `the checker failed on this design: ${(e as Error).message}`, line: null, column: null });
+    }
+  } finally {
+    result.ms = performance.now() - t0;
+  }
+  return result;
+}
+
+function placeViolations(text: string, violations: Violation[], locate: Engine['locate']): Violation[] {
+  if (!violations.some((v) => v.path)) return violations;
+  const probes: Diagnostic[] = violations.map((v) => ({ severity: 'error', code: `rule-${v.rule}`, message: v.message, line: null, column: null, path: v.path ?? [] }));
+  try {
+    const placed = locate(text, probes);
+    return violations.map((v, i) => (v.path ? { ...v, line: placed[i].line, column: placed[i].column } : v));
+  } catch {
+    return violations;
+  }
+}
+
+/** The name of a design that did not load, read from its top-level `name:` line if there is one. */
+function sniffName(text: string): string | null {
+  const m = /^name:[ \t]*(["']?)([A-Za-z0-9._-]+)\1[ \t]*(#.*)?$/m.exec(text);
+  return m ? m[2] : null;
+}
+
+/** Design names are unique in a repository: every later file with a name already seen is invalid. */
+function markDuplicateNames(checked: Checked[], locate: Engine['locate']): void {
+  const first = new Map<string, Checked>();
+  for (const c of checked) {
+    if (!c.name || !c.analysis) continue;
+    const earlier = first.get(c.name);
+    if (!earlier) {
+      first.set(c.name, c);
+      continue;
+    }
+    let d: Diagnostic = {
+      severity: 'error',
+      code: 'duplicate-design-name',
+      message: `design name "${c.name}" is already used by ${earlier.file}; names must be unique in a repository`,
+      line: null,
+      column: null,
+      path: ['name'],
+    };
+    // The text is not kept after checking (it can be large); read it again for this rare case.
+    try {
+      d = locate(readFileSync(c.abs, 'utf8'), [d])[0] ?? d;
+    } catch {
+      /* keep it without a position */
+    }
+    c.diagnostics = [...c.diagnostics, d];
+  }
+}
+
+export type { Report };

@@ -1,0 +1,7 @@
+// The commands of `pleat`. Adding a command is one line: export its `register` function here
+// under the command's name (see cli/context.ts for the signature).
+export { register as check } from './check';
+export { register as schema } from './schema';
+export { register as init } from './init';
+export { register as simulate } from './simulate';
+export { register as rtl } from './rtl';

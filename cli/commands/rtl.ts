@@ -1,0 +1,169 @@
+// `pleat rtl DESIGN --out DIR`: writes the folded datapath as Verilog-2001 with a self-checking
+// testbench; --verify runs it in Icarus Verilog, --area compares it with a fully parallel RTL in Yosys.
+import { mkdirSync, readFileSync, rmSync, writeFileSync, mkdtempSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
+import { spawnSync } from 'node:child_process';
+import { Option, type Command } from 'commander';
+import { colorLevel, makeChalk } from '../color';
+import { CliError, type CliContext, type RegisterCommand } from '../context';
+import { infeasible, intOption, loadForHardware } from './simulate';
+import type { AreaFigures, RtlBundle } from '../../shared/rtl';
+
+interface RtlOptions {
+  out: string;
+  width: number;
+  coefFrac: number;
+  iterations: number;
+  seed: number;
+  verify?: boolean;
+  area?: boolean;
+  format: 'text' | 'json';
+  color: boolean;
+}
+
+export const register: RegisterCommand = (program: Command, ctx: CliContext) => {
+  program
+    .command('rtl')
+    .description('write the folded datapath as synthesizable Verilog-2001 with a self-checking testbench')
+    .argument('<design>', 'a design file (*.fold.yaml)')
+    .requiredOption('-o, --out <dir>', 'folder for the Verilog files, the testbench and <top>.rtl.json')
+    .option('-w, --width <W>', 'default of the data width parameter W (and the testbench\'s width)', intOption(2, 64), 16)
+    .option('--coef-frac <F>', 'fractional bits of the quantised coefficients', intOption(0, 60), 14)
+    .option('-n, --iterations <K>', 'samples of every output the testbench checks', intOption(1, 100_000), 32)
+    .option('-s, --seed <S>', 'seed of the testbench\'s random inputs', intOption(0, 2 ** 32 - 1), 1)
+    .option('--verify', 'compile and run the testbench with Icarus Verilog (iverilog, vvp)')
+    .option('--area', 'synthesize the folded RTL and a fully parallel RTL of the same graph with Yosys and compare cells and flip-flops')
+    .addOption(new Option('-f, --format <format>', 'output format').choices(['text', 'json']).default('text'))
+    .option('--no-color', 'never colour the output')
+    .action(async (file: string, opts: RtlOptions) => {
+      process.exitCode = await runRtl(file, opts, ctx);
+    });
+};
+
+function tool(cmd: string, args: string[], cwd: string): { ok: boolean; out: string; missing: boolean } {
+  const r = spawnSync(cmd, args, { cwd, encoding: 'utf8', maxBuffer: 64 * 1024 * 1024 });
+  if (r.error) return { ok: false, out: String(r.error.message), missing: (r.error as NodeJS.ErrnoException).code === 'ENOENT' };
+  return { ok: r.status === 0, out: `${r.stdout ?? ''}${r.stderr ?? ''}`, missing: false };
+}
+
+function writeBundle(dir: string, files: { name: string; text: string }[]): void {
+  mkdirSync(dir, { recursive: true });
+  for (const f of files) writeFileSync(path.join(dir, f.name), f.text);
+}
+
+/** Synthesizes one bundle to generic cells; returns its figures or throws a CliError. */
+async function synthesize(bundle: RtlBundle, dir: string): Promise<AreaFigures> {
+  const { parseYosysStat } = await import('../../shared/rtl');
+  const stat = path.join(dir, `${bundle.top}.yosys-stat.txt`);
+  const script = `read_verilog ${bundle.files.map((f) => f.name).join(' ')}; synth -flatten -top ${bundle.top}; tee -q -o ${path.basename(stat)} stat`;
+  const r = tool('yosys', ['-q', '-p', script], dir);
+  if (r.missing) throw new CliError('--area needs Yosys on the PATH (Debian: apt-get install yosys, or bash scripts/ensure-hdl-tools.sh)');
+  if (!r.ok) throw new CliError(`yosys failed on ${bundle.top}: ${r.out.trim().split('\n').slice(-3).join(' ')}`);
+  const figures = parseYosysStat(readFileSync(stat, 'utf8'));
+  if (!figures) throw new CliError(`could not read Yosys statistics for ${bundle.top}`);
+  return figures;
+}
+
+export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): Promise<number> {
+  const color = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stdout.isTTY, env: process.env }));
+  const errColor = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stderr.isTTY, env: process.env }));
+  const loaded = await loadForHardware(file, errColor);
+  const [{ controlTables }, rtl, { resolveArithmetic }, { analyze }] = await Promise.all([
+    import('../../shared/control'),
+    import('../../shared/rtl'),
+    import('../../shared/reference'),
+    import('../../shared/analyze'),
+  ]);
+  const { control } = controlTables(loaded.design, loaded.analysis);
+  if (!control) throw infeasible(loaded);
+  const graph = resolveArithmetic(loaded.design).graph!;
+  const generator = `pleat ${ctx.version}`;
+  const bundle = rtl.generateRtl(loaded.design, control, { width: opts.width, coefFrac: opts.coefFrac, generator });
+  const vectors = rtl.testVectors(loaded.design, graph, control, { iterations: opts.iterations, seed: opts.seed, fixed: bundle.fixed });
+  const tb = rtl.generateTestbench(bundle, control, vectors);
+
+  const dir = path.resolve(process.cwd(), opts.out);
+  try {
+    writeBundle(dir, [...bundle.files, tb]);
+  } catch (e) {
+    throw new CliError(`cannot write to ${opts.out}: ${(e as Error).message}`);
+  }
+
+  let verify: { passed: boolean; summary: string } | null = null;
+  if (opts.verify) {
+    const sim = `${bundle.top}_tb.vvp`;
+    const c = tool('iverilog', ['-g2001', '-o', sim, tb.name, ...bundle.files.map((f) => f.name)], dir);
+    if (c.missing) throw new CliError('--verify needs Icarus Verilog on the PATH (Debian: apt-get install iverilog, or bash scripts/ensure-hdl-tools.sh)');
+    if (!c.ok) throw new CliError(`iverilog could not compile the generated RTL: ${c.out.trim().split('\n').slice(0, 5).join(' ')}`);
+    const run = tool('vvp', ['-n', sim], dir);
+    const line = run.out.split('\n').find((l) => /^(PASS|FAIL) /.test(l)) ?? run.out.trim().split('\n').pop() ?? '';
+    verify = { passed: /^PASS .* 0 mismatches/.test(line), summary: line.trim() };
+  }
+
+  let area: { folded: AreaFigures; parallel: AreaFigures; tool: string } | null = null;
+  if (opts.area) {
+    const par = rtl.parallelDesign(loaded.design);
+    const parControl = controlTables(par, analyze(par)).control;
+    if (!parControl) throw new CliError('internal: the fully parallel graph has no datapath');
+    const parBundle = rtl.generateRtl(par, parControl, { width: opts.width, coefFrac: opts.coefFrac, generator, topName: `${bundle.top}_parallel` });
+    const parDir = path.join(dir, 'parallel');
+    writeBundle(parDir, parBundle.files);
+    const scratch = mkdtempSync(path.join(tmpdir(), 'pleat-area-'));
+    try {
+      writeBundle(scratch, bundle.files);
+      const folded = await synthesize(bundle, scratch);
+      const parallel = await synthesize(parBundle, parDir);
+      const version = tool('yosys', ['-V'], dir).out.trim();
+      area = { folded, parallel, tool: version };
+    } finally {
+      rmSync(scratch, { recursive: true, force: true });
+    }
+  }
+
+  const report = {
+    format: 'pleat-rtl/1',
+    tool: { name: 'pleat', version: ctx.version },
+    file: loaded.file,
+    design: loaded.design.name,
+    top: bundle.top,
+    files: [...bundle.files.map((f) => f.name), tb.name],
+    width: bundle.fixed.width,
+    coefFrac: bundle.fixed.coefFrac,
+    coefWidth: bundle.coefWidth,
+    coefficients: bundle.coefficients,
+    factor: bundle.factor,
+    latencyAdded: control.latencyAdded,
+    ports: bundle.ports,
+    warnings: bundle.warnings,
+    testbench: { file: tb.name, iterations: vectors.iterations, samplesPerOutput: vectors.samples, seed: vectors.seed },
+    verify,
+    area: area ? { tool: area.tool, folded: area.folded, parallel: area.parallel } : null,
+    control,
+  };
+  writeFileSync(path.join(dir, `${bundle.top}.rtl.json`), `${JSON.stringify(report, null, 2)}\n`);
+  const failed = verify !== null && !verify.passed;
+
+  if (opts.format === 'json') {
+    process.stdout.write(`${JSON.stringify(report, null, 2)}\n`);
+    return failed ? 1 : 0;
+  }
+  const shownDir = path.relative(process.cwd(), dir) || '.';
+  const lines: string[] = [];
+  lines.push(`wrote ${report.files.length} Verilog files and ${bundle.top}.rtl.json to ${shownDir}/ (top module ${bundle.top}, W = ${bundle.fixed.width}, N = ${bundle.factor})`);
+  lines.push('interface (cycle 0 = first cycle after the last rising edge of clk with rst high):');
+  for (const p of bundle.ports) lines.push(`  ${p.direction === 'input' ? 'in ' : 'out'} ${p.port}: ${p.timing}`);
+  for (const w of bundle.warnings) lines.push(`${color.yellow('warning')}: ${w}`);
+  if (verify) lines.push(`testbench: ${verify.passed ? color.green(verify.summary) : color.red(verify.summary || 'no PASS line')}`);
+  if (area) {
+    const pad = (s: string | number, n: number) => String(s).padStart(n);
+    lines.push(`area (${area.tool}; synth -flatten to generic cells):`);
+    lines.push(`  ${''.padEnd(12)}${pad('folded', 10)}${pad('parallel', 12)}`);
+    lines.push(`  ${'cells'.padEnd(12)}${pad(area.folded.cells, 10)}${pad(area.parallel.cells, 12)}`);
+    lines.push(`  ${'flip-flops'.padEnd(12)}${pad(area.folded.registers, 10)}${pad(area.parallel.registers, 12)}`);
+    lines.push(`  the parallel RTL (one unit per operation, one sample per cycle) is in ${shownDir}/parallel/; the folded one takes a sample every ${bundle.factor} cycles`);
+  }
+  lines.push('The RTL is a starting point: timing closure and sign-off verification remain the engineer\'s.');
+  process.stdout.write(`${lines.join('\n')}\n`);
+  return failed ? 1 : 0;
+}

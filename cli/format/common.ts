@@ -1,0 +1,36 @@
+// Small helpers shared by the report formatters.
+import type { ChalkInstance } from 'chalk';
+import type { Diagnostic, Report } from '../../shared/types';
+
+export interface FormatContext {
+  /** How a report path is shown (text: relative to the working directory). */
+  displayFile?: (file: string) => string;
+  /** How a report path is named in GitHub annotations (relative to the work tree root). */
+  annotationFile?: (file: string) => string;
+  color?: ChalkInstance;
+  /** Only failures and errors. */
+  quiet?: boolean;
+  /** Milliseconds spent on each design, by report path. */
+  timings?: Map<string, number>;
+  /** When the check started (ISO 8601), for JUnit timestamps. */
+  startedAt?: string;
+}
+
+export type Formatter = (report: Report, ctx: FormatContext) => string;
+
+export function pct(x: number): string {
+  return `${Math.round(x * 1000) / 10}%`;
+}
+
+export function fraction(num: number, den: number): string {
+  return den === 1 ? String(num) : `${num}/${den}`;
+}
+
+export function diagnosticLine(file: string, d: Diagnostic): string {
+  const where = d.line !== null ? `${file}:${d.line}:${d.column ?? 1}` : file;
+  return `${where}: ${d.severity} ${d.code}: ${d.message}`;
+}
+
+export function plural(n: number, word: string, many = `${word}s`): string {
+  return `${n} ${n === 1 ? word : many}`;
+}

@@ -1,0 +1,39 @@
+// GitHub Actions workflow commands: one annotation per problem, so a pull request shows each
+// one on its line. Escaping follows GitHub's toolkit: in data % CR LF, in properties also : and ,.
+import { countStatuses } from '../../shared/report';
+import type { Report } from '../../shared/types';
+import { plural, type FormatContext } from './common';
+
+export function escapeData(s: string): string {
+  return s.replace(/%/g, '%25').replace(/\r/g, '%0D').replace(/\n/g, '%0A');
+}
+
+export function escapeProperty(s: string): string {
+  return escapeData(s).replace(/:/g, '%3A').replace(/,/g, '%2C');
+}
+
+function command(kind: 'error' | 'warning' | 'notice', props: Record<string, string | number | null | undefined>, message: string): string {
+  const p = Object.entries(props)
+    .filter(([, v]) => v !== null && v !== undefined && v !== '')
+    .map(([k, v]) => `${k}=${escapeProperty(String(v))}`)
+    .join(',');
+  return `::${kind}${p ? ` ${p}` : ''}::${escapeData(message)}`;
+}
+
+export function formatGithub(report: Report, ctx: FormatContext = {}): string {
+  const fileOf = ctx.annotationFile ?? ((f: string) => f);
+  const lines: string[] = [];
+  for (const d of report.designs) {
+    const file = fileOf(d.file);
+    for (const x of d.diagnostics) {
+      if (ctx.quiet && x.severity !== 'error') continue;
+      lines.push(command(x.severity, { file, line: x.line, col: x.column, title: `pleat ${x.code}` }, x.message));
+    }
+    for (const v of d.violations) {
+      lines.push(command('error', { file, line: v.line, col: v.column, title: `pleat rule ${v.rule} (${v.source})` }, `${d.name ?? d.file}: ${v.message}`));
+    }
+  }
+  const c = countStatuses(report.designs);
+  lines.push(command('notice', { title: `pleat ${report.verdict}` }, `${plural(report.designs.length, 'design')} checked: ${c.pass} pass, ${c.fail} fail, ${c.error} error`));
+  return `${lines.join('\n')}\n`;
+}

@@ -1,0 +1,138 @@
+// Config discovery, repository rules, --output and colour, through the built CLI.
+import { existsSync, readFileSync } from 'node:fs';
+import path from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { cleanupTemps, ensureBuilt, failingDesign, passingDesign, pleat, tempDir, write } from './helpers';
+
+// ECMA-48 control sequence introducer, as terminals read colour codes.
+const ANSI = /\u001b\[[0-9;]*m/;
+
+beforeAll(ensureBuilt);
+afterAll(cleanupTemps);
+
+describe('config discovery', () => {
+  it('finds pleat.config.yaml by walking up from a nested working directory', async () => {
+    const repo = tempDir();
+    write(repo, 'pleat.config.yaml', 'designs: ["hw/**/*.fold.yaml"]\nrules:\n  min_utilization: 0.75\n');
+    write(repo, 'hw/filters/smoke.fold.yaml', passingDesign());
+    const nested = path.join(repo, 'hw/filters/deep');
+    write(nested, '.keep', '');
+    const r = await pleat(['check', '--format', 'json'], { cwd: nested });
+    // 50% utilization against the repository's 75%: a broken rule, so exit 1.
+    expect(r.exitCode).toBe(1);
+    const report = JSON.parse(r.stdout);
+    // Report paths are relative to the repository root (the config's folder).
+    expect(report.designs[0].file).toBe('hw/filters/smoke.fold.yaml');
+    expect(report.rules.min_utilization).toEqual({ value: 0.75, source: 'repository' });
+    expect(report.rules.negative_delays).toEqual({ value: 'retime', source: 'default' });
+    expect(report.designs[0].violations[0]).toMatchObject({ rule: 'min_utilization', source: 'repository', limit: 0.75, actual: 0.5 });
+  });
+
+  it('uses --config instead of discovery, and an explicit path instead of the globs', async () => {
+    const repo = tempDir();
+    write(repo, 'pleat.config.yaml', 'rules:\n  min_utilization: 0.9\n');
+    write(repo, 'ci/strict.yaml', 'rules:\n  max_registers: 0\n');
+    write(repo, 'one.fold.yaml', passingDesign());
+    const r = await pleat(['check', 'one.fold.yaml', '--config', 'ci/strict.yaml', '--format', 'json'], { cwd: repo });
+    const report = JSON.parse(r.stdout);
+    expect(report.rules.min_utilization).toBeUndefined();
+    expect(report.rules.max_registers).toEqual({ value: 0, source: 'repository' });
+    expect(report.designs[0].violations.map((v: { rule: string }) => v.rule)).toEqual(['max_registers']);
+    expect(r.exitCode).toBe(1);
+  });
+
+  it('reports a YAML error in the config with its position', async () => {
+    const repo = tempDir();
+    write(repo, 'pleat.config.yaml', 'designs: ["*.fold.yaml"\nrules: {}\n');
+    write(repo, 'a.fold.yaml', passingDesign());
+    const r = await pleat(['check'], { cwd: repo });
+    expect(r.exitCode).toBe(2);
+    expect(r.stderr).toMatch(/^pleat\.config\.yaml:\d+:\d+: error config-syntax: /m);
+  });
+
+  it('refuses a token in the config file', async () => {
+    const repo = tempDir();
+    write(repo, 'pleat.config.yaml', 'designs: ["*.fold.yaml"]\nserver:\n  url: http://127.0.0.1:4180\n  token: abc\n');
+    write(repo, 'a.fold.yaml', passingDesign());
+    const r = await pleat(['check'], { cwd: repo });
+    expect(r.exitCode).toBe(2);
+    expect(r.stderr).toContain('pleat.config.yaml:4:3: error config-unknown-key: unknown key "server.token"; the token comes from the PLEAT_TOKEN environment variable');
+  });
+
+  it('expands folders recursively and skips node_modules', async () => {
+    const repo = tempDir();
+    write(repo, 'a/one.fold.yaml', passingDesign('one'));
+    write(repo, 'a/b/two.fold.yaml', passingDesign('two'));
+    write(repo, 'a/node_modules/pkg/three.fold.yaml', passingDesign('three'));
+    write(repo, 'a/notes.yaml', 'not: a design\n');
+    const r = await pleat(['check', 'a', '--format', 'json'], { cwd: repo });
+    expect(r.exitCode).toBe(0);
+    expect(JSON.parse(r.stdout).designs.map((d: { name: string }) => d.name).sort()).toEqual(['one', 'two']);
+  });
+
+  it('treats two designs with one name as an error on the second', async () => {
+    const repo = tempDir();
+    write(repo, 'a.fold.yaml', passingDesign('same'));
+    write(repo, 'b.fold.yaml', passingDesign('same'));
+    const r = await pleat(['check', 'a.fold.yaml', 'b.fold.yaml'], { cwd: repo });
+    expect(r.exitCode).toBe(2);
+    expect(r.stdout).toContain('b.fold.yaml:2:7: error duplicate-design-name: design name "same" is already used by a.fold.yaml');
+  });
+});
+
+describe('--output', () => {
+  it('writes the chosen format to the file and keeps the text summary on the terminal', async () => {
+    const repo = tempDir();
+    write(repo, 'a.fold.yaml', passingDesign());
+    write(repo, 'b.fold.yaml', failingDesign());
+    const r = await pleat(['check', '.', '--format', 'json', '--output', 'reports/pleat.json'], { cwd: repo });
+    expect(r.exitCode).toBe(1);
+    const file = path.join(repo, 'reports/pleat.json');
+    expect(existsSync(file)).toBe(true);
+    const report = JSON.parse(readFileSync(file, 'utf8'));
+    expect(report.verdict).toBe('fail');
+    expect(r.stdout).toMatch(/2 designs checked: 1 pass, 1 fail -> FAIL/);
+    expect(r.stdout).not.toContain('"format"');
+  });
+
+  it('writes text without colour codes even when colour is forced', async () => {
+    const repo = tempDir();
+    write(repo, 'b.fold.yaml', failingDesign());
+    const r = await pleat(['check', '.', '--output', 'out.txt'], { cwd: repo, env: { FORCE_COLOR: '1' } });
+    expect(r.stdout).toMatch(ANSI);
+    expect(readFileSync(path.join(repo, 'out.txt'), 'utf8')).not.toMatch(ANSI);
+  });
+
+  it('exits 2 when the report cannot be written', async () => {
+    const repo = tempDir();
+    write(repo, 'a.fold.yaml', passingDesign());
+    write(repo, 'blocker', 'a file where a folder should be');
+    const r = await pleat(['check', '.', '--format', 'json', '--output', 'blocker/report.json'], { cwd: repo });
+    expect(r.exitCode).toBe(2);
+    expect(r.stderr).toMatch(/^pleat: cannot write the report to blocker\/report\.json/);
+  });
+});
+
+describe('colour', () => {
+  let repo: string;
+  beforeAll(() => {
+    repo = tempDir();
+    write(repo, 'b.fold.yaml', failingDesign());
+  });
+
+  it('is off when stdout is not a terminal', async () => {
+    const r = await pleat(['check', '.'], { cwd: repo });
+    expect(r.stdout).not.toMatch(ANSI);
+  });
+
+  it('follows FORCE_COLOR, and --no-color beats it', async () => {
+    expect((await pleat(['check', '.'], { cwd: repo, env: { FORCE_COLOR: '1' } })).stdout).toMatch(ANSI);
+    expect((await pleat(['check', '.', '--no-color'], { cwd: repo, env: { FORCE_COLOR: '1' } })).stdout).not.toMatch(ANSI);
+    expect((await pleat(['check', '.'], { cwd: repo, env: { FORCE_COLOR: '0' } })).stdout).not.toMatch(ANSI);
+  });
+
+  it('follows NO_COLOR (FORCE_COLOR, when also set, wins as in Node itself)', async () => {
+    expect((await pleat(['check', '.'], { cwd: repo, env: { NO_COLOR: '1' } })).stdout).not.toMatch(ANSI);
+    expect((await pleat(['check', '.'], { cwd: repo, env: { NO_COLOR: '1', FORCE_COLOR: '1' } })).stdout).toMatch(ANSI);
+  });
+});

@@ -1,0 +1,185 @@
+// The report formats of `pleat check`, read back by tools outside the project: JSON.parse for the
+// JSON report, Python's standard XML parser (expat) for JUnit, and the workflow-command syntax
+// that GitHub documents for Actions logs.
+import { spawnSync } from 'node:child_process';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { escapeData, escapeProperty } from '../../cli/format/github';
+import { cleanupTemps, ensureBuilt, failingDesign, invalidDesign, passingDesign, pleat, tempDir, write } from './helpers';
+
+let dir: string;
+beforeAll(async () => {
+  await ensureBuilt();
+  dir = tempDir();
+  write(dir, 'a-pass.fold.yaml', passingDesign());
+  write(dir, 'b-fail.fold.yaml', failingDesign());
+  write(dir, 'c-invalid.fold.yaml', invalidDesign());
+});
+afterAll(cleanupTemps);
+
+describe('--format json', () => {
+  it('has the documented top-level and per-design fields', async () => {
+    const r = await pleat(['check', '.', '--format', 'json'], { cwd: dir });
+    expect(r.exitCode).toBe(2);
+    const report = JSON.parse(r.stdout);
+    expect(report.format).toBe('pleat-report/1');
+    expect(report.tool).toEqual({ name: 'pleat', version: expect.stringMatching(/^\d+\.\d+\.\d+/) });
+    expect(report.git).toHaveProperty('branch');
+    expect(report.git).toHaveProperty('commit');
+    expect(report.verdict).toBe('error');
+    expect(report.rules.negative_delays).toEqual({ value: 'retime', source: 'default' });
+    expect(report.designs.map((d: { file: string; status: string }) => [d.file, d.status])).toEqual([
+      ['a-pass.fold.yaml', 'pass'],
+      ['b-fail.fold.yaml', 'fail'],
+      ['c-invalid.fold.yaml', 'error'],
+    ]);
+    const [pass, fail, invalid] = report.designs;
+    for (const key of ['file', 'name', 'status', 'diagnostics', 'factor', 'edges', 'retiming', 'utilization', 'registers', 'iterationBound', 'factorLowerBound', 'samplePeriodNs', 'violations']) {
+      expect(pass).toHaveProperty(key);
+      expect(invalid).toHaveProperty(key);
+    }
+    expect(Object.keys(pass.edges[0]).sort()).toEqual(['delays', 'foldedDelay', 'from', 'retimedDelays', 'retimedFoldedDelay', 'to']);
+    expect(Object.keys(pass.retiming)).toEqual(expect.arrayContaining(['needed', 'feasible', 'values', 'latencyAdded', 'conflict']));
+    expect(Object.keys(pass.registers).sort()).toEqual(['delayLines', 'minimum', 'perEdge']);
+    expect(Object.keys(pass.iterationBound)).toEqual(expect.arrayContaining(['value', 'numerator', 'denominator', 'loop']));
+
+    // Hand-computed with D_F(U->V) = N*w - P_U + v - u (the folding equation; common practice,
+    // no source at hand): N = 2; x is a held input so x->m is N*0 = 0; m->a = 0 - 1 + 1 - 0 = 0;
+    // a->m = 2*1 - 0 + 0 - 1 = 1; a->y is a tap into an output without slot, so null.
+    expect(pass.edges.map((e: { foldedDelay: number | null }) => e.foldedDelay)).toEqual([0, 0, 1, null]);
+    // Utilization: 2 operations on 2 units x 2 partitions.
+    expect(pass.utilization.overall).toBeCloseTo(0.5, 12);
+    // Loop m -> a -> m: times default to stages (1 + 0) over one delay.
+    expect(pass.iterationBound.value).toBe(1);
+
+    expect(fail.violations).toHaveLength(1);
+    expect(fail.violations[0]).toMatchObject({ rule: 'negative_delays', source: 'default', limit: 'retime', path: ['edges', 1], line: 13, column: 5 });
+    expect(fail.retiming.feasible).toBe(false);
+    expect(fail.retiming.conflict.edges.length).toBeGreaterThan(0);
+    expect(fail.registers).toBeNull();
+
+    for (const key of ['factor', 'edges', 'retiming', 'utilization', 'registers', 'iterationBound', 'factorLowerBound', 'samplePeriodNs']) {
+      expect(invalid[key]).toBeNull();
+    }
+    const err = invalid.diagnostics.find((d: { severity: string }) => d.severity === 'error');
+    expect(err).toMatchObject({ code: 'unknown-node', line: 9, column: 13 });
+  });
+});
+
+/** Parses XML with Python's expat-based ElementTree and returns what the test needs. */
+function parseXml(xml: string): { ok: boolean; error?: string; suites?: { name: string; attrs: Record<string, string>; cases: number; failures: number; errors: number; skipped: number; failureTexts: string[]; errorTexts: string[] }[]; root?: Record<string, string> } {
+  const script = `
+import sys, json, xml.etree.ElementTree as ET
+try:
+    root = ET.fromstring(sys.stdin.buffer.read())
+except ET.ParseError as e:
+    print(json.dumps({"ok": False, "error": str(e)})); sys.exit(0)
+suites = []
+for s in root.iter("testsuite"):
+    cases = s.findall("testcase")
+    suites.append({"name": s.get("name"), "attrs": dict(s.attrib), "cases": len(cases),
+      "failures": sum(len(c.findall("failure")) for c in cases),
+      "errors": sum(len(c.findall("error")) for c in cases),
+      "skipped": sum(len(c.findall("skipped")) for c in cases),
+      "failureTexts": [f.get("message") + "|" + (f.text or "") for c in cases for f in c.findall("failure")],
+      "errorTexts": [f.get("message") + "|" + (f.text or "") for c in cases for f in c.findall("error")]})
+print(json.dumps({"ok": root.tag == "testsuites", "root": dict(root.attrib), "suites": suites}))
+`;
+  const r = spawnSync('python3', ['-c', script], { input: xml, encoding: 'utf8' });
+  if (r.status !== 0) throw new Error(`python3 failed: ${r.stderr}`);
+  return JSON.parse(r.stdout);
+}
+
+const hasPython = spawnSync('python3', ['-c', 'import xml.etree.ElementTree'], { encoding: 'utf8' }).status === 0;
+
+describe('--format junit', () => {
+  it.skipIf(!hasPython)('is well-formed XML with one testsuite per design file and consistent counts', async () => {
+    const r = await pleat(['check', '.', '--format', 'junit'], { cwd: dir });
+    expect(r.exitCode).toBe(2);
+    expect(r.stdout.startsWith('<?xml version="1.0" encoding="UTF-8"?>')).toBe(true);
+    const x = parseXml(r.stdout);
+    expect(x.error).toBeUndefined();
+    expect(x.ok).toBe(true);
+    const suites = x.suites!;
+    expect(suites.map((s) => s.name)).toEqual(['a-pass.fold.yaml', 'b-fail.fold.yaml', 'c-invalid.fold.yaml']);
+    for (const s of suites) {
+      // The attributes say what the children are.
+      expect(Number(s.attrs.tests)).toBe(s.cases);
+      expect(Number(s.attrs.failures)).toBe(s.failures);
+      expect(Number(s.attrs.errors)).toBe(s.errors);
+      expect(Number(s.attrs.skipped)).toBe(s.skipped);
+    }
+    // Default rules: one validity case and one case for negative_delays per design.
+    expect(suites.map((s) => [s.cases, s.failures, s.errors, s.skipped])).toEqual([
+      [2, 0, 0, 0],
+      [2, 1, 0, 0],
+      [2, 0, 1, 1],
+    ]);
+    expect(x.root).toMatchObject({ tests: '6', failures: '1', errors: '1', skipped: '1' });
+    expect(suites[2].errorTexts[0]).toContain('c-invalid.fold.yaml:9:13: error unknown-node');
+  });
+
+  it.skipIf(!hasPython)('escapes markup characters in messages', async () => {
+    const d = tempDir();
+    write(d, 'odd.fold.yaml', invalidDesign().replace('{ from: ghost, to: y }', '{ from: "a<b&\\"c\\"]]>", to: y }'));
+    const r = await pleat(['check', 'odd.fold.yaml', '--format', 'junit'], { cwd: d });
+    const x = parseXml(r.stdout);
+    expect(x.error).toBeUndefined();
+    expect(x.suites![0].errorTexts.join('\n')).toContain('a<b&"c"]]>');
+  });
+});
+
+// Workflow command syntax, GitHub docs "Workflow commands for GitHub Actions":
+// ::error file={name},line={line},col={column},title={title}::{message}
+const COMMAND = /^::(error|warning|notice)( [a-zA-Z]+=[^,:\r\n]*(,[a-zA-Z]+=[^,:\r\n]*)*)?::[^\r\n]*$/;
+
+describe('--format github', () => {
+  it('writes only workflow commands, one per problem', async () => {
+    const r = await pleat(['check', '.', '--format', 'github'], { cwd: dir });
+    expect(r.exitCode).toBe(2);
+    const lines = r.stdout.trimEnd().split('\n');
+    for (const line of lines) expect(line).toMatch(COMMAND);
+    expect(lines).toContain('::error file=c-invalid.fold.yaml,line=9,col=13,title=pleat unknown-node::edges[0].from names node `ghost`, which does not exist');
+    // The violation points at the edge with the negative folded delay (m -> a, line 13).
+    expect(lines.some((l) => l.startsWith('::error file=b-fail.fold.yaml,line=13,col=5,title=pleat rule negative_delays (default)::smoke-fail: '))).toBe(true);
+    expect(lines.at(-1)).toMatch(/^::notice title=pleat error::3 designs checked: 1 pass, 1 fail, 1 error$/);
+  });
+
+  it('escapes properties and data as GitHub\'s toolkit does', async () => {
+    // @actions/core (actions/toolkit, packages/core/src/command.ts): data escapes % CR LF as
+    // %25 %0D %0A; properties additionally escape : and , as %3A and %2C.
+    expect(escapeData('100% done\r\nnext')).toBe('100%25 done%0D%0Anext');
+    expect(escapeProperty('a:b,c%')).toBe('a%3Ab%2Cc%25');
+    const d = tempDir();
+    write(d, 'we,ird:name.fold.yaml', invalidDesign());
+    const r = await pleat(['check', 'we,ird:name.fold.yaml', '--format', 'github'], { cwd: d });
+    const first = r.stdout.split('\n').find((l) => l.includes('unknown-node'))!;
+    expect(first).toMatch(COMMAND);
+    expect(first).toContain('file=we%2Cird%3Aname.fold.yaml,line=9,col=13');
+  });
+});
+
+describe('--format text', () => {
+  it('gives a verdict line per design, the loop that blocks retiming, and positioned diagnostics', async () => {
+    const r = await pleat(['check', '.'], { cwd: dir });
+    const out = r.stdout;
+    expect(out).toMatch(/^PASS\s+smoke-pass\s+a-pass\.fold\.yaml\s+N=2\s+util 50%\s+regs \d+\s+bound 1/m);
+    expect(out).toMatch(/^FAIL\s+smoke-fail\s+b-fail\.fold\.yaml\s+N=2/m);
+    expect(out).toMatch(/no retiming exists: loop .*needs N >= 3/);
+    expect(out).toMatch(/m -> a\s+delays 0\s+folded -3/);
+    expect(out).toMatch(/rule negative_delays=retime \(default\)/);
+    expect(out).toMatch(/^ERROR smoke-invalid\s+c-invalid\.fold\.yaml$/m);
+    expect(out).toContain('c-invalid.fold.yaml:9:13: error unknown-node:');
+    expect(out).toMatch(/3 designs checked: 1 pass, 1 fail, 1 error -> ERROR/);
+  });
+
+  it('--quiet leaves out passing designs and warnings', async () => {
+    const r = await pleat(['check', '.', '--quiet'], { cwd: dir });
+    expect(r.stdout).not.toContain('smoke-pass');
+    expect(r.stdout).not.toContain('warning');
+    expect(r.stdout).toContain('smoke-fail');
+    expect(r.stdout).toContain('error unknown-node');
+    const quietPass = await pleat(['check', 'a-pass.fold.yaml', '--quiet'], { cwd: dir });
+    expect(quietPass.exitCode).toBe(0);
+    expect(quietPass.stdout).toBe('');
+  });
+});
