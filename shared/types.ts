@@ -191,6 +191,8 @@ export interface Analysis {
   schedule: ScheduleRow[];
   samplePeriodNs: number | null;
   sampleRateMHz: number | null;
+  /** Control tables of the folded datapath (shared/control.ts); absent when not computed, null when no feasible datapath exists. */
+  control?: ControlTables | null;
 }
 
 // ---------------------------------------------------------------- rules and report
@@ -218,6 +220,10 @@ export interface Violation {
   message: string;
   /** For min_unit_utilization: the unit that falls short. */
   unit?: string;
+  /** Where in the design file to look (document path, and its 1-based position once placed). */
+  path?: (string | number)[];
+  line?: number | null;
+  column?: number | null;
 }
 
 export type Status = 'pass' | 'fail' | 'error';
@@ -237,4 +243,91 @@ export interface Report {
   verdict: Status;
   rules: EffectiveRules;
   designs: DesignReport[];
+}
+
+// ---------------------------------------------------------------- control tables of the folded datapath
+
+/** Where a multiplexer input or a register load takes its value from. */
+export type SignalSource =
+  | { kind: 'unit'; unit: string }
+  | { kind: 'input'; node: string }
+  | { kind: 'register'; register: number }
+  | { kind: 'zero' };
+
+/** What one unit executes in one partition. */
+export interface UnitSlot {
+  node: string;
+  /** null when the design gives the node no arithmetic (simulation and RTL then refuse it). */
+  op: NodeOp | null;
+  /** Number of operands the node takes. */
+  arity: number;
+  coefficient: number | null;
+}
+
+export interface UnitControl {
+  unit: string;
+  kind: string;
+  stages: number;
+  /** Operand ports of the unit: the largest arity among its operations. */
+  ports: number;
+  /** Per partition 0..N-1: the operation started in that partition, or null (idle). */
+  partitions: (UnitSlot | null)[];
+}
+
+/** The multiplexer in front of one operand port of a unit. */
+export interface MuxTable {
+  unit: string;
+  port: number;
+  /** The multiplexer inputs; its size is sources.length. */
+  sources: SignalSource[];
+  /** Per partition: index into sources, or null when the port is not read. */
+  select: (number | null)[];
+  /** Per partition: the DFG edge read (producer -> consumer) and the variable instance, or null. */
+  reads: ({ from: string; to: string; variable: string | null } | null)[];
+}
+
+/** One register of the allocation: what it loads at the end of which partition. */
+export interface RegisterTable {
+  register: number;
+  /** Per partition: the load at the end of that partition, or null (the register holds). */
+  loads: ({ source: SignalSource; variable: string } | null)[];
+  /** Per partition: the variable instance held during that partition (`name` or `name@age`), or null. */
+  holds: (string | null)[];
+}
+
+/** How an output port is fed and when it presents a sample. */
+export interface OutputControl {
+  node: string;
+  /** 'slot': read at its partition; 'tap': taken when produced; 'none': no edge feeds it. */
+  mode: 'slot' | 'tap' | 'none';
+  source: SignalSource;
+  /** Cycle of the iteration (may exceed N-1 for taps) at whose end the port loads: its partition is cycle mod N. */
+  cycle: number;
+  /** The port of hardware iteration l carries sample l - lag of the unfolded output. */
+  lag: number;
+  /** Index of the first sample that gets a valid strobe (samples before it are zero by the zero-state argument). */
+  firstSample: number;
+  /** Completed iterations the partition counter must have seen before the first valid strobe. */
+  validAfterIterations: number;
+}
+
+export interface InputControl {
+  node: string;
+  /** Partition at which a new sample is valid for one cycle; null: held for the whole iteration. */
+  slot: number | null;
+}
+
+export interface ControlTables {
+  factor: number;
+  registers: number;
+  /** 'analysis': the allocation table of the analysis; 'control': Pleat's own fallback allocation (see note). */
+  allocationSource: 'analysis' | 'control';
+  allocationNote?: string;
+  /** r(outputs) - r(inputs): iterations of latency that retiming adds. */
+  latencyAdded: number;
+  inputs: InputControl[];
+  units: UnitControl[];
+  muxes: MuxTable[];
+  registerTables: RegisterTable[];
+  outputs: OutputControl[];
 }

@@ -1,0 +1,457 @@
+// Control tables of a folded datapath (Parhi, "VLSI Digital Signal Processing Systems", ch. 6:
+// folding transformation, with registers placed by forward-backward allocation). Convention: a
+// register loads at the end of a partition and holds the value during the following cycles.
+import { buildGraph, INPUT, NO_SLOT, OPERATION, OUTPUT } from './graph';
+import { foldedDelays } from './foldedDelay';
+import { lifetimeVariables } from './registers';
+import { nodeOp, operandOrder } from './reference';
+import type {
+  Allocation,
+  Analysis,
+  ControlTables,
+  Design,
+  Lifetime,
+  MuxTable,
+  OutputControl,
+  RegisterTable,
+  SignalSource,
+  UnitControl,
+} from './types';
+
+/** floor(a / n) for integers, exact for negative a. */
+function floorDiv(a: number, n: number): number {
+  return Math.floor(a / n);
+}
+function mod(a: number, n: number): number {
+  return ((a % n) + n) % n;
+}
+
+/**
+ * A variable instance, keyed `index:age` inside this module: `age` = (iteration of the frame) -
+ * (iteration that produced it). Tables show it as the allocation table does (displayKey).
+ */
+function instanceKey(variable: number, age: number): string {
+  return `${variable}:${age}`;
+}
+function splitKey(key: string): [number, number] {
+  const c = key.indexOf(':');
+  return [Number(key.slice(0, c)), Number(key.slice(c + 1))];
+}
+/**
+ * How an instance reads in the tables during partition t, as the allocation table names it:
+ * `name@j` when it was produced `elapsed` cycles ago, j = floor((elapsed - 1) / N), `name` for j = 0.
+ */
+function displayKey(vars: Variable[], key: string, t: number, N: number): string {
+  const [v, age] = splitKey(key);
+  const elapsed = t + age * N - vars[v].tIn;
+  const j = Math.floor((elapsed - 1) / N);
+  return j === 0 ? vars[v].variable : `${vars[v].variable}@${j}`;
+}
+
+export function sourceKey(s: SignalSource): string {
+  switch (s.kind) {
+    case 'unit':
+      return `unit:${s.unit}`;
+    case 'input':
+      return `input:${s.node}`;
+    case 'register':
+      return `reg:${s.register}`;
+    case 'zero':
+      return 'zero';
+  }
+}
+
+/** How a source reads in a table: `MUL1`, `x (input)`, `R3`, `0`. */
+export function sourceLabel(s: SignalSource): string {
+  switch (s.kind) {
+    case 'unit':
+      return `${s.unit} result`;
+    case 'input':
+      return `input ${s.node}`;
+    case 'register':
+      return `R${s.register}`;
+    case 'zero':
+      return '0';
+  }
+}
+
+interface Variable extends Lifetime {
+  source: SignalSource;
+}
+
+/** Which register holds which instance in each partition, from whatever allocation is used. */
+type Placement = Map<string, number>[];
+
+/** Instances live in partition t (frame iteration 0): produced before t, last read at or after t. */
+function liveInstances(N: number, vars: Variable[]): string[][] {
+  const live: string[][] = [];
+  for (let t = 0; t < N; t++) {
+    const here: string[] = [];
+    vars.forEach((v, i) => {
+      if (v.tOut <= v.tIn) return;
+      const lo = Math.ceil((v.tIn - t + 1) / N);
+      const hi = floorDiv(v.tOut - t, N);
+      for (let a = lo; a <= hi; a++) here.push(instanceKey(i, a));
+    });
+    live.push(here);
+  }
+  return live;
+}
+
+/** Instance at partition t+1 (or, after the last partition, at partition 0 one iteration later). */
+function nextKey(N: number, t: number, key: string): string {
+  if (t < N - 1) return key;
+  const [v, age] = splitKey(key);
+  return instanceKey(v, age + 1);
+}
+
+/**
+ * Pleat's own allocation, used when the analysis has none it can read: the live instances of
+ * each partition in the fewest registers (the lifetime minimum), each instance kept in its
+ * register while it lives; instances move only where the partitions wrap around.
+ */
+function ownPlacement(N: number, live: string[][]): { placement: Placement; registers: number } {
+  const registers = live.reduce((m, l) => Math.max(m, l.length), 0);
+  const place = (t: number, keep: Map<string, number>): Map<string, number> => {
+    const m = new Map<string, number>();
+    const used = new Set<number>();
+    const fresh: string[] = [];
+    for (const k of live[t]) {
+      const r = keep.get(k);
+      if (r !== undefined && !used.has(r)) {
+        m.set(k, r);
+        used.add(r);
+      } else fresh.push(k);
+    }
+    let next = 0;
+    for (const k of fresh) {
+      while (used.has(next)) next++;
+      m.set(k, next);
+      used.add(next);
+    }
+    return m;
+  };
+  let placement: Placement = [];
+  let carry = new Map<string, number>();
+  // Two passes: the second starts partition 0 from where the first left the last partition.
+  for (let pass = 0; pass < 2; pass++) {
+    placement = [];
+    for (let t = 0; t < N; t++) {
+      const m = place(t, carry);
+      placement.push(m);
+      carry = new Map<string, number>();
+      for (const [k, r] of m) carry.set(nextKey(N, t, k), r);
+    }
+  }
+  return { placement, registers };
+}
+
+/**
+ * Reads the analysis' allocation table: cells[t][k] names the instance in register k during
+ * partition t as `name` or `name@j`, j = floor((cycles since production - 1) / N) (the naming of
+ * shared/allocation.ts). Accepted only if every partition holds exactly the live instances;
+ * otherwise the reason is returned.
+ */
+function analysisPlacement(alloc: Allocation, N: number, live: string[][], vars: Variable[]): Placement | string {
+  if (alloc.factor !== N) return `its factor ${alloc.factor} differs from the design's ${N}`;
+  if (alloc.cells.length !== N) return `it has ${alloc.cells.length} rows for ${N} partitions`;
+  const index = new Map(vars.map((v, i) => [v.variable, i]));
+  const parse = (cell: string, t: number): string | null => {
+    let v = index.get(cell);
+    let j = 0;
+    if (v === undefined) {
+      const at = cell.lastIndexOf('@');
+      if (at < 0 || !/^\d+$/.test(cell.slice(at + 1))) return null;
+      v = index.get(cell.slice(0, at));
+      j = Number(cell.slice(at + 1));
+      if (v === undefined) return null;
+    }
+    // Cycles since production: the one value in jN+1 .. jN+N that lands in partition t.
+    const elapsed = (mod(t - vars[v].tIn - 1, N) + 1) + j * N;
+    return instanceKey(v, (vars[v].tIn + elapsed - t) / N);
+  };
+  const placement: Placement = [];
+  for (let t = 0; t < N; t++) {
+    const m = new Map<string, number>();
+    const row = alloc.cells[t] ?? [];
+    for (let k = 0; k < row.length; k++) {
+      const cell = row[k];
+      if (cell === null || cell === undefined) continue;
+      const key = parse(cell, t);
+      if (key === null) return `partition ${t} names ${cell}, which is no variable of lifetime analysis`;
+      if (m.has(key)) return `partition ${t} holds ${cell} twice`;
+      m.set(key, k);
+    }
+    const want = new Set(live[t]);
+    if (m.size !== want.size) return `partition ${t} holds ${m.size} instances where lifetime analysis finds ${want.size} live`;
+    for (const k of m.keys()) if (!want.has(k)) return `partition ${t} holds ${displayKey(vars, k, t, N)}, which is not live then`;
+    placement.push(m);
+  }
+  return placement;
+}
+
+/** An edge of the datapath: where its value comes from in the cycle its consumer reads it. */
+interface EdgeRoute {
+  /** The signal read, or null for a tap (no read at a partition). */
+  source: SignalSource | null;
+  variable: string | null;
+}
+
+export interface ControlResult {
+  control: ControlTables | null;
+  /** Why there are no tables, when control is null. */
+  reason?: string;
+}
+
+/**
+ * The control tables of the folded datapath of a design: per unit the operation of each
+ * partition, per unit operand port a multiplexer table, per register its loads, per output port
+ * when it loads and which sample it carries. Needs a feasible retiming in the analysis.
+ */
+export function controlTables(design: Design, analysis: Analysis): ControlResult {
+  if (!analysis.retiming.feasible) return { control: null, reason: 'no retiming makes every folded delay nonnegative' };
+  const g = buildGraph(design);
+  const N = g.factor;
+  const r = new Float64Array(g.nodeCount);
+  for (let i = 0; i < g.nodeCount; i++) r[i] = analysis.retiming.values[g.nodeIds[i]] ?? 0;
+  const wr = new Float64Array(g.edgeCount);
+  for (let e = 0; e < g.edgeCount; e++) {
+    wr[e] = g.edgeDelays[e] + r[g.edgeTo[e]] - r[g.edgeFrom[e]];
+    if (wr[e] < 0) {
+      return { control: null, reason: `the retiming leaves edge ${design.edges[e].from} -> ${design.edges[e].to} with ${wr[e]} delays` };
+    }
+  }
+  const folded = foldedDelays(g, wr);
+  for (let e = 0; e < g.edgeCount; e++) {
+    if (folded[e] < 0) {
+      return { control: null, reason: `edge ${design.edges[e].from} -> ${design.edges[e].to} keeps a negative folded delay (${folded[e]})` };
+    }
+  }
+
+  const signalOf = (u: number): SignalSource =>
+    g.role[u] === INPUT ? { kind: 'input', node: g.nodeIds[u] } : { kind: 'unit', unit: g.unitIds[g.unitOf[u]] };
+
+  // Variables of lifetime analysis, named as the analysis names them.
+  const lifetimes = lifetimeVariables(g, folded, wr);
+  const vars: Variable[] = lifetimes.map((l) => ({ ...l, source: signalOf(g.nodeIndex.get(l.node)!) }));
+  const byName = new Map(vars.map((v, i) => [v.variable, i]));
+  const heldVarOfEdge = new Map<number, string>();
+  for (let u = 0; u < g.nodeCount; u++) {
+    if (!(g.role[u] === INPUT && g.slot[u] === NO_SLOT)) continue;
+    const seen = new Map<string, number>();
+    for (let k = g.outStart[u]; k < g.outStart[u + 1]; k++) {
+      const e = g.outEdge[k];
+      if (Number.isNaN(folded[e]) || !(wr[e] > 0)) continue;
+      let name = `${g.nodeIds[u]}->${g.nodeIds[g.edgeTo[e]]}`;
+      const again = (seen.get(name) ?? 0) + 1;
+      seen.set(name, again);
+      if (again > 1) name += `#${again}`;
+      heldVarOfEdge.set(e, name);
+    }
+  }
+
+  const live = liveInstances(N, vars);
+  let placement: Placement;
+  let registers: number;
+  let allocationSource: ControlTables['allocationSource'] = 'control';
+  let allocationNote: string | undefined;
+  const fromAnalysis = analysis.allocation ? analysisPlacement(analysis.allocation, N, live, vars) : 'the analysis has no allocation table';
+  if (typeof fromAnalysis !== 'string') {
+    placement = fromAnalysis;
+    registers = analysis.allocation!.registers;
+    allocationSource = 'analysis';
+  } else {
+    ({ placement, registers } = ownPlacement(N, live));
+    allocationNote = `registers placed by Pleat's control tables (${fromAnalysis}${analysis.allocationOmitted ? `: ${analysis.allocationOmitted}` : ''})`;
+  }
+
+  // Route of every edge: the signal its consumer reads in its partition.
+  const route = (e: number): EdgeRoute => {
+    const u = g.edgeFrom[e];
+    const d = folded[e];
+    if (Number.isNaN(d)) return { source: null, variable: null };
+    if (d === 0) return { source: signalOf(u), variable: null };
+    const name = g.role[u] === INPUT && g.slot[u] === NO_SLOT ? heldVarOfEdge.get(e)! : g.nodeIds[u];
+    const vi = byName.get(name);
+    if (vi === undefined) throw new Error(`no lifetime variable for edge ${design.edges[e].from} -> ${design.edges[e].to}`);
+    const at = vars[vi].tIn + d;
+    const key = instanceKey(vi, floorDiv(at, N));
+    const reg = placement[mod(at, N)].get(key);
+    if (reg === undefined) throw new Error(`allocation has no register holding ${displayKey(vars, key, mod(at, N), N)} in partition ${mod(at, N)}`);
+    return { source: { kind: 'register', register: reg }, variable: displayKey(vars, key, mod(at, N), N) };
+  };
+
+  // Operand edges of each operation, in port order.
+  const incoming: number[][] = design.nodes.map(() => []);
+  for (let e = 0; e < g.edgeCount; e++) incoming[g.edgeTo[e]].push(e);
+  const operands = incoming.map((list) => operandOrder(design, list));
+
+  // Units: what runs in each partition.
+  const units: UnitControl[] = design.units.map((unit) => {
+    const set = design.folding.sets[unit.id] ?? [];
+    const partitions: UnitControl['partitions'] = [];
+    let ports = 0;
+    for (let t = 0; t < N; t++) {
+      const id = set[t];
+      if (id === null || id === undefined) {
+        partitions.push(null);
+        continue;
+      }
+      const i = g.nodeIndex.get(id)!;
+      const node = design.nodes[i];
+      const arity = operands[i].length;
+      const op = nodeOp(node, arity);
+      ports = Math.max(ports, arity);
+      partitions.push({ node: id, op, arity, coefficient: op === 'gain' || op === 'mul' ? (node.coefficient ?? null) : null });
+    }
+    return { unit: unit.id, kind: unit.kind, stages: unit.stages, ports, partitions };
+  });
+
+  // Multiplexers in front of each operand port.
+  const muxes: MuxTable[] = [];
+  for (const uc of units) {
+    for (let p = 0; p < uc.ports; p++) {
+      const sources: SignalSource[] = [];
+      const keys = new Map<string, number>();
+      const select: MuxTable['select'] = [];
+      const reads: MuxTable['reads'] = [];
+      for (let t = 0; t < N; t++) {
+        const slot = uc.partitions[t];
+        const i = slot ? g.nodeIndex.get(slot.node)! : -1;
+        if (!slot || p >= operands[i].length) {
+          select.push(null);
+          reads.push(null);
+          continue;
+        }
+        const e = operands[i][p];
+        const { source, variable } = route(e);
+        const s = source!;
+        const k = sourceKey(s);
+        if (!keys.has(k)) {
+          keys.set(k, sources.length);
+          sources.push(s);
+        }
+        select.push(keys.get(k)!);
+        reads.push({ from: design.edges[e].from, to: design.edges[e].to, variable });
+      }
+      muxes.push({ unit: uc.unit, port: p, sources, select, reads });
+    }
+  }
+
+  // Registers: loads at the end of each partition, derived from the placement.
+  const registerTables: RegisterTable[] = [];
+  for (let k = 0; k < registers; k++) {
+    registerTables.push({ register: k, loads: new Array(N).fill(null), holds: new Array(N).fill(null) });
+  }
+  for (let t = 0; t < N; t++) {
+    for (const [key, k] of placement[t]) registerTables[k].holds[t] = displayKey(vars, key, t, N);
+    const nextT = (t + 1) % N;
+    const before = new Map<string, number>();
+    for (const [key, k] of placement[t]) before.set(nextKey(N, t, key), k);
+    for (const [key, k] of placement[nextT]) {
+      const was = before.get(key);
+      if (was === k) continue;
+      const source: SignalSource = was !== undefined ? { kind: 'register', register: was } : vars[splitKey(key)[0]].source;
+      // Named as the value appears in its register during the next cycle.
+      registerTables[k].loads[t] = { source, variable: displayKey(vars, key, nextT, N) };
+    }
+  }
+
+  // Output ports.
+  const outputs: OutputControl[] = [];
+  for (let y = 0; y < g.nodeCount; y++) {
+    if (g.role[y] !== OUTPUT) continue;
+    const id = g.nodeIds[y];
+    const e = operands[y][0];
+    if (e === undefined) {
+      outputs.push({ node: id, mode: 'none', source: { kind: 'zero' }, cycle: 0, lag: 0, firstSample: 0, validAfterIterations: 0 });
+      continue;
+    }
+    const u = g.edgeFrom[e];
+    let mode: OutputControl['mode'];
+    let source: SignalSource;
+    let cycle: number;
+    let lag: number;
+    if (g.slot[y] !== NO_SLOT) {
+      mode = 'slot';
+      source = route(e).source!;
+      cycle = g.slot[y];
+      lag = r[y];
+    } else {
+      // A tap: the port loads the producer's result in the cycle it appears.
+      mode = 'tap';
+      source = signalOf(u);
+      cycle = g.role[u] === OPERATION ? g.slot[u] + g.stages[u] : g.slot[u] === NO_SLOT ? 0 : g.slot[u];
+      lag = r[y] - wr[e];
+    }
+    outputs.push({
+      node: id,
+      mode,
+      source,
+      cycle,
+      lag,
+      firstSample: Math.max(0, -lag),
+      validAfterIterations: Math.max(0, lag) + floorDiv(cycle, N),
+    });
+  }
+
+  const inputs = design.nodes.filter((n) => n.kind === 'input').map((n) => ({ node: n.id, slot: n.slot ?? null }));
+  const latencyAdded = analysis.retiming.latencyAdded ?? 0;
+  return {
+    control: {
+      factor: N,
+      registers,
+      allocationSource,
+      ...(allocationNote ? { allocationNote } : {}),
+      latencyAdded,
+      inputs,
+      units,
+      muxes,
+      registerTables,
+      outputs,
+    },
+  };
+}
+
+/** Largest register table (partitions x registers) that withControl attaches to a report. */
+export const DEFAULT_MAX_CONTROL_CELLS = 200_000;
+
+/**
+ * The analysis with its control tables attached, for the report: null when no feasible datapath
+ * exists; left out (no `control` field) when the register table would exceed maxCells, as the
+ * analysis leaves out its allocation table. `pleat rtl` and `pleat simulate` have no such limit.
+ */
+export function withControl(design: Design, analysis: Analysis, maxCells = DEFAULT_MAX_CONTROL_CELLS): Analysis {
+  const regs = analysis.registers?.minimum ?? 0;
+  if (analysis.factor * regs > maxCells) return analysis;
+  return { ...analysis, control: controlTables(design, analysis).control };
+}
+
+/** The control tables as plain text lines, for a terminal: one line per unit, mux, register and output. */
+export function controlText(c: ControlTables): string[] {
+  const N = c.factor;
+  const lines: string[] = [];
+  const short = (s: SignalSource) => (s.kind === 'unit' ? s.unit : s.kind === 'input' ? s.node : s.kind === 'register' ? `R${s.register}` : '0');
+  lines.push(`units (what starts in each partition 0..${N - 1}):`);
+  for (const u of c.units) {
+    const cells = u.partitions.map((p, t) => `${t}:${p ? `${p.node}${p.op ? `(${p.op})` : ''}` : '-'}`);
+    lines.push(`  ${u.unit} [${u.kind}, ${u.stages} stage${u.stages === 1 ? '' : 's'}]  ${cells.join(' ')}`);
+  }
+  lines.push('multiplexers (operand port: inputs; source selected in each partition):');
+  for (const m of c.muxes) {
+    const cells = m.select.map((s, t) => `${t}:${s === null ? '-' : short(m.sources[s])}`);
+    lines.push(`  ${m.unit}.a${m.port}  ${m.sources.length} input${m.sources.length === 1 ? '' : 's'}  ${cells.join(' ')}`);
+  }
+  lines.push(`registers (${c.registers}; load at the end of a partition; ${c.allocationSource === 'analysis' ? 'allocation of the analysis' : 'allocation of the control tables'}):`);
+  for (const r of c.registerTables) {
+    const cells = r.loads.map((l, t) => `${t}:${l ? `${short(l.source)}>${l.variable}` : '-'}`);
+    lines.push(`  R${r.register}  ${cells.join(' ')}`);
+  }
+  lines.push('outputs:');
+  for (const o of c.outputs) {
+    const how = o.mode === 'slot' ? `read in partition ${o.cycle}` : o.mode === 'tap' ? `taken when produced, cycle ${o.cycle}` : 'no edge feeds it';
+    lines.push(`  ${o.node}  ${how} from ${short(o.source)}; sample ${o.firstSample}+k valid in cycle ${N * Math.max(0, o.lag) + o.cycle + 1}+${N}k`);
+  }
+  if (c.allocationNote) lines.push(`note: ${c.allocationNote}`);
+  return lines;
+}

@@ -1,0 +1,135 @@
+// `pleat simulate` and `pleat rtl` as a user runs them: the built CLI as a process.
+import { existsSync, readFileSync } from 'node:fs';
+import path from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { execa } from 'execa';
+import { cleanupTemps, ensureBuilt, EXAMPLES, pleat, ROOT, tempDir, write } from '../cli/helpers';
+
+beforeAll(async () => {
+  await ensureBuilt();
+  const r = await execa('bash', [path.join(ROOT, 'scripts/ensure-hdl-tools.sh')], { reject: false, all: true });
+  if (r.exitCode !== 0) throw new Error(`the rtl command tests need iverilog and yosys; scripts/ensure-hdl-tools.sh failed:\n${r.all}`);
+}, 600_000);
+afterAll(cleanupTemps);
+
+const sensor = path.join(EXAMPLES, 'sensor-frontend.fold.yaml');
+// Our own fixture: retiming needed, one iteration of latency, a tap and a slotted output.
+const retimed = path.join(ROOT, 'tests/sim/fixtures/smoothing-retimed.fold.yaml');
+const unretimable = path.join(EXAMPLES, 'envelope-unretimable.fold.yaml');
+
+describe('pleat simulate', () => {
+  it('reports a match and the alignment of every output (exit 0)', async () => {
+    const r = await pleat(['simulate', retimed, '--iterations', '40', '--seed', '9']);
+    expect(r.exitCode, r.stderr).toBe(0);
+    expect(r.stdout).toMatch(/^match {2}.*pressure-smoothing/m);
+    expect(r.stdout).toContain('compared 40 samples of each of 2 outputs (80 in all): 41 iterations');
+    expect(r.stdout).toContain('retiming adds 1 iteration of latency');
+    expect(r.stdout).toMatch(/y: tap; iteration l shows sample l - 1; sample 0\+k valid in cycle 6\+4k/);
+    expect(r.stdout).toMatch(/z: slot; iteration l shows sample l - 1; sample 0\+k valid in cycle 8\+4k/);
+  });
+
+  it('writes JSON with the simulation and the control tables', async () => {
+    const r = await pleat(['simulate', sensor, '--format', 'json', '--arithmetic', 'fixed']);
+    expect(r.exitCode, r.stderr).toBe(0);
+    const j = JSON.parse(r.stdout);
+    expect(j.format).toBe('pleat-simulation/1');
+    expect(j.simulation).toMatchObject({ match: true, firstMismatch: null, arithmetic: 'fixed', samplesPerOutput: 64 });
+    expect(j.control.muxes.length).toBeGreaterThan(0);
+    expect(j.control.registerTables.length).toBe(j.control.registers);
+  });
+
+  it('prints the control tables on request', async () => {
+    const r = await pleat(['simulate', sensor, '--tables']);
+    expect(r.exitCode).toBe(0);
+    expect(r.stdout).toMatch(/multiplexers \(operand port/);
+    expect(r.stdout).toMatch(/^ {4}R0 /m);
+  });
+
+  it('exits 1 when the plan has no feasible datapath', async () => {
+    const r = await pleat(['simulate', unretimable]);
+    expect(r.exitCode).toBe(1);
+    expect(r.stderr).toMatch(/no feasible folded datapath/);
+  });
+
+  it('exits 2 with file, line and column for an operation without arithmetic', async () => {
+    const dir = tempDir();
+    const f = write(
+      dir,
+      'mac.fold.yaml',
+      `format: pleat/1
+name: mac-plan
+units: [{ id: M, kind: mac, stages: 1 }]
+nodes:
+  - { id: x, kind: input }
+  - { id: m, kind: mac }
+  - { id: y, kind: output }
+edges:
+  - { from: x, to: m }
+  - { from: m, to: y }
+folding: { factor: 1, sets: { M: [m] } }
+`,
+    );
+    const r = await pleat(['simulate', f], { cwd: dir });
+    expect(r.exitCode).toBe(2);
+    expect(r.stderr).toMatch(/^mac\.fold\.yaml:6:5: error sim-no-arithmetic: node m of kind mac has no arithmetic/m);
+    expect(r.stderr).not.toMatch(/at .*\.js:\d+/); // no stack trace
+  });
+
+  it('exits 2 on a bad option value', async () => {
+    const r = await pleat(['simulate', sensor, '--iterations', '0']);
+    expect(r.exitCode).toBe(2);
+    expect(r.stderr).toMatch(/expected 1\.\.1000000/);
+  });
+});
+
+describe('pleat rtl', () => {
+  it('writes the RTL, the testbench and a JSON record; --verify runs it in Icarus Verilog', async () => {
+    const dir = tempDir();
+    const out = path.join(dir, 'rtl');
+    const r = await pleat(['rtl', retimed, '--out', out, '--verify', '--iterations', '40']);
+    expect(r.exitCode, r.stderr + r.stdout).toBe(0);
+    for (const f of ['pressure_smoothing.v', 'pressure_smoothing_unit_MUL.v', 'pressure_smoothing_unit_ADD.v', 'pressure_smoothing_tb.v', 'pressure_smoothing.rtl.json']) {
+      expect(existsSync(path.join(out, f)), f).toBe(true);
+    }
+    expect(r.stdout).toMatch(/testbench: PASS pressure_smoothing: 80 samples on 2 outputs, 0 mismatches/);
+    expect(r.stdout).toMatch(/starting point: timing closure and sign-off verification remain the engineer's/);
+    const j = JSON.parse(readFileSync(path.join(out, 'pressure_smoothing.rtl.json'), 'utf8'));
+    expect(j.verify.passed).toBe(true);
+    expect(j.ports.map((p: { port: string }) => p.port)).toEqual(['x', 'y', 'z']);
+    expect(j.latencyAdded).toBe(1);
+    const top = readFileSync(path.join(out, 'pressure_smoothing.v'), 'utf8');
+    expect(top).toMatch(/module pressure_smoothing #\(\n {2}parameter W = 16\n\) \(/);
+    expect(top).toMatch(/output reg {2}y_valid/);
+  }, 120_000);
+
+  it('--area synthesizes the folded and the fully parallel RTL with Yosys and records both', async () => {
+    const dir = tempDir();
+    const out = path.join(dir, 'rtl');
+    const r = await pleat(['rtl', retimed, '--out', out, '--area', '--format', 'json']);
+    expect(r.exitCode, r.stderr).toBe(0);
+    const j = JSON.parse(r.stdout);
+    for (const side of ['folded', 'parallel']) {
+      expect(j.area[side].cells, side).toBeGreaterThan(0);
+      expect(j.area[side].registers, side).toBeGreaterThan(0);
+    }
+    // No claim that sharing pays here: constant gains of a parallel datapath synthesize to
+    // shift-and-add, while a shared multiplier with a coefficient multiplexer is a full one.
+    expect(existsSync(path.join(out, 'parallel', 'pressure_smoothing_parallel.v'))).toBe(true);
+    const text = await pleat(['rtl', retimed, '--out', out, '--area']);
+    expect(text.stdout).toMatch(/^ {2}cells +\d+ +\d+$/m);
+    expect(text.stdout).toMatch(/^ {2}flip-flops +\d+ +\d+$/m);
+  }, 300_000);
+
+  it('exits 1 for a plan without a feasible datapath and writes nothing', async () => {
+    const dir = tempDir();
+    const r = await pleat(['rtl', unretimable, '--out', path.join(dir, 'x')]);
+    expect(r.exitCode).toBe(1);
+    expect(existsSync(path.join(dir, 'x'))).toBe(false);
+  });
+
+  it('needs --out', async () => {
+    const r = await pleat(['rtl', sensor]);
+    expect(r.exitCode).toBe(2);
+    expect(r.stderr).toMatch(/--out/);
+  });
+});
