@@ -1,0 +1,61 @@
+// The Express application: the API under /api and the built web app (dist/web) for every other
+// path, with the single-page-app fallback. No state lives in the process: sessions are signed
+// tokens, counters and everything else are in PostgreSQL.
+import { existsSync } from 'node:fs';
+import { join } from 'node:path';
+import cookieParser from 'cookie-parser';
+import express, { type Express } from 'express';
+import type { AppContext } from './context';
+import { authenticate } from './http/auth';
+import { apiNotFound, errorHandler } from './http/errors';
+import { analyzeRoutes } from './resources/analyze/routes';
+import { authRoutes } from './resources/auth/routes';
+import { branchRoutes } from './resources/branches/routes';
+import { devRoutes } from './resources/dev/routes';
+import { healthRoutes } from './resources/health/routes';
+import { memberRoutes } from './resources/members/routes';
+import { projectRoutes } from './resources/projects/routes';
+import { ruleRoutes } from './resources/rules/routes';
+import { runRoutes } from './resources/runs/routes';
+import { tokenRoutes } from './resources/tokens/routes';
+import { userRoutes } from './resources/users/routes';
+import { watchRoutes } from './resources/watches/routes';
+
+export function createApp(ctx: AppContext): Express {
+  const app = express();
+  app.disable('x-powered-by');
+  app.set('trust proxy', ctx.config.trustProxy);
+  app.use((_req, res, next) => {
+    res.set({ 'X-Content-Type-Options': 'nosniff', 'Referrer-Policy': 'same-origin', 'X-Frame-Options': 'DENY' });
+    next();
+  });
+
+  // The bare liveness route answers before any middleware: the benchmark's baseline.
+  app.use(healthRoutes(ctx));
+
+  app.use('/api', (_req, res, next) => {
+    res.set('Cache-Control', 'no-store');
+    next();
+  });
+  app.use('/api', cookieParser(), authenticate(ctx));
+  for (const routes of [authRoutes, projectRoutes, branchRoutes, runRoutes, ruleRoutes, tokenRoutes, memberRoutes, userRoutes, watchRoutes, analyzeRoutes, devRoutes]) {
+    app.use(routes(ctx));
+  }
+  app.use('/api', apiNotFound);
+
+  const index = join(ctx.config.webDir, 'index.html');
+  app.use(express.static(ctx.config.webDir, { index: false, maxAge: '1h' }));
+  app.get('/{*splat}', (_req, res) => {
+    if (!existsSync(index)) {
+      res.status(404).type('text/plain').send('The web app is not built yet: run `npm run build`, then reload.\n');
+      return;
+    }
+    // The file can vanish between the check and the read while a build rewrites dist/web.
+    res.set('Cache-Control', 'no-cache').sendFile(index, (err) => {
+      if (err && !res.headersSent) res.status(503).type('text/plain').send('The web app is being rebuilt; reload in a moment.\n');
+    });
+  });
+
+  app.use(errorHandler(ctx.log));
+  return app;
+}

@@ -1,0 +1,11 @@
+// What every route handler can reach: settings, the database, the mailer and a logger.
+import type { Config } from './config';
+import type { Db } from './db/index';
+import type { Mailer } from './mail/mailer';
+
+export interface AppContext {
+  config: Config;
+  db: Db;
+  mail: Mailer;
+  log: (msg: string) => void;
+}

@@ -1,0 +1,60 @@
+// Errors leave the server as JSON {error: {code, message}} and never carry a stack trace.
+import type { ErrorRequestHandler, RequestHandler } from 'express';
+
+export class HttpError extends Error {
+  constructor(
+    readonly status: number,
+    readonly code: string,
+    message: string,
+    readonly details?: unknown,
+  ) {
+    super(message);
+  }
+}
+
+export const badRequest = (message: string, details?: unknown) => new HttpError(400, 'bad-request', message, details);
+export const unauthorized = (message = 'Sign in first.', code = 'unauthorized') => new HttpError(401, code, message);
+export const forbidden = (message = 'Your role does not allow this.', code = 'forbidden') => new HttpError(403, code, message);
+export const notFound = (message = 'Not found.') => new HttpError(404, 'not-found', message);
+export const conflict = (message: string, code = 'conflict') => new HttpError(409, code, message);
+export const gone = (message: string, code = 'gone') => new HttpError(410, code, message);
+
+/** Throws 403 unless the policy said yes. */
+export function allow(yes: boolean, message?: string): void {
+  if (!yes) throw forbidden(message);
+}
+
+export const apiNotFound: RequestHandler = (req, res) => {
+  res.status(404).json({ error: { code: 'not-found', message: `No API route ${req.method} ${req.originalUrl.split('?')[0]}.` } });
+};
+
+export function errorHandler(log: (msg: string) => void): ErrorRequestHandler {
+  return (err, req, res, _next) => {
+    let status = 500;
+    let body: { code: string; message: string; details?: unknown } = {
+      code: 'internal',
+      message: 'Something went wrong on the server; it has been logged.',
+    };
+    if (err instanceof HttpError) {
+      status = err.status;
+      body = { code: err.code, message: err.message };
+      if (err.details !== undefined) body.details = err.details;
+    } else if (err?.type === 'entity.too.large' || err?.code === 'LIMIT_FILE_SIZE') {
+      status = 413;
+      body = { code: 'too-large', message: `The request body is larger than the server accepts${err.limit ? ` (${err.limit} bytes)` : ''}.` };
+    } else if (err?.type === 'entity.parse.failed') {
+      status = 400;
+      body = { code: 'invalid-json', message: 'The request body is not valid JSON.' };
+    } else if (err?.name === 'MulterError') {
+      status = 400;
+      body = { code: 'bad-upload', message: `The uploaded form is not what this route expects (${err.code}).` };
+    } else if (typeof err?.status === 'number' && err.status >= 400 && err.status < 500 && err.expose) {
+      // Errors from body parsers and similar middleware that are safe to show.
+      status = err.status;
+      body = { code: 'bad-request', message: String(err.message) };
+    }
+    if (status >= 500) log(`${req.method} ${req.originalUrl}: ${err?.stack ?? err}`);
+    if (res.headersSent) return;
+    res.status(status).json({ error: body });
+  };
+}

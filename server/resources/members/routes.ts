@@ -1,0 +1,165 @@
+// Members of a project and invitations:
+//   GET/POST /api/projects/:slug/members, PATCH/DELETE /api/projects/:slug/members/:userId,
+//   GET /api/projects/:slug/invitations, DELETE /api/projects/:slug/invitations/:id,
+//   GET /api/invitations/:token, POST /api/invitations/:token/accept (public, with the link's secret).
+import bcrypt from 'bcryptjs';
+import express, { Router } from 'express';
+import { Op } from 'sequelize';
+import type { AppContext } from '../../context';
+import type { Membership, Project, Role } from '../../db/models';
+import { projectAccess } from '../../http/access';
+import { hashSecret, requireUser, setSessionCookie } from '../../http/auth';
+import { HttpError, allow, badRequest, conflict, gone, notFound } from '../../http/errors';
+import { normalEmail, publicUser } from '../../http/present';
+import { checker, idParam } from '../../http/validate';
+import { invite, presentInvitation } from './invitations';
+import { canAcceptInvitation, canManageMembers } from './policy';
+
+const json = express.json({ limit: '16kb' });
+const role = { enum: ['lead', 'engineer', 'viewer'] };
+export const emailSchema = { type: 'string', minLength: 3, maxLength: 320, pattern: '^[^\\s@]+@[^\\s@]+$' };
+export const passwordSchema = { type: 'string', minLength: 8, maxLength: 200 };
+
+const checkAdd = checker<{ email: string; role: Role }>({
+  type: 'object', required: ['email', 'role'], additionalProperties: false, properties: { email: emailSchema, role },
+});
+const checkRole = checker<{ role: Role }>({
+  type: 'object', required: ['role'], additionalProperties: false, properties: { role },
+});
+const checkAccept = checker<{ name?: string; password?: string }>({
+  type: 'object', additionalProperties: false,
+  properties: { name: { type: 'string', minLength: 1, maxLength: 200 }, password: passwordSchema },
+});
+
+function presentMember(m: Membership) {
+  return { user: publicUser(m.user!), role: m.role, since: m.createdAt };
+}
+
+export function memberRoutes(ctx: AppContext): Router {
+  const router = Router();
+  const { Membership, User, Invitation, Project, Watch } = ctx.db.models;
+
+  async function managed(req: express.Request) {
+    const { project, role: callerRole } = await projectAccess(ctx, req, { slug: String(req.params.slug) });
+    allow(canManageMembers(callerRole), 'Only a lead manages members.');
+    return { project, user: requireUser(req) };
+  }
+
+  /** A project keeps at least one lead, so someone can always manage it without an admin. */
+  async function keepALead(project: Project, m: Membership, newRole: Role | null) {
+    if (m.role !== 'lead' || newRole === 'lead') return;
+    const leads = await Membership.count({ where: { projectId: project.id, role: 'lead' } });
+    if (leads <= 1) throw conflict('This is the project\'s last lead; make someone else lead first.', 'last-lead');
+  }
+
+  async function membershipOf(project: Project, userIdParam: string | undefined) {
+    const userId = idParam(userIdParam);
+    const m = userId === null ? null : await Membership.findOne({ where: { projectId: project.id, userId }, include: [{ model: User, as: 'user' }] });
+    if (!m) throw notFound('No such member in this project.');
+    return m;
+  }
+
+  router.get('/api/projects/:slug/members', async (req, res) => {
+    const { project } = await managed(req);
+    const rows = await Membership.findAll({ where: { projectId: project.id }, include: [{ model: User, as: 'user' }], order: [['user', 'name', 'ASC']] });
+    res.json({ members: rows.map(presentMember) });
+  });
+
+  router.post('/api/projects/:slug/members', json, async (req, res) => {
+    const { project, user: caller } = await managed(req);
+    const body = checkAdd(req.body);
+    const email = normalEmail(body.email);
+    const existing = await User.findOne({ where: { email } });
+    if (!existing) {
+      // Someone without an account: invited by e-mail, added when they accept.
+      const inv = await invite(ctx, res, { email, project, role: body.role, inviter: caller });
+      inv.project = project;
+      res.status(202).json({ invitation: presentInvitation(inv) });
+      return;
+    }
+    if (existing.deactivatedAt) throw conflict('This account is deactivated; an admin can reactivate it.', 'user-deactivated');
+    const [m, created] = await Membership.findOrCreate({ where: { projectId: project.id, userId: existing.id }, defaults: { projectId: project.id, userId: existing.id, role: body.role } });
+    if (!created) throw conflict(`${email} is a member already (${m.role}); change the role instead.`, 'already-member');
+    m.user = existing;
+    res.status(201).json({ member: presentMember(m) });
+  });
+
+  router.patch('/api/projects/:slug/members/:userId', json, async (req, res) => {
+    const { project } = await managed(req);
+    const { role: newRole } = checkRole(req.body);
+    const m = await membershipOf(project, req.params.userId);
+    await keepALead(project, m, newRole);
+    await m.update({ role: newRole });
+    res.json({ member: presentMember(m) });
+  });
+
+  router.delete('/api/projects/:slug/members/:userId', async (req, res) => {
+    const { project } = await managed(req);
+    const m = await membershipOf(project, req.params.userId);
+    await keepALead(project, m, null);
+    await ctx.db.sequelize.transaction(async (transaction) => {
+      await Watch.destroy({ where: { projectId: project.id, userId: m.userId }, transaction });
+      await m.destroy({ transaction });
+    });
+    res.status(204).end();
+  });
+
+  router.get('/api/projects/:slug/invitations', async (req, res) => {
+    const { project } = await managed(req);
+    const rows = await Invitation.findAll({
+      where: { projectId: project.id, acceptedAt: { [Op.is]: null }, expiresAt: { [Op.gt]: new Date() } },
+      include: [{ model: Project, as: 'project' }], order: [['id', 'DESC']],
+    });
+    res.json({ invitations: rows.map(presentInvitation) });
+  });
+
+  router.delete('/api/projects/:slug/invitations/:id', async (req, res) => {
+    const { project } = await managed(req);
+    const id = idParam(req.params.id);
+    const n = id === null ? 0 : await Invitation.destroy({ where: { id, projectId: project.id, acceptedAt: { [Op.is]: null } } });
+    if (!n) throw notFound('No such pending invitation in this project.');
+    res.status(204).end();
+  });
+
+  async function byToken(token: string | undefined) {
+    const inv = token ? await Invitation.findOne({ where: { tokenHash: hashSecret(token) }, include: [{ model: Project, as: 'project' }] }) : null;
+    if (!inv) throw notFound('No such invitation; ask for a new one.');
+    const state = canAcceptInvitation(inv);
+    if (state === 'used') throw gone('This invitation has been used already; sign in instead.', 'invitation-used');
+    if (state === 'expired') throw gone('This invitation has expired; ask for a new one.', 'invitation-expired');
+    return inv;
+  }
+
+  router.get('/api/invitations/:token', async (req, res) => {
+    const inv = await byToken(req.params.token);
+    const existing = await User.count({ where: { email: inv.email } });
+    res.json({ invitation: presentInvitation(inv), accountExists: existing > 0 });
+  });
+
+  router.post('/api/invitations/:token/accept', json, async (req, res) => {
+    const inv = await byToken(req.params.token);
+    const body = checkAccept(req.body ?? {});
+    const existing = await User.findOne({ where: { email: inv.email } });
+    if (existing?.deactivatedAt) throw new HttpError(403, 'user-deactivated', 'This account is deactivated.');
+    if (!existing && (!body.name || !body.password)) throw badRequest('Choose a name and a password (at least 8 characters).');
+    const hash = existing ? null : await bcrypt.hash(body.password!, ctx.config.bcryptRounds);
+    const user = await ctx.db.sequelize.transaction(async (transaction) => {
+      // Claim the invitation first: of two concurrent accepts only one gets here.
+      const [claimed] = await Invitation.update({ acceptedAt: new Date() }, { where: { id: inv.id, acceptedAt: { [Op.is]: null } }, transaction });
+      if (!claimed) throw gone('This invitation has been used already; sign in instead.', 'invitation-used');
+      // An existing account keeps its password: the link only adds the membership.
+      const u = existing ?? await User.create({ email: inv.email, name: body.name!, passwordHash: hash }, { transaction });
+      if (inv.isAdmin && !u.isAdmin) await u.update({ isAdmin: true }, { transaction });
+      if (inv.projectId && inv.role) {
+        const [m, created] = await Membership.findOrCreate({ where: { projectId: inv.projectId, userId: u.id }, defaults: { projectId: inv.projectId, userId: u.id, role: inv.role }, transaction });
+        if (!created) await m.update({ role: inv.role }, { transaction });
+      }
+      return u;
+    });
+    // A new account is signed in at once; an existing one signs in with its own password.
+    if (!existing) setSessionCookie(ctx, res, user.id);
+    res.json({ user: publicUser(user), project: inv.project ? { slug: inv.project.slug, name: inv.project.name } : null, role: inv.role, signedIn: !existing });
+  });
+
+  return router;
+}

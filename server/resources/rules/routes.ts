@@ -1,0 +1,96 @@
+// GET/PUT /api/projects/:slug/rules and GET /api/projects/:slug/rules/history.
+import express, { Router } from 'express';
+import { Op } from 'sequelize';
+import type { RuleName, Rules } from '../../../shared/types';
+import type { AppContext } from '../../context';
+import type { Project } from '../../db/models';
+import { projectAccess } from '../../http/access';
+import { requireUser } from '../../http/auth';
+import { allow, badRequest } from '../../http/errors';
+import { checker } from '../../http/validate';
+import { canEditRules, canReadRuleHistory, canReadRules } from './policy';
+
+const json = express.json({ limit: '16kb' });
+
+export const rulesSchema = {
+  type: 'object',
+  additionalProperties: false,
+  properties: {
+    negative_delays: { enum: ['fail', 'retime', 'warn'] },
+    min_utilization: { type: 'number', minimum: 0, maximum: 1 },
+    min_unit_utilization: { type: 'number', minimum: 0, maximum: 1 },
+    max_registers: { type: 'integer', minimum: 0 },
+  },
+} as const;
+
+const checkPut = checker<{ rules: Rules }>({
+  type: 'object', required: ['rules'], additionalProperties: false, properties: { rules: rulesSchema },
+});
+
+const RULE_NAMES: RuleName[] = ['negative_delays', 'min_utilization', 'min_unit_utilization', 'max_registers'];
+
+export function ruleRoutes(ctx: AppContext): Router {
+  const router = Router();
+  const { TeamRules, RuleChange, User } = ctx.db.models;
+
+  async function current(project: Project) {
+    const row = await TeamRules.findByPk(project.id, { include: [{ model: User, as: 'editor' }] });
+    return {
+      rules: (row?.rules ?? {}) as Rules,
+      regressionTolerance: project.regressionTolerance,
+      updatedAt: row?.updatedAt ?? null,
+      updatedBy: row?.editor ? { id: row.editor.id, name: row.editor.name } : null,
+    };
+  }
+
+  router.get('/api/projects/:slug/rules', async (req, res) => {
+    const { project, role } = await projectAccess(ctx, req, { slug: req.params.slug });
+    allow(canReadRules(role));
+    res.json(await current(project));
+  });
+
+  router.put('/api/projects/:slug/rules', json, async (req, res) => {
+    const { project, role } = await projectAccess(ctx, req, { slug: req.params.slug });
+    allow(canEditRules(role), 'Only a lead changes the team rules.');
+    const user = requireUser(req);
+    const { rules } = checkPut(req.body);
+    const changes = await ctx.db.sequelize.transaction(async (transaction) => {
+      // Row lock: two leads saving at once both get their change recorded against the right old value.
+      await TeamRules.findOrCreate({ where: { projectId: project.id }, defaults: { projectId: project.id, rules: {}, updatedBy: null }, transaction });
+      const row = (await TeamRules.findByPk(project.id, { transaction, lock: transaction.LOCK.UPDATE }))!;
+      const old = row.rules ?? {};
+      const changed = RULE_NAMES.filter((k) => JSON.stringify(old[k] ?? null) !== JSON.stringify(rules[k] ?? null));
+      for (const rule of changed) {
+        await RuleChange.create({ projectId: project.id, userId: user.id, rule, oldValue: old[rule] ?? null, newValue: rules[rule] ?? null }, { transaction });
+      }
+      if (changed.length) await row.update({ rules, updatedBy: user.id }, { transaction });
+      return changed;
+    });
+    res.json({ ...(await current(project)), changed: changes });
+  });
+
+  router.get('/api/projects/:slug/rules/history', async (req, res) => {
+    const { project, role } = await projectAccess(ctx, req, { slug: req.params.slug });
+    allow(canReadRuleHistory(role));
+    const limit = req.query.limit === undefined ? 100 : Number(req.query.limit);
+    if (!Number.isInteger(limit) || limit < 1 || limit > 500) throw badRequest('limit must be an integer from 1 to 500.');
+    const before = req.query.before === undefined ? null : Number(req.query.before);
+    if (before !== null && !Number.isInteger(before)) throw badRequest('before must be a change id.');
+    const rows = await RuleChange.findAll({
+      where: { projectId: project.id, ...(before !== null ? { id: { [Op.lt]: before } } : {}) },
+      include: [{ model: User, as: 'user' }],
+      order: [['id', 'DESC']],
+      limit: limit + 1,
+    });
+    const page = rows.slice(0, limit);
+    res.json({
+      changes: page.map((c) => ({
+        id: c.id, rule: c.rule, oldValue: c.oldValue, newValue: c.newValue, at: c.createdAt,
+        by: c.user ? { id: c.user.id, name: c.user.name } : null,
+      })),
+      nextBefore: rows.length > limit ? page[page.length - 1]!.id : null,
+    });
+  });
+
+  return router;
+}

@@ -1,0 +1,85 @@
+// Team rules: who may read and change them, and the history of every change.
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { cookieFor, makeCiToken, makeMember, makeProject } from '../../test/factories';
+import { startTestServer, type TestServer } from '../../test/server';
+import type { Project, User } from '../../db/models';
+
+let t: TestServer;
+let project: Project;
+let lead: User;
+let viewer: User;
+
+beforeAll(async () => {
+  t = await startTestServer();
+  project = await makeProject(t.ctx);
+  lead = await makeMember(t.ctx, project, 'lead');
+  viewer = await makeMember(t.ctx, project, 'viewer');
+});
+afterAll(async () => t?.close());
+
+const put = (rules: unknown, who = lead) => t.http().put(`/api/projects/${project.slug}/rules`).set('Cookie', cookieFor(t.ctx, who)).send({ rules });
+const history = (q = '') => t.http().get(`/api/projects/${project.slug}/rules/history${q}`).set('Cookie', cookieFor(t.ctx, viewer));
+
+describe('team rules', () => {
+  it('records every changed rule with who, when, the old and the new value; unchanged rules leave no entry', async () => {
+    const first = await put({ negative_delays: 'fail', min_utilization: 0.7 });
+    expect(first.status).toBe(200);
+    expect(first.body.changed).toEqual(['negative_delays', 'min_utilization']);
+    expect(first.body.rules).toEqual({ negative_delays: 'fail', min_utilization: 0.7 });
+    expect(first.body.updatedBy).toEqual({ id: lead.id, name: lead.name });
+
+    const second = await put({ negative_delays: 'fail', max_registers: 64 });
+    expect(second.body.changed).toEqual(['min_utilization', 'max_registers']);
+    const same = await put({ negative_delays: 'fail', max_registers: 64 });
+    expect(same.body.changed).toEqual([]);
+
+    const res = await history();
+    expect(res.status).toBe(200);
+    expect(res.body.changes.map((c: { rule: string; oldValue: unknown; newValue: unknown }) => [c.rule, c.oldValue, c.newValue])).toEqual([
+      ['max_registers', null, 64],
+      ['min_utilization', 0.7, null],
+      ['min_utilization', null, 0.7],
+      ['negative_delays', null, 'fail'],
+    ]);
+    expect(res.body.changes.every((c: { by: { id: number }; at: string }) => c.by.id === lead.id && !Number.isNaN(Date.parse(c.at)))).toBe(true);
+  });
+
+  it('pages the history with `before`', async () => {
+    const page1 = await history('?limit=2');
+    expect(page1.body.changes).toHaveLength(2);
+    expect(page1.body.nextBefore).toBe(page1.body.changes[1].id);
+    const page2 = await history(`?limit=2&before=${page1.body.nextBefore}`);
+    expect(page2.body.changes[0].id).toBeLessThan(page1.body.nextBefore);
+  });
+
+  it('refuses rules the CLI would not understand', async () => {
+    for (const bad of [{ min_utilization: 1.5 }, { negative_delays: 'maybe' }, { max_registers: 2.5 }, { max_regs: 3 }]) {
+      const res = await put(bad);
+      expect(res.status, JSON.stringify(bad)).toBe(400);
+      expect(res.body.error.details.length).toBeGreaterThan(0);
+    }
+  });
+
+  it('gives the project CI token the current rules (the CLI applies them as a floor)', async () => {
+    const { secret } = await makeCiToken(t.ctx, project);
+    const res = await t.http().get(`/api/projects/${project.slug}/rules`).set('Authorization', `Bearer ${secret}`);
+    expect(res.status).toBe(200);
+    expect(res.body.rules).toEqual({ negative_delays: 'fail', max_registers: 64 });
+    expect(res.body.regressionTolerance).toBe(0.05);
+  });
+
+  it('keeps the regression tolerance set by a lead in the same history', async () => {
+    const res = await t.http().patch(`/api/projects/${project.slug}`).set('Cookie', cookieFor(t.ctx, lead)).send({ regressionTolerance: 0.02 });
+    expect(res.status).toBe(200);
+    expect(res.body.project.regressionTolerance).toBe(0.02);
+    const h = await history('?limit=1');
+    expect(h.body.changes[0]).toMatchObject({ rule: 'regression_tolerance', oldValue: 0.05, newValue: 0.02, by: { id: lead.id } });
+  });
+
+  it('does not let a viewer change them', async () => {
+    const res = await put({ min_utilization: 0.1 }, viewer);
+    expect(res.status).toBe(403);
+    const now = await t.http().get(`/api/projects/${project.slug}/rules`).set('Cookie', cookieFor(t.ctx, viewer));
+    expect(now.body.rules.min_utilization).toBeUndefined();
+  });
+});

@@ -1,0 +1,169 @@
+// GET /api/projects/:slug/branches/:branch/runs (history, cursor paging), GET /api/runs/:id (one run
+// with its comparison), POST /api/projects/:slug/runs (CI upload).
+import express, { Router, type Request } from 'express';
+import { QueryTypes } from 'sequelize';
+import type { Report } from '../../../shared/types';
+import type { AppContext } from '../../context';
+import type { Project } from '../../db/models';
+import { projectAccess } from '../../http/access';
+import { HttpError, allow, badRequest, notFound, unauthorized } from '../../http/errors';
+import { checker, idParam } from '../../http/validate';
+import { afterResponse } from '../../mail/mailer';
+import { compareRun, RUN_COLUMNS, type DesignRow, type RunRow } from './compare';
+import { ingestRun } from './ingest';
+import { notifyWatchers } from './notify';
+import { canReadRuns, canUploadRun } from './policy';
+import { uploadSchema } from './schema';
+
+const checkUpload = checker<Report>(uploadSchema, 'report');
+
+export function presentRun(r: RunRow) {
+  return {
+    id: r.id,
+    branch: r.branch,
+    commit: r.commit,
+    baseBranch: r.base_branch,
+    baseCommit: r.base_commit,
+    verdict: r.verdict,
+    toolVersion: r.tool_version,
+    createdAt: r.created_at,
+    summary: {
+      designs: r.design_count,
+      failed: r.failed_count,
+      errors: r.error_count,
+      utilization: r.utilization,
+      registerMinimum: r.register_minimum,
+      violations: r.violation_count,
+    },
+  };
+}
+
+export function presentDesign(d: DesignRow) {
+  return {
+    name: d.design_name,
+    file: d.file,
+    status: d.status,
+    utilization: d.utilization,
+    registerMinimum: d.register_minimum,
+    negativeEdges: d.negative_edge_count,
+    retimingFeasible: d.retiming_feasible,
+    violations: d.violation_count,
+  };
+}
+
+/** Cursor of the history: "<created_at ISO>,<id>" of the last run of the previous page. */
+export function encodeCursor(r: { created_at: Date; id: number }): string {
+  return `${r.created_at.toISOString()},${r.id}`;
+}
+
+function decodeCursor(cursor: string): { at: Date; id: number } {
+  const m = /^(\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d(?:\.\d{1,3})?Z),(\d{1,10})$/.exec(cursor);
+  const at = m ? new Date(m[1]!) : null;
+  if (!m || !at || Number.isNaN(at.getTime())) throw badRequest('The cursor is not one this server gave out.');
+  return { at, id: Number(m[2]) };
+}
+
+function limitParam(value: unknown, fallback: number, max: number): number {
+  if (value === undefined) return fallback;
+  const n = Number(value);
+  if (!Number.isInteger(n) || n < 1 || n > max) throw badRequest(`limit must be an integer from 1 to ${max}.`);
+  return n;
+}
+
+function queryString(req: Request, name: string): string | undefined {
+  const v = req.query[name];
+  if (v === undefined) return undefined;
+  if (typeof v !== 'string') throw badRequest(`${name} must be given once.`);
+  return v;
+}
+
+export function runRoutes(ctx: AppContext): Router {
+  const router = Router();
+  const q = ctx.db.sequelize;
+
+  router.get('/api/projects/:slug/branches/:branch/runs', async (req, res) => {
+    const { project, role } = await projectAccess(ctx, req, { slug: req.params.slug });
+    allow(canReadRuns(role));
+    const limit = limitParam(req.query.limit, 50, 200);
+    const cursor = queryString(req, 'cursor');
+    const design = queryString(req, 'design');
+    const bind: unknown[] = [project.id, req.params.branch];
+    let where = 'project_id = $1 AND branch = $2';
+    if (cursor) {
+      const c = decodeCursor(cursor);
+      bind.push(c.at, c.id);
+      where += ` AND (created_at, id) < ($${bind.length - 1}, $${bind.length})`;
+    }
+    let designParam = '';
+    if (design) {
+      bind.push(design);
+      designParam = `$${bind.length}`;
+      where += ` AND EXISTS (SELECT 1 FROM run_designs d WHERE d.run_id = runs.id AND d.design_name = ${designParam})`;
+    }
+    bind.push(limit + 1);
+    // One round trip: the page of runs and, beside each, its design rows.
+    const designFilter = designParam ? ` AND rd.design_name = ${designParam}` : '';
+    const rows = await q.query<RunRow & { designs: DesignRow[] | null }>(
+      `SELECT r.*, d.designs FROM (
+         SELECT ${RUN_COLUMNS} FROM runs WHERE ${where} ORDER BY created_at DESC, id DESC LIMIT $${bind.length}
+       ) r
+       LEFT JOIN LATERAL (
+         SELECT json_agg(json_build_object('run_id', rd.run_id, 'design_name', rd.design_name, 'file', rd.file, 'status', rd.status,
+                  'utilization', rd.utilization, 'register_minimum', rd.register_minimum, 'negative_edge_count', rd.negative_edge_count,
+                  'retiming_feasible', rd.retiming_feasible, 'violation_count', rd.violation_count) ORDER BY rd.id) AS designs
+         FROM run_designs rd WHERE rd.run_id = r.id${designFilter}
+       ) d ON true
+       ORDER BY r.created_at DESC, r.id DESC`,
+      { bind, type: QueryTypes.SELECT },
+    );
+    const page = rows.slice(0, limit);
+    res.json({
+      runs: page.map((r) => ({ ...presentRun(r), designs: (r.designs ?? []).map(presentDesign) })),
+      nextCursor: rows.length > limit ? encodeCursor(page[page.length - 1]!) : null,
+    });
+  });
+
+  router.get('/api/runs/:id', async (req, res) => {
+    if (!req.actor) throw unauthorized(req.authProblem ?? 'Sign in first.', req.authProblem ? 'invalid-credentials' : 'unauthorized');
+    const id = idParam(req.params.id);
+    // The run's columns and its stored report as text, in one round trip.
+    const [found] = id === null ? [] : await q.query<RunRow & { report_text: string }>(
+      `SELECT ${RUN_COLUMNS}, report::text AS report_text FROM runs WHERE id = $1`,
+      { bind: [id], type: QueryTypes.SELECT },
+    );
+    if (!found) throw notFound('No such run.');
+    const { report_text: reportText, ...run } = found;
+    const { project, role } = await projectAccess(ctx, req, { id: run.project_id });
+    allow(canReadRuns(role));
+    const { comparison, designs } = await compareRun(ctx, run, project);
+    const head = JSON.stringify({
+      run: { ...presentRun(run), project: { slug: project.slug, name: project.name }, designs: designs.map(presentDesign) },
+      comparison,
+    });
+    // The stored report goes out as stored, without parsing it into objects and back.
+    res.type('application/json').send(`${head.slice(0, -1)},"report":${reportText}}`);
+  });
+
+  // Authorise before reading a body of up to maxReportBytes.
+  const uploadAccess = async (req: Request, res: express.Response, next: express.NextFunction) => {
+    if (req.actor?.kind === 'user') throw new HttpError(403, 'token-required', 'Runs are uploaded by CI with a project token (Authorization: Bearer ...).');
+    const { project, role } = await projectAccess(ctx, req, { slug: String(req.params.slug) });
+    allow(canUploadRun(role));
+    res.locals.project = project;
+    next();
+  };
+  router.post('/api/projects/:slug/runs', uploadAccess, express.json({ limit: ctx.config.maxReportBytes }), async (req, res) => {
+    const project = res.locals.project as Project;
+    const report = checkUpload(req.body);
+    const stored = await ingestRun(ctx, project, report);
+    const run = stored.row;
+    if (stored.created) afterResponse(res, ctx.mail, () => notifyWatchers(ctx, project, stored.row));
+    res.status(stored.created ? 201 : 200).json({
+      created: stored.created,
+      run: presentRun(run),
+      url: `${ctx.config.publicUrl}/projects/${encodeURIComponent(project.slug)}/runs/${run.id}`,
+    });
+  });
+
+  return router;
+}

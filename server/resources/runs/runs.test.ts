@@ -1,0 +1,232 @@
+// Uploads from CI, the branch history and the run page's comparison against the base branch.
+import { readdirSync, readFileSync } from 'node:fs';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { buildReport } from '../../../shared/report';
+import type { Report } from '../../../shared/types';
+import { checkDesignText } from '../../engine';
+import { cookieFor, designEntry, makeCiToken, makeMember, makeProject, makeReport, randomCommit } from '../../test/factories';
+import { startTestServer, type TestServer } from '../../test/server';
+import type { Project, User } from '../../db/models';
+import { ingestRun } from './ingest';
+
+let t: TestServer;
+let project: Project;
+let token: string;
+let viewer: User;
+
+beforeAll(async () => {
+  t = await startTestServer();
+  project = await makeProject(t.ctx);
+  token = (await makeCiToken(t.ctx, project)).secret;
+  viewer = await makeMember(t.ctx, project, 'viewer');
+});
+afterAll(async () => t?.close());
+
+const upload = (report: unknown, secret = token, slug = project.slug) =>
+  t.http().post(`/api/projects/${slug}/runs`).set('Authorization', `Bearer ${secret}`).send(report as object);
+const read = (path: string) => t.http().get(path).set('Cookie', cookieFor(t.ctx, viewer));
+const count = async (sql: string, bind: unknown[] = []) => {
+  const [rows] = await t.db.sequelize.query(sql, { bind });
+  return Number((rows as { n: string }[])[0]!.n);
+};
+
+/** The report the CLI writes for the example designs, made by the real engine (shared/). */
+function engineReport(branch: string, commit: string): Report {
+  const dir = new URL('../../../examples/', import.meta.url);
+  const files = readdirSync(dir).filter((f) => f.endsWith('.fold.yaml') && !f.startsWith('generated')).sort();
+  const designs = files.map((f) => checkDesignText(readFileSync(new URL(f, dir), 'utf8'), f, null).design);
+  return buildReport({ version: '0.1.0', git: { branch, commit }, rules: {}, designs });
+}
+
+describe('POST /api/projects/:slug/runs', () => {
+  it('stores a report of the real engine and files its numbers', async () => {
+    const report = engineReport('main', randomCommit());
+    const res = await upload(report);
+    expect(res.status).toBe(201);
+    expect(res.body.created).toBe(true);
+    expect(res.body.url).toBe(`http://pleat.test/projects/${project.slug}/runs/${res.body.run.id}`);
+    const s = res.body.run.summary;
+    expect(s.designs).toBe(report.designs.length);
+    expect(s.failed).toBe(report.designs.filter((d) => d.status === 'fail').length);
+    const utils = report.designs.flatMap((d) => (d.utilization ? [d.utilization.overall] : []));
+    expect(s.utilization).toBeCloseTo(utils.reduce((a, b) => a + b, 0) / utils.length, 12);
+    const got = await read(`/api/runs/${res.body.run.id}`);
+    expect(got.status).toBe(200);
+    expect(got.body.report).toEqual(JSON.parse(JSON.stringify(report)));
+    expect(got.body.run.designs.map((d: { name: string }) => d.name)).toEqual(report.designs.map((d) => d.name));
+  });
+
+  it('keeps one run per commit: a second upload of the same commit returns the first (200)', async () => {
+    const commit = randomCommit();
+    const first = await upload(makeReport({ branch: 'dup', commit }));
+    const second = await upload(makeReport({ branch: 'dup', commit, designs: [designEntry('other', { status: 'fail' })] }));
+    expect([first.status, second.status]).toEqual([201, 200]);
+    expect(second.body.created).toBe(false);
+    expect(second.body.run.id).toBe(first.body.run.id);
+    expect(second.body.run.verdict).toBe('pass'); // the first upload wins
+    expect(await count('SELECT count(*) AS n FROM runs WHERE commit = $1', [commit])).toBe(1);
+  });
+
+  it('keeps one run when the same commit arrives many times at once', async () => {
+    const commit = randomCommit().toUpperCase(); // commits are compared without case
+    const report = makeReport({ branch: 'race', commit, designs: [designEntry('a'), designEntry('b')] });
+    const results = await Promise.all(Array.from({ length: 8 }, () => upload(report)));
+    const statuses = results.map((r) => r.status).sort();
+    expect(statuses).toEqual([200, 200, 200, 200, 200, 200, 200, 201]);
+    expect(new Set(results.map((r) => r.body.run.id)).size).toBe(1);
+    expect(await count('SELECT count(*) AS n FROM runs WHERE commit = $1', [commit.toLowerCase()])).toBe(1);
+    expect(await count('SELECT count(*) AS n FROM run_designs WHERE run_id = $1', [results[0]!.body.run.id])).toBe(2);
+  });
+
+  it('refuses bodies that are not a report, with the problem named', async () => {
+    const noCommit = makeReport() as unknown as { git: Record<string, unknown> };
+    delete noCommit.git.commit;
+    const res = await upload(noCommit);
+    expect(res.status).toBe(400);
+    expect(res.body.error.details).toContainEqual({ path: '/git', message: "must have required property 'commit'" });
+    expect((await upload({ ...makeReport(), format: 'pleat-report/9' })).status).toBe(400);
+    expect((await upload({ ...makeReport(), verdict: 'great' })).status).toBe(400);
+    const notJson = await t.http().post(`/api/projects/${project.slug}/runs`).set('Authorization', `Bearer ${token}`)
+      .set('Content-Type', 'application/json').send('{"format": ');
+    expect(notJson.status).toBe(400);
+    expect(notJson.body.error.code).toBe('invalid-json');
+  });
+
+  it('refuses a report over the size limit with 413', async () => {
+    const small = await (await import('../../test/server')).startTestServer({ config: { maxReportBytes: 4096 } });
+    try {
+      const p = await makeProject(small.ctx);
+      const secret = (await makeCiToken(small.ctx, p)).secret;
+      const big = makeReport({ designs: Array.from({ length: 40 }, (_, i) => designEntry(`d${i}`)) });
+      const res = await small.http().post(`/api/projects/${p.slug}/runs`).set('Authorization', `Bearer ${secret}`).send(big);
+      expect(res.status).toBe(413);
+      expect(res.body.error.code).toBe('too-large');
+    } finally {
+      await small.close();
+    }
+  });
+
+  it('refuses revoked, unknown and other projects\' tokens', async () => {
+    const revoked = await makeCiToken(t.ctx, project, { revoked: true });
+    const r1 = await upload(makeReport(), revoked.secret);
+    expect(r1.status).toBe(401);
+    expect(r1.body.error.message).toMatch(/revoked/);
+    expect((await upload(makeReport(), `${token}x`)).status).toBe(401);
+    const other = await makeProject(t.ctx);
+    const otherToken = (await makeCiToken(t.ctx, other)).secret;
+    const r3 = await upload(makeReport(), otherToken);
+    expect(r3.status).toBe(403);
+    expect(r3.body.error.code).toBe('wrong-project');
+  });
+});
+
+describe('GET /api/projects/:slug/branches/:branch/runs', () => {
+  it('pages newest first by (created_at, id) without gaps or repeats, also for equal times', async () => {
+    const base = Date.parse('2024-03-01T10:00:00.000Z');
+    const times = [0, 60_000, 60_000, 60_000, 120_000, 180_000, 240_000]; // three runs share one timestamp
+    const ids: number[] = [];
+    for (const [i, dt] of times.entries()) {
+      const designs = [designEntry('alpha', { utilization: 0.5 + i / 100 }), ...(i % 2 ? [designEntry('beta')] : [])];
+      ids.push((await ingestRun(t.ctx, project, makeReport({ branch: 'feature/paging', designs }), { createdAt: new Date(base + dt) })).id);
+    }
+    const expected = ids.map((id, i) => ({ id, at: base + times[i]! })).sort((a, b) => b.at - a.at || b.id - a.id).map((r) => r.id);
+    const seen: number[] = [];
+    let cursor: string | null = null;
+    let pages = 0;
+    do {
+      const q: string = `/api/projects/${project.slug}/branches/${encodeURIComponent('feature/paging')}/runs?limit=3${cursor ? `&cursor=${encodeURIComponent(cursor)}` : ''}`;
+      const res = await read(q);
+      expect(res.status).toBe(200);
+      seen.push(...res.body.runs.map((r: { id: number }) => r.id));
+      cursor = res.body.nextCursor;
+      pages++;
+    } while (cursor && pages < 10);
+    expect(seen).toEqual(expected);
+    expect(pages).toBe(3);
+
+    const filtered = await read(`/api/projects/${project.slug}/branches/feature%2Fpaging/runs?design=beta`);
+    expect(filtered.body.runs.map((r: { id: number }) => r.id)).toEqual(expected.filter((id) => ids.indexOf(id) % 2 === 1));
+    expect(filtered.body.runs.every((r: { designs: { name: string }[] }) => r.designs.length === 1 && r.designs[0]!.name === 'beta')).toBe(true);
+  });
+
+  it('refuses a cursor it did not give out and a limit out of range', async () => {
+    expect((await read(`/api/projects/${project.slug}/branches/main/runs?cursor=yesterday`)).status).toBe(400);
+    expect((await read(`/api/projects/${project.slug}/branches/main/runs?limit=0`)).status).toBe(400);
+    expect((await read(`/api/projects/${project.slug}/branches/main/runs?limit=201`)).status).toBe(400);
+  });
+});
+
+describe('GET /api/runs/:id comparison with the base branch', () => {
+  let p: Project;
+  const at = (min: number) => new Date(Date.parse('2024-04-01T00:00:00Z') + min * 60_000);
+  const mainA = randomCommit();
+  const mainB = randomCommit();
+
+  beforeAll(async () => {
+    p = await makeProject(t.ctx, { regressionTolerance: 0.1 });
+    await makeMember(t.ctx, p, 'viewer').then((u) => { viewer = u; });
+    await ingestRun(t.ctx, p, makeReport({ branch: 'main', commit: mainA, designs: [designEntry('fir', { utilization: 0.8, registers: 10 }), designEntry('gone')] }), { createdAt: at(0) });
+    await ingestRun(t.ctx, p, makeReport({ branch: 'main', commit: mainB, designs: [designEntry('fir', { utilization: 0.9, registers: 8 })] }), { createdAt: at(10) });
+  });
+
+  async function runOn(report: Report, minute: number) {
+    const { id } = await ingestRun(t.ctx, p, report, { createdAt: at(minute) });
+    const res = await read(`/api/runs/${id}`);
+    expect(res.status).toBe(200);
+    return res.body;
+  }
+
+  it('uses the base branch run at the merge-base commit the CLI sent', async () => {
+    const body = await runOn(makeReport({ branch: 'topic', baseBranch: 'main', baseCommit: mainA,
+      designs: [designEntry('fir', { utilization: 0.7, registers: 12, status: 'fail' }), designEntry('new')] }), 20);
+    expect(body.comparison.basis).toBe('merge-base');
+    expect(body.comparison.baseRun.commit).toBe(mainA);
+    const fir = body.comparison.designs.find((d: { name: string }) => d.name === 'fir');
+    expect(fir.utilization.base).toBe(0.8);
+    expect(fir.utilization.current).toBe(0.7);
+    expect(fir.utilization.delta).toBeCloseTo(-0.1, 12);
+    expect(fir.registerMinimum).toEqual({ current: 12, base: 10, delta: 2 });
+    expect(fir.violations).toEqual({ current: 1, base: 0, delta: 1 });
+    // 0.8 -> 0.7 is a 12.5% drop and 10 -> 12 a 20% rise: both past the 10% tolerance.
+    expect(fir.regressions).toEqual(['status', 'utilization', 'registerMinimum', 'violations']);
+    expect(body.comparison.designs.map((d: { name: string; presence: string }) => [d.name, d.presence]))
+      .toEqual([['fir', 'kept'], ['new', 'added'], ['gone', 'removed']]);
+  });
+
+  it('falls back to the nearest earlier run of the base branch when the merge base was never uploaded', async () => {
+    const body = await runOn(makeReport({ branch: 'topic2', baseCommit: randomCommit(), designs: [designEntry('fir', { utilization: 0.85, registers: 8 })] }), 15);
+    expect(body.comparison.basis).toBe('nearest-earlier');
+    expect(body.comparison.baseRun.commit).toBe(mainB);
+    const fir = body.comparison.designs[0];
+    // 0.9 -> 0.85 is a 5.6% drop: inside the 10% tolerance, so no regression.
+    expect(fir.regressions).toEqual([]);
+  });
+
+  it('says none when the base branch has no earlier run', async () => {
+    const body = await runOn(makeReport({ branch: 'early', designs: [designEntry('fir')] }), -5);
+    expect(body.comparison.basis).toBe('none');
+    expect(body.comparison.baseRun).toBeNull();
+    expect(body.comparison.designs).toEqual([]);
+  });
+
+  it('lists branches with the base first, the latest verdict and a trend in time order', async () => {
+    const res = await read(`/api/projects/${p.slug}/branches`);
+    expect(res.status).toBe(200);
+    const names = res.body.branches.map((b: { name: string }) => b.name);
+    expect(names[0]).toBe('main');
+    expect(new Set(names)).toEqual(new Set(['main', 'topic', 'topic2', 'early']));
+    const main = res.body.branches[0];
+    expect(main.isBase).toBe(true);
+    expect(main.latest.commit).toBe(mainB);
+    // A run's utilization is the mean over its designs: (0.8 + 0.5) / 2, then 0.9 alone.
+    expect(main.trend.map((x: { utilization: number }) => x.utilization)).toEqual([0.65, 0.9]);
+    expect(main.trend.map((x: { registerMinimum: number }) => x.registerMinimum)).toEqual([14, 8]);
+    const topic = res.body.branches.find((b: { name: string }) => b.name === 'topic');
+    expect(topic.latest.verdict).toBe('fail');
+  });
+
+  it('answers 404 for a run id that does not exist or is not a number', async () => {
+    expect((await read('/api/runs/999999')).status).toBe(404);
+    expect((await read('/api/runs/abc')).status).toBe(404);
+  });
+});

@@ -1,0 +1,47 @@
+// GET /api/projects/:slug/watches (the caller's watched branches),
+// PUT/DELETE /api/projects/:slug/branches/:branch/watch.
+import { Router, type Request } from 'express';
+import type { AppContext } from '../../context';
+import { projectAccess } from '../../http/access';
+import { requireUser } from '../../http/auth';
+import { allow, badRequest } from '../../http/errors';
+import { canWatch } from './policy';
+
+export function watchRoutes(ctx: AppContext): Router {
+  const router = Router();
+  const { Watch } = ctx.db.models;
+
+  async function access(req: Request) {
+    const { project, role } = await projectAccess(ctx, req, { slug: String(req.params.slug) });
+    allow(canWatch(role), 'Only engineers and leads watch branches.');
+    return { project, user: requireUser(req) };
+  }
+
+  function branchParam(value: unknown): string {
+    const b = String(value ?? '');
+    if (!b || b.length > 255 || /[\s\x00-\x1f]/.test(b)) throw badRequest('Not a branch name.');
+    return b;
+  }
+
+  router.get('/api/projects/:slug/watches', async (req, res) => {
+    const { project, user } = await access(req);
+    const rows = await Watch.findAll({ where: { projectId: project.id, userId: user.id }, order: [['branch', 'ASC']] });
+    res.json({ branches: rows.map((w) => w.branch) });
+  });
+
+  router.put('/api/projects/:slug/branches/:branch/watch', async (req, res) => {
+    const { project, user } = await access(req);
+    const branch = branchParam(req.params.branch);
+    const [, created] = await Watch.findOrCreate({ where: { projectId: project.id, userId: user.id, branch }, defaults: { projectId: project.id, userId: user.id, branch } });
+    res.status(created ? 201 : 200).json({ branch, watching: true });
+  });
+
+  router.delete('/api/projects/:slug/branches/:branch/watch', async (req, res) => {
+    const { project, user } = await access(req);
+    const branch = branchParam(req.params.branch);
+    await Watch.destroy({ where: { projectId: project.id, userId: user.id, branch } });
+    res.json({ branch, watching: false });
+  });
+
+  return router;
+}

@@ -1,0 +1,41 @@
+// The demo seed runs the real engine over the examples: check the story it promises (a passing
+// trunk, a branch that regresses, one that fails) and that seeding twice adds nothing.
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { cookieFor } from '../test/factories';
+import { startTestServer, type TestServer } from '../test/server';
+import { DEMO_ACCOUNTS, DEMO_PASSWORD, DEMO_PROJECT, seedDemo } from './seed';
+
+let t: TestServer;
+beforeAll(async () => { t = await startTestServer(); });
+afterAll(async () => t?.close());
+
+describe('seedDemo', () => {
+  it('creates the four demo accounts, the project and a history; a second run adds nothing', async () => {
+    const first = await seedDemo(t.ctx);
+    expect(first.runsAdded).toBeGreaterThan(20);
+    expect(first.ciToken).toMatch(/^pleat_ci_/);
+    const second = await seedDemo(t.ctx);
+    expect(second).toEqual({ runsAdded: 0, ciToken: null });
+    expect(await t.ctx.db.models.User.count()).toBe(4);
+    expect(await t.ctx.db.models.Run.count()).toBe(first.runsAdded);
+    for (const a of DEMO_ACCOUNTS) {
+      const res = await t.http().post('/api/auth/login').send({ email: a.email, password: DEMO_PASSWORD });
+      expect(res.status, a.email).toBe(200);
+    }
+  });
+
+  it('tells the promised story on the branch page and the run page', async () => {
+    const viewer = (await t.ctx.db.models.User.findOne({ where: { email: 'viewer@example.com' } }))!;
+    const get = (path: string) => t.http().get(path).set('Cookie', cookieFor(t.ctx, viewer));
+    const branches = (await get(`/api/projects/${DEMO_PROJECT.slug}/branches`)).body.branches as { name: string; latest: { id: number; verdict: string } }[];
+    const byName = Object.fromEntries(branches.map((b) => [b.name, b]));
+    expect(Object.keys(byName).sort()).toEqual(['feature/ddc-reorder', 'feature/equaliser-n6', 'feature/flowmeter-envelope', 'main']);
+    expect(byName.main!.latest.verdict).toBe('pass');
+    expect(byName['feature/flowmeter-envelope']!.latest.verdict).toBe('fail');
+    const regressing = (await get(`/api/runs/${byName['feature/equaliser-n6']!.latest.id}`)).body;
+    expect(regressing.comparison.basis).toBe('merge-base');
+    const eq = regressing.comparison.designs.find((d: { name: string }) => d.name === 'cabin-eq-peak');
+    expect(eq.regressions).toContain('utilization');
+    expect(eq.utilization.current).toBeLessThan(eq.utilization.base);
+  });
+});
