@@ -1,6 +1,7 @@
 // The server's use of the engine: one design text in, the same DesignReport the CLI writes out.
 // Used by POST /api/analyze and by the demo seed.
 import { analyze } from '../shared/analyze';
+import { withControl } from '../shared/control';
 import { loadDesign } from '../shared/load';
 import { designReport } from '../shared/report';
 import { applyRules, mergeRules } from '../shared/rules';
@@ -12,7 +13,7 @@ export function checkDesignText(text: string, file: string, teamRules: Rules | n
   if (!loaded.design) {
     return { design: designReport({ file, name: nameOfInvalid(text), diagnostics: loaded.diagnostics, analysis: null }), rules: effective };
   }
-  const analysis = analyze(loaded.design);
+  const analysis = withControl(loaded.design, analyze(loaded.design));
   const { violations, warnings } = applyRules(analysis, effective);
   return {
     design: designReport({ file, name: loaded.design.name, diagnostics: loaded.diagnostics, analysis, violations, ruleWarnings: warnings }),

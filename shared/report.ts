@@ -64,6 +64,7 @@ export function designReport(input: DesignReportInput): DesignReport {
     lifetimes: a ? a.lifetimes : null,
     allocation: a ? a.allocation : null,
     ...(a && a.allocationOmitted !== undefined ? { allocationOmitted: a.allocationOmitted } : {}),
+    ...(a && a.control !== undefined ? { control: a.control } : {}),
     violations,
   };
   if (!hasError && !a) {
