@@ -9,7 +9,9 @@ import { CliError, type CliContext, type RegisterCommand } from '../context';
 import { expandGlobs, expandPaths, reportPath } from '../files';
 import { diagnosticLine, type FormatContext, type Formatter } from '../format/common';
 import { formatText } from '../format/text';
-import { gitInfo, gitRoot } from '../git';
+import { gitRoot } from '../git';
+import { detectBuild, reportGit } from '../ci/index';
+import { loadTeamRules, requireGit, serverSettings, uploadAfterCheck, uploadTarget } from '../upload/index';
 import { mergeRules, applyRules } from '../../shared/rules';
 import { buildReport, designReport, exitCodeOf } from '../../shared/report';
 import type { Analysis, Diagnostic, EffectiveRules, LoadResult, Report, Violation } from '../../shared/types';
@@ -23,6 +25,7 @@ export interface CheckOptions {
   config?: string;
   quiet?: boolean;
   color: boolean;
+  upload?: boolean;
 }
 
 export const register: RegisterCommand = (program: Command, ctx: CliContext) => {
@@ -35,6 +38,7 @@ export const register: RegisterCommand = (program: Command, ctx: CliContext) => 
     .option('-c, --config <file>', 'use this config file instead of looking for pleat.config.yaml')
     .option('-q, --quiet', 'print only failures and errors')
     .option('--no-color', 'never colour the output')
+    .option('--upload', 'send the report to the Pleat server (token in PLEAT_TOKEN); exit 3 when that fails after retries')
     .action(async (paths: string[], opts: CheckOptions) => {
       process.exitCode = await runCheck(paths, opts, ctx);
     });
@@ -83,8 +87,19 @@ export async function runCheck(paths: string[], opts: CheckOptions, ctx: CliCont
     config = c;
   }
 
-  // Team rules from the server are a floor; they arrive with the server connection (not yet).
-  const { effective, notes } = mergeRules(null, config?.rules ?? null);
+  // Build facts (branch, commit; for an upload also the merge-base), then the team rules from
+  // the server when PLEAT_TOKEN is set: they are a floor under the repository's rules.
+  const server = serverSettings(config);
+  const target = opts.upload ? uploadTarget(server) : null;
+  const build = detectBuild({ cwd, git: target ? 'process' : 'files', mergeBase: !!target });
+  if (build.problems.length > 0) throw new CliError(build.problems.join('; '));
+  const git = reportGit(build.context);
+  if (target) {
+    requireGit(git);
+    if (!opts.quiet) for (const n of build.context.notes) err(`pleat: note: ${n}\n`);
+  }
+  const team = await loadTeamRules(server, (line) => err(errColor.yellow(`${line}\n`)), ctx.version);
+  const { effective, notes } = mergeRules(team, config?.rules ?? null);
   if (!opts.quiet) for (const n of notes) err(errColor.yellow(`pleat: ${n.message}\n`));
 
   // Which files.
@@ -116,7 +131,7 @@ export async function runCheck(paths: string[], opts: CheckOptions, ctx: CliCont
   const designs = checked.map((c) =>
     designReport({ file: c.file, name: c.name, diagnostics: c.diagnostics, analysis: c.analysis, violations: c.violations, ruleWarnings: c.ruleWarnings }),
   );
-  const report = buildReport({ version: ctx.version, git: gitInfo(cwd), rules: effective, designs });
+  const report = buildReport({ version: ctx.version, git, rules: effective, designs });
   timing?.lap('report assembled');
 
   const timings = new Map(checked.map((c) => [c.file, c.ms]));
@@ -150,8 +165,19 @@ export async function runCheck(paths: string[], opts: CheckOptions, ctx: CliCont
     process.stdout.write((await formatterFor(format))(report, fctx));
   }
   timing?.lap('terminal output');
+  let code: number = exitCodeOf(report);
+  if (target) {
+    const uploaded = await uploadAfterCheck({
+      report, cwd, root, target, policy: server.policy, quiet: !!opts.quiet, version: ctx.version,
+      jsonOutput: opts.output && format === 'json' ? opts.output : null,
+      say: (line) => err(`${line}\n`),
+    });
+    timing?.lap('upload');
+    // An invalid design (2) still wins; otherwise a failed upload is 3.
+    if (!uploaded && code !== 2) code = 3;
+  }
   timing?.print();
-  return exitCodeOf(report);
+  return code;
 }
 
 async function formatterFor(format: ReportFormat): Promise<Formatter> {
@@ -176,11 +202,17 @@ interface Engine {
 
 /** The engine is loaded on first use, so `pleat --version` and `pleat schema` stay quick. */
 async function loadEngine(): Promise<Engine> {
-  const [load, an, pos] = await Promise.all([import('../../shared/load'), import('../../shared/analyze'), import('../../shared/positions')]);
+  const [load, an, pos, ctl] = await Promise.all([
+    import('../../shared/load'),
+    import('../../shared/analyze'),
+    import('../../shared/positions'),
+    import('../../shared/control'),
+  ]);
   const maxBytes = load.DEFAULT_LIMITS.maxBytes;
   return {
     loadDesign: load.loadDesign as Engine['loadDesign'],
-    analyze: an.analyze as Engine['analyze'],
+    // The report carries the control tables (multiplexers, register loads) that RTL work needs.
+    analyze: (design) => ctl.withControl(design, an.analyze(design)),
     locate: pos.locate,
     maxBytes,
   };

@@ -5,3 +5,4 @@ export { register as schema } from './schema';
 export { register as init } from './init';
 export { register as simulate } from './simulate';
 export { register as rtl } from './rtl';
+export { register as upload } from './upload';
