@@ -1,0 +1,230 @@
+// One hook per query and per mutation. Query keys live here only, so a mutation knows exactly
+// which cached answers it makes stale.
+import { keepPreviousData, useInfiniteQuery, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
+import { api } from './client';
+import type { Me, Role, Rules } from './types';
+
+export const keys = {
+  me: ['me'] as const,
+  projects: ['projects'] as const,
+  project: (slug: string) => ['project', slug] as const,
+  branches: (slug: string) => ['branches', slug] as const,
+  runs: (slug: string, branch: string, design: string | null) => ['runs', slug, branch, design ?? ''] as const,
+  run: (id: number) => ['run', id] as const,
+  rules: (slug: string) => ['rules', slug] as const,
+  ruleHistory: (slug: string) => ['ruleHistory', slug] as const,
+  tokens: (slug: string) => ['tokens', slug] as const,
+  members: (slug: string) => ['members', slug] as const,
+  invitations: (slug: string) => ['invitations', slug] as const,
+  invitation: (token: string) => ['invitation', token] as const,
+  users: ['users'] as const,
+};
+
+// ---------------------------------------------------------------- session
+
+export function useMe() {
+  return useQuery({ queryKey: keys.me, queryFn: ({ signal }) => api.me(signal), staleTime: 5 * 60_000 });
+}
+
+export function useLogin() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (v: { email: string; password: string }) => api.login(v.email, v.password),
+    onSuccess: (me: Me) => {
+      // Another person may have used this tab before: nothing cached may survive a sign-in.
+      qc.clear();
+      qc.setQueryData(keys.me, me);
+    },
+  });
+}
+
+export function useLogout() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: () => api.logout(),
+    onSettled: () => qc.clear(),
+  });
+}
+
+// ---------------------------------------------------------------- projects, branches, runs
+
+export function useProjects(enabled = true) {
+  return useQuery({ queryKey: keys.projects, queryFn: ({ signal }) => api.projects(signal), enabled });
+}
+
+export function useProject(slug: string) {
+  return useQuery({ queryKey: keys.project(slug), queryFn: ({ signal }) => api.project(slug, signal) });
+}
+
+export function useCreateProject() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (v: { slug: string; name: string; baseBranch?: string }) => api.createProject(v),
+    onSuccess: () => qc.invalidateQueries({ queryKey: keys.projects }),
+  });
+}
+
+export function useUpdateProject(slug: string) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (v: { name?: string; baseBranch?: string; regressionTolerance?: number }) => api.updateProject(slug, v),
+    onSuccess: () => {
+      void qc.invalidateQueries({ queryKey: keys.project(slug) });
+      void qc.invalidateQueries({ queryKey: keys.projects });
+      void qc.invalidateQueries({ queryKey: keys.rules(slug) });
+      void qc.invalidateQueries({ queryKey: keys.ruleHistory(slug) });
+    },
+  });
+}
+
+export function useBranches(slug: string) {
+  return useQuery({ queryKey: keys.branches(slug), queryFn: ({ signal }) => api.branches(slug, signal) });
+}
+
+/** One page of a branch's history, newest first; the server pages by cursor (the last run of the previous page). */
+export function useRunPage(slug: string, branch: string, design: string | null, cursor: string | null, limit: number) {
+  return useQuery({
+    queryKey: [...keys.runs(slug, branch, design), cursor ?? '', limit],
+    queryFn: ({ signal }) => api.runs(slug, branch, { cursor, limit, design }, signal),
+    placeholderData: keepPreviousData,
+  });
+}
+
+export function useRun(id: number) {
+  return useQuery({
+    queryKey: keys.run(id),
+    queryFn: ({ signal }) => api.run(id, signal),
+    enabled: Number.isInteger(id) && id > 0,
+    staleTime: Infinity, // a stored run never changes
+  });
+}
+
+export function useWatch(slug: string) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (v: { branch: string; watch: boolean }) => (v.watch ? api.watch(slug, v.branch) : api.unwatch(slug, v.branch)),
+    onSuccess: () => qc.invalidateQueries({ queryKey: keys.branches(slug) }),
+  });
+}
+
+// ---------------------------------------------------------------- rules
+
+export function useRules(slug: string) {
+  return useQuery({ queryKey: keys.rules(slug), queryFn: ({ signal }) => api.rules(slug, signal) });
+}
+
+export function useRuleHistory(slug: string) {
+  return useInfiniteQuery({
+    queryKey: keys.ruleHistory(slug),
+    queryFn: ({ pageParam, signal }) => api.ruleHistory(slug, pageParam, signal),
+    initialPageParam: null as number | null,
+    getNextPageParam: (last) => last.nextBefore,
+  });
+}
+
+export function useSaveRules(slug: string) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (rules: Rules) => api.saveRules(slug, rules),
+    onSuccess: (data) => {
+      qc.setQueryData(keys.rules(slug), data);
+      void qc.invalidateQueries({ queryKey: keys.ruleHistory(slug) });
+    },
+  });
+}
+
+// ---------------------------------------------------------------- tokens
+
+export function useTokens(slug: string) {
+  return useQuery({ queryKey: keys.tokens(slug), queryFn: ({ signal }) => api.tokens(slug, signal) });
+}
+
+export function useCreateToken(slug: string) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (name: string) => api.createToken(slug, name),
+    onSuccess: () => qc.invalidateQueries({ queryKey: keys.tokens(slug) }),
+  });
+}
+
+export function useRevokeToken(slug: string) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (id: number) => api.revokeToken(slug, id),
+    onSuccess: () => qc.invalidateQueries({ queryKey: keys.tokens(slug) }),
+  });
+}
+
+// ---------------------------------------------------------------- members and invitations
+
+export function useMembers(slug: string) {
+  return useQuery({ queryKey: keys.members(slug), queryFn: ({ signal }) => api.members(slug, signal) });
+}
+
+export function useInvitations(slug: string) {
+  return useQuery({ queryKey: keys.invitations(slug), queryFn: ({ signal }) => api.invitations(slug, signal) });
+}
+
+function useMemberMutation<V, R>(slug: string, fn: (v: V) => Promise<R>) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: fn,
+    onSuccess: () => {
+      void qc.invalidateQueries({ queryKey: keys.members(slug) });
+      void qc.invalidateQueries({ queryKey: keys.invitations(slug) });
+    },
+  });
+}
+
+export const useAddMember = (slug: string) => useMemberMutation(slug, (v: { email: string; role: Role }) => api.addMember(slug, v.email, v.role));
+export const useSetMemberRole = (slug: string) => useMemberMutation(slug, (v: { userId: number; role: Role }) => api.setMemberRole(slug, v.userId, v.role));
+export const useRemoveMember = (slug: string) => useMemberMutation(slug, (userId: number) => api.removeMember(slug, userId));
+export const useCancelInvitation = (slug: string) => useMemberMutation(slug, (id: number) => api.cancelInvitation(slug, id));
+
+export function useInvitation(token: string) {
+  return useQuery({ queryKey: keys.invitation(token), queryFn: ({ signal }) => api.invitation(token, signal) });
+}
+
+export function useAcceptInvitation(token: string) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (body: { name?: string; password?: string }) => api.acceptInvitation(token, body),
+    onSuccess: () => {
+      // A new session may have started: forget what was cached, except the invitation on screen.
+      qc.removeQueries({ predicate: (q) => q.queryKey[0] !== 'invitation' });
+    },
+  });
+}
+
+// ---------------------------------------------------------------- users (admins)
+
+export function useUsers() {
+  return useQuery({ queryKey: keys.users, queryFn: ({ signal }) => api.users(signal) });
+}
+
+export function useInviteUser() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (v: { email: string; name?: string; isAdmin?: boolean }) => api.inviteUser(v),
+    onSuccess: () => qc.invalidateQueries({ queryKey: keys.users }),
+  });
+}
+
+export function useUpdateUser() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (v: { id: number; name?: string; isAdmin?: boolean; active?: boolean }) => {
+      const { id, ...body } = v;
+      return api.updateUser(id, body);
+    },
+    onSuccess: () => qc.invalidateQueries({ queryKey: keys.users }),
+  });
+}
+
+// ---------------------------------------------------------------- try a design
+
+export function useAnalyze() {
+  return useMutation({
+    mutationFn: (v: { file: Blob; fileName: string; project?: string | null }) => api.analyze(v.file, v.fileName, v.project),
+  });
+}

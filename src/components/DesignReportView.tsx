@@ -1,0 +1,175 @@
+import type { ReactNode } from 'react';
+import type { Diagnostic, DesignReport, EffectiveRules } from '../../shared/types';
+import { AllocationTable } from './AllocationTable';
+import { DiagnosticsList } from './DiagnosticsList';
+import { EdgeTable } from './EdgeTable';
+import { IterationBoundCard } from './IterationBoundCard';
+import { LifetimeChart } from './LifetimeChart';
+import { Panel, Stat } from './Panel';
+import { RetimingCard } from './RetimingCard';
+import { ScheduleGrid } from './ScheduleGrid';
+import { StatusBadge } from './StatusBadge';
+import { UtilizationBars } from './UtilizationBars';
+import { ViolationsList } from './ViolationsList';
+import { num, pct } from './format';
+
+/**
+ * Everything Pleat computed for one design. The run page and the try-a-design page both render
+ * this, so a design reads the same whether it came from CI or from a file dropped in the browser.
+ */
+export function DesignReportView({
+  design,
+  rules,
+  changes,
+  onSelectDiagnostic,
+}: {
+  design: DesignReport;
+  rules?: EffectiveRules;
+  /** The comparison against the base branch, rendered by the caller (only the run page has one). */
+  changes?: ReactNode;
+  onSelectDiagnostic?: (d: Diagnostic) => void;
+}) {
+  const valid = design.status !== 'error' && design.factor != null;
+  const negatives = design.edges?.filter((e) => e.foldedDelay !== null && e.foldedDelay < 0).length ?? 0;
+  const sections: [string, string][] = valid
+    ? [
+        ['rules', 'Rules'],
+        ...(design.diagnostics.length ? ([['findings', 'Findings']] as [string, string][]) : []),
+        ...(changes ? ([['changes', 'Changes']] as [string, string][]) : []),
+        ['edges', 'Edges'],
+        ['schedule', 'Schedule'],
+        ['utilization', 'Utilization'],
+        ['registers', 'Registers'],
+        ['bound', 'Iteration bound'],
+      ]
+    : [];
+
+  return (
+    <article aria-label={`Design ${design.name ?? design.file}`} className="space-y-5" data-testid="design-report">
+      <div className="flex flex-wrap items-center gap-3">
+        <h2 className="text-xl font-bold tracking-tight">{design.name ?? <span className="text-ink-500">unnamed design</span>}</h2>
+        <StatusBadge status={design.status} />
+        <span className="text-sm text-ink-600">{design.file}</span>
+      </div>
+
+      {!valid ? (
+        <Panel id="findings" title="Why this design could not be analysed" subtitle="Fix these findings in the design file; positions are line:column.">
+          <DiagnosticsList diagnostics={design.diagnostics} file={design.file} onSelect={onSelectDiagnostic} />
+        </Panel>
+      ) : (
+        <>
+          <dl className="grid grid-cols-2 gap-3 md:grid-cols-3 xl:grid-cols-6">
+            <Stat label="Folding factor" value={design.factor} hint={design.factorLowerBound != null ? `loops allow ≥ ${design.factorLowerBound}` : undefined} />
+            <Stat label="Utilization" value={pct(design.utilization?.overall)} hint={`${Object.keys(design.utilization?.units ?? {}).length} units`} />
+            <Stat label="Registers" value={design.registers ? design.registers.minimum : '—'} hint={design.registers ? `minimum; ${design.registers.perEdge} unshared` : 'no feasible datapath'} />
+            <Stat
+              label="Negative D_F"
+              value={negatives}
+              tone={negatives > 0 && !design.retiming?.feasible ? 'bad' : undefined}
+              hint={negatives === 0 ? 'none' : design.retiming?.feasible ? 'fixed by retiming' : 'retiming impossible'}
+            />
+            <Stat
+              label="Iteration bound"
+              value={design.iterationBound ? (design.iterationBound.denominator === 1 ? design.iterationBound.numerator : `${design.iterationBound.numerator}/${design.iterationBound.denominator}`) : '—'}
+              hint={design.iterationBound ? 'time units' : 'no loops'}
+            />
+            <Stat label="Sample rate" value={design.sampleRateMHz != null ? `${num(design.sampleRateMHz)} MHz` : '—'} hint={design.samplePeriodNs != null ? `${num(design.samplePeriodNs)} ns period` : 'no clock_ns given'} />
+          </dl>
+
+          <nav aria-label="Sections of this design" className="sticky top-14 z-20 -mx-1 flex flex-wrap gap-1 rounded-lg bg-paper/95 px-1 py-1.5 backdrop-blur">
+            {sections.map(([id, label]) => (
+              <a key={id} href={`#${id}`} className="rounded-md px-2.5 py-1 text-sm font-medium text-ink-700 hover:bg-ink-100 hover:text-ink-950">
+                {label}
+              </a>
+            ))}
+          </nav>
+
+          <div className="grid gap-5 xl:grid-cols-2">
+            <Panel id="rules" title="Rules" subtitle="Broken rules and where each rule came from">
+              <ViolationsList violations={design.violations} />
+              {rules && <RulesInForce rules={rules} />}
+            </Panel>
+            <Panel id="retiming" title="Retiming" subtitle="Removing negative folded delays by moving delays around loops">
+              {design.retiming && <RetimingCard retiming={design.retiming} />}
+            </Panel>
+          </div>
+
+          {design.diagnostics.length > 0 && (
+            <Panel id="findings" title="Findings" subtitle="Warnings about the design file">
+              <DiagnosticsList diagnostics={design.diagnostics} file={design.file} onSelect={onSelectDiagnostic} />
+            </Panel>
+          )}
+
+          {changes && (
+            <Panel id="changes" title="Changes against the base branch">
+              {changes}
+            </Panel>
+          )}
+
+          <Panel id="edges" title="Edges" subtitle="Folded delay D_F = N·w − P(U) + slot(V) − slot(U), before and after retiming">
+            <EdgeTable edges={design.edges ?? []} retimingNeeded={design.retiming?.needed} />
+          </Panel>
+
+          <div className="grid gap-5 2xl:grid-cols-[3fr_2fr]">
+            <Panel id="schedule" title="Schedule" subtitle={`Which node each unit runs in each of the ${design.factor} partitions`}>
+              <ScheduleGrid schedule={design.schedule ?? []} factor={design.factor!} />
+            </Panel>
+            <Panel id="utilization" title="Utilization" subtitle="Share of each unit's partitions that do useful work">
+              {design.utilization && <UtilizationBars utilization={design.utilization} rules={rules} />}
+            </Panel>
+          </div>
+
+          <Panel
+            id="registers"
+            title="Registers"
+            subtitle={
+              design.registers
+                ? `${design.registers.minimum} by lifetime analysis · ${design.registers.delayLines} as delay lines · ${design.registers.perEdge} one chain per edge`
+                : 'No feasible folded datapath, so no registers to count'
+            }
+          >
+            {design.lifetimes ? (
+              <LifetimeChart lifetimes={design.lifetimes} registerMinimum={design.registers?.minimum} />
+            ) : (
+              <p className="text-sm text-ink-600">No lifetime chart: the folded datapath cannot exist as planned.</p>
+            )}
+            <h3 className="mt-6 mb-2 text-sm font-bold text-ink-800">Register allocation</h3>
+            {design.allocation ? (
+              <AllocationTable allocation={design.allocation} />
+            ) : (
+              <p className="text-sm text-ink-600">{design.allocationOmitted ?? 'No allocation: the folded datapath cannot exist as planned.'}</p>
+            )}
+          </Panel>
+
+          <Panel id="bound" title="Iteration bound" subtitle="The slowest loop of the unfolded graph limits the sample rate">
+            <IterationBoundCard
+              bound={design.iterationBound}
+              factor={design.factor!}
+              factorLowerBound={design.factorLowerBound ?? undefined}
+              samplePeriodNs={design.samplePeriodNs}
+              sampleRateMHz={design.sampleRateMHz}
+            />
+          </Panel>
+        </>
+      )}
+    </article>
+  );
+}
+
+function RulesInForce({ rules }: { rules: EffectiveRules }) {
+  const entries = Object.entries(rules) as [keyof EffectiveRules, { value: number | string; source: string }][];
+  if (entries.length === 0) return null;
+  return (
+    <div className="mt-4">
+      <div className="mb-1 text-xs font-medium uppercase tracking-wider text-ink-500">In force for this check</div>
+      <ul className="flex flex-wrap gap-2 text-xs">
+        {entries.map(([name, r]) => (
+          <li key={name} className="rounded border border-ink-200 bg-ink-50 px-2 py-1">
+            <span className="font-medium">{name}</span> = {typeof r.value === 'number' && name.startsWith('min_') ? pct(r.value) : String(r.value)}{' '}
+            <span className={r.source === 'team' ? 'text-ember-700' : 'text-ink-500'}>({r.source})</span>
+          </li>
+        ))}
+      </ul>
+    </div>
+  );
+}

@@ -1,0 +1,63 @@
+import type { RuleName, RuleSource, Violation } from '../../shared/types';
+import { StatusIcon } from './StatusBadge';
+import { pct } from './format';
+
+export const ruleLabel: Record<RuleName, string> = {
+  negative_delays: 'Negative folded delays',
+  min_utilization: 'Design utilization floor',
+  min_unit_utilization: 'Unit utilization floor',
+  max_registers: 'Register ceiling',
+};
+
+export const sourceLabel: Record<RuleSource, string> = {
+  team: 'team rule',
+  repository: 'repository rule',
+  default: 'default',
+};
+
+export function SourceTag({ source }: { source: RuleSource }) {
+  const cls =
+    source === 'team'
+      ? 'border-ember-600/40 bg-ember-50 text-ember-800'
+      : source === 'repository'
+        ? 'border-ink-400 bg-ink-50 text-ink-800'
+        : 'border-ink-200 bg-white text-ink-600';
+  return <span className={`inline-block rounded border px-1.5 py-0.5 text-xs font-medium ${cls}`}>{sourceLabel[source]}</span>;
+}
+
+export function formatRuleValue(rule: RuleName, v: number | string): string {
+  if (typeof v === 'number' && (rule === 'min_utilization' || rule === 'min_unit_utilization')) return pct(v);
+  return String(v);
+}
+
+/** The rules a design broke, each with the limit, the actual value and where the rule came from. */
+export function ViolationsList({ violations }: { violations: Violation[] }) {
+  if (violations.length === 0)
+    return (
+      <p className="flex items-center gap-2 text-sm text-pass-700">
+        <StatusIcon status="pass" /> Every rule in force holds.
+      </p>
+    );
+  return (
+    <ul className="space-y-2" aria-label="Broken rules">
+      {violations.map((v, i) => (
+        <li key={i} className="flex gap-3 rounded-lg border border-fail-600/25 bg-fail-100/40 px-3 py-2" data-rule={v.rule} data-source={v.source}>
+          <span className="mt-0.5 text-fail-600">
+            <StatusIcon status="fail" />
+          </span>
+          <div className="min-w-0 flex-1 text-sm">
+            <div className="flex flex-wrap items-center gap-2">
+              <span className="font-bold text-ink-900">{ruleLabel[v.rule] ?? v.rule}</span>
+              {v.unit && <span className="rounded bg-white px-1.5 py-0.5 text-xs font-medium ring-1 ring-ink-200">{v.unit}</span>}
+              <SourceTag source={v.source} />
+            </div>
+            <p className="mt-0.5 text-ink-800">{v.message}</p>
+            <p className="mt-0.5 text-xs text-ink-600">
+              limit {formatRuleValue(v.rule, v.limit)} · actual {formatRuleValue(v.rule, v.actual)}
+            </p>
+          </div>
+        </li>
+      ))}
+    </ul>
+  );
+}

@@ -1,0 +1,129 @@
+import { useState, type FormEvent } from 'react';
+import { Link } from 'react-router-dom';
+import { errorMessage } from '../api/client';
+import { useBranches, useCreateProject, useMe, useProjects } from '../api/hooks';
+import type { Project } from '../api/types';
+import { StatusBadge } from '../components/StatusBadge';
+import { ago } from '../components/format';
+import { can, roleLabel } from '../api/roles';
+import { FormError } from '../components/AuthFrame';
+import { PageHeader, buttonClass, inputClass } from '../components/Panel';
+import { EmptyState, QueryState } from '../components/States';
+import { to } from '../links';
+import { useDocumentTitle } from '../components/useDocumentTitle';
+
+export default function ProjectsPage() {
+  useDocumentTitle('Projects');
+  const me = useMe();
+  const projects = useProjects();
+  return (
+    <div>
+      <PageHeader title="Projects" eyebrow={me.data ? `Signed in as ${me.data.user.name}` : undefined}>
+        Each project keeps the CI runs of one repository, per branch.
+      </PageHeader>
+      <QueryState query={projects} loadingLabel="Loading your projects…">
+        {({ projects: list }) =>
+          list.length === 0 ? (
+            <EmptyState title="You are not in any project yet">
+              A project lead adds you to a project, or an admin creates one.
+            </EmptyState>
+          ) : (
+            <ul className="grid gap-4 sm:grid-cols-2 xl:grid-cols-3 2xl:grid-cols-4" aria-label="Your projects">
+              {list.map((p) => (
+                <li key={p.slug}>
+                  <ProjectCard project={p} />
+                </li>
+              ))}
+            </ul>
+          )
+        }
+      </QueryState>
+      {can.createProject(me.data) && <NewProject />}
+    </div>
+  );
+}
+
+function ProjectCard({ project: p }: { project: Project }) {
+  // The base branch's latest verdict tells at a glance whether the project is healthy.
+  const branches = useBranches(p.slug);
+  const base = branches.data?.branches.find((b) => b.isBase);
+  return (
+    <Link
+      to={to.project(p.slug)}
+      className="group block h-full rounded-xl border border-ink-200 bg-white p-5 shadow-[0_1px_0_var(--color-ink-200)] hover:border-ember-500"
+      data-project={p.slug}
+    >
+      <div className="flex items-start justify-between gap-3">
+        <h2 className="text-lg font-bold text-ink-950 group-hover:text-ember-700">{p.name}</h2>
+        {p.role && <span className="rounded-full bg-ink-100 px-2 py-0.5 text-xs font-medium text-ink-700">{roleLabel[p.role]}</span>}
+      </div>
+      <p className="mt-1 text-sm text-ink-600">{p.slug}</p>
+      <div className="mt-4 flex flex-wrap items-center gap-2 text-sm text-ink-700">
+        <span>
+          Base branch <span className="font-medium">{p.baseBranch}</span>
+        </span>
+        {branches.isPending ? (
+          <span className="text-ink-500">…</span>
+        ) : base?.latest ? (
+          <>
+            <StatusBadge status={base.latest.verdict} size="sm" />
+            <span className="text-xs text-ink-500">{ago(base.lastRunAt)}</span>
+          </>
+        ) : (
+          <span className="text-ink-500">no run yet</span>
+        )}
+      </div>
+      {branches.data && (
+        <p className="mt-1 text-xs text-ink-600">
+          {branches.data.branches.length} branch{branches.data.branches.length === 1 ? '' : 'es'} with runs
+        </p>
+      )}
+    </Link>
+  );
+}
+
+function NewProject() {
+  const create = useCreateProject();
+  const [name, setName] = useState('');
+  const [slug, setSlug] = useState('');
+  const [base, setBase] = useState('main');
+  const submit = (e: FormEvent) => {
+    e.preventDefault();
+    create.mutate({ name: name.trim(), slug: slug.trim(), baseBranch: base.trim() || undefined }, { onSuccess: () => (setName(''), setSlug('')) });
+  };
+  return (
+    <section aria-labelledby="new-project" className="mt-10 max-w-3xl rounded-xl border border-ink-200 bg-white p-5">
+      <h2 id="new-project" className="font-bold">
+        New project <span className="text-sm font-normal text-ink-600">(admins)</span>
+      </h2>
+      <form onSubmit={submit} className="mt-3 grid gap-3 sm:grid-cols-[2fr_1.5fr_1fr_auto] sm:items-end">
+        <label className="text-sm font-medium text-ink-800">
+          Name
+          <input className={`${inputClass} mt-1`} required value={name} onChange={(e) => setName(e.target.value)} />
+        </label>
+        <label className="text-sm font-medium text-ink-800">
+          Slug
+          <input
+            className={`${inputClass} mt-1`}
+            required
+            pattern="[a-z0-9][a-z0-9-]{0,62}"
+            title="lower-case letters, digits and dashes"
+            value={slug}
+            onChange={(e) => setSlug(e.target.value)}
+          />
+        </label>
+        <label className="text-sm font-medium text-ink-800">
+          Base branch
+          <input className={`${inputClass} mt-1`} value={base} onChange={(e) => setBase(e.target.value)} />
+        </label>
+        <button type="submit" className={buttonClass.primary} disabled={create.isPending}>
+          Create
+        </button>
+      </form>
+      <div className="mt-3">
+        <FormError error={create.error ? errorMessage(create.error) : null} />
+        {create.isSuccess && <p role="status" className="text-sm text-pass-700">Project {create.data.project.name} created. Add its members from the project's Members tab.</p>}
+      </div>
+    </section>
+  );
+}

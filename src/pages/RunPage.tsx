@@ -1,0 +1,132 @@
+import { Link, useParams, useSearchParams } from 'react-router-dom';
+import { useRun } from '../api/hooks';
+import { ComparisonPanel } from '../components/ComparisonPanel';
+import { DesignReportView } from '../components/DesignReportView';
+import { useProjectContext } from '../components/ProjectLayout';
+import { PageHeader, Panel } from '../components/Panel';
+import { StatusBadge, StatusIcon } from '../components/StatusBadge';
+import { EmptyState, ErrorState, Loading } from '../components/States';
+import { ago, dateTime, shortCommit } from '../components/format';
+import { to } from '../links';
+import { useDocumentTitle } from '../components/useDocumentTitle';
+
+export default function RunPage() {
+  const { project } = useProjectContext();
+  useDocumentTitle(`Run ${useParams().id} · ${project.name}`);
+  const id = Number(useParams().id);
+  const [params, setParams] = useSearchParams();
+  const q = useRun(id);
+
+  if (!Number.isInteger(id) || id <= 0) return <EmptyState title="This is not a run number" />;
+  if (q.isPending) return <Loading label="Loading the run…" />;
+  if (q.error || !q.data) return <ErrorState error={q.error} onRetry={() => void q.refetch()} />;
+
+  const { run, comparison, report } = q.data;
+  const designs = report.designs;
+  // A design is chosen by name (or by file for an invalid one without a name); by default the first that did not pass.
+  const wanted = params.get('design');
+  const index = Math.max(
+    0,
+    wanted !== null ? designs.findIndex((d) => (d.name ?? d.file) === wanted) : designs.findIndex((d) => d.status !== 'pass'),
+  );
+  const selected = designs[index];
+  const select = (name: string) => {
+    const next = new URLSearchParams(params);
+    next.set('design', name);
+    setParams(next, { replace: true });
+  };
+  const delta = selected && comparison.designs.find((d) => d.name === (selected.name ?? selected.file));
+
+  return (
+    <div>
+      <PageHeader
+        eyebrow={
+          <Link to={to.branch(project.slug, run.branch)} className="hover:underline">
+            ← {run.branch}
+          </Link>
+        }
+        title={
+          <span className="inline-flex flex-wrap items-center gap-3">
+            Run of {shortCommit(run.commit)}
+            <StatusBadge status={run.verdict} size="lg" />
+          </span>
+        }
+      >
+        <span className="text-sm text-ink-600">
+          {run.branch} · commit <span className="font-medium text-ink-800">{run.commit}</span> · uploaded {ago(run.createdAt)}
+          {ago(run.createdAt) !== dateTime(run.createdAt) ? ` (${dateTime(run.createdAt)})` : ''} · pleat{' '}
+          {run.toolVersion}
+        </span>
+      </PageHeader>
+
+      <Panel id="run-changes" title={`Changes against ${comparison.baseBranch}`} className="mb-6">
+        <ComparisonPanel comparison={comparison} slug={project.slug} onSelectDesign={select} />
+      </Panel>
+
+      {designs.length === 0 ? (
+        <EmptyState title="This run has no designs" />
+      ) : (
+        <div className="grid gap-6 lg:grid-cols-[15rem_minmax(0,1fr)] 2xl:grid-cols-[18rem_minmax(0,1fr)]">
+          <nav aria-label="Designs of this run" className="lg:sticky lg:top-20 lg:self-start">
+            <h2 className="mb-2 text-xs font-medium tracking-wider text-ink-500 uppercase">
+              Designs ({designs.length})
+            </h2>
+            <ul className="max-h-[70vh] space-y-1 overflow-y-auto">
+              {designs.map((d, i) => {
+                const key = d.name ?? d.file;
+                const active = i === index;
+                return (
+                  <li key={`${d.file}-${i}`}>
+                    <button
+                      type="button"
+                      onClick={() => select(key)}
+                      aria-current={active ? 'true' : undefined}
+                      className={`flex w-full items-start gap-2 rounded-lg px-3 py-2 text-left text-sm ${
+                        active ? 'bg-ink-900 text-white' : 'text-ink-800 hover:bg-ink-100'
+                      }`}
+                    >
+                      <span
+                        className={`mt-0.5 rounded-sm ${active ? 'bg-white p-px' : ''} ${d.status === 'pass' ? 'text-pass-600' : d.status === 'fail' ? 'text-fail-600' : 'text-error-600'}`}
+                      >
+                        <StatusIcon status={d.status} />
+                      </span>
+                      <span className="min-w-0 flex-1">
+                        <span className="block truncate font-medium">{d.name ?? d.file}</span>
+                        <span className={`block truncate text-xs ${active ? 'text-ink-300' : 'text-ink-500'}`}>
+                          <span className="sr-only">{d.status}, </span>
+                          {d.status === 'error'
+                            ? `${d.diagnostics.filter((x) => x.severity === 'error').length} error(s)`
+                            : `${d.violations.length} violation${d.violations.length === 1 ? '' : 's'}`}
+                          {' · '}
+                          {d.file}
+                        </span>
+                      </span>
+                    </button>
+                  </li>
+                );
+              })}
+            </ul>
+          </nav>
+          <div className="min-w-0">
+            {selected && (
+              <DesignReportView
+                key={`${selected.file}-${index}`}
+                design={selected}
+                rules={report.rules}
+                changes={
+                  comparison.baseRun ? (
+                    delta ? (
+                      <ComparisonPanel comparison={comparison} slug={project.slug} design={delta.name} />
+                    ) : (
+                      <p className="text-sm text-ink-600">This design is new: the base run does not have it.</p>
+                    )
+                  ) : undefined
+                }
+              />
+            )}
+          </div>
+        </div>
+      )}
+    </div>
+  );
+}
