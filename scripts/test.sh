@@ -3,6 +3,9 @@
 set -euo pipefail
 cd "$(dirname "$0")/.."
 bash scripts/ensure-deps.sh
+# Tools the tests drive, from Debian's packages: installed once, one apt run after another.
+bash scripts/ensure-hdl-tools.sh
+bash scripts/ensure-chromium.sh
 # The server's tests need the private PostgreSQL and a migrated pleat_test database.
 bash scripts/pg.sh
 PLEAT_DATABASE_URL="$(bash scripts/pg.sh url pleat_test)" npx tsx server/main.ts migrate
