@@ -423,7 +423,11 @@ export const DEFAULT_MAX_CONTROL_CELLS = 200_000;
  */
 export function withControl(design: Design, analysis: Analysis, maxCells = DEFAULT_MAX_CONTROL_CELLS): Analysis {
   const regs = analysis.registers?.minimum ?? 0;
-  if (analysis.factor * regs > maxCells) return analysis;
+  const cells = analysis.factor * regs;
+  if (cells > maxCells) {
+    // Said in the report, so a reader of it (the web report) can tell why the tables are missing.
+    return { ...analysis, controlOmitted: `the register load table would have ${analysis.factor} partitions x ${regs} registers = ${cells} cells, more than the limit of ${maxCells}` };
+  }
   return { ...analysis, control: controlTables(design, analysis).control };
 }
 

@@ -65,6 +65,7 @@ export function designReport(input: DesignReportInput): DesignReport {
     allocation: a ? a.allocation : null,
     ...(a && a.allocationOmitted !== undefined ? { allocationOmitted: a.allocationOmitted } : {}),
     ...(a && a.control !== undefined ? { control: a.control } : {}),
+    ...(a && a.controlOmitted !== undefined ? { controlOmitted: a.controlOmitted } : {}),
     violations,
   };
   if (!hasError && !a) {

@@ -193,6 +193,8 @@ export interface Analysis {
   sampleRateMHz: number | null;
   /** Control tables of the folded datapath (shared/control.ts); absent when not computed, null when no feasible datapath exists. */
   control?: ControlTables | null;
+  /** Why `control` was left out of a report (too large), when it was. */
+  controlOmitted?: string;
 }
 
 // ---------------------------------------------------------------- rules and report

@@ -39,7 +39,7 @@ export function AllocationTable({ allocation }: { allocation: Allocation }) {
 
   return (
     <div>
-      <div ref={scrollRef} className="relative max-h-[26rem] overflow-auto rounded-lg border border-ink-200" tabIndex={0} role="region" aria-label="Register allocation table (scrolls)">
+      <div ref={scrollRef} className="relative isolate max-h-[26rem] overflow-auto rounded-lg border border-ink-200" tabIndex={0} role="region" aria-label="Register allocation table (scrolls)">
         <table className="border-collapse text-sm" aria-rowcount={registers + 1}>
           <caption className="sr-only">
             Register allocation by {allocation.method}: the variable each register holds in each partition; “from” says what loaded it

@@ -1,6 +1,7 @@
 import type { ReactNode } from 'react';
 import type { Diagnostic, DesignReport, EffectiveRules } from '../../shared/types';
 import { AllocationTable } from './AllocationTable';
+import { ControlTables } from './ControlTables';
 import { DiagnosticsList } from './DiagnosticsList';
 import { EdgeTable } from './EdgeTable';
 import { IterationBoundCard } from './IterationBoundCard';
@@ -40,6 +41,7 @@ export function DesignReportView({
         ['schedule', 'Schedule'],
         ['utilization', 'Utilization'],
         ['registers', 'Registers'],
+        ['control', 'Control'],
         ['bound', 'Iteration bound'],
       ]
     : [];
@@ -139,6 +141,14 @@ export function DesignReportView({
             ) : (
               <p className="text-sm text-ink-600">{design.allocationOmitted ?? 'No allocation: the folded datapath cannot exist as planned.'}</p>
             )}
+          </Panel>
+
+          <Panel
+            id="control"
+            title="Control"
+            subtitle={`Operand multiplexers, register loads and port timing of the folded datapath, over its ${design.factor} partitions`}
+          >
+            <ControlTables control={design.control} omitted={design.controlOmitted} />
           </Panel>
 
           <Panel id="bound" title="Iteration bound" subtitle="The slowest loop of the unfolded graph limits the sample rate">

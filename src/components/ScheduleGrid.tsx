@@ -25,7 +25,7 @@ export function ScheduleGrid({ schedule, factor }: { schedule: ScheduleRow[]; fa
   const padBottom = items.length ? virtualizer.getTotalSize() - items[items.length - 1].end : 0;
   const th = 'sticky top-0 border-b border-ink-200 bg-ink-50 py-2 text-xs font-medium text-ink-600';
   return (
-    <div ref={scrollRef} className="relative max-h-[28rem] overflow-auto rounded-lg border border-ink-200" tabIndex={0} role="region" aria-label="Schedule grid (scrolls)">
+    <div ref={scrollRef} className="relative isolate max-h-[28rem] overflow-auto rounded-lg border border-ink-200" tabIndex={0} role="region" aria-label="Schedule grid (scrolls)">
       <table className="border-collapse text-sm" aria-rowcount={schedule.length + 1}>
         <caption className="sr-only">
           Schedule: which node each unit runs in each of the {factor} time partitions; a hatched cell is an idle partition

@@ -7,6 +7,7 @@ import { auditPage, ensureChromium, ensureWebBuild, openBrowser, screenshot as s
 import type { Page } from 'playwright-core';
 import { demoAccount, demoProject, type DemoRole } from './demo';
 import { ROOT, startWebServer, type WebServer } from './server';
+import type { Report, SignalSource } from '../../shared/types';
 
 let web: WebServer;
 
@@ -118,6 +119,50 @@ describe.each(SIZES)('screenshots at $width x $height', (size) => {
       await screenshot(page, name);
       await screenshot(page, `${name}-top`, false);
     }
+  });
+
+  /** How the tables name a source, as `pleat simulate --tables` prints them: unit id, input id, R<k>, 0. */
+  const label = (s: SignalSource) => (s.kind === 'unit' ? s.unit : s.kind === 'input' ? s.node : s.kind === 'register' ? `R${s.register}` : '0');
+
+  it('the control tables of a run, as the stored report has them (lead)', async () => {
+    const { page } = await as('lead');
+    // The expected values are read from the run's own report, as the server stores it.
+    const branches = await page.evaluate(async (slug) => (await fetch(`/api/projects/${slug}/branches`)).json(), slug);
+    const main = branches.branches.find((b: { name: string }) => b.name === 'main');
+    const run = await page.evaluate(async (id) => (await fetch(`/api/runs/${id}`)).json(), main.latest.id);
+    const design = (run.report as Report).designs.find((d) => d.control && d.control.muxes.some((m) => m.sources.length > 1));
+    expect(design, 'a design of the run has a multiplexer with more than one input').toBeTruthy();
+    const control = design!.control!;
+    await page.goto(`${web.url}/projects/${slug}/runs/${main.latest.id}?design=${encodeURIComponent(design!.name ?? design!.file)}`);
+    const section = page.locator('section#control');
+    await section.getByTestId('mux-table').waitFor();
+    const muxTable = section.getByTestId('mux-table');
+    for (const m of control.muxes) {
+      const row = muxTable.getByRole('row').filter({ has: page.getByRole('rowheader', { name: `${m.unit}.a${m.port}`, exact: true }) });
+      expect(await row.locator('[data-mux-inputs]').textContent()).toBe(String(m.sources.length));
+      // One cell per partition after the row header: the selected source's label, or "not read".
+      const cells = row.getByRole('cell');
+      for (let t = 0; t < control.factor; t++) {
+        const sel = m.select[t];
+        if (sel === null) expect(await cells.nth(t).textContent()).toBe('not read');
+        else expect(await cells.nth(t).locator('[data-source]').textContent()).toBe(label(m.sources[sel]));
+      }
+    }
+    const loads = section.getByTestId('register-load-table');
+    expect(await loads.locator('table').getAttribute('aria-rowcount')).toBe(String(control.registers + 1));
+    const r0 = control.registerTables[0];
+    const r0cells = loads.getByRole('row').filter({ has: page.getByRole('rowheader', { name: `R${r0.register}`, exact: true }) }).getByRole('cell');
+    for (let t = 0; t < control.factor; t++) {
+      const load = r0.loads[t];
+      const text = await r0cells.nth(t).textContent();
+      if (load) expect(text).toBe(`${load.variable}from ${label(load.source)}`);
+      else expect(text).toContain('holds');
+    }
+    for (const o of control.outputs) await section.locator(`tr[data-output="${o.node}"]`).waitFor();
+    // Reached by the design's own section links, as a person would.
+    await page.getByRole('navigation', { name: 'Sections of this design' }).getByRole('link', { name: 'Control', exact: true }).click();
+    await page.waitForURL(/#control$/);
+    await screenshot(page, 'run-control', false);
   });
 
   it('rules, CI tokens and members (lead), users (admin)', async () => {
