@@ -1,8 +1,10 @@
-// Method: retiming for folding (Parhi 1999, ch. 6) as difference constraints, by shortest paths.
+// Method: retiming for folding (Parhi 1999, ch. 6) as difference constraints, by shortest paths, then fewest registers by min-cost flow.
 // Convention: inputs share one value, outputs one (the same with fixed latency); inputs reported as 0.
 import type { ConflictEdge, RetimingConflict, RetimingResult } from './types';
 import { INPUT, NO_SLOT, OPERATION, OUTPUT, shortestPathsFromAll, type IndexedGraph } from './graph';
-import { hasNegative } from './foldedDelay';
+import { foldedDelays, hasNegative } from './foldedDelay';
+import { registerCounts } from './registers';
+import { MAX_FANOUT_EDGES, MAX_MIN_REGISTER_EDGES, minRegisterRetiming, type RegisterObjective } from './minRegisterRetiming';
 
 export type Latency = 'free' | 'fixed';
 
@@ -82,8 +84,13 @@ export const METHOD_SHORTEST_PATHS_NO_INPUTS =
   'shortest paths from a virtual source (Bellman-Ford with subtree disassembly): each node moves only as far as the constraints force, then all values are shifted so that the smallest is 0 (the design has no input)';
 export const METHOD_INFEASIBLE = 'shortest paths found a negative cycle in the constraints: no retiming exists';
 
-/** Solves the retiming for folding when some folded delay is negative. */
-export function retime(g: IndexedGraph, folded: Float64Array, latency: Latency): RetimingOutcome {
+/** Solves the retiming for folding when some folded delay is negative (docs/engine.md: which solution). */
+export function retime(
+  g: IndexedGraph,
+  folded: Float64Array,
+  latency: Latency,
+  options: RetimeOptions = {},
+): RetimingOutcome {
   if (!hasNegative(folded)) {
     const values: Record<string, number> = {};
     for (let i = 0; i < g.nodeCount; i++) values[g.nodeIds[i]] = 0;
@@ -108,7 +115,128 @@ export function retime(g: IndexedGraph, folded: Float64Array, latency: Latency):
       nodeRetiming: null,
     };
   }
-  const dist = sp.dist as Float64Array;
+  const shortest = Float64Array.from(sp.dist as Float64Array);
+  const spMethod = vars.hasInputs ? METHOD_SHORTEST_PATHS : METHOD_SHORTEST_PATHS_NO_INPUTS;
+  if (options.minimiseRegisters === false) return feasibleOutcome(g, vars, shortest, spMethod);
+  const choice = chooseRetiming(g, folded, cg, shortest, options.maxEdges ?? MAX_MIN_REGISTER_EDGES);
+  const method = choice.objective ? minRegisterMethod(choice.objective, vars.hasInputs) : spMethod;
+  return feasibleOutcome(g, vars, choice.values, `${method}; ${choice.why}`);
+}
+
+export interface RetimeOptions {
+  /** false: report the shortest-path solution without searching for fewer registers. */
+  minimiseRegisters?: boolean;
+  /** Largest design (edges) searched for fewer registers; default MAX_MIN_REGISTER_EDGES. */
+  maxEdges?: number;
+}
+
+/** Method sentence of a fewest-register retiming; starts with 'minimum-cost flow'. */
+export function minRegisterMethod(objective: RegisterObjective, hasInputs: boolean): string {
+  const what =
+    objective === 'edges'
+      ? 'the smallest sum of retimed folded delays'
+      : 'the smallest sum over nodes of the largest retimed folded delay leaving each (fan-out mirror nodes)';
+  return `minimum-cost flow (dual of the difference constraints): the retiming with ${what}, then all values are shifted so that ${
+    hasInputs ? 'the inputs have 0' : 'the smallest is 0 (the design has no input)'
+  }`;
+}
+
+/** One feasible retiming of the constraint variables, scored the way the report counts registers. */
+interface Candidate {
+  objective?: RegisterObjective;
+  values: Float64Array;
+  minimum: number;
+  perEdge: number;
+  latency: number;
+}
+
+/**
+ * The shortest-path solution always stands. Fewest-register candidates (two objectives; latency
+ * capped at the shortest-path latency, and with free latency also uncapped) replace it only when
+ * they pass an explicit check of every constraint, need no more per-edge registers, and rank
+ * better by lifetime minimum, then latency added, then per-edge registers. Big designs keep the
+ * shortest-path solution.
+ */
+function chooseRetiming(
+  g: IndexedGraph,
+  folded: Float64Array,
+  cg: ConstraintGraph,
+  shortest: Float64Array,
+  maxEdges: number,
+): { values: Float64Array; objective?: RegisterObjective; why: string } {
+  const { vars } = cg;
+  if (g.edgeCount > maxEdges) {
+    return {
+      values: shortest,
+      why: `the search for fewer registers was skipped because the design has ${g.edgeCount} edges, more than ${maxEdges}`,
+    };
+  }
+  const score = (values: Float64Array): Candidate | null => {
+    if (!satisfiesConstraints(cg, values)) return null;
+    const r = nodeValues(g, vars, values);
+    const delays = retimedDelays(g, r);
+    const counts = registerCounts(g, foldedDelays(g, delays), delays);
+    const lat = vars.hasInputs && vars.hasOutputs ? values[vars.outputVar] - values[vars.inputVar] : 0;
+    return { values, minimum: counts.registers.minimum, perEdge: counts.registers.perEdge, latency: lat };
+  };
+  const base = score(shortest) as Candidate;
+  const twoBoundaries = vars.hasInputs && vars.hasOutputs && vars.inputVar !== vars.outputVar;
+  const runs: (number | undefined)[] = [twoBoundaries ? base.latency : undefined];
+  if (twoBoundaries) runs.push(undefined); // free latency: may add latency when that saves registers
+  let best = base;
+  let tried = 0;
+  const objectives: RegisterObjective[] = g.edgeCount <= MAX_FANOUT_EDGES ? ['edges', 'fanout'] : ['edges'];
+  for (const objective of objectives) {
+    for (const maxLatency of runs) {
+      const sol = minRegisterRetiming(g, cg, folded, shortest, { maxLatency, objective });
+      if (!sol) continue;
+      tried++;
+      const c = score(sol.values);
+      if (c) c.objective = objective;
+      // The fan-out objective may trade per-edge registers for fewer live ones: never above the
+      // shortest-path solution's per-edge count, so neither count gets worse.
+      if (c && c.perEdge <= base.perEdge && better(c, best)) best = c;
+    }
+  }
+  if (tried === 0) {
+    return {
+      values: shortest,
+      why: 'the search for fewer registers ran out of its work budget, so the shortest-path solution is kept',
+    };
+  }
+  if (best === base) {
+    return {
+      values: shortest,
+      why: `the fewest-register retiming (minimum-cost flow) needs no fewer registers (lifetime minimum ${base.minimum}), so the shortest-path solution is kept`,
+    };
+  }
+  return {
+    values: best.values,
+    objective: best.objective,
+    why: `chosen over the shortest-path solution because it needs ${best.minimum} registers by lifetime analysis against ${base.minimum}${
+      twoBoundaries ? `, with ${best.latency} iteration(s) of latency added against ${base.latency}` : ''
+    } and ${best.perEdge} per-edge registers against ${base.perEdge}`,
+  };
+}
+
+/** Lifetime minimum first, then latency added, then per-edge registers; ties keep the incumbent. */
+function better(a: Candidate, b: Candidate): boolean {
+  if (a.minimum !== b.minimum) return a.minimum < b.minimum;
+  if (a.latency !== b.latency) return a.latency < b.latency;
+  return a.perEdge < b.perEdge;
+}
+
+/** r(U) - r(V) <= bound for every constraint arc, checked directly. */
+export function satisfiesConstraints(cg: ConstraintGraph, values: ArrayLike<number>): boolean {
+  for (let e = 0; e < cg.arcFrom.length; e++) {
+    const x = values[cg.arcTo[e]] - values[cg.arcFrom[e]];
+    if (!Number.isInteger(x) || x > cg.weight[e]) return false;
+  }
+  return true;
+}
+
+/** Values of the variables spread over the nodes, normalised (inputs 0, else smallest 0). */
+function nodeValues(g: IndexedGraph, vars: RetimingVariables, dist: Float64Array): Float64Array {
   let shift: number;
   if (vars.hasInputs) shift = dist[vars.inputVar];
   else {
@@ -116,24 +244,19 @@ export function retime(g: IndexedGraph, folded: Float64Array, latency: Latency):
     for (let i = 0; i < g.nodeCount; i++) shift = Math.min(shift, dist[vars.varOf[i]]);
     if (shift === Infinity) shift = 0;
   }
-  const nodeRetiming = new Float64Array(g.nodeCount);
+  const r = new Float64Array(g.nodeCount);
+  for (let i = 0; i < g.nodeCount; i++) r[i] = dist[vars.varOf[i]] - shift + 0; // + 0 turns -0 into 0
+  return r;
+}
+
+function feasibleOutcome(g: IndexedGraph, vars: RetimingVariables, dist: Float64Array, method: string): RetimingOutcome {
+  const nodeRetiming = nodeValues(g, vars, dist);
   const values: Record<string, number> = {};
-  for (let i = 0; i < g.nodeCount; i++) {
-    const r = dist[vars.varOf[i]] - shift + 0; // + 0 turns -0 into 0
-    nodeRetiming[i] = r;
-    values[g.nodeIds[i]] = r;
-  }
+  for (let i = 0; i < g.nodeCount; i++) values[g.nodeIds[i]] = nodeRetiming[i];
   const latencyAdded =
     vars.hasInputs && vars.hasOutputs ? dist[vars.outputVar] - dist[vars.inputVar] + 0 : 0;
   return {
-    result: {
-      needed: true,
-      feasible: true,
-      values,
-      latencyAdded,
-      conflict: null,
-      method: vars.hasInputs ? METHOD_SHORTEST_PATHS : METHOD_SHORTEST_PATHS_NO_INPUTS,
-    },
+    result: { needed: true, feasible: true, values, latencyAdded, conflict: null, method },
     nodeRetiming,
   };
 }

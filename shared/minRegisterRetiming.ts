@@ -1,0 +1,331 @@
+// Method: fewest-register retiming as the LP dual of a min-cost flow, with fan-out mirror nodes (Leiserson & Saxe 1991); successive shortest paths.
+// Convention: objective = sum of retimed folded delays (or per-node maxima to within N-1); integer arithmetic; null past a work budget.
+import type { ConstraintGraph } from './retiming';
+import { INPUT, NO_SLOT, type IndexedGraph } from './graph';
+
+/** Largest design (edges) on which the engine searches for the fewest-register retiming. */
+export const MAX_MIN_REGISTER_EDGES = 20_000;
+/** Largest design (edges) on which the fan-out objective is tried too (it needs more augmentations). */
+export const MAX_FANOUT_EDGES = 5_000;
+/** Arc scans and heap steps one search may spend before it gives up. */
+export const MIN_REGISTER_WORK_BUDGET = 20_000_000;
+
+export type RegisterObjective = 'edges' | 'fanout';
+
+export interface MinRegisterOptions {
+  /** Extra constraint r(outputs) - r(inputs) <= maxLatency (only when they are two variables). */
+  maxLatency?: number;
+  /**
+   * 'edges' (default): the sum of the retimed folded delays, one register chain per edge.
+   * 'fanout': for each node the largest retimed folded delay leaving it, to within N - 1
+   * (Leiserson & Saxe's mirror node per multi-fanout node), per edge for held inputs.
+   */
+  objective?: RegisterObjective;
+  /** Work budget (arc scans + heap steps); default MIN_REGISTER_WORK_BUDGET. */
+  budget?: number;
+}
+
+export interface MinRegisterSolution {
+  /** Retiming of every constraint variable (not normalised). */
+  values: Float64Array;
+  /**
+   * Variable part of the objective, in iterations: 'edges' sums r(V) - r(U) over edges with a
+   * folded delay; 'fanout' sums m(u) - r(U) over mirrored nodes plus r(V) - r(U) over the
+   * other edges it counts, with m(u) = max over u's out-edges of r(V) + floor(D_F / N).
+   */
+  objective: number;
+  /** Work spent (arc scans + heap steps). */
+  work: number;
+}
+
+/**
+ * Minimises the register objective subject to r(U) - r(V) <= c(e) for every constraint arc.
+ * `folded[e]` tells which DFG edges have a folded delay (NaN for taps, which only constrain).
+ * 'edges' minimises sum_v r(v) * (indeg_F(v) - outdeg_F(v)); 'fanout' gives each node u with
+ * two or more such out-edges a mirror variable m(u) >= r(V) + floor(D_F / N) per out-edge and
+ * counts m(u) - r(U) once instead of each edge.
+ *
+ * LP dual: a min-cost flow along arcs tail -> head of cost c for every constraint
+ * r(tail) - r(head) <= c, no upper bound, each variable emitting minus its objective
+ * coefficient. `start` must satisfy every constraint (the shortest-path solution does): with it
+ * as potential every reduced cost c - r(tail) + r(head) is >= 0, so Dijkstra applies from the
+ * first search. Returns null when the work budget runs out or a deficit cannot be reached.
+ */
+export function minRegisterRetiming(
+  g: IndexedGraph,
+  cg: ConstraintGraph,
+  folded: Float64Array,
+  start: Float64Array,
+  options: MinRegisterOptions = {},
+): MinRegisterSolution | null {
+  const objective = options.objective ?? 'edges';
+  const n0 = cg.vars.count;
+  const m0 = cg.arcFrom.length;
+  const tails: number[] = [];
+  const heads: number[] = [];
+  const costs: number[] = [];
+  // Objective coefficient of each variable (mirrors appended after the n0 retiming variables).
+  const coef: number[] = new Array<number>(n0).fill(0);
+  const init: number[] = Array.from(start);
+  // Constraint arcs in DFG direction: tail = var(U) = constraint arcTo, head = var(V) = arcFrom.
+  for (let e = 0; e < m0; e++) {
+    const u = cg.arcTo[e];
+    const v = cg.arcFrom[e];
+    if (u === v) continue; // reads 0 <= c(e): already checked by the shortest paths, no flow
+    tails.push(u);
+    heads.push(v);
+    costs.push(cg.weight[e]);
+  }
+  const { inputVar, outputVar } = cg.vars;
+  if (options.maxLatency !== undefined && inputVar !== outputVar) {
+    // r(out) - r(in) <= L reads like a DFG edge out -> in with bound L and no folded delay.
+    tails.push(outputVar);
+    heads.push(inputVar);
+    costs.push(options.maxLatency);
+  }
+  // Objective terms, with their mirror constraints for 'fanout'.
+  const edgeTerm = (e: number) => {
+    coef[cg.arcFrom[e]]++;
+    coef[cg.arcTo[e]]--;
+  };
+  if (objective === 'edges') {
+    for (let e = 0; e < m0; e++) if (!Number.isNaN(folded[e])) edgeTerm(e);
+  } else {
+    for (let u = 0; u < g.nodeCount; u++) {
+      const list: number[] = [];
+      for (let k = g.outStart[u]; k < g.outStart[u + 1]; k++) {
+        const e = g.outEdge[k];
+        if (!Number.isNaN(folded[e])) list.push(e);
+      }
+      const held = g.role[u] === INPUT && g.slot[u] === NO_SLOT;
+      if (held || list.length < 2) {
+        for (const e of list) edgeTerm(e);
+        continue;
+      }
+      const mirror = coef.length;
+      coef.push(1);
+      coef[cg.vars.varOf[u]]--;
+      let m = -Infinity;
+      for (const e of list) {
+        // r(V) - m(u) <= -floor(D_F / N)
+        const v = cg.arcFrom[e];
+        tails.push(v);
+        heads.push(mirror);
+        costs.push(-cg.weight[e]);
+        m = Math.max(m, start[v] + cg.weight[e]);
+      }
+      init.push(m);
+    }
+  }
+  const sol = minCostPotentials(coef.length, tails, heads, costs, coef, Float64Array.from(init), options.budget);
+  if (!sol) return null;
+  let value = 0;
+  for (let v = 0; v < coef.length; v++) value += coef[v] * sol.values[v];
+  return { values: sol.values.slice(0, n0), objective: value + 0, work: sol.work };
+}
+
+/**
+ * min sum_v coef(v) p(v) subject to p(tail) - p(head) <= cost for every arc, from a feasible
+ * `start`, by successive shortest paths on the dual min-cost flow (variable v emits -coef(v)
+ * units; coefficients sum to 0). Integer data give integer potentials.
+ */
+export function minCostPotentials(
+  n: number,
+  tails: readonly number[],
+  heads: readonly number[],
+  costs: readonly number[],
+  coef: readonly number[],
+  start: Float64Array,
+  budget: number = MIN_REGISTER_WORK_BUDGET,
+): { values: Float64Array; work: number } | null {
+  const m = tails.length;
+  const excess = new Float64Array(n);
+  for (let v = 0; v < n; v++) excess[v] = -coef[v];
+  // Residual arcs: 2k forward (unbounded), 2k+1 backward (capacity = flow on k).
+  const adjStart = new Int32Array(n + 1);
+  for (let k = 0; k < m; k++) {
+    adjStart[tails[k] + 1]++;
+    adjStart[heads[k] + 1]++;
+  }
+  for (let v = 0; v < n; v++) adjStart[v + 1] += adjStart[v];
+  const fill = adjStart.slice(0, n);
+  const adj = new Int32Array(2 * m);
+  for (let k = 0; k < m; k++) {
+    adj[fill[tails[k]]++] = 2 * k;
+    adj[fill[heads[k]]++] = 2 * k + 1;
+  }
+  const flow = new Float64Array(m);
+  const r = Float64Array.from(start);
+  for (let k = 0; k < m; k++) if (costs[k] - r[tails[k]] + r[heads[k]] < 0) return null; // start infeasible
+
+  const dist = new Float64Array(n);
+  const seen = new Int32Array(n); // search number that last labelled v
+  const done = new Int32Array(n);
+  const parent = new Int32Array(n);
+  const settled = new Int32Array(n);
+  const heap = new BinaryHeap(n);
+  let work = 0;
+  let remaining = 0;
+  for (let v = 0; v < n; v++) if (excess[v] > 0) remaining += excess[v];
+  let round = 0;
+
+  while (remaining > 0) {
+    round++;
+    heap.clear();
+    for (let v = 0; v < n; v++) {
+      if (excess[v] > 0) {
+        dist[v] = 0;
+        seen[v] = round;
+        parent[v] = -1;
+        heap.push(v, 0);
+      }
+    }
+    work += n;
+    let target = -1;
+    let settledCount = 0;
+    while (heap.size > 0) {
+      const u = heap.pop();
+      work++;
+      done[u] = round;
+      if (excess[u] < 0) {
+        target = u;
+        break;
+      }
+      settled[settledCount++] = u;
+      const du = dist[u];
+      for (let i = adjStart[u], end = adjStart[u + 1]; i < end; i++) {
+        const a = adj[i];
+        const k = a >> 1;
+        let v: number;
+        let reduced: number;
+        if ((a & 1) === 0) {
+          v = heads[k];
+          reduced = costs[k] - r[u] + r[v];
+        } else {
+          if (flow[k] <= 0) continue;
+          v = tails[k];
+          reduced = -costs[k] - r[u] + r[v];
+        }
+        if (done[v] === round) continue;
+        const dv = du + reduced;
+        if (seen[v] !== round || dv < dist[v]) {
+          dist[v] = dv;
+          parent[v] = a;
+          if (seen[v] !== round) {
+            seen[v] = round;
+            heap.push(v, dv);
+          } else heap.decrease(v, dv);
+        }
+      }
+      work += adjStart[u + 1] - adjStart[u];
+      if (work > budget) return null;
+    }
+    if (target < 0) return null;
+    // Raise the settled variables so that every arc of the shortest paths has reduced cost 0.
+    const D = dist[target];
+    for (let i = 0; i < settledCount; i++) {
+      const v = settled[i];
+      r[v] += D - dist[v];
+    }
+    // Ship along the path back to its excess variable.
+    let amount = -excess[target];
+    let source = target;
+    while (parent[source] >= 0) {
+      const a = parent[source];
+      const k = a >> 1;
+      if (a & 1) {
+        if (flow[k] < amount) amount = flow[k];
+        source = heads[k];
+      } else source = tails[k];
+    }
+    if (excess[source] < amount) amount = excess[source];
+    for (let v = target; parent[v] >= 0; ) {
+      const a = parent[v];
+      const k = a >> 1;
+      if (a & 1) {
+        flow[k] -= amount;
+        v = heads[k];
+      } else {
+        flow[k] += amount;
+        v = tails[k];
+      }
+    }
+    excess[source] -= amount;
+    excess[target] += amount;
+    remaining -= amount;
+    work += settledCount;
+    if (work > budget) return null;
+  }
+  return { values: r, work };
+}
+
+/** Min-heap of vertex ids keyed by distance, with decrease-key. */
+class BinaryHeap {
+  private items: Int32Array;
+  private keys: Float64Array;
+  private where: Int32Array;
+  size = 0;
+  constructor(n: number) {
+    this.items = new Int32Array(n);
+    this.keys = new Float64Array(n);
+    this.where = new Int32Array(n).fill(-1);
+  }
+  clear(): void {
+    for (let i = 0; i < this.size; i++) this.where[this.items[i]] = -1;
+    this.size = 0;
+  }
+  push(v: number, key: number): void {
+    this.keys[v] = key;
+    this.items[this.size] = v;
+    this.where[v] = this.size;
+    this.size++;
+    this.up(this.size - 1);
+  }
+  decrease(v: number, key: number): void {
+    this.keys[v] = key;
+    this.up(this.where[v]);
+  }
+  pop(): number {
+    const top = this.items[0];
+    this.where[top] = -1;
+    this.size--;
+    if (this.size > 0) {
+      const last = this.items[this.size];
+      this.items[0] = last;
+      this.where[last] = 0;
+      this.down(0);
+    }
+    return top;
+  }
+  private up(i: number): void {
+    const { items, keys, where } = this;
+    const v = items[i];
+    const key = keys[v];
+    while (i > 0) {
+      const p = (i - 1) >> 1;
+      const pv = items[p];
+      if (keys[pv] <= key) break;
+      items[i] = pv;
+      where[pv] = i;
+      i = p;
+    }
+    items[i] = v;
+    where[v] = i;
+  }
+  private down(i: number): void {
+    const { items, keys, where } = this;
+    const v = items[i];
+    const key = keys[v];
+    for (;;) {
+      let c = 2 * i + 1;
+      if (c >= this.size) break;
+      if (c + 1 < this.size && keys[items[c + 1]] < keys[items[c]]) c++;
+      if (keys[items[c]] >= key) break;
+      items[i] = items[c];
+      where[items[c]] = i;
+      i = c;
+    }
+    items[i] = v;
+    where[v] = i;
+  }
+}
