@@ -233,3 +233,12 @@ export function loadDesign(text: string, options?: { limits?: Partial<Limits> })
     };
   }
 }
+
+/**
+ * The name of a design that did not load, read from its top-level `name:` line if there is one,
+ * so reports can still say which design failed. The CLI and the server both report it this way.
+ */
+export function nameOfInvalidDesign(text: string): string | null {
+  const m = /^name:[ \t]*(["']?)([A-Za-z0-9._-]+)\1[ \t]*(#.*)?$/m.exec(text);
+  return m ? m[2]! : null;
+}

@@ -197,6 +197,7 @@ interface Engine {
   loadDesign: (text: string, options?: Record<string, unknown>) => LoadResult;
   analyze: (design: NonNullable<LoadResult['design']>) => Analysis;
   locate: (text: string, diagnostics: Diagnostic[]) => Diagnostic[];
+  nameOfInvalid: (text: string) => string | null;
   maxBytes: number;
 }
 
@@ -214,6 +215,7 @@ async function loadEngine(): Promise<Engine> {
     // The report carries the control tables (multiplexers, register loads) that RTL work needs.
     analyze: (design) => ctl.withControl(design, an.analyze(design)),
     locate: pos.locate,
+    nameOfInvalid: load.nameOfInvalidDesign,
     maxBytes,
   };
 }
@@ -262,7 +264,7 @@ function checkOne(abs: string, file: string, effective: EffectiveRules, engine: 
       result.violations = placeViolations(text, violations, engine.locate);
       result.ruleWarnings = warnings.some((w) => w.path) ? engine.locate(text, warnings) : warnings;
     } else {
-      result.name = sniffName(text);
+      result.name = engine.nameOfInvalid(text);
     }
   } catch (e) {
     const code = (e as NodeJS.ErrnoException).code;
@@ -287,12 +289,6 @@ function placeViolations(text: string, violations: Violation[], locate: Engine['
   } catch {
     return violations;
   }
-}
-
-/** The name of a design that did not load, read from its top-level `name:` line if there is one. */
-function sniffName(text: string): string | null {
-  const m = /^name:[ \t]*(["']?)([A-Za-z0-9._-]+)\1[ \t]*(#.*)?$/m.exec(text);
-  return m ? m[2] : null;
 }
 
 /** Design names are unique in a repository: every later file with a name already seen is invalid. */

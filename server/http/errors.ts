@@ -1,5 +1,6 @@
 // Errors leave the server as JSON {error: {code, message}} and never carry a stack trace.
 import type { ErrorRequestHandler, RequestHandler } from 'express';
+import type { ApiErrorBody } from '../../shared/api';
 
 export class HttpError extends Error {
   constructor(
@@ -31,7 +32,7 @@ export const apiNotFound: RequestHandler = (req, res) => {
 export function errorHandler(log: (msg: string) => void): ErrorRequestHandler {
   return (err, req, res, _next) => {
     let status = 500;
-    let body: { code: string; message: string; details?: unknown } = {
+    let body: ApiErrorBody['error'] = {
       code: 'internal',
       message: 'Something went wrong on the server; it has been logged.',
     };

@@ -1,13 +1,8 @@
 // How rows leave the server: only the fields a client may see (never hashes).
+import type { PublicUser } from '../../shared/api';
 import type { User } from '../db/models';
 
-export interface PublicUser {
-  id: number;
-  email: string;
-  name: string;
-  isAdmin: boolean;
-  active: boolean;
-}
+export type { PublicUser };
 
 export function publicUser(u: User): PublicUser {
   return { id: u.id, email: u.email, name: u.name, isAdmin: u.isAdmin, active: !u.deactivatedAt };

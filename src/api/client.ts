@@ -4,6 +4,7 @@
 
 import type {
   AnalyzeResult,
+  ApiErrorBody,
   BranchList,
   CiToken,
   Invitation,
@@ -107,7 +108,7 @@ export async function request<T>(path: string, opts: RequestOptions = {}): Promi
     }
   }
   if (!res.ok) {
-    const err = (data as { error?: { code?: string; message?: string; details?: unknown } } | undefined)?.error;
+    const err = (data as Partial<ApiErrorBody> | undefined)?.error as Partial<ApiErrorBody['error']> | undefined;
     throw new ApiError(
       res.status,
       err?.code ?? `http_${res.status}`,

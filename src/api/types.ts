@@ -1,18 +1,14 @@
 // The shapes the server's API returns (server/resources/*/routes.ts), as the web report reads
-// them. Dates arrive as ISO strings. The report itself uses the shared types of shared/types.ts.
+// them. Dates arrive as ISO strings. The shapes the server's code names too live in
+// shared/api.ts; the report itself uses the shared types of shared/types.ts.
+import type { Comparison, PublicUser, RunDesignRow } from '../../shared/api';
 import type { DesignReport, EffectiveRules, Report, Rules, Status } from '../../shared/types';
+
+export type { ApiErrorBody, Basis, Comparison, DesignDelta, Metric, PublicUser, Regression, RunDesignRow } from '../../shared/api';
 
 export type Role = 'lead' | 'engineer' | 'viewer';
 /** The caller's role as the server reports it per project: 'admin' for admins. */
 export type ProjectRole = 'admin' | Role;
-
-export interface PublicUser {
-  id: number;
-  email: string;
-  name: string;
-  isAdmin: boolean;
-  active: boolean;
-}
 
 export interface Me {
   user: PublicUser;
@@ -61,17 +57,6 @@ export interface RunSummary {
   violations: number;
 }
 
-export interface RunDesignRow {
-  name: string;
-  file: string;
-  status: Status;
-  utilization: number | null;
-  registerMinimum: number | null;
-  negativeEdges: number | null;
-  retimingFeasible: boolean | null;
-  violations: number;
-}
-
 export interface RunListItem {
   id: number;
   branch: string;
@@ -88,35 +73,6 @@ export interface RunListItem {
 export interface RunPage {
   runs: RunListItem[];
   nextCursor: string | null;
-}
-
-export interface Metric {
-  current: number | null;
-  base: number | null;
-  delta: number | null;
-}
-
-export type Regression = 'status' | 'utilization' | 'registerMinimum' | 'violations';
-
-export interface DesignDelta {
-  name: string;
-  file: string;
-  presence: 'added' | 'removed' | 'kept';
-  status: Status | null;
-  baseStatus: Status | null;
-  utilization: Metric;
-  registerMinimum: Metric;
-  violations: Metric;
-  regressions: Regression[];
-}
-
-export interface Comparison {
-  /** How the base run was chosen: at the merge-base commit, the nearest earlier run, or none found. */
-  basis: 'merge-base' | 'nearest-earlier' | 'none';
-  baseBranch: string;
-  baseRun: { id: number; commit: string; verdict: Status; createdAt: string } | null;
-  tolerance: number;
-  designs: DesignDelta[];
 }
 
 export interface RunDetail {

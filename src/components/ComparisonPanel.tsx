@@ -2,7 +2,7 @@ import { Link } from 'react-router-dom';
 import type { Comparison, DesignDelta, Metric, Regression } from '../api/types';
 import { StatusBadge } from './StatusBadge';
 import { dateTime, pct, shortCommit } from './format';
-import { tableClass } from './Panel';
+import { ColumnHeads, tableClass } from './Panel';
 
 const regressionLabel: Record<Regression, string> = {
   status: 'no longer passes',
@@ -85,28 +85,7 @@ export function ComparisonPanel({ comparison: c, slug, design, onSelectDesign }:
         <div className="overflow-x-auto rounded-lg border border-ink-200">
           <table className={tableClass.table}>
             <caption className="sr-only">Changes of each design against the base run</caption>
-            <thead>
-              <tr>
-                <th scope="col" className={tableClass.th}>
-                  Design
-                </th>
-                <th scope="col" className={tableClass.th}>
-                  Status (base → now)
-                </th>
-                <th scope="col" className={tableClass.th}>
-                  Utilization
-                </th>
-                <th scope="col" className={tableClass.th}>
-                  Registers
-                </th>
-                <th scope="col" className={tableClass.th}>
-                  Violations
-                </th>
-                <th scope="col" className={tableClass.th}>
-                  Beyond tolerance ({pct(c.tolerance, 0)})
-                </th>
-              </tr>
-            </thead>
+            <ColumnHeads columns={['Design', 'Status (base → now)', 'Utilization', 'Registers', 'Violations', `Beyond tolerance (${pct(c.tolerance, 0)})`]} />
             <tbody>
               {rows.map((d) => (
                 <tr key={`${d.name}-${d.presence}`} data-regressed={d.regressions.length > 0 || undefined}>

@@ -1,16 +1,10 @@
 import { Bar, BarChart, CartesianGrid, Line, LineChart, ResponsiveContainer, Tooltip, XAxis, YAxis } from 'recharts';
+import type { TrendPoint } from '../api/types';
 import type { Status } from '../../shared/types';
 import { pct, shortCommit } from './format';
 
-export interface HistoryPoint {
-  runId: number;
-  commit: string;
-  verdict: Status;
-  utilization: number | null;
-  registerMinimum: number | null;
-  violations: number;
-  createdAt: string;
-}
+/** One run on the branch history charts: the trend point the branches API returns. */
+export type HistoryPoint = TrendPoint;
 
 const axis = { fontSize: 11, fill: '#4b5280' };
 const verdictColor: Record<Status, string> = { pass: '#1d7a5c', fail: '#b4232c', error: '#8d2f99' };

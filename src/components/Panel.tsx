@@ -78,3 +78,20 @@ export const tableClass = {
   th: 'border-b border-ink-200 bg-ink-50 px-3 py-2 text-left text-xs font-medium uppercase tracking-wider text-ink-600',
   td: 'border-b border-ink-100 px-3 py-2 text-ink-900',
 };
+
+/** The header row of a plain table, one heading per column; a `false` entry leaves its column out. */
+export function ColumnHeads({ columns }: { columns: ReactNode[] }) {
+  return (
+    <thead>
+      <tr>
+        {columns.map((c, i) =>
+          c === false ? null : (
+            <th key={i} scope="col" className={tableClass.th}>
+              {c}
+            </th>
+          ),
+        )}
+      </tr>
+    </thead>
+  );
+}

@@ -4,7 +4,7 @@ import { useBranches, useWatch } from '../api/hooks';
 import { can } from '../api/roles';
 import type { Branch } from '../api/types';
 import { useProjectContext } from '../components/ProjectLayout';
-import { PageHeader, tableClass } from '../components/Panel';
+import { ColumnHeads, PageHeader, tableClass } from '../components/Panel';
 import { Sparkline } from '../components/Sparkline';
 import { StatusBadge } from '../components/StatusBadge';
 import { EmptyState, QueryState } from '../components/States';
@@ -45,33 +45,7 @@ export default function BranchesPage() {
             <div className="overflow-x-auto rounded-xl border border-ink-200 bg-white">
               <table className={tableClass.table}>
                 <caption className="sr-only">Branches of {project.name} with their latest verdict and trends</caption>
-                <thead>
-                  <tr>
-                    <th scope="col" className={tableClass.th}>
-                      Branch
-                    </th>
-                    <th scope="col" className={tableClass.th}>
-                      Latest verdict
-                    </th>
-                    <th scope="col" className={tableClass.th}>
-                      Last run
-                    </th>
-                    <th scope="col" className={tableClass.th}>
-                      Utilization
-                    </th>
-                    <th scope="col" className={tableClass.th}>
-                      Registers
-                    </th>
-                    <th scope="col" className={tableClass.th}>
-                      Violations
-                    </th>
-                    {mayWatch && (
-                      <th scope="col" className={tableClass.th}>
-                        <span className="sr-only">Watch</span>
-                      </th>
-                    )}
-                  </tr>
-                </thead>
+                <ColumnHeads columns={['Branch', 'Latest verdict', 'Last run', 'Utilization', 'Registers', 'Violations', mayWatch && <span className="sr-only">Watch</span>]} />
                 <tbody>
                   {data.branches.map((b) => (
                     <BranchRow key={b.name} slug={project.slug} branch={b} mayWatch={mayWatch} />

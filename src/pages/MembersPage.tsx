@@ -6,7 +6,7 @@ import type { Member, Role } from '../api/types';
 import { FormError } from '../components/AuthFrame';
 import { Forbidden } from '../components/Forbidden';
 import { useProjectContext } from '../components/ProjectLayout';
-import { PageHeader, Panel, buttonClass, inputClass, tableClass } from '../components/Panel';
+import { ColumnHeads, PageHeader, Panel, buttonClass, inputClass, tableClass } from '../components/Panel';
 import { EmptyState, QueryState } from '../components/States';
 import { ago, dateTime } from '../components/format';
 import { useDocumentTitle } from '../components/useDocumentTitle';
@@ -55,25 +55,7 @@ function MemberTable({ slug, list }: { slug: string; list: Member[] }) {
       <FormError error={error ? errorMessage(error) : null} />
       <table className={tableClass.table}>
         <caption className="sr-only">Members and their roles</caption>
-        <thead>
-          <tr>
-            <th scope="col" className={tableClass.th}>
-              Name
-            </th>
-            <th scope="col" className={tableClass.th}>
-              E-mail
-            </th>
-            <th scope="col" className={tableClass.th}>
-              Role
-            </th>
-            <th scope="col" className={tableClass.th}>
-              Since
-            </th>
-            <th scope="col" className={tableClass.th}>
-              <span className="sr-only">Remove</span>
-            </th>
-          </tr>
-        </thead>
+        <ColumnHeads columns={['Name', 'E-mail', 'Role', 'Since', <span className="sr-only">Remove</span>]} />
         <tbody>
           {list.map((m) => (
             <tr key={m.user.id} data-member={m.user.email}>

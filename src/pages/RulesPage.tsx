@@ -6,7 +6,7 @@ import type { NegativeDelayPolicy, RuleName, Rules } from '../../shared/types';
 import type { RuleChange, TeamRules } from '../api/types';
 import { FormError } from '../components/AuthFrame';
 import { useProjectContext } from '../components/ProjectLayout';
-import { PageHeader, Panel, buttonClass, inputClass, tableClass } from '../components/Panel';
+import { ColumnHeads, PageHeader, Panel, buttonClass, inputClass, tableClass } from '../components/Panel';
 import { ruleLabel } from '../components/ViolationsList';
 import { EmptyState, ErrorState, Loading, QueryState } from '../components/States';
 import { ago, dateTime, pct } from '../components/format';
@@ -258,22 +258,7 @@ function History({ slug }: { slug: string }) {
       <div className="overflow-x-auto">
         <table className={tableClass.table} data-testid="rule-history">
           <caption className="sr-only">Changes to the team rules, newest first</caption>
-          <thead>
-            <tr>
-              <th scope="col" className={tableClass.th}>
-                When
-              </th>
-              <th scope="col" className={tableClass.th}>
-                Who
-              </th>
-              <th scope="col" className={tableClass.th}>
-                Rule
-              </th>
-              <th scope="col" className={tableClass.th}>
-                Change
-              </th>
-            </tr>
-          </thead>
+          <ColumnHeads columns={['When', 'Who', 'Rule', 'Change']} />
           <tbody>
             {changes.map((c) => (
               <tr key={c.id}>

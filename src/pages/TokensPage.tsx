@@ -6,7 +6,7 @@ import type { CiToken } from '../api/types';
 import { FormError } from '../components/AuthFrame';
 import { Forbidden } from '../components/Forbidden';
 import { useProjectContext } from '../components/ProjectLayout';
-import { PageHeader, Panel, buttonClass, inputClass, tableClass } from '../components/Panel';
+import { ColumnHeads, PageHeader, Panel, buttonClass, inputClass, tableClass } from '../components/Panel';
 import { EmptyState, QueryState } from '../components/States';
 import { ago, dateTime } from '../components/format';
 import { useDocumentTitle } from '../components/useDocumentTitle';
@@ -94,25 +94,7 @@ function TokenTable({ slug, list }: { slug: string; list: CiToken[] }) {
       <FormError error={revoke.error ? errorMessage(revoke.error) : null} />
       <table className={tableClass.table}>
         <caption className="sr-only">CI tokens</caption>
-        <thead>
-          <tr>
-            <th scope="col" className={tableClass.th}>
-              Name
-            </th>
-            <th scope="col" className={tableClass.th}>
-              Starts with
-            </th>
-            <th scope="col" className={tableClass.th}>
-              Created
-            </th>
-            <th scope="col" className={tableClass.th}>
-              Last used
-            </th>
-            <th scope="col" className={tableClass.th}>
-              State
-            </th>
-          </tr>
-        </thead>
+        <ColumnHeads columns={['Name', 'Starts with', 'Created', 'Last used', 'State']} />
         <tbody>
           {list.map((t) => (
             <tr key={t.id} data-token={t.name}>

@@ -5,7 +5,7 @@ import { can } from '../api/roles';
 import type { PublicUser } from '../api/types';
 import { FormError } from '../components/AuthFrame';
 import { Forbidden } from '../components/Forbidden';
-import { PageHeader, Panel, buttonClass, inputClass, tableClass } from '../components/Panel';
+import { ColumnHeads, PageHeader, Panel, buttonClass, inputClass, tableClass } from '../components/Panel';
 import { EmptyState, QueryState } from '../components/States';
 import { useDocumentTitle } from '../components/useDocumentTitle';
 
@@ -41,22 +41,7 @@ function UserTable({ list }: { list: PublicUser[] }) {
       <FormError error={update.error ? errorMessage(update.error) : null} />
       <table className={tableClass.table}>
         <caption className="sr-only">Accounts</caption>
-        <thead>
-          <tr>
-            <th scope="col" className={tableClass.th}>
-              Name
-            </th>
-            <th scope="col" className={tableClass.th}>
-              E-mail
-            </th>
-            <th scope="col" className={tableClass.th}>
-              Admin
-            </th>
-            <th scope="col" className={tableClass.th}>
-              State
-            </th>
-          </tr>
-        </thead>
+        <ColumnHeads columns={['Name', 'E-mail', 'Admin', 'State']} />
         <tbody>
           {list.map((u) => {
             const self = me.data?.user.id === u.id;

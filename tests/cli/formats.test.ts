@@ -33,6 +33,8 @@ describe('--format json', () => {
       ['c-invalid.fold.yaml', 'error'],
     ]);
     const [pass, fail, invalid] = report.designs;
+    // A design that did not load still carries the name from its `name:` line.
+    expect(invalid.name).toBe('smoke-invalid');
     for (const key of ['file', 'name', 'status', 'diagnostics', 'factor', 'edges', 'retiming', 'utilization', 'registers', 'iterationBound', 'factorLowerBound', 'samplePeriodNs', 'violations']) {
       expect(pass).toHaveProperty(key);
       expect(invalid).toHaveProperty(key);

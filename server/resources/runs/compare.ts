@@ -1,11 +1,11 @@
 // What changed between a run and the run of its base branch. The base is the base branch's run at
 // the merge-base commit the CLI sent; else the base branch's nearest run uploaded before this one.
 import { QueryTypes } from 'sequelize';
+import type { Basis, Comparison, DesignDelta, Metric, Regression } from '../../../shared/api';
 import type { Status } from '../../../shared/types';
 import type { AppContext } from '../../context';
 
-export type Basis = 'merge-base' | 'nearest-earlier' | 'none';
-export type Regression = 'status' | 'utilization' | 'registerMinimum' | 'violations';
+export type { Basis, Comparison, DesignDelta, Metric, Regression };
 
 export interface RunRow {
   id: number;
@@ -35,30 +35,6 @@ export interface DesignRow {
   negative_edge_count: number | null;
   retiming_feasible: boolean | null;
   violation_count: number;
-}
-
-export interface Metric { current: number | null; base: number | null; delta: number | null }
-
-export interface DesignDelta {
-  name: string;
-  file: string;
-  /** 'added': only in this run; 'removed': only in the base run; 'kept': in both. */
-  presence: 'added' | 'removed' | 'kept';
-  status: Status | null;
-  baseStatus: Status | null;
-  utilization: Metric;
-  registerMinimum: Metric;
-  violations: Metric;
-  /** What got worse past the project's tolerance. */
-  regressions: Regression[];
-}
-
-export interface Comparison {
-  basis: Basis;
-  baseBranch: string;
-  baseRun: { id: number; commit: string; verdict: Status; createdAt: Date } | null;
-  tolerance: number;
-  designs: DesignDelta[];
 }
 
 export const RUN_COLUMNS = `id, project_id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count,
@@ -143,7 +119,7 @@ export async function compareRun(ctx: AppContext, run: RunRow, project: { baseBr
     comparison: {
       basis,
       baseBranch,
-      baseRun: base ? { id: base.id, commit: base.commit, verdict: base.verdict, createdAt: base.created_at } : null,
+      baseRun: base ? { id: base.id, commit: base.commit, verdict: base.verdict, createdAt: base.created_at.toISOString() } : null,
       tolerance: project.regressionTolerance,
       designs: base ? compareDesigns(current, previous, project.regressionTolerance) : [],
     },

@@ -2,6 +2,7 @@
 // with its comparison), POST /api/projects/:slug/runs (CI upload).
 import express, { Router, type Request } from 'express';
 import { QueryTypes } from 'sequelize';
+import type { RunDesignRow } from '../../../shared/api';
 import type { Report } from '../../../shared/types';
 import type { AppContext } from '../../context';
 import type { Project } from '../../db/models';
@@ -38,7 +39,7 @@ export function presentRun(r: RunRow) {
   };
 }
 
-export function presentDesign(d: DesignRow) {
+export function presentDesign(d: DesignRow): RunDesignRow {
   return {
     name: d.design_name,
     file: d.file,
