@@ -413,8 +413,12 @@ export function controlTables(design: Design, analysis: Analysis): ControlResult
   };
 }
 
-/** Largest register table (partitions x registers) that withControl attaches to a report. */
-export const DEFAULT_MAX_CONTROL_CELLS = 200_000;
+/**
+ * Largest register table (partitions x registers) that withControl attaches to a report. Building
+ * the tables costs about as much as the whole analysis on designs past this size, and a CI check
+ * should not pay for that on every commit; `pleat rtl` and `pleat simulate --tables` have no limit.
+ */
+export const DEFAULT_MAX_CONTROL_CELLS = 20_000;
 
 /**
  * The analysis with its control tables attached, for the report: null when no feasible datapath
@@ -426,7 +430,7 @@ export function withControl(design: Design, analysis: Analysis, maxCells = DEFAU
   const cells = analysis.factor * regs;
   if (cells > maxCells) {
     // Said in the report, so a reader of it (the web report) can tell why the tables are missing.
-    return { ...analysis, controlOmitted: `the register load table would have ${analysis.factor} partitions x ${regs} registers = ${cells} cells, more than the limit of ${maxCells}` };
+    return { ...analysis, controlOmitted: `the register load table would have ${analysis.factor} partitions x ${regs} registers = ${cells} cells, more than the limit of ${maxCells} for a check report; 'pleat simulate --tables' or 'pleat rtl' writes them in full` };
   }
   return { ...analysis, control: controlTables(design, analysis).control };
 }
