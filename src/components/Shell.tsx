@@ -48,6 +48,10 @@ export function Shell() {
       <main id="main" tabIndex={-1} className="mx-auto w-full max-w-[1680px] px-4 pt-6 pb-16 outline-none sm:px-6 lg:px-8">
         <Outlet />
       </main>
+      <footer className="mx-auto w-full max-w-[1680px] px-4 pb-8 text-xs text-ink-500 sm:px-6 lg:px-8">
+        Pleat's verdicts are an engineering aid, not a sign-off: they check a folding plan against the
+        equations of folding, not the safety or correctness of the hardware built from it.
+      </footer>
     </div>
   );
 }
