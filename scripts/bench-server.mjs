@@ -47,7 +47,7 @@ const DB = 'pleat_bench';
   await admin.end();
 }
 const dbUrl = pgUrl(DB);
-execFileSync(process.execPath, ['server/bundle.mjs'], { cwd: root, stdio: 'inherit' });
+execFileSync(process.execPath, ['scripts/build.mjs', '--server-only'], { cwd: root, stdio: 'inherit' });
 const serverEnv = {
   ...process.env,
   PLEAT_ENV: 'production',

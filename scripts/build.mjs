@@ -1,7 +1,8 @@
 #!/usr/bin/env node
 // Builds what ships: the `pleat` CLI bundled by esbuild into dist/cli/, and (unless --cli-only)
-// the web app with vite into dist/web/ when the app exists. Run by `npm run build` and, with
-// --cli-only, by npm's "prepare" step so `npx pleat` works right after `npm install`.
+// the server into dist/server/ (esbuild; npm packages stay external) and the web app with vite
+// into dist/web/. Run by `npm run build` and, with --cli-only, by npm's "prepare" step so
+// `npx pleat` works right after `npm install`; --server-only rebuilds just the server.
 import { existsSync, readdirSync, rmSync } from 'node:fs';
 import path from 'node:path';
 import { spawnSync } from 'node:child_process';
@@ -10,6 +11,7 @@ import { fileURLToPath } from 'node:url';
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
 const args = new Set(process.argv.slice(2));
 const cliOnly = args.has('--cli-only');
+const serverOnly = args.has('--server-only');
 const analyze = args.has('--analyze');
 
 // Options of the design validator in shared/validate.ts. The shim below uses the precompiled
@@ -126,6 +128,24 @@ async function buildCli() {
   if (analyze) console.log(await esbuild.analyzeMetafile(result.metafile));
 }
 
+/** The server never runs through a TypeScript loader in start-up or benchmarks: one ESM bundle. */
+async function buildServer() {
+  const { build } = await import('esbuild');
+  await build({
+    absWorkingDir: root,
+    entryPoints: ['server/main.ts'],
+    outfile: 'dist/server/main.js',
+    bundle: true,
+    platform: 'node',
+    format: 'esm',
+    target: 'node20',
+    packages: 'external',
+    sourcemap: true,
+    logLevel: 'warning',
+  });
+  console.log('pleat build: server -> dist/server/main.js');
+}
+
 function buildWeb() {
   if (!existsSync(path.join(root, 'src/main.tsx'))) {
     console.log('pleat build: no src/main.tsx yet, web app skipped');
@@ -137,5 +157,12 @@ function buildWeb() {
   console.log('pleat build: web app -> dist/web/');
 }
 
-await buildCli();
-if (!cliOnly) buildWeb();
+if (serverOnly) {
+  await buildServer();
+} else {
+  await buildCli();
+  if (!cliOnly) {
+    await buildServer();
+    buildWeb();
+  }
+}

@@ -32,7 +32,6 @@ trap 'exit 130' INT TERM
 mkdir -p .data/mail
 echo "pleat: building"
 npm run --silent build
-node server/bundle.mjs
 
 # The fake SMTP server: reuse one that is already listening, else start ours for this session.
 if ! port_busy "$PLEAT_SMTP_PORT"; then

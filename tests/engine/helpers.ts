@@ -1,4 +1,5 @@
 // Builds Design objects for engine tests without going through YAML or validation.
+import { seededRandom } from '../../shared/arith';
 import type { Design, DfgNode } from '../../shared/types';
 
 export interface DesignSpec {
@@ -101,17 +102,9 @@ export function allocationProblems(
 
 // ---------------------------------------------------------------- random valid designs
 
-/** Small seeded PRNG (mulberry32) so that every random design can be rebuilt from its seed. */
-export function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+/** Small seeded PRNG (mulberry32, the one the simulator seeds its input streams with), so that
+ * every random design can be rebuilt from its seed. */
+export const rng = seededRandom;
 
 export interface RandomDesignOptions {
   minOps?: number;
@@ -287,4 +280,49 @@ export function cascadeDesign(sections: number, perUnit = 2, options: { shuffled
     }
   }
   return makeDesign({ name: `cascade-${sections}`, factor: N, units, nodes, edges, sets });
+}
+
+// ---------------------------------------------------------------- retiming constraints, restated
+
+/**
+ * The retiming constraints of analysis.md written out from the design alone, without the engine,
+ * so tests can hold the engine and outside solvers against them: one variable per operation, one
+ * shared by all inputs, one by all outputs (the same one with fixed latency).
+ */
+export interface ConstraintRow {
+  from: string;
+  to: string;
+  /** floor(D_F / N), or w for a tap. */
+  bound: number;
+  /** Has a folded delay (not a tap): counts in the objective. */
+  folded: boolean;
+}
+
+/** The constraints of analysis.md from the design alone, with each edge's retiming variable. */
+export function constraintsOf(design: Design): { rows: ConstraintRow[]; variable: (id: string) => string } {
+  const N = design.folding.factor;
+  const byId = new Map(design.nodes.map((n) => [n.id, n]));
+  const position = new Map<string, { slot: number; stages: number }>();
+  for (const unit of design.units) {
+    (design.folding.sets[unit.id] ?? []).forEach((id, p) => {
+      if (id !== null) position.set(id, { slot: p, stages: unit.stages });
+    });
+  }
+  const variable = (id: string) => {
+    const kind = byId.get(id)!.kind;
+    if (kind === 'input') return 'r_inputs';
+    if (kind === 'output') return design.folding.latency === 'fixed' ? 'r_inputs' : 'r_outputs';
+    return `r_${id}`;
+  };
+  const rows = design.edges.map((e) => {
+    const from = byId.get(e.from)!;
+    const to = byId.get(e.to)!;
+    const slotTo = to.kind === 'output' || to.kind === 'input' ? to.slot : position.get(to.id)!.slot;
+    if (slotTo === undefined) return { from: e.from, to: e.to, bound: e.delays, folded: false };
+    const held = from.kind === 'input' && from.slot === undefined;
+    const slotFrom = held ? slotTo : from.kind === 'input' ? from.slot! : position.get(from.id)!.slot;
+    const stages = from.kind === 'input' ? 0 : position.get(from.id)!.stages;
+    return { from: e.from, to: e.to, bound: Math.floor((N * e.delays - stages + slotTo - slotFrom) / N), folded: true };
+  });
+  return { rows, variable };
 }

@@ -11,45 +11,7 @@ import { registerCounts } from '../../shared/registers';
 import { retime, retimedDelays, retimingConstraints, satisfiesConstraints } from '../../shared/retiming';
 import { minRegisterRetiming } from '../../shared/minRegisterRetiming';
 import type { Design } from '../../shared/types';
-import { randomDesign } from './helpers';
-
-interface Row {
-  from: string;
-  to: string;
-  /** floor(D_F / N), or w for a tap. */
-  bound: number;
-  /** Has a folded delay (not a tap): counts in the objective. */
-  folded: boolean;
-}
-
-/** The constraints of analysis.md from the design alone, with each edge's retiming variable. */
-function constraintsOf(design: Design): { rows: Row[]; variable: (id: string) => string } {
-  const N = design.folding.factor;
-  const byId = new Map(design.nodes.map((n) => [n.id, n]));
-  const position = new Map<string, { slot: number; stages: number }>();
-  for (const unit of design.units) {
-    (design.folding.sets[unit.id] ?? []).forEach((id, p) => {
-      if (id !== null) position.set(id, { slot: p, stages: unit.stages });
-    });
-  }
-  const variable = (id: string) => {
-    const kind = byId.get(id)!.kind;
-    if (kind === 'input') return 'r_inputs';
-    if (kind === 'output') return design.folding.latency === 'fixed' ? 'r_inputs' : 'r_outputs';
-    return `r_${id}`;
-  };
-  const rows = design.edges.map((e) => {
-    const from = byId.get(e.from)!;
-    const to = byId.get(e.to)!;
-    const slotTo = to.kind === 'output' || to.kind === 'input' ? to.slot : position.get(to.id)!.slot;
-    if (slotTo === undefined) return { from: e.from, to: e.to, bound: e.delays, folded: false };
-    const held = from.kind === 'input' && from.slot === undefined;
-    const slotFrom = held ? slotTo : from.kind === 'input' ? from.slot! : position.get(from.id)!.slot;
-    const stages = from.kind === 'input' ? 0 : position.get(from.id)!.stages;
-    return { from: e.from, to: e.to, bound: Math.floor((N * e.delays - stages + slotTo - slotFrom) / N), folded: true };
-  });
-  return { rows, variable };
-}
+import { constraintsOf, randomDesign, type ConstraintRow } from './helpers';
 
 /** Sum over edges with a folded delay of N * w_r(e) - stages(U) + slot(V) - slot(U) (analysis.md). */
 function totalRetimedFolded(a: ReturnType<typeof analyze>): number {
@@ -75,7 +37,7 @@ function lpOptimum(design: Design, objective: 'edges' | 'fanout', maxLatency?: n
   };
   let k = 0;
   const byId = new Map(design.nodes.map((n) => [n.id, n]));
-  const foldedOut = new Map<string, Row[]>();
+  const foldedOut = new Map<string, ConstraintRow[]>();
   for (const row of rows) if (row.folded) foldedOut.set(row.from, [...(foldedOut.get(row.from) ?? []), row]);
   const mirrored = (id: string) => {
     const node = byId.get(id)!;

@@ -5,28 +5,15 @@ import { describe, expect, it } from 'vitest';
 import solver from 'javascript-lp-solver';
 import { analyze } from '../../shared/analyze';
 import type { Design } from '../../shared/types';
-import { randomDesign } from './helpers';
+import { constraintsOf, randomDesign } from './helpers';
 
 /**
- * The constraints of analysis.md, written out here without the engine: one variable per
- * operation, one shared by all inputs, one by all outputs (the same one with fixed latency);
+ * Feasibility by the LP solver of the constraints restated in helpers.ts (constraintsOf):
+ * one variable per operation, one shared by all inputs, one by all outputs;
  * r(U) - r(V) <= floor(D_F / N), or <= w for a tap into an output without slot.
  */
 function lpFeasible(design: Design): boolean {
-  const N = design.folding.factor;
-  const byId = new Map(design.nodes.map((n) => [n.id, n]));
-  const position = new Map<string, { slot: number; stages: number }>();
-  for (const unit of design.units) {
-    (design.folding.sets[unit.id] ?? []).forEach((id, p) => {
-      if (id !== null) position.set(id, { slot: p, stages: unit.stages });
-    });
-  }
-  const variable = (id: string) => {
-    const kind = byId.get(id)!.kind;
-    if (kind === 'input') return 'r_inputs';
-    if (kind === 'output') return design.folding.latency === 'fixed' ? 'r_inputs' : 'r_outputs';
-    return `r_${id}`;
-  };
+  const { rows, variable } = constraintsOf(design);
   const constraints: Record<string, { max: number }> = {};
   let selfConflict = false;
   const variables: Record<string, Record<string, number>> = {};
@@ -34,19 +21,8 @@ function lpFeasible(design: Design): boolean {
     variables[v] ??= { cost: 1 };
     variables[v][c] = (variables[v][c] ?? 0) + x;
   };
-  design.edges.forEach((e, k) => {
-    const from = byId.get(e.from)!;
-    const to = byId.get(e.to)!;
-    const slotTo = to.kind === 'output' || to.kind === 'input' ? to.slot : position.get(to.id)!.slot;
-    let bound: number;
-    if (slotTo === undefined) bound = e.delays; // tap
-    else {
-      const held = from.kind === 'input' && from.slot === undefined;
-      const slotFrom = held ? slotTo : from.kind === 'input' ? from.slot! : position.get(from.id)!.slot;
-      const stages = from.kind === 'input' ? 0 : position.get(from.id)!.stages;
-      bound = Math.floor((N * e.delays - stages + slotTo - slotFrom) / N);
-    }
-    if (variable(e.from) === variable(e.to)) {
+  rows.forEach(({ from, to, bound }, k) => {
+    if (variable(from) === variable(to)) {
       // A constraint on one variable with itself reads 0 <= bound; the solver mishandles rows
       // whose only coefficient is an explicit 0, so it is decided here.
       if (bound < 0) selfConflict = true;
@@ -54,8 +30,8 @@ function lpFeasible(design: Design): boolean {
     }
     const name = `c${k}`;
     constraints[name] = { max: bound };
-    coefficient(variable(e.from), name, 1);
-    coefficient(variable(e.to), name, -1);
+    coefficient(variable(from), name, 1);
+    coefficient(variable(to), name, -1);
   });
   if (selfConflict) return false;
   // Difference constraints do not change when every variable moves by the same amount, so the
