@@ -2,7 +2,7 @@
 // position-keeping `yaml` package is loaded only when there is a problem to point at.
 import { existsSync, readFileSync, statSync } from 'node:fs';
 import path from 'node:path';
-import { checkRules } from '../shared/rules';
+import { checkRules } from '../shared/report/rules';
 import type { Diagnostic, Rules } from '../shared/types';
 
 export const CONFIG_NAME = 'pleat.config.yaml';

@@ -101,7 +101,7 @@ async function main() {
   const esbuild = await import('esbuild');
   await esbuild.build({
     absWorkingDir: root,
-    entryPoints: { load: 'shared/load.ts', analyze: 'shared/analyze.ts' },
+    entryPoints: { load: 'shared/design/load.ts', analyze: 'shared/analysis/analyze.ts' },
     outdir: path.join(work, 'engine'),
     bundle: true,
     splitting: true,

@@ -14,7 +14,7 @@ const cliOnly = args.has('--cli-only');
 const serverOnly = args.has('--server-only');
 const analyze = args.has('--analyze');
 
-// Options of the design validator in shared/validate.ts. The shim below uses the precompiled
+// Options of the design validator in shared/design/validate.ts. The shim below uses the precompiled
 // validator only when the engine asks for exactly these; anything else compiles at run time.
 const VALIDATOR_OPTIONS = { allErrors: true, strict: true };
 
@@ -27,7 +27,7 @@ const VALIDATOR_OPTIONS = { allErrors: true, strict: true };
 async function ajvPrecompilePlugin(esbuild) {
   const schemaBundle = await esbuild.build({
     absWorkingDir: root,
-    entryPoints: ['shared/schema.ts'],
+    entryPoints: ['shared/design/schema.ts'],
     bundle: true,
     write: false,
     format: 'esm',
@@ -39,7 +39,7 @@ async function ajvPrecompilePlugin(esbuild) {
   const standaloneCode = (await import('ajv/dist/standalone/index.js')).default;
   const ajv = new Ajv({ ...VALIDATOR_OPTIONS, code: { source: true, esm: true } });
   const validatorCode = standaloneCode(ajv, ajv.compile(schemaModule.designSchema));
-  const schemaFile = path.join(root, 'shared/schema.ts');
+  const schemaFile = path.join(root, 'shared/design/schema.ts');
 
   const shim = `
 import { createRequire } from 'node:module';

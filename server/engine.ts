@@ -1,22 +1,10 @@
-// The server's use of the engine: one design text in, the same DesignReport the CLI writes out.
-// Used by POST /api/analyze and by the demo seed.
-import { analyze } from '../shared/analyze';
-import { withControl } from '../shared/control';
-import { loadDesign, nameOfInvalidDesign } from '../shared/load';
-import { designReport } from '../shared/report';
-import { applyRules, mergeRules } from '../shared/rules';
+// The server's use of the engine: one design text in, the same DesignReport the CLI writes out,
+// through the engine's one pipeline (shared/pipeline.ts). Used by POST /api/analyze and the demo seed.
+import { runDesignText } from '../shared/pipeline';
+import { mergeRules } from '../shared/report/rules';
 import type { DesignReport, EffectiveRules, Rules } from '../shared/types';
 
 export function checkDesignText(text: string, file: string, teamRules: Rules | null, repoRules: Rules | null = null): { design: DesignReport; rules: EffectiveRules } {
   const { effective } = mergeRules(teamRules, repoRules);
-  const loaded = loadDesign(text);
-  if (!loaded.design) {
-    return { design: designReport({ file, name: nameOfInvalidDesign(text), diagnostics: loaded.diagnostics, analysis: null }), rules: effective };
-  }
-  const analysis = withControl(loaded.design, analyze(loaded.design));
-  const { violations, warnings } = applyRules(analysis, effective);
-  return {
-    design: designReport({ file, name: loaded.design.name, diagnostics: loaded.diagnostics, analysis, violations, ruleWarnings: warnings }),
-    rules: effective,
-  };
+  return { design: runDesignText(text, file, { rules: effective }).report, rules: effective };
 }

@@ -4,7 +4,7 @@
 /** A problem found in a design file or a config file. Line and column are 1-based. */
 export interface Diagnostic {
   severity: 'error' | 'warning';
-  /** Stable code, listed in shared/diagnostics.ts and docs/diagnostics.md. */
+  /** Stable code, listed in shared/design/diagnostics.ts and docs/diagnostics.md. */
   code: string;
   message: string;
   line: number | null;
@@ -191,7 +191,7 @@ export interface Analysis {
   schedule: ScheduleRow[];
   samplePeriodNs: number | null;
   sampleRateMHz: number | null;
-  /** Control tables of the folded datapath (shared/control.ts); absent when not computed, null when no feasible datapath exists. */
+  /** Control tables of the folded datapath (shared/hardware/control.ts); absent when not computed, null when no feasible datapath exists. */
   control?: ControlTables | null;
   /** Why `control` was left out of a report (too large), when it was. */
   controlOmitted?: string;

@@ -12,9 +12,10 @@ import { formatText } from '../format/text';
 import { gitRoot } from '../git';
 import { detectBuild, reportGit } from '../ci/index';
 import { loadTeamRules, requireGit, serverSettings, uploadAfterCheck, uploadTarget } from '../upload/index';
-import { mergeRules, applyRules } from '../../shared/rules';
-import { buildReport, designReport, exitCodeOf } from '../../shared/report';
-import type { Analysis, Diagnostic, EffectiveRules, LoadResult, Report, Violation } from '../../shared/types';
+import { mergeRules } from '../../shared/report/rules';
+import { buildReport, designReport, exitCodeOf } from '../../shared/report/report';
+import type { Diagnostic, DesignReport, EffectiveRules, Report } from '../../shared/types';
+import type { DesignRun } from '../../shared/pipeline';
 
 export type ReportFormat = 'text' | 'json' | 'junit' | 'github';
 const FORMATS: ReportFormat[] = ['text', 'json', 'junit', 'github'];
@@ -47,11 +48,10 @@ export const register: RegisterCommand = (program: Command, ctx: CliContext) => 
 interface Checked {
   abs: string;
   file: string;
-  name: string | null;
-  diagnostics: Diagnostic[];
-  analysis: Analysis | null;
-  violations: Violation[];
-  ruleWarnings: Diagnostic[];
+  /** The engine's report of the design; null when the file could not be read. */
+  report: DesignReport | null;
+  /** Why the file could not be checked (too large, unreadable). */
+  diagnostics?: Diagnostic[];
   ms: number;
 }
 
@@ -128,9 +128,7 @@ export async function runCheck(paths: string[], opts: CheckOptions, ctx: CliCont
   for (const abs of files) checked.push(checkOne(abs, reportPath(abs, root), effective, engine, timing));
   markDuplicateNames(checked, engine.locate);
 
-  const designs = checked.map((c) =>
-    designReport({ file: c.file, name: c.name, diagnostics: c.diagnostics, analysis: c.analysis, violations: c.violations, ruleWarnings: c.ruleWarnings }),
-  );
+  const designs = checked.map((c) => c.report ?? designReport({ file: c.file, name: null, diagnostics: c.diagnostics ?? [], analysis: null }));
   const report = buildReport({ version: ctx.version, git, rules: effective, designs });
   timing?.lap('report assembled');
 
@@ -194,30 +192,19 @@ async function formatterFor(format: ReportFormat): Promise<Formatter> {
 }
 
 interface Engine {
-  loadDesign: (text: string, options?: Record<string, unknown>) => LoadResult;
-  analyze: (design: NonNullable<LoadResult['design']>) => Analysis;
+  runDesignText: (text: string, file: string, options: { rules: EffectiveRules }) => DesignRun;
   locate: (text: string, diagnostics: Diagnostic[]) => Diagnostic[];
-  nameOfInvalid: (text: string) => string | null;
   maxBytes: number;
 }
 
 /** The engine is loaded on first use, so `pleat --version` and `pleat schema` stay quick. */
 async function loadEngine(): Promise<Engine> {
-  const [load, an, pos, ctl] = await Promise.all([
-    import('../../shared/load'),
-    import('../../shared/analyze'),
-    import('../../shared/positions'),
-    import('../../shared/control'),
+  const [pipeline, load, pos] = await Promise.all([
+    import('../../shared/pipeline'),
+    import('../../shared/design/load'),
+    import('../../shared/design/positions'),
   ]);
-  const maxBytes = load.DEFAULT_LIMITS.maxBytes;
-  return {
-    loadDesign: load.loadDesign as Engine['loadDesign'],
-    // The report carries the control tables (multiplexers, register loads) that RTL work needs.
-    analyze: (design) => ctl.withControl(design, an.analyze(design)),
-    locate: pos.locate,
-    nameOfInvalid: load.nameOfInvalidDesign,
-    maxBytes,
-  };
+  return { runDesignText: pipeline.runDesignText, locate: pos.locate, maxBytes: load.DEFAULT_LIMITS.maxBytes };
 }
 
 class Timer {
@@ -237,74 +224,43 @@ class Timer {
 
 function checkOne(abs: string, file: string, effective: EffectiveRules, engine: Engine, timing: Timer | null = null): Checked {
   const t0 = performance.now();
-  const result: Checked = { abs, file, name: null, diagnostics: [], analysis: null, violations: [], ruleWarnings: [], ms: 0 };
+  const result: Checked = { abs, file, report: null, ms: 0 };
   try {
     // Refuse oversized files before reading them into memory.
     // Synchronous reads: files are checked one after the other, and node:fs/promises costs start-up time.
     const s = statSync(abs);
     if (s.size > engine.maxBytes) {
       const mib = (n: number) => (n / (1024 * 1024)).toFixed(1);
-      result.diagnostics.push({ severity: 'error', code: 'file-too-large', message: `the file is ${mib(s.size)} MiB; the limit is ${mib(engine.maxBytes)} MiB`, line: 1, column: 1 });
-      result.ms = performance.now() - t0;
+      result.diagnostics = [{ severity: 'error', code: 'file-too-large', message: `the file is ${mib(s.size)} MiB; the limit is ${mib(engine.maxBytes)} MiB`, line: 1, column: 1 }];
       return result;
     }
     const text = readFileSync(abs, 'utf8');
     timing?.lap(`${file}: read`);
-    const loaded = engine.loadDesign(text);
-    timing?.lap(`${file}: loaded and validated`);
-    result.diagnostics = loaded.diagnostics;
-    if (loaded.design) {
-      result.name = loaded.design.name;
-      const analysis = engine.analyze(loaded.design);
-      timing?.lap(`${file}: analysed`);
-      result.analysis = analysis;
-      const { violations, warnings } = applyRules(analysis, effective);
-      // Violations and rule warnings name a place in the file (the first negative edge, the
-      // folding sets): give them a line and column while the text is at hand.
-      result.violations = placeViolations(text, violations, engine.locate);
-      result.ruleWarnings = warnings.some((w) => w.path) ? engine.locate(text, warnings) : warnings;
-    } else {
-      result.name = engine.nameOfInvalid(text);
-    }
+    result.report = engine.runDesignText(text, file, { rules: effective }).report;
+    timing?.lap(`${file}: checked`);
   } catch (e) {
-    const code = (e as NodeJS.ErrnoException).code;
-    if (code && /^E[A-Z]+$/.test(code)) {
-      result.diagnostics.push({ severity: 'error', code: 'file-unreadable', message: `cannot read the file: ${(e as Error).message}`, line: null, column: null });
-    } else {
-      // An engine failure on one design is reported on that design; the others are still checked.
-      result.diagnostics.push({ severity: 'error', code: 'internal-error', message: `the checker failed on this design: ${(e as Error).message}`, line: null, column: null });
-    }
+    result.diagnostics = [{ severity: 'error', code: 'file-unreadable', message: `cannot read the file: ${(e as Error).message}`, line: null, column: null }];
   } finally {
     result.ms = performance.now() - t0;
   }
   return result;
 }
 
-function placeViolations(text: string, violations: Violation[], locate: Engine['locate']): Violation[] {
-  if (!violations.some((v) => v.path)) return violations;
-  const probes: Diagnostic[] = violations.map((v) => ({ severity: 'error', code: `rule-${v.rule}`, message: v.message, line: null, column: null, path: v.path ?? [] }));
-  try {
-    const placed = locate(text, probes);
-    return violations.map((v, i) => (v.path ? { ...v, line: placed[i].line, column: placed[i].column } : v));
-  } catch {
-    return violations;
-  }
-}
-
 /** Design names are unique in a repository: every later file with a name already seen is invalid. */
 function markDuplicateNames(checked: Checked[], locate: Engine['locate']): void {
   const first = new Map<string, Checked>();
   for (const c of checked) {
-    if (!c.name || !c.analysis) continue;
-    const earlier = first.get(c.name);
+    const r = c.report;
+    if (!r || !r.name || r.status === 'error') continue;
+    const earlier = first.get(r.name);
     if (!earlier) {
-      first.set(c.name, c);
+      first.set(r.name, c);
       continue;
     }
     let d: Diagnostic = {
       severity: 'error',
       code: 'duplicate-design-name',
-      message: `design name "${c.name}" is already used by ${earlier.file}; names must be unique in a repository`,
+      message: `design name "${r.name}" is already used by ${earlier.file}; names must be unique in a repository`,
       line: null,
       column: null,
       path: ['name'],
@@ -315,7 +271,8 @@ function markDuplicateNames(checked: Checked[], locate: Engine['locate']): void 
     } catch {
       /* keep it without a position */
     }
-    c.diagnostics = [...c.diagnostics, d];
+    // An error makes the design's analysis fields null, as for any invalid design.
+    c.report = designReport({ file: r.file, name: r.name, diagnostics: [...r.diagnostics, d], analysis: null });
   }
 }
 

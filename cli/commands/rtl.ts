@@ -8,7 +8,7 @@ import { Option, type Command } from 'commander';
 import { colorLevel, makeChalk } from '../color';
 import { CliError, type CliContext, type RegisterCommand } from '../context';
 import { infeasible, intOption, loadForHardware } from './simulate';
-import type { AreaFigures, RtlBundle } from '../../shared/rtl';
+import type { RtlBundle } from '../../shared/hardware/rtl';
 
 interface RtlOptions {
   out: string;
@@ -54,7 +54,6 @@ function writeBundle(dir: string, files: { name: string; text: string }[]): void
 
 /** Synthesizes one bundle to generic cells; returns its figures or throws a CliError. */
 async function synthesize(bundle: RtlBundle, dir: string): Promise<AreaFigures> {
-  const { parseYosysStat } = await import('../../shared/rtl');
   const stat = path.join(dir, `${bundle.top}.yosys-stat.txt`);
   const script = `read_verilog ${bundle.files.map((f) => f.name).join(' ')}; synth -flatten -top ${bundle.top}; tee -q -o ${path.basename(stat)} stat`;
   const r = tool('yosys', ['-q', '-p', script], dir);
@@ -69,13 +68,12 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   const color = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stdout.isTTY, env: process.env }));
   const errColor = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stderr.isTTY, env: process.env }));
   const loaded = await loadForHardware(file, errColor);
-  const [{ controlTables }, rtl, { resolveArithmetic }, { analyze }] = await Promise.all([
-    import('../../shared/control'),
-    import('../../shared/rtl'),
-    import('../../shared/reference'),
-    import('../../shared/analyze'),
+  const [rtl, { resolveArithmetic }, { runDesignModel }] = await Promise.all([
+    import('../../shared/hardware/rtl'),
+    import('../../shared/hardware/reference'),
+    import('../../shared/pipeline'),
   ]);
-  const { control } = controlTables(loaded.design, loaded.analysis);
+  const { control } = loaded;
   if (!control) throw infeasible(loaded);
   const graph = resolveArithmetic(loaded.design).graph!;
   const generator = `pleat ${ctx.version}`;
@@ -104,7 +102,7 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   let area: { folded: AreaFigures; parallel: AreaFigures; tool: string } | null = null;
   if (opts.area) {
     const par = rtl.parallelDesign(loaded.design);
-    const parControl = controlTables(par, analyze(par)).control;
+    const parControl = runDesignModel(par, `${loaded.file} (parallel)`, { maxControlCells: Infinity }).control;
     if (!parControl) throw new CliError('internal: the fully parallel graph has no datapath');
     const parBundle = rtl.generateRtl(par, parControl, { width: opts.width, coefFrac: opts.coefFrac, generator, topName: `${bundle.top}_parallel` });
     const parDir = path.join(dir, 'parallel');
@@ -166,4 +164,25 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   lines.push('The RTL is a starting point: timing closure and sign-off verification remain the engineer\'s.');
   process.stdout.write(`${lines.join('\n')}\n`);
   return failed ? 1 : 0;
+}
+
+// Yosys's log format belongs to this command, which runs Yosys; the engine never sees it.
+export interface AreaFigures {
+  cells: number;
+  /** Flip-flop bits (every $_*DFF*_ cell of the generic netlist). */
+  registers: number;
+  /** Cell counts by type. */
+  byType: Record<string, number>;
+}
+
+/** Reads the last `stat` block of a Yosys log: total cells and flip-flops. */
+export function parseYosysStat(text: string): AreaFigures | null {
+  const at = text.lastIndexOf('Number of cells:');
+  if (at < 0) return null;
+  const cells = Number(/Number of cells:\s+(\d+)/.exec(text.slice(at))![1]);
+  const byType: Record<string, number> = {};
+  for (const m of text.slice(at).matchAll(/^\s+(\$\S+)\s+(\d+)\s*$/gm)) byType[m[1]] = Number(m[2]);
+  let registers = 0;
+  for (const [t, n] of Object.entries(byType)) if (/DFF/i.test(t)) registers += n;
+  return { cells, registers, byType };
 }

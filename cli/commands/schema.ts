@@ -7,7 +7,7 @@ export const register: RegisterCommand = (program: Command) => {
     .command('schema')
     .description('print the JSON Schema of the design file format (pleat/1)')
     .action(async () => {
-      const { designSchema } = await import('../../shared/schema');
+      const { designSchema } = await import('../../shared/design/schema');
       process.stdout.write(`${JSON.stringify(designSchema, null, 2)}\n`);
     });
 };

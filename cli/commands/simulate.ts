@@ -6,7 +6,7 @@ import { InvalidArgumentError, Option, type Command } from 'commander';
 import { colorLevel, makeChalk } from '../color';
 import { CliError, type CliContext, type RegisterCommand } from '../context';
 import { diagnosticLine } from '../format/common';
-import type { Analysis, Design, Diagnostic } from '../../shared/types';
+import type { Analysis, ControlTables, Design, Diagnostic } from '../../shared/types';
 
 /** A design read, validated and analysed, or a CliError already explaining why not. */
 export interface LoadedDesign {
@@ -14,6 +14,8 @@ export interface LoadedDesign {
   text: string;
   design: Design;
   analysis: Analysis;
+  /** Full control tables of the analysed datapath; null when no feasible datapath exists. */
+  control: ControlTables | null;
 }
 
 export function intOption(min: number, max: number) {
@@ -32,11 +34,11 @@ export function intOption(min: number, max: number) {
 export async function loadForHardware(fileArg: string, errColor: ReturnType<typeof makeChalk>): Promise<LoadedDesign> {
   const abs = path.resolve(process.cwd(), fileArg);
   const shown = path.relative(process.cwd(), abs).split(path.sep).join('/') || fileArg;
-  const [{ loadDesign, DEFAULT_LIMITS }, { analyze }, { locate }, { resolveArithmetic }] = await Promise.all([
-    import('../../shared/load'),
-    import('../../shared/analyze'),
-    import('../../shared/positions'),
-    import('../../shared/reference'),
+  const [{ loadDesign, DEFAULT_LIMITS }, { runDesignModel }, { locate }, { resolveArithmetic }] = await Promise.all([
+    import('../../shared/design/load'),
+    import('../../shared/pipeline'),
+    import('../../shared/design/positions'),
+    import('../../shared/hardware/reference'),
   ]);
   let text: string;
   try {
@@ -71,7 +73,9 @@ export async function loadForHardware(fileArg: string, errColor: ReturnType<type
     print(located);
     throw new CliError(`${shown} cannot be evaluated: ${diagnostics.length} node${diagnostics.length === 1 ? '' : 's'} without usable arithmetic`);
   }
-  return { file: shown, text, design: loaded.design, analysis: analyze(loaded.design) };
+  // The engine's pipeline, with the control tables whole: simulation and RTL need every register.
+  const run = runDesignModel(loaded.design, shown, { maxControlCells: Infinity });
+  return { file: shown, text, design: loaded.design, analysis: run.analysis!, control: run.control };
 }
 
 /** Exit 1 with the retiming conflict in a line, when the plan has no folded datapath. */
@@ -119,8 +123,8 @@ export async function runSimulate(file: string, opts: SimulateOptions, ctx: CliC
   const color = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stdout.isTTY, env: process.env }));
   const errColor = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stderr.isTTY, env: process.env }));
   const loaded = await loadForHardware(file, errColor);
-  const [{ controlTables, controlText }, { simulateDesign }] = await Promise.all([import('../../shared/control'), import('../../shared/foldedSim')]);
-  const { control } = controlTables(loaded.design, loaded.analysis);
+  const [{ controlText }, { simulateDesign }] = await Promise.all([import('../../shared/hardware/control'), import('../../shared/hardware/foldedSim')]);
+  const { control } = loaded;
   if (!control) throw infeasible(loaded);
   const { report, diagnostics } = simulateDesign(loaded.design, { ...loaded.analysis, control }, {
     iterations: opts.iterations,

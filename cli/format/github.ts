@@ -1,6 +1,6 @@
 // GitHub Actions workflow commands: one annotation per problem, so a pull request shows each
 // one on its line. Escaping follows GitHub's toolkit: in data % CR LF, in properties also : and ,.
-import { countStatuses } from '../../shared/report';
+import { countStatuses } from '../../shared/report/report';
 import type { Report } from '../../shared/types';
 import { plural, type FormatContext } from './common';
 

@@ -1,7 +1,7 @@
 // The terminal report: one verdict line per design, then only what needs acting on.
 // Long lists are cut ("... and N more") so a design of thousands of nodes stays readable.
 import { Chalk, type ChalkInstance } from 'chalk';
-import { countStatuses } from '../../shared/report';
+import { countStatuses } from '../../shared/report/report';
 import type { DesignReport, EdgeResult, Report, Status } from '../../shared/types';
 import { diagnosticLine, fraction, pct, plural, type FormatContext } from './common';
 

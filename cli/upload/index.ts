@@ -3,7 +3,7 @@
 // keeping the report on disk, and one clear line per outcome. The token is never printed.
 import { mkdirSync, writeFileSync, existsSync } from 'node:fs';
 import path from 'node:path';
-import { checkRules } from '../../shared/rules';
+import { checkRules } from '../../shared/report/rules';
 import type { Report, Rules } from '../../shared/types';
 import type { PleatConfig } from '../config';
 import { CliError } from '../context';

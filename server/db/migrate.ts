@@ -2,10 +2,9 @@
 // carries its migrations; the applied names live in the table pleat_migrations of the current
 // schema. Several server instances starting at once serialise on an advisory lock.
 import type { Sequelize } from 'sequelize';
-import { Umzug, type MigrationParams, type UmzugStorage } from 'umzug';
+import { Umzug, type UmzugStorage } from 'umzug';
 import * as m001 from './migrations/001-initial';
-
-export type Migration = (params: MigrationParams<Sequelize>) => Promise<unknown>;
+import type { Migration } from './migrations/types';
 
 const MIGRATIONS: { name: string; up: Migration; down: Migration }[] = [
   { name: '001-initial', ...m001 },

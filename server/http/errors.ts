@@ -1,6 +1,6 @@
 // Errors leave the server as JSON {error: {code, message}} and never carry a stack trace.
 import type { ErrorRequestHandler, RequestHandler } from 'express';
-import type { ApiErrorBody } from '../../shared/api';
+import type { ApiErrorBody } from '../../shared/report/api';
 
 export class HttpError extends Error {
   constructor(

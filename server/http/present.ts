@@ -1,5 +1,5 @@
 // How rows leave the server: only the fields a client may see (never hashes).
-import type { PublicUser } from '../../shared/api';
+import type { PublicUser } from '../../shared/report/api';
 import type { User } from '../db/models';
 
 export type { PublicUser };

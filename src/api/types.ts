@@ -1,10 +1,10 @@
 // The shapes the server's API returns (server/resources/*/routes.ts), as the web report reads
 // them. Dates arrive as ISO strings. The shapes the server's code names too live in
-// shared/api.ts; the report itself uses the shared types of shared/types.ts.
-import type { Comparison, PublicUser, RunDesignRow } from '../../shared/api';
+// shared/report/api.ts; the report itself uses the shared types of shared/types.ts.
+import type { Comparison, PublicUser, RunDesignRow } from '../../shared/report/api';
 import type { DesignReport, EffectiveRules, Report, Rules, Status } from '../../shared/types';
 
-export type { ApiErrorBody, Basis, Comparison, DesignDelta, Metric, PublicUser, Regression, RunDesignRow } from '../../shared/api';
+export type { ApiErrorBody, Basis, Comparison, DesignDelta, Metric, PublicUser, Regression, RunDesignRow } from '../../shared/report/api';
 
 export type Role = 'lead' | 'engineer' | 'viewer';
 /** The caller's role as the server reports it per project: 'admin' for admins. */

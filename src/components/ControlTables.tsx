@@ -50,7 +50,7 @@ function Instance({ value }: { value: string }) {
 }
 
 /**
- * The control tables of the folded datapath (shared/control.ts): the operand multiplexers of
+ * The control tables of the folded datapath (shared/hardware/control.ts): the operand multiplexers of
  * every unit, what every register loads, and the timing of the inputs and outputs. Time runs to
  * the right, one column per partition, as in the schedule grid and the allocation table.
  */

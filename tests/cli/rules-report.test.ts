@@ -1,10 +1,10 @@
-// The rule floor, the rules themselves and report assembly (shared/rules.ts, shared/report.ts).
+// The rule floor, the rules themselves and report assembly (shared/report/rules.ts, shared/report/report.ts).
 // The expectations are the project's contract for the gate (docs/cli.md); the floor property is
 // checked on random rule sets with fast-check.
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { applyRules, checkRules, mergeRules } from '../../shared/rules';
-import { buildReport, designReport, exitCodeOf, worstStatus } from '../../shared/report';
+import { applyRules, checkRules, mergeRules } from '../../shared/report/rules';
+import { buildReport, designReport, exitCodeOf, worstStatus } from '../../shared/report/report';
 import type { Analysis, EffectiveRules, Rules } from '../../shared/types';
 
 function analysis(over: Partial<Analysis> = {}): Analysis {

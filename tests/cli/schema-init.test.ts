@@ -5,7 +5,7 @@ import path from 'node:path';
 import { Ajv } from 'ajv';
 import { load } from 'js-yaml';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { loadDesign } from '../../shared/load';
+import { loadDesign } from '../../shared/design/load';
 import { EXAMPLES, cleanupTemps, ensureBuilt, pleat, tempDir, write } from './helpers';
 
 beforeAll(ensureBuilt);

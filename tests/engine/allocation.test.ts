@@ -2,9 +2,9 @@
 // live instance during its whole lifetime in exactly the lifetime minimum of registers.
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
-import { analyze } from '../../shared/analyze';
-import { allocateRegisters, METHOD_FORWARD_BACKWARD, rankedAllocation } from '../../shared/allocation';
-import { liveCounts } from '../../shared/registers';
+import { analyze } from '../../shared/analysis/analyze';
+import { allocateRegisters, METHOD_FORWARD_BACKWARD, rankedAllocation } from '../../shared/analysis/allocation';
+import { liveCounts } from '../../shared/analysis/registers';
 import type { Lifetime } from '../../shared/types';
 import { allocationProblems, expectedRows, randomDesign } from './helpers';
 

@@ -1,8 +1,8 @@
 // The assembled analysis: schedule rows, sample period and rate, edge order, and the exact
 // decimal reading of times behind the iteration bound.
 import { describe, expect, it } from 'vitest';
-import { analyze } from '../../shared/analyze';
-import { decimalToRational } from '../../shared/fraction';
+import { analyze } from '../../shared/analysis/analyze';
+import { decimalToRational } from '../../shared/analysis/fraction';
 import { makeDesign } from './helpers';
 
 describe('analyze', () => {

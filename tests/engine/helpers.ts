@@ -1,5 +1,5 @@
 // Builds Design objects for engine tests without going through YAML or validation.
-import { seededRandom } from '../../shared/arith';
+import { seededRandom } from '../../shared/hardware/arith';
 import type { Design, DfgNode } from '../../shared/types';
 
 export interface DesignSpec {

@@ -3,7 +3,7 @@
 // and the ratios compared as exact fractions.
 import { describe, expect, it } from 'vitest';
 import findCircuits from 'elementary-circuits-directed-graph';
-import { analyze } from '../../shared/analyze';
+import { analyze } from '../../shared/analysis/analyze';
 import type { Design } from '../../shared/types';
 import { DECIMAL_TIMES, makeDesign, randomDesign } from './helpers';
 

@@ -2,8 +2,8 @@
 // Method: property-based testing (fast-check) by mutating a valid design and by random YAML-like text; invariants only.
 import { describe, it, expect } from 'vitest';
 import fc from 'fast-check';
-import { loadDesign } from '../../shared/load';
-import { validateDesign } from '../../shared/validate';
+import { loadDesign } from '../../shared/design/load';
+import { validateDesign } from '../../shared/design/validate';
 import type { LoadResult } from '../../shared/types';
 
 // A sample-rate converter stage for a radio receiver: invented for these tests.

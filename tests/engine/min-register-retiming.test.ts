@@ -4,12 +4,13 @@
 // a general-purpose LP solver (javascript-lp-solver, npm) on the same linear program.
 import { describe, expect, it } from 'vitest';
 import solver from 'javascript-lp-solver';
-import { analyze } from '../../shared/analyze';
-import { buildGraph, shortestPathsFromAll } from '../../shared/graph';
-import { foldedDelays } from '../../shared/foldedDelay';
-import { registerCounts } from '../../shared/registers';
-import { retime, retimedDelays, retimingConstraints, satisfiesConstraints } from '../../shared/retiming';
-import { minRegisterRetiming } from '../../shared/minRegisterRetiming';
+import { analyze } from '../../shared/analysis/analyze';
+import { buildGraph, shortestPathsFromAll } from '../../shared/analysis/graph';
+import { foldedDelays } from '../../shared/analysis/foldedDelay';
+import { registerCounts } from '../../shared/analysis/registers';
+import { retime, retimedDelays } from '../../shared/analysis/retiming';
+import { retimingConstraints, satisfiesConstraints } from '../../shared/analysis/constraints';
+import { minRegisterRetiming } from '../../shared/analysis/minRegisterRetiming';
 import type { Design } from '../../shared/types';
 import { constraintsOf, randomDesign, type ConstraintRow } from './helpers';
 

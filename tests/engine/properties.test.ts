@@ -4,7 +4,7 @@
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import findCircuits from 'elementary-circuits-directed-graph';
-import { analyze } from '../../shared/analyze';
+import { analyze } from '../../shared/analysis/analyze';
 import type { Analysis, Design } from '../../shared/types';
 import { allocationProblems, expectedRows, randomDesign, refold, type TestLifetime } from './helpers';
 

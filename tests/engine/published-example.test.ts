@@ -1,7 +1,7 @@
 // The engine against a published worked example: the folded second-order IIR section of
 // K. K. Parhi, "VLSI Digital Signal Processing Systems" (Wiley, 1999), chapter 6.
 import { describe, expect, it } from 'vitest';
-import { analyze } from '../../shared/analyze';
+import { analyze } from '../../shared/analysis/analyze';
 import { parhiIirFolded, PUBLISHED_FOLDED_DELAYS } from '../fixtures/published/parhi-iir-folded';
 import { allocationProblems, type TestLifetime } from './helpers';
 

@@ -2,8 +2,8 @@
 // iterations by the definition in analysis.md, and the held-input convention worked by hand.
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
-import { analyze } from '../../shared/analyze';
-import { liveCounts } from '../../shared/registers';
+import { analyze } from '../../shared/analysis/analyze';
+import { liveCounts } from '../../shared/analysis/registers';
 import { makeDesign } from './helpers';
 
 /** live(t) by the definition: count every iteration l with tIn + lN < t <= tOut + lN. */

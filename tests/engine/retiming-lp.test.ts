@@ -3,7 +3,7 @@
 // relaxation is feasible (its matrix is totally unimodular), so the two must always agree.
 import { describe, expect, it } from 'vitest';
 import solver from 'javascript-lp-solver';
-import { analyze } from '../../shared/analyze';
+import { analyze } from '../../shared/analysis/analyze';
 import type { Design } from '../../shared/types';
 import { constraintsOf, randomDesign } from './helpers';
 

@@ -1,7 +1,7 @@
 // Retiming for folding on small DFGs worked by hand from the constraints of analysis.md
 // (r(U) - r(V) <= floor(D_F / N)), including the conflict report when no retiming exists.
 import { describe, expect, it } from 'vitest';
-import { analyze } from '../../shared/analyze';
+import { analyze } from '../../shared/analysis/analyze';
 import { makeDesign } from './helpers';
 
 describe('retiming for folding', () => {

@@ -1,7 +1,7 @@
 // Large designs: every method is iterative and near-linear, so loops of hundreds of thousands
 // of nodes neither overflow the stack nor stall. No timing is asserted here (see the report).
 import { describe, expect, it } from 'vitest';
-import { analyze } from '../../shared/analyze';
+import { analyze } from '../../shared/analysis/analyze';
 import type { DfgNode } from '../../shared/types';
 import { cascadeDesign, makeDesign } from './helpers';
 

@@ -1,6 +1,6 @@
 // Hardware utilization efficiency: the share of a unit's operation slots that do useful work.
 import { describe, expect, it } from 'vitest';
-import { analyze } from '../../shared/analyze';
+import { analyze } from '../../shared/analysis/analyze';
 import { makeDesign } from './helpers';
 
 /** y = a + b + c on one two-input adder: s1 = a + b, s2 = s1 + c. */

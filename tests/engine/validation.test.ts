@@ -6,10 +6,10 @@ import { createRequire } from 'node:module';
 import { fileURLToPath } from 'node:url';
 import fc from 'fast-check';
 import { Ajv } from 'ajv';
-import { loadDesign, DEFAULT_LIMITS } from '../../shared/load';
-import { validateDesign, MAX_PER_CODE } from '../../shared/validate';
-import { CODES } from '../../shared/diagnostics';
-import { designSchema } from '../../shared/schema';
+import { loadDesign, DEFAULT_LIMITS } from '../../shared/design/load';
+import { validateDesign, MAX_PER_CODE } from '../../shared/design/validate';
+import { CODES } from '../../shared/design/diagnostics';
+import { designSchema } from '../../shared/design/schema';
 import type { Diagnostic } from '../../shared/types';
 
 const fixtures = fileURLToPath(new URL('../fixtures/invalid/', import.meta.url));

@@ -6,11 +6,11 @@ import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { execa } from 'execa';
-import { loadDesign } from '../../shared/load';
-import { analyze } from '../../shared/analyze';
-import { controlTables } from '../../shared/control';
-import { resolveArithmetic } from '../../shared/reference';
-import { generateRtl, generateTestbench, parallelDesign, testVectors, type RtlBundle } from '../../shared/rtl';
+import { loadDesign } from '../../shared/design/load';
+import { analyze } from '../../shared/analysis/analyze';
+import { controlTables } from '../../shared/hardware/control';
+import { resolveArithmetic } from '../../shared/hardware/reference';
+import { generateRtl, generateTestbench, parallelDesign, testVectors, type RtlBundle } from '../../shared/hardware/rtl';
 import type { ControlTables, Design } from '../../shared/types';
 import { randomDesign } from '../sim/randomDesign';
 

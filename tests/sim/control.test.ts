@@ -4,9 +4,9 @@
 import { readFileSync } from 'node:fs';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { loadDesign } from '../../shared/load';
-import { analyze } from '../../shared/analyze';
-import { controlTables, withControl } from '../../shared/control';
+import { loadDesign } from '../../shared/design/load';
+import { analyze } from '../../shared/analysis/analyze';
+import { controlTables, withControl } from '../../shared/hardware/control';
 import type { ControlTables } from '../../shared/types';
 
 const { design } = loadDesign(readFileSync(path.join(__dirname, 'fixtures/smoothing-retimed.fold.yaml'), 'utf8'));

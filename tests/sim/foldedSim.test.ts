@@ -6,10 +6,10 @@ import { readdirSync, readFileSync } from 'node:fs';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
-import { loadDesign } from '../../shared/load';
-import { analyze } from '../../shared/analyze';
-import { controlTables } from '../../shared/control';
-import { simulateDesign } from '../../shared/foldedSim';
+import { loadDesign } from '../../shared/design/load';
+import { analyze } from '../../shared/analysis/analyze';
+import { controlTables } from '../../shared/hardware/control';
+import { simulateDesign } from '../../shared/hardware/foldedSim';
 import type { Analysis, ControlTables, Design } from '../../shared/types';
 import { randomDesign } from './randomDesign';
 

@@ -1,8 +1,8 @@
 // Random designs for the property tests of simulation and RTL: small DFGs with loops, every
 // operation of format.md, held and slotted inputs, slotted outputs and taps, random folding sets.
-// Loaded through shared/load.ts, so every design here is a valid file of format pleat/1.
-import { loadDesign } from '../../shared/load';
-import { seededRandom } from '../../shared/arith';
+// Loaded through shared/design/load.ts, so every design here is a valid file of format pleat/1.
+import { loadDesign } from '../../shared/design/load';
+import { seededRandom } from '../../shared/hardware/arith';
 import type { Design } from '../../shared/types';
 
 export interface RandomDesignOptions {

@@ -1,10 +1,10 @@
 // The reference evaluation of the unfolded DFG and the two number systems, against results
 // known outside the project.
 import { describe, expect, it } from 'vitest';
-import { loadDesign } from '../../shared/load';
-import { locate } from '../../shared/positions';
-import { evaluateReference, resolveArithmetic } from '../../shared/reference';
-import { decimalOf, exactArithmetic, fixedArithmetic, quantizeCoefficient, type Decimal } from '../../shared/arith';
+import { loadDesign } from '../../shared/design/load';
+import { locate } from '../../shared/design/positions';
+import { evaluateReference, resolveArithmetic } from '../../shared/hardware/reference';
+import { decimalOf, exactArithmetic, fixedArithmetic, quantizeCoefficient, type Decimal } from '../../shared/hardware/arith';
 import type { Design } from '../../shared/types';
 
 function load(yaml: string): Design {

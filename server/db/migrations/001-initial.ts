@@ -1,6 +1,6 @@
 // The first schema of Pleat. Plain SQL so that every index and constraint is visible here;
 // Sequelize's models (server/db/models.ts) describe these tables but never create them.
-import type { Migration } from '../migrate';
+import type { Migration } from './types';
 
 const ts = 'timestamptz(3)'; // millisecond precision: round-trips through a JS Date, so cursors are exact
 

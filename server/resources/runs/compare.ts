@@ -1,7 +1,7 @@
 // What changed between a run and the run of its base branch. The base is the base branch's run at
 // the merge-base commit the CLI sent; else the base branch's nearest run uploaded before this one.
 import { QueryTypes } from 'sequelize';
-import type { Basis, Comparison, DesignDelta, Metric, Regression } from '../../../shared/api';
+import type { Basis, Comparison, DesignDelta, Metric, Regression } from '../../../shared/report/api';
 import type { Status } from '../../../shared/types';
 import type { AppContext } from '../../context';
 

@@ -2,7 +2,7 @@
 // with its comparison), POST /api/projects/:slug/runs (CI upload).
 import express, { Router, type Request } from 'express';
 import { QueryTypes } from 'sequelize';
-import type { RunDesignRow } from '../../../shared/api';
+import type { RunDesignRow } from '../../../shared/report/api';
 import type { Report } from '../../../shared/types';
 import type { AppContext } from '../../context';
 import type { Project } from '../../db/models';

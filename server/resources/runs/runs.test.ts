@@ -1,7 +1,7 @@
 // Uploads from CI, the branch history and the run page's comparison against the base branch.
 import { readdirSync, readFileSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { buildReport } from '../../../shared/report';
+import { buildReport } from '../../../shared/report/report';
 import type { Report } from '../../../shared/types';
 import { checkDesignText } from '../../engine';
 import { cookieFor, designEntry, makeCiToken, makeMember, makeProject, makeReport, randomCommit } from '../../test/factories';

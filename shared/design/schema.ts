@@ -1,5 +1,5 @@
 // Method: JSON Schema draft-07 (json-schema.org) of the design format pleat/1, for ajv and for editors.
-// Convention: structure only; cross-references (ids, sets, loops) are checked in shared/validate.ts.
+// Convention: structure only; cross-references (ids, sets, loops) are checked in shared/design/validate.ts.
 
 /** Largest integer accepted for counts such as delays, stages, ports and slots (32-bit signed). */
 export const MAX_INT = 2_147_483_647;

@@ -1,6 +1,6 @@
 // Method: per-edge and delay-line register counts, and lifetime analysis (Parhi 1999, ch. 6).
 // Convention: not live in the production cycle, live in the last-use cycle, periodic steady state.
-import type { Lifetime, LifetimeChart, Registers } from './types';
+import type { Lifetime, LifetimeChart, Registers } from '../types';
 import { INPUT, NO_SLOT, OUTPUT, type IndexedGraph } from './graph';
 
 /**

@@ -1,9 +1,10 @@
 // Control tables of a folded datapath (Parhi, "VLSI Digital Signal Processing Systems", ch. 6:
 // folding transformation, with registers placed by forward-backward allocation). Convention: a
 // register loads at the end of a partition and holds the value during the following cycles.
-import { buildGraph, INPUT, NO_SLOT, OPERATION, OUTPUT } from './graph';
-import { foldedDelays } from './foldedDelay';
-import { lifetimeVariables } from './registers';
+import { buildGraph, INPUT, NO_SLOT, OPERATION, OUTPUT } from '../analysis/graph';
+import { foldedDelays } from '../analysis/foldedDelay';
+import { lifetimeVariables } from '../analysis/registers';
+import type { FoldedDatapath } from '../analysis/analyze';
 import { nodeOp, operandOrder } from './reference';
 import type {
   Allocation,
@@ -16,12 +17,9 @@ import type {
   RegisterTable,
   SignalSource,
   UnitControl,
-} from './types';
+} from '../types';
+import { floorDiv } from '../analysis/constraints';
 
-/** floor(a / n) for integers, exact for negative a. */
-function floorDiv(a: number, n: number): number {
-  return Math.floor(a / n);
-}
 function mod(a: number, n: number): number {
   return ((a % n) + n) % n;
 }
@@ -149,7 +147,7 @@ function ownPlacement(N: number, live: string[][]): { placement: Placement; regi
 /**
  * Reads the analysis' allocation table: cells[t][k] names the instance in register k during
  * partition t as `name` or `name@j`, j = floor((cycles since production - 1) / N) (the naming of
- * shared/allocation.ts). Accepted only if every partition holds exactly the live instances;
+ * shared/analysis/allocation.ts). Accepted only if every partition holds exactly the live instances;
  * otherwise the reason is returned.
  */
 function analysisPlacement(alloc: Allocation, N: number, live: string[][], vars: Variable[]): Placement | string {
@@ -208,20 +206,25 @@ export interface ControlResult {
  * partition, per unit operand port a multiplexer table, per register its loads, per output port
  * when it loads and which sample it carries. Needs a feasible retiming in the analysis.
  */
-export function controlTables(design: Design, analysis: Analysis): ControlResult {
+export function controlTables(design: Design, analysis: Analysis, datapath: FoldedDatapath | null = null): ControlResult {
   if (!analysis.retiming.feasible) return { control: null, reason: 'no retiming makes every folded delay nonnegative' };
-  const g = buildGraph(design);
+  // The analysis's own datapath when the caller has it (the pipeline does); else rebuilt from the
+  // reported retiming, for callers that hold only a report.
+  const g = datapath?.graph ?? buildGraph(design);
   const N = g.factor;
   const r = new Float64Array(g.nodeCount);
   for (let i = 0; i < g.nodeCount; i++) r[i] = analysis.retiming.values[g.nodeIds[i]] ?? 0;
-  const wr = new Float64Array(g.edgeCount);
+  let wr = datapath?.delays;
+  if (!wr) {
+    wr = new Float64Array(g.edgeCount);
+    for (let e = 0; e < g.edgeCount; e++) wr[e] = g.edgeDelays[e] + r[g.edgeTo[e]] - r[g.edgeFrom[e]];
+  }
   for (let e = 0; e < g.edgeCount; e++) {
-    wr[e] = g.edgeDelays[e] + r[g.edgeTo[e]] - r[g.edgeFrom[e]];
     if (wr[e] < 0) {
       return { control: null, reason: `the retiming leaves edge ${design.edges[e].from} -> ${design.edges[e].to} with ${wr[e]} delays` };
     }
   }
-  const folded = foldedDelays(g, wr);
+  const folded = datapath?.folded ?? foldedDelays(g, wr);
   for (let e = 0; e < g.edgeCount; e++) {
     if (folded[e] < 0) {
       return { control: null, reason: `edge ${design.edges[e].from} -> ${design.edges[e].to} keeps a negative folded delay (${folded[e]})` };
@@ -232,7 +235,7 @@ export function controlTables(design: Design, analysis: Analysis): ControlResult
     g.role[u] === INPUT ? { kind: 'input', node: g.nodeIds[u] } : { kind: 'unit', unit: g.unitIds[g.unitOf[u]] };
 
   // Variables of lifetime analysis, named as the analysis names them.
-  const lifetimes = lifetimeVariables(g, folded, wr);
+  const lifetimes = analysis.lifetimes?.variables ?? lifetimeVariables(g, folded, wr);
   const vars: Variable[] = lifetimes.map((l) => ({ ...l, source: signalOf(g.nodeIndex.get(l.node)!) }));
   const byName = new Map(vars.map((v, i) => [v.variable, i]));
   const heldVarOfEdge = new Map<number, string>();
@@ -425,14 +428,14 @@ export const DEFAULT_MAX_CONTROL_CELLS = 20_000;
  * exists; left out (no `control` field) when the register table would exceed maxCells, as the
  * analysis leaves out its allocation table. `pleat rtl` and `pleat simulate` have no such limit.
  */
-export function withControl(design: Design, analysis: Analysis, maxCells = DEFAULT_MAX_CONTROL_CELLS): Analysis {
+export function withControl(design: Design, analysis: Analysis, maxCells = DEFAULT_MAX_CONTROL_CELLS, datapath: FoldedDatapath | null = null): Analysis {
   const regs = analysis.registers?.minimum ?? 0;
   const cells = analysis.factor * regs;
   if (cells > maxCells) {
     // Said in the report, so a reader of it (the web report) can tell why the tables are missing.
     return { ...analysis, controlOmitted: `the register load table would have ${analysis.factor} partitions x ${regs} registers = ${cells} cells, more than the limit of ${maxCells} for a check report; 'pleat simulate --tables' or 'pleat rtl' writes them in full` };
   }
-  return { ...analysis, control: controlTables(design, analysis).control };
+  return { ...analysis, control: controlTables(design, analysis, datapath).control };
 }
 
 /** The control tables as plain text lines, for a terminal: one line per unit, mux, register and output. */

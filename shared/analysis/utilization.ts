@@ -1,6 +1,6 @@
 // Method: hardware utilization efficiency, the share of operation slots doing useful work.
 // Convention: every unit offers N slots per iteration, busy or idle.
-import type { Utilization } from './types';
+import type { Utilization } from '../types';
 import type { IndexedGraph } from './graph';
 
 export function utilization(g: IndexedGraph): Utilization {

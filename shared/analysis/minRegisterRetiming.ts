@@ -1,6 +1,6 @@
 // Method: fewest-register retiming as the LP dual of a min-cost flow, with fan-out mirror nodes (Leiserson & Saxe 1991); successive shortest paths.
 // Convention: objective = sum of retimed folded delays (or per-node maxima to within N-1); integer arithmetic; null past a work budget.
-import type { ConstraintGraph } from './retiming';
+import type { ConstraintGraph } from './constraints';
 import { INPUT, NO_SLOT, type IndexedGraph } from './graph';
 
 /** Largest design (edges) on which the engine searches for the fewest-register retiming. */

@@ -9,7 +9,7 @@ import type {
   Report,
   Status,
   Violation,
-} from './types';
+} from '../types';
 
 export const REPORT_FORMAT = 'pleat-report/1' as const;
 

@@ -1,7 +1,7 @@
 // Method: maps a diagnostic's document path to the source offset of that value by walking js-yaml's event stream.
 // Convention: line and column are 1-based, columns count UTF-16 code units; a path that is not in the text falls back to its nearest parent.
 import { parseEvents, getScalarValue, type Event, type ScalarEvent } from 'js-yaml';
-import type { Diagnostic } from './types';
+import type { Diagnostic } from '../types';
 import { KEY_CODES } from './diagnostics';
 
 // Event type ids of js-yaml's parser (EVENT_ID in its typings).

@@ -10,7 +10,7 @@ import type {
   RuleSource,
   Rules,
   Violation,
-} from './types';
+} from '../types';
 
 export const RULE_NAMES: readonly RuleName[] = [
   'negative_delays',

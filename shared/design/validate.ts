@@ -1,7 +1,7 @@
 // Method: JSON Schema validation (ajv, draft-07) plus the semantic rules of format pleat/1; zero-delay
 // loops by Tarjan's strongly connected components (iterative). Convention: diagnostics carry `path`, no position.
 import { Ajv, type ErrorObject, type ValidateFunction } from 'ajv';
-import type { Design, DfgNode, Diagnostic, Edge, NodeOp, Unit } from './types';
+import type { Design, DfgNode, Diagnostic, Edge, NodeOp, Unit } from '../types';
 import { designSchema } from './schema';
 import { diag, formatPath, showValue, typeWord, type DiagnosticCode } from './diagnostics';
 

@@ -1,7 +1,7 @@
 // Direct evaluation of the unfolded DFG, iteration by iteration (the synchronous data-flow
 // reading of a DFG). Convention: zero initial state: every value before iteration 0 is zero.
 import { applyOp, type Arithmetic } from './arith';
-import type { Design, DfgNode, Diagnostic, NodeOp } from './types';
+import type { Design, DfgNode, Diagnostic, NodeOp } from '../types';
 
 const OPS: readonly NodeOp[] = ['add', 'sub', 'mul', 'gain', 'neg', 'pass'];
 const UNARY: ReadonlySet<NodeOp> = new Set(['gain', 'neg', 'pass']);

@@ -3,7 +3,7 @@
 // active-high reset, cycle 0 = the first cycle after the last reset edge, partition 0.
 import { coefficientWidth, DEFAULT_FIXED, fixedArithmetic, quantizeCoefficient, randomStreams, type FixedFormat } from './arith';
 import { evaluateReference, type ResolvedGraph } from './reference';
-import type { ControlTables, Design, NodeOp, SignalSource, UnitControl, UnitSlot } from './types';
+import type { ControlTables, Design, NodeOp, SignalSource, UnitControl, UnitSlot } from '../types';
 
 // Verilog-2005 and SystemVerilog keywords (Verilator reads .v files as SystemVerilog).
 const RESERVED = new Set(
@@ -760,24 +760,4 @@ export function parallelDesign(design: Design): Design {
     nodes,
     folding: { factor: 1, sets, latency: 'free' },
   };
-}
-
-export interface AreaFigures {
-  cells: number;
-  /** Flip-flop bits (every $_*DFF*_ cell of the generic netlist). */
-  registers: number;
-  /** Cell counts by type. */
-  byType: Record<string, number>;
-}
-
-/** Reads the last `stat` block of a Yosys log: total cells and flip-flops. */
-export function parseYosysStat(text: string): AreaFigures | null {
-  const at = text.lastIndexOf('Number of cells:');
-  if (at < 0) return null;
-  const cells = Number(/Number of cells:\s+(\d+)/.exec(text.slice(at))![1]);
-  const byType: Record<string, number> = {};
-  for (const m of text.slice(at).matchAll(/^\s+(\$\S+)\s+(\d+)\s*$/gm)) byType[m[1]] = Number(m[2]);
-  let registers = 0;
-  for (const [t, n] of Object.entries(byType)) if (/DFF/i.test(t)) registers += n;
-  return { cells, registers, byType };
 }

@@ -1,6 +1,6 @@
 // Method: the DFG indexed by node and edge with the Notation's slot and stages, plus Tarjan's SCCs
 // and Bellman-Ford with subtree disassembly (Tarjan 1981). Convention: held inputs/taps have no slot.
-import type { Design } from './types';
+import type { Design } from '../types';
 
 /** Role of a node. */
 export const OPERATION = 0;
@@ -43,7 +43,7 @@ export interface IndexedGraph {
 }
 
 /**
- * Indexes a design. The design must be valid (shared/validate.ts): unknown ids or an operation
+ * Indexes a design. The design must be valid (shared/design/validate.ts): unknown ids or an operation
  * outside every set are contract violations and throw.
  */
 export function buildGraph(design: Design): IndexedGraph {

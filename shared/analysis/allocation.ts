@@ -1,6 +1,6 @@
 // Method: forward-backward register allocation (Parhi 1999, ch. 6) in the lifetime minimum.
 // Convention: simulated until the state at an iteration boundary repeats; one period N is shown.
-import type { Allocation, Lifetime, LifetimeChart } from './types';
+import type { Allocation, Lifetime, LifetimeChart } from '../types';
 
 export const METHOD_FORWARD_BACKWARD = 'forward-backward';
 export const METHOD_RANKED_PERIOD =

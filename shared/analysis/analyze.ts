@@ -1,6 +1,6 @@
 // Method: runs every analysis of the folding methods (docs/engine.md) on one validated design.
 // Convention: the datapath is the retimed one when retiming was needed and exists, else the original.
-import type { Analysis, Design, EdgeResult, ScheduleRow } from './types';
+import type { Analysis, Design, EdgeResult, ScheduleRow } from '../types';
 import { buildGraph, type IndexedGraph } from './graph';
 import { asNullable, foldedDelays } from './foldedDelay';
 import { retime, retimedDelays } from './retiming';
@@ -16,7 +16,24 @@ export interface AnalyzeOptions {
 
 export const DEFAULT_MAX_ALLOCATION_CELLS = 200_000;
 
+/**
+ * The folded datapath the analysis settled on, in the engine's indexed form, so that later stages
+ * (control tables, simulation, RTL) reuse it instead of rebuilding graph and delays.
+ */
+export interface FoldedDatapath {
+  graph: IndexedGraph;
+  /** Delays per edge of the final datapath (retimed when retiming was needed). */
+  delays: Float64Array;
+  /** Folded delay per edge of the final datapath (NaN for taps). */
+  folded: Float64Array;
+}
+
 export function analyze(design: Design, options: AnalyzeOptions = {}): Analysis {
+  return analyzeDatapath(design, options).analysis;
+}
+
+/** The analysis and, when a feasible folded datapath exists, that datapath. */
+export function analyzeDatapath(design: Design, options: AnalyzeOptions = {}): { analysis: Analysis; datapath: FoldedDatapath | null } {
   const maxCells = options.maxAllocationCells ?? DEFAULT_MAX_ALLOCATION_CELLS;
   const g = buildGraph(design);
   const N = g.factor;
@@ -78,7 +95,7 @@ export function analyze(design: Design, options: AnalyzeOptions = {}): Analysis 
     sampleRateMHz: samplePeriodNs !== null ? 1000 / samplePeriodNs : null,
   };
   if (allocationOmitted !== undefined) result.allocationOmitted = allocationOmitted;
-  return result;
+  return { analysis: result, datapath: retiming.feasible ? { graph: g, delays: finalDelays, folded: finalFolded } : null };
 }
 
 /** One row per unit in file order: the node it runs in each partition, padded to N with null. */

@@ -13,7 +13,7 @@ import {
 } from './arith';
 import { controlTables } from './control';
 import { evaluateReference, resolveArithmetic } from './reference';
-import type { Analysis, ControlTables, Design, Diagnostic, SignalSource } from './types';
+import type { Analysis, ControlTables, Design, Diagnostic, SignalSource } from '../types';
 
 /** A value, or null where the hardware would carry garbage (an input outside its valid cycle, an idle unit). */
 type Val<T> = T | null;

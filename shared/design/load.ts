@@ -1,7 +1,7 @@
-// Method: YAML 1.2 reading with js-yaml (core schema, no positions) under size, alias and count limits, then shared/validate.ts.
+// Method: YAML 1.2 reading with js-yaml (core schema, no positions) under size, alias and count limits, then shared/design/validate.ts.
 // Convention: never throws; every problem is a Diagnostic with a 1-based line and column, sorted by line.
 import { load } from 'js-yaml';
-import type { Diagnostic, LoadResult } from './types';
+import type { Diagnostic, LoadResult } from '../types';
 import { diag, diagAt, sortDiagnostics } from './diagnostics';
 import { validateDesign } from './validate';
 import { locate } from './positions';

@@ -1,7 +1,7 @@
 // Number systems for simulating a DFG: exact rationals, and the two's-complement fixed-point
 // arithmetic the generated RTL uses. Convention: every operation maps zero operands to zero.
-import { decimalToRational, reduce, type Rational } from './fraction';
-import type { NodeOp } from './types';
+import { decimalToRational, reduce, type Rational } from '../analysis/fraction';
+import type { NodeOp } from '../types';
 
 /** One number system: how each DFG operation acts on values of type T. */
 export interface Arithmetic<T> {

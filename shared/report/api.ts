@@ -1,6 +1,6 @@
 // The JSON shapes of the server's API that both sides name: the server's presenters build them and
 // the web report reads them. Types only. Times travel as ISO 8601 strings.
-import type { Status } from './types';
+import type { Status } from '../types';
 
 /** The body of every error response. */
 export interface ApiErrorBody {

@@ -1,6 +1,6 @@
 // Method: the validation rules of the design format pleat/1 (docs/diagnostics.md), as a table of stable codes.
 // Convention: codes are kebab-case and never reused for another rule; line and column are 1-based.
-import type { Diagnostic } from './types';
+import type { Diagnostic } from '../types';
 
 export type Severity = Diagnostic['severity'];
 
@@ -24,7 +24,7 @@ export const CODES = {
   // reading the YAML
   'yaml-syntax': { severity: E, rule: 'The text is not well-formed YAML (one document, no duplicate keys, no tabs for indentation).' },
   'empty-file': { severity: E, rule: 'The file holds no YAML document.' },
-  // JSON Schema (shared/schema.ts)
+  // JSON Schema (shared/design/schema.ts)
   'unsupported-format': { severity: E, rule: 'The `format` field must be `pleat/1`.' },
   'schema-type': { severity: E, rule: 'A field has the wrong type (string, number, integer, list, mapping).' },
   'schema-required': { severity: E, rule: 'A required field is missing.' },

@@ -1,6 +1,6 @@
 // Method: iteration bound as a maximum cycle ratio by Howard's policy iteration (Cochet-Terrasson 1998).
 // Convention: exact decimal node times, integer arithmetic per strongly connected component.
-import type { Design, IterationBound } from './types';
+import type { Design, IterationBound } from '../types';
 import { bucket, OPERATION, stronglyConnected, type IndexedGraph } from './graph';
 import { ceilDiv, decimalToRational, gcd, reduce, type Rational } from './fraction';
 

@@ -1,0 +1,104 @@
+// The engine's one path from a design file's text to that design's report, used by every caller
+// (pleat check, simulate, rtl, the server's uploads and try-a-design): load and validate ->
+// analyse -> control tables -> rules -> report with every finding placed at a line and column.
+// docs/architecture.md draws it; each stage lives in its folder (design/, analysis/, hardware/, report/).
+import type { Analysis, ControlTables, Design, Diagnostic, DesignReport, EffectiveRules, LoadResult, Violation } from './types';
+import { loadDesign, nameOfInvalidDesign, type Limits } from './design/load';
+import { locate } from './design/positions';
+import { analyzeDatapath, type AnalyzeOptions, type FoldedDatapath } from './analysis/analyze';
+import { DEFAULT_MAX_CONTROL_CELLS, withControl } from './hardware/control';
+import { applyRules, mergeRules } from './report/rules';
+import { designReport } from './report/report';
+
+export interface PipelineOptions extends AnalyzeOptions {
+  /** The rules in force (a team floor merged with the repository's); none: no rule is checked. */
+  rules?: EffectiveRules;
+  /**
+   * Largest control tables (partitions x registers) that the report carries; Infinity for
+   * simulate and rtl, which need them whole. Default DEFAULT_MAX_CONTROL_CELLS.
+   */
+  maxControlCells?: number;
+  limits?: Partial<Limits>;
+}
+
+/** What the stages made of one design: the report, and the intermediate results for hardware stages. */
+export interface DesignRun {
+  report: DesignReport;
+  design: Design | null;
+  analysis: Analysis | null;
+  /** The folded datapath the analysis chose; null when none exists or the design is invalid. */
+  datapath: FoldedDatapath | null;
+  /** Full control tables, when asked for within maxControlCells and a feasible datapath exists. */
+  control: ControlTables | null;
+  diagnostics: Diagnostic[];
+  violations: Violation[];
+}
+
+const NO_RULES: EffectiveRules = mergeRules(null, null).effective;
+
+/** Runs every stage on one design text. Never throws: an engine failure becomes an `internal-error` diagnostic. */
+export function runDesignText(text: string, file: string, options: PipelineOptions = {}): DesignRun {
+  let loaded: LoadResult;
+  try {
+    loaded = loadDesign(text, options.limits ? { limits: options.limits } : undefined);
+  } catch (e) {
+    return failed(file, nameOfInvalid(text), e);
+  }
+  if (!loaded.design) {
+    const report = designReport({ file, name: nameOfInvalid(text), diagnostics: loaded.diagnostics, analysis: null });
+    return { report, design: null, analysis: null, datapath: null, control: null, diagnostics: loaded.diagnostics, violations: [] };
+  }
+  try {
+    return runDesignModel(loaded.design, file, { ...options, text, diagnostics: loaded.diagnostics });
+  } catch (e) {
+    return failed(file, loaded.design.name, e);
+  }
+}
+
+/**
+ * The stages after loading, on a design already in memory (a generated one, the fully parallel
+ * reference of `pleat rtl --area`). With `text`, findings of the rules are placed in it.
+ */
+export function runDesignModel(
+  design: Design,
+  file: string,
+  options: PipelineOptions & { text?: string; diagnostics?: Diagnostic[] } = {},
+): DesignRun {
+  const { analysis: bare, datapath } = analyzeDatapath(design, options);
+  const analysis = withControl(design, bare, options.maxControlCells ?? DEFAULT_MAX_CONTROL_CELLS, datapath);
+  const control = analysis.control ?? null;
+  const { violations: raw, warnings } = applyRules(analysis, options.rules ?? NO_RULES);
+  const text = options.text;
+  const violations = text !== undefined ? placeViolations(text, raw) : raw;
+  const ruleWarnings = text !== undefined && warnings.some((w) => w.path) ? locate(text, warnings) : warnings;
+  const diagnostics = options.diagnostics ?? [];
+  const report = designReport({ file, name: design.name, diagnostics, analysis, violations, ruleWarnings });
+  return { report, design, analysis, datapath, control, diagnostics: [...diagnostics, ...ruleWarnings], violations };
+}
+
+/** Violations name a place in the file (the first negative edge, a unit's set): give them a line and column. */
+function placeViolations(text: string, violations: Violation[]): Violation[] {
+  if (!violations.some((v) => v.path)) return violations;
+  const probes: Diagnostic[] = violations.map((v) => ({ severity: 'error', code: `rule-${v.rule}`, message: v.message, line: null, column: null, path: v.path ?? [] }));
+  try {
+    const placed = locate(text, probes);
+    return violations.map((v, i) => (v.path ? { ...v, line: placed[i].line, column: placed[i].column } : v));
+  } catch {
+    return violations;
+  }
+}
+
+function nameOfInvalid(text: string): string | null {
+  try {
+    return nameOfInvalidDesign(text);
+  } catch {
+    return null;
+  }
+}
+
+function failed(file: string, name: string | null, e: unknown): DesignRun {
+  // One design's engine failure is reported on that design; the caller goes on with the others.
+  const d: Diagnostic = { severity: 'error', code: 'internal-error', message: `the checker failed on this design: ${(e as Error)?.message ?? String(e)}`, line: null, column: null };
+  const report = designReport({ file, name, diagnostics: [d], analysis: null });
+  return { report, design: null, analysis: null, datapath: null, control: null, diagnostics: [d], violations: [] };
+}
