@@ -1,6 +1,6 @@
 // Every API route, called by every kind of caller: the status each one must get. The 401s, 403s
 // and 404s are asserted as carefully as the 200s (common practice for role-based access, no
-// source). The expected statuses follow the roles table of the product and docs/server.md.
+// source). The expected statuses follow docs/roles.md and the route table of docs/server.md.
 import { readFileSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Test } from 'supertest';

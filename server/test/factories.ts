@@ -96,7 +96,7 @@ export async function makeWorld(ctx: AppContext): Promise<World> {
   return { project, otherProject, admin, lead, engineer, viewer, outsider, ciOwn, ciOther };
 }
 
-/** A design entry of the report (cli.md shape) with the numbers the server files. */
+/** A design entry of the report (docs/cli.md shape) with the numbers the server files. */
 export function designEntry(name: string, o: { status?: Status; utilization?: number | null; registers?: number | null; violations?: number; negativeEdges?: number } = {}): DesignReport {
   const status = o.status ?? 'pass';
   const analysed = status !== 'error';

@@ -197,7 +197,7 @@ export function fixedArithmetic(format: FixedFormat = DEFAULT_FIXED): Arithmetic
   };
 }
 
-// ---------------------------------------------------------------- the operations of format.md
+// ---------------------------------------------------------------- the operations of docs/format.md
 
 /**
  * Applies one DFG operation. Operands come in port order. add: sum; sub: first minus the others;

@@ -43,7 +43,7 @@ export function operandOrder(design: Design, edgeIdx: number[]): number[] {
   return keyed.map((k) => k.i);
 }
 
-/** The arithmetic of an operation node per format.md, or null when the file gives none. */
+/** The arithmetic of an operation node per docs/format.md, or null when the file gives none. */
 export function nodeOp(n: DfgNode, arity: number): NodeOp | null {
   if (n.op) return n.op;
   if ((OPS as readonly string[]).includes(n.kind)) {
@@ -57,7 +57,7 @@ function diag(code: string, message: string, path: (string | number)[]): Diagnos
 }
 
 /**
- * Resolves the arithmetic of every node (format.md: `op`, else the kind when it names an
+ * Resolves the arithmetic of every node (docs/format.md: `op`, else the kind when it names an
  * operation, `gain` for a one-input `mul` with a coefficient) and checks that it can be
  * evaluated: operand counts, coefficients, one edge into each output, no delay-free loop.
  */

@@ -39,7 +39,7 @@ export interface TestLifetime {
 
 /**
  * The instances live during each partition of the periodic steady state, by the rule of
- * analysis.md (not live in the production cycle, live in the last-use cycle), named `X` or
+ * docs/analysis.md (not live in the production cycle, live in the last-use cycle), named `X` or
  * `X@j` when the instance entered the registers more than j*N cycles ago.
  */
 export function expectedRows(vars: readonly TestLifetime[], N: number): string[][] {
@@ -131,7 +131,7 @@ export const DECIMAL_TIMES: [number, bigint, bigint][] = [
 ];
 
 /**
- * A random design that passes the validation rules of format.md: every operation in exactly
+ * A random design that passes the validation rules of docs/format.md: every operation in exactly
  * one set of a unit of its kind, sets no longer than N, slots inside 0..N-1, every loop with at
  * least one delay (delay-free edges only go forward in a random order of the operations).
  */
@@ -285,7 +285,7 @@ export function cascadeDesign(sections: number, perUnit = 2, options: { shuffled
 // ---------------------------------------------------------------- retiming constraints, restated
 
 /**
- * The retiming constraints of analysis.md written out from the design alone, without the engine,
+ * The retiming constraints of docs/analysis.md written out from the design alone, without the engine,
  * so tests can hold the engine and outside solvers against them: one variable per operation, one
  * shared by all inputs, one by all outputs (the same one with fixed latency).
  */
@@ -298,7 +298,7 @@ export interface ConstraintRow {
   folded: boolean;
 }
 
-/** The constraints of analysis.md from the design alone, with each edge's retiming variable. */
+/** The constraints of docs/analysis.md from the design alone, with each edge's retiming variable. */
 export function constraintsOf(design: Design): { rows: ConstraintRow[]; variable: (id: string) => string } {
   const N = design.folding.factor;
   const byId = new Map(design.nodes.map((n) => [n.id, n]));

@@ -27,7 +27,7 @@ function bruteForce(design: Design, exact: Map<number, { num: bigint; den: bigin
   const index = new Map(design.nodes.map((n, i) => [n.id, i]));
   const stages = new Map<string, number>();
   for (const u of design.units) for (const id of design.folding.sets[u.id] ?? []) if (id) stages.set(id, u.stages);
-  // Node time by format.md: its own time, else its kind's, else the stages of its unit.
+  // Node time by docs/format.md: its own time, else its kind's, else the stages of its unit.
   const time = design.nodes.map((n) => {
     if (n.kind === 'input' || n.kind === 'output') return { num: 0n, den: 1n };
     const t = n.time ?? design.kinds[n.kind]?.time;

@@ -1,5 +1,5 @@
 // The fewest-register retiming: on random designs the reported retiming satisfies every constraint
-// of analysis.md (written out here from the design, not taken from the engine) and never needs
+// of docs/analysis.md (written out here from the design, not taken from the engine) and never needs
 // more registers than the shortest-path solution; the min-cost flow's optimum is checked against
 // a general-purpose LP solver (javascript-lp-solver, npm) on the same linear program.
 import { describe, expect, it } from 'vitest';
@@ -14,7 +14,7 @@ import { minRegisterRetiming } from '../../shared/analysis/minRegisterRetiming';
 import type { Design } from '../../shared/types';
 import { constraintsOf, randomDesign, type ConstraintRow } from './helpers';
 
-/** Sum over edges with a folded delay of N * w_r(e) - stages(U) + slot(V) - slot(U) (analysis.md). */
+/** Sum over edges with a folded delay of N * w_r(e) - stages(U) + slot(V) - slot(U) (docs/analysis.md). */
 function totalRetimedFolded(a: ReturnType<typeof analyze>): number {
   let total = 0;
   for (const e of a.edges) if (e.retimedFoldedDelay !== null) total += e.retimedFoldedDelay;
@@ -99,7 +99,7 @@ describe('fewest-register retiming (min-cost flow)', () => {
       if (!a.retiming.feasible || !a.retiming.needed) continue;
       compared++;
       const r = a.retiming.values;
-      // Every constraint of analysis.md, from the design: r(U) - r(V) <= floor(D_F / N) or <= w.
+      // Every constraint of docs/analysis.md, from the design: r(U) - r(V) <= floor(D_F / N) or <= w.
       for (const row of constraintsOf(design).rows) {
         expect(r[row.from] - r[row.to], `seed ${seed}: ${row.from} -> ${row.to}`).toBeLessThanOrEqual(row.bound);
       }

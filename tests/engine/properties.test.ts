@@ -1,6 +1,6 @@
 // Theorems of folding checked on random valid designs with fast-check (npm): what a feasible
 // retiming guarantees, what retiming keeps, what factorLowerBound rules out, and what the
-// register allocation must satisfy. Each property is stated from analysis.md, not from the code.
+// register allocation must satisfy. Each property is stated from docs/analysis.md, not from the code.
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import findCircuits from 'elementary-circuits-directed-graph';
@@ -10,7 +10,7 @@ import { allocationProblems, expectedRows, randomDesign, refold, type TestLifeti
 
 const seeds = fc.integer({ min: 1, max: 2 ** 31 - 1 });
 
-/** Slot and stages of every node, read from the design by the Notation of analysis.md. */
+/** Slot and stages of every node, read from the design by the Notation of docs/analysis.md. */
 function placement(design: Design) {
   const at = new Map<string, { slot: number | undefined; stages: number }>();
   for (const n of design.nodes) if (n.kind === 'input' || n.kind === 'output') at.set(n.id, { slot: n.slot, stages: 0 });
@@ -32,7 +32,7 @@ describe('properties of folding on random designs (fast-check)', () => {
         const kinds = new Map(design.nodes.map((n) => [n.id, n.kind]));
         expect(Object.keys(r).sort()).toEqual(design.nodes.map((n) => n.id).sort());
         a.edges.forEach((e, k) => {
-          // w_r = w + r(V) - r(U) >= 0 (analysis.md, retiming for folding).
+          // w_r = w + r(V) - r(U) >= 0 (docs/analysis.md, retiming for folding).
           expect(e.retimedDelays).toBe(design.edges[k].delays + r[e.to] - r[e.from]);
           expect(e.retimedDelays).toBeGreaterThanOrEqual(0);
           if (e.foldedDelay !== null) {
@@ -106,7 +106,7 @@ describe('properties of folding on random designs (fast-check)', () => {
         for (let N = largestSet; N < a.factorLowerBound; N++) {
           for (let attempt = 0; attempt < 3; attempt++) {
             const b = analyze(refold(design, N, seed * 7 + N * 31 + attempt));
-            // analysis.md: a loop with N*delays < stages has a negative total folded delay,
+            // docs/analysis.md: a loop with N*delays < stages has a negative total folded delay,
             // which retiming cannot change, so no retiming exists.
             expect(b.retiming.feasible, `seed ${seed}, N = ${N}`).toBe(false);
             expect(b.registers).toBeNull();
@@ -127,7 +127,7 @@ describe('properties of folding on random designs (fast-check)', () => {
         const a = analyze(design);
         if (!a.retiming.feasible) return;
         const N = design.folding.factor;
-        // Lifetimes from the reported retimed folded delays, by analysis.md: tIn = slot + stages,
+        // Lifetimes from the reported retimed folded delays, by docs/analysis.md: tIn = slot + stages,
         // tOut = tIn + largest folded delay leaving the node; a held input gives one variable
         // per edge with delays, from the consumer's slot.
         const at = placement(design);

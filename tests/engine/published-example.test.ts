@@ -35,7 +35,7 @@ describe('Parhi (1999) ch. 6: folded IIR section, N = 4', () => {
 
   it('allocates the variables to 2 registers consistently', () => {
     // Lifetimes from the published folded delays and the folding sets (tIn = position + stages,
-    // tOut = tIn + largest published folded delay leaving the node), following analysis.md.
+    // tOut = tIn + largest published folded delay leaving the node), following docs/analysis.md.
     const position: Record<string, [number, number]> = {
       '1': [3, 1], '7': [3, 2], '8': [1, 2], '2': [1, 1], '3': [2, 1], '4': [0, 1], '5': [0, 2], '6': [2, 2],
     };

@@ -1,5 +1,5 @@
 // Register counts and lifetime analysis: the live counts against a direct count over
-// iterations by the definition in analysis.md, and the held-input convention worked by hand.
+// iterations by the definition in docs/analysis.md, and the held-input convention worked by hand.
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import { analyze } from '../../shared/analysis/analyze';
@@ -27,7 +27,7 @@ describe('lifetime analysis', () => {
         fc.array(fc.record({ tIn: fc.integer({ min: 0, max: 20 }), length: fc.integer({ min: 0, max: 40 }) }), { maxLength: 12 }),
         (N, raw) => {
           const vars = raw.map((v, i) => ({ variable: `v${i}`, node: `v${i}`, tIn: v.tIn, tOut: v.tIn + v.length }));
-          // Source: the definition of live(t) in analysis.md, counted term by term.
+          // Source: the definition of live(t) in docs/analysis.md, counted term by term.
           expect(liveCounts(N, vars)).toEqual(liveByDefinition(N, vars));
         },
       ),

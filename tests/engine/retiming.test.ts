@@ -1,4 +1,4 @@
-// Retiming for folding on small DFGs worked by hand from the constraints of analysis.md
+// Retiming for folding on small DFGs worked by hand from the constraints of docs/analysis.md
 // (r(U) - r(V) <= floor(D_F / N)), including the conflict report when no retiming exists.
 import { describe, expect, it } from 'vitest';
 import { analyze } from '../../shared/analysis/analyze';

@@ -1,5 +1,5 @@
 // Random designs for the property tests of simulation and RTL: small DFGs with loops, every
-// operation of format.md, held and slotted inputs, slotted outputs and taps, random folding sets.
+// operation of docs/format.md, held and slotted inputs, slotted outputs and taps, random folding sets.
 // Loaded through shared/design/load.ts, so every design here is a valid file of format pleat/1.
 import { loadDesign } from '../../shared/design/load';
 import { seededRandom } from '../../shared/hardware/arith';
@@ -90,7 +90,7 @@ export function randomDesign(seed: number, opts: RandomDesignOptions = {}): Rand
         const d = int(0, 3) === 0 ? 1 : 0;
         if (d) edge.delays = d;
       }
-      // Mostly explicit ports; sometimes none, so the file order decides (format.md's default).
+      // Mostly explicit ports; sometimes none, so the file order decides (docs/format.md's default).
       if (arity > 1 && rnd() < 0.75) edge.port = p;
       edges.push(edge);
     }

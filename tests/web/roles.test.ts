@@ -1,4 +1,4 @@
-// Each demo role signs in through the web app and finds exactly what product.md's role table
+// Each demo role signs in through the web app and finds exactly what docs/roles.md's role table
 // gives it; what the pages do not offer, the server refuses too (checked from the same page).
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { ensureChromium, ensureWebBuild, openBrowser, signIn, type Session } from './browser';
@@ -21,7 +21,7 @@ afterAll(async () => {
   await web?.close();
 });
 
-/** What each role may do, from the role table of product.md. */
+/** What each role may do, from the role table of docs/roles.md. */
 const MAY: Record<DemoRole, { rules: boolean; tokens: boolean; members: boolean; tryDesign: boolean; watch: boolean; users: boolean }> = {
   admin: { rules: true, tokens: true, members: true, tryDesign: true, watch: true, users: true },
   lead: { rules: true, tokens: true, members: true, tryDesign: true, watch: true, users: false },
