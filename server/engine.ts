@@ -13,7 +13,8 @@ export function checkDesignText(text: string, file: string, teamRules: Rules | n
   if (!loaded.design) {
     return { design: designReport({ file, name: nameOfInvalidDesign(text), diagnostics: loaded.diagnostics, analysis: null }), rules: effective };
   }
-  const analysis = withControl(loaded.design, analyze(loaded.design));
+  // Under negative_delays: fail nothing is retimed: the plan is judged as written (as the CLI does).
+  const analysis = withControl(loaded.design, analyze(loaded.design, { retime: effective.negative_delays?.value !== 'fail' }));
   const { violations, warnings } = applyRules(analysis, effective);
   return {
     design: designReport({ file, name: loaded.design.name, diagnostics: loaded.diagnostics, analysis, violations, ruleWarnings: warnings }),

@@ -16,6 +16,7 @@ import type {
   RegisterTable,
   SignalSource,
   UnitControl,
+  UnitSlot,
 } from './types';
 
 /** floor(a / n) for integers, exact for negative a. */
@@ -210,6 +211,7 @@ export interface ControlResult {
  */
 export function controlTables(design: Design, analysis: Analysis): ControlResult {
   if (!analysis.retiming.feasible) return { control: null, reason: 'no retiming makes every folded delay nonnegative' };
+  if (analysis.retiming.applied === false) return { control: null, reason: 'the plan needs retiming, which negative_delays: fail forbids' };
   const g = buildGraph(design);
   const N = g.factor;
   const r = new Float64Array(g.nodeCount);
@@ -302,7 +304,10 @@ export function controlTables(design: Design, analysis: Analysis): ControlResult
       const arity = operands[i].length;
       const op = nodeOp(node, arity);
       ports = Math.max(ports, arity);
-      partitions.push({ node: id, op, arity, coefficient: op === 'gain' || op === 'mul' ? (node.coefficient ?? null) : null });
+      const scaled = op === 'gain' || op === 'mul';
+      const slot: UnitSlot = { node: id, op, arity, coefficient: scaled ? (node.coefficient ?? null) : null };
+      if (scaled && node.coefficientText !== undefined) slot.coefficientText = node.coefficientText;
+      partitions.push(slot);
     }
     return { unit: unit.id, kind: unit.kind, stages: unit.stages, ports, partitions };
   });
