@@ -64,7 +64,9 @@ export function runDesignModel(
   file: string,
   options: PipelineOptions & { text?: string; diagnostics?: Diagnostic[] } = {},
 ): DesignRun {
-  const { analysis: bare, datapath } = analyzeDatapath(design, options);
+  // Under negative_delays: fail nothing is retimed: the plan is judged as written.
+  const retime = options.retime ?? options.rules?.negative_delays?.value !== 'fail';
+  const { analysis: bare, datapath } = analyzeDatapath(design, { ...options, retime });
   const analysis = withControl(design, bare, options.maxControlCells ?? DEFAULT_MAX_CONTROL_CELLS, datapath);
   const control = analysis.control ?? null;
   const { violations: raw, warnings } = applyRules(analysis, options.rules ?? NO_RULES);

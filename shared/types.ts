@@ -30,6 +30,11 @@ export interface DfgNode {
   time?: number;
   slot?: number;
   coefficient?: number;
+  /**
+   * The coefficient's decimal as written in the file, kept only when it has more digits than
+   * the nearest double (`coefficient`) keeps; simulation and RTL compute with this exact text.
+   */
+  coefficientText?: string;
   op?: NodeOp;
 }
 
@@ -113,6 +118,11 @@ export interface RetimingResult {
   conflict: RetimingConflict | null;
   /** Which of the valid solutions is reported, in one sentence. */
   method?: string;
+  /**
+   * false when a retiming is needed but the rules forbid it (`negative_delays: fail`): nothing is
+   * retimed, values are empty and the datapath is the one as written. Absent otherwise.
+   */
+  applied?: false;
 }
 
 export interface Utilization {
@@ -264,6 +274,8 @@ export interface UnitSlot {
   /** Number of operands the node takes. */
   arity: number;
   coefficient: number | null;
+  /** The coefficient's exact decimal text when the double `coefficient` is not exactly it. */
+  coefficientText?: string;
 }
 
 export interface UnitControl {

@@ -1,6 +1,6 @@
 // `pleat rtl DESIGN --out DIR`: writes the folded datapath as Verilog-2001 with a self-checking
 // testbench; --verify runs it in Icarus Verilog, --area compares it with a fully parallel RTL in Yosys.
-import { mkdirSync, readFileSync, rmSync, writeFileSync, mkdtempSync } from 'node:fs';
+import { mkdirSync, readdirSync, readFileSync, rmSync, statSync, writeFileSync, mkdtempSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { spawnSync } from 'node:child_process';
@@ -18,6 +18,7 @@ interface RtlOptions {
   seed: number;
   verify?: boolean;
   area?: boolean;
+  force?: boolean;
   format: 'text' | 'json';
   color: boolean;
 }
@@ -33,6 +34,7 @@ export const register: RegisterCommand = (program: Command, ctx: CliContext) => 
     .option('-n, --iterations <K>', 'samples of every output the testbench checks', intOption(1, 100_000), 32)
     .option('-s, --seed <S>', 'seed of the testbench\'s random inputs', intOption(0, 2 ** 32 - 1), 1)
     .option('--verify', 'compile and run the testbench with Icarus Verilog (iverilog, vvp)')
+    .option('--force', 'write into a folder that holds files Pleat did not write')
     .option('--area', 'synthesize the folded RTL and a fully parallel RTL of the same graph with Yosys and compare cells and flip-flops')
     .addOption(new Option('-f, --format <format>', 'output format').choices(['text', 'json']).default('text'))
     .option('--no-color', 'never colour the output')
@@ -64,7 +66,42 @@ async function synthesize(bundle: RtlBundle, dir: string): Promise<AreaFigures> 
   return figures;
 }
 
+/**
+ * What is in the output folder before writing: nothing, an earlier output of `pleat rtl` (a
+ * `*.rtl.json` of format pleat-rtl/1 beside the files it lists), or other files. The usual
+ * generators refuse to mix their output into a folder they did not make; so does Pleat, unless
+ * --force (docs/cli.md).
+ */
+function outputFolderState(dir: string): { kind: 'absent' | 'empty' | 'earlier' | 'foreign' | 'not-a-folder'; earlier?: string } {
+  let entries: string[];
+  try {
+    if (!statSync(dir).isDirectory()) return { kind: 'not-a-folder' };
+    entries = readdirSync(dir);
+  } catch (e) {
+    return (e as NodeJS.ErrnoException).code === 'ENOENT' ? { kind: 'absent' } : { kind: 'not-a-folder' };
+  }
+  if (entries.length === 0) return { kind: 'empty' };
+  const known = new Set<string>();
+  let earlier: string | undefined;
+  for (const name of entries.filter((n) => n.endsWith('.rtl.json'))) {
+    try {
+      const j = JSON.parse(readFileSync(path.join(dir, name), 'utf8')) as { format?: unknown; files?: unknown; top?: unknown };
+      if (j.format !== 'pleat-rtl/1' || !Array.isArray(j.files)) continue;
+      earlier = name;
+      known.add(name);
+      for (const f of j.files) if (typeof f === 'string') known.add(f);
+      if (typeof j.top === 'string') known.add(`${j.top}_tb.vvp`);
+      known.add('parallel');
+    } catch {
+      /* not ours */
+    }
+  }
+  if (earlier && entries.every((n) => known.has(n))) return { kind: 'earlier', earlier };
+  return { kind: 'foreign' };
+}
+
 export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): Promise<number> {
+  if (opts.out.trim() === '') throw new CliError('--out needs a folder name; `--out .` writes into the working folder');
   const color = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stdout.isTTY, env: process.env }));
   const errColor = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stderr.isTTY, env: process.env }));
   const loaded = await loadForHardware(file, errColor);
@@ -82,7 +119,19 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   const tb = rtl.generateTestbench(bundle, control, vectors);
 
   const dir = path.resolve(process.cwd(), opts.out);
+  const before = outputFolderState(dir);
+  if (before.kind === 'not-a-folder') throw new CliError(`cannot write to ${opts.out}: it is not a folder`);
+  if (before.kind === 'foreign' && !opts.force) {
+    throw new CliError(`${opts.out} already holds files that pleat rtl did not write; choose an empty or new folder, or pass --force to write into it anyway`);
+  }
+  const notices: string[] = [];
+  if (before.kind === 'earlier') notices.push(`replacing the earlier output of pleat rtl in ${opts.out} (${before.earlier})`);
+  else if (before.kind === 'foreign') notices.push(`--force: writing into ${opts.out}, which holds other files`);
   try {
+    if (before.kind === 'earlier') {
+      // The earlier output goes first, so no stale module of another top is left beside the new one.
+      for (const name of readdirSync(dir)) rmSync(path.join(dir, name), { recursive: true, force: true });
+    }
     writeBundle(dir, [...bundle.files, tb]);
   } catch (e) {
     throw new CliError(`cannot write to ${opts.out}: ${(e as Error).message}`);
@@ -133,6 +182,7 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
     factor: bundle.factor,
     latencyAdded: control.latencyAdded,
     ports: bundle.ports,
+    renamed: bundle.renamed,
     warnings: bundle.warnings,
     testbench: { file: tb.name, iterations: vectors.iterations, samplesPerOutput: vectors.samples, seed: vectors.seed },
     verify,
@@ -142,6 +192,7 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   writeFileSync(path.join(dir, `${bundle.top}.rtl.json`), `${JSON.stringify(report, null, 2)}\n`);
   const failed = verify !== null && !verify.passed;
 
+  for (const n of notices) process.stderr.write(`${n}\n`);
   if (opts.format === 'json') {
     process.stdout.write(`${JSON.stringify(report, null, 2)}\n`);
     return failed ? 1 : 0;
@@ -151,6 +202,7 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   lines.push(`wrote ${report.files.length} Verilog files and ${bundle.top}.rtl.json to ${shownDir}/ (top module ${bundle.top}, W = ${bundle.fixed.width}, N = ${bundle.factor})`);
   lines.push('interface (cycle 0 = first cycle after the last rising edge of clk with rst high):');
   for (const p of bundle.ports) lines.push(`  ${p.direction === 'input' ? 'in ' : 'out'} ${p.port}: ${p.timing}`);
+  for (const r of bundle.renamed) lines.push(`  renamed ${r.role === 'module' ? 'top module' : r.role === 'strobe' ? `strobe of ${r.of}` : `port of ${r.of}`}: ${r.wanted} -> ${r.name} (${r.reason})`);
   for (const w of bundle.warnings) lines.push(`${color.yellow('warning')}: ${w}`);
   if (verify) lines.push(`testbench: ${verify.passed ? color.green(verify.summary) : color.red(verify.summary || 'no PASS line')}`);
   if (area) {

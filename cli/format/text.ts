@@ -57,7 +57,7 @@ function verdictLine(d: DesignReport, c: ChalkInstance, file: string): string {
   facts.push(d.registers ? `regs ${d.registers.minimum}` : 'regs -');
   if (d.iterationBound) facts.push(`bound ${fraction(d.iterationBound.numerator, d.iterationBound.denominator)}`);
   if (d.samplePeriodNs != null) facts.push(`period ${round(d.samplePeriodNs)} ns`);
-  if (d.retiming?.needed && d.retiming.feasible) facts.push(c.yellow('retimed'));
+  if (d.retiming?.needed && d.retiming.feasible && d.retiming.applied !== false) facts.push(c.yellow('retimed'));
   return `${head}  ${facts.join('  ')}`;
 }
 
@@ -72,7 +72,9 @@ function designLines(d: DesignReport, c: ChalkInstance, file: string, quiet: boo
       out.push(`  ${c.yellow(`${plural(negatives.length, 'edge')} with a negative folded delay`)} (of ${d.edges.length}):`);
       for (const e of negatives.slice(0, MAX_EDGES)) {
         let fix: string;
-        if (r.feasible && e.retimedFoldedDelay !== null) {
+        if (r.applied === false) {
+          fix = 'not retimed (negative_delays: fail)';
+        } else if (r.feasible && e.retimedFoldedDelay !== null) {
           fix = `retimed: delays ${e.delays} -> ${e.retimedDelays}, folded ${e.retimedFoldedDelay}`;
         } else if (r.conflict && r.conflict.conflictingEdges.some((x) => x.from === e.from && x.to === e.to)) {
           fix = c.red('on the loop that cannot be retimed (below)');
@@ -83,7 +85,7 @@ function designLines(d: DesignReport, c: ChalkInstance, file: string, quiet: boo
       }
       if (negatives.length > MAX_EDGES) out.push(`${ind}... and ${negatives.length - MAX_EDGES} more`);
     }
-    if (r.needed && r.feasible) {
+    if (r.needed && r.feasible && r.applied !== false) {
       const moved = movedNodes(r.values);
       const latency = r.latencyAdded ? `, adds ${plural(r.latencyAdded, 'iteration')} of latency` : ', no latency added';
       out.push(`  retiming: ${plural(moved.length, 'node')} moved${latency}`);

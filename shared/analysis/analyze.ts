@@ -12,7 +12,14 @@ import { factorLowerBound, iterationBound, loopStructure } from './iterationBoun
 export interface AnalyzeOptions {
   /** Largest allocation table (partitions x registers) the result may carry; default 200,000. */
   maxAllocationCells?: number;
+  /**
+   * false: never retime (the rule `negative_delays: fail`): the datapath is the one as written,
+   * so a plan with negative folded delays has no register count. Default true.
+   */
+  retime?: boolean;
 }
+
+export const METHOD_NOT_APPLIED = 'not applied: the rule negative_delays: fail forbids retiming, so the plan is judged as written';
 
 export const DEFAULT_MAX_ALLOCATION_CELLS = 200_000;
 
@@ -38,7 +45,13 @@ export function analyzeDatapath(design: Design, options: AnalyzeOptions = {}): {
   const g = buildGraph(design);
   const N = g.factor;
   const folded = foldedDelays(g);
-  const { result: retiming, nodeRetiming } = retime(g, folded, design.folding.latency ?? 'free');
+  const outcome = retime(g, folded, design.folding.latency ?? 'free');
+  let { result: retiming, nodeRetiming } = outcome;
+  const notApplied = options.retime === false && retiming.needed && retiming.feasible;
+  if (notApplied) {
+    retiming = { ...retiming, values: {}, latencyAdded: 0, method: METHOD_NOT_APPLIED, applied: false };
+    nodeRetiming = null;
+  }
 
   // The delays the folded datapath uses: retimed when a retiming was needed and exists.
   let finalDelays = g.edgeDelays;
@@ -64,7 +77,7 @@ export function analyzeDatapath(design: Design, options: AnalyzeOptions = {}): {
   let lifetimes: Analysis['lifetimes'] = null;
   let allocation: Analysis['allocation'] = null;
   let allocationOmitted: string | undefined;
-  if (retiming.feasible) {
+  if (retiming.feasible && !notApplied) {
     const counts = registerCounts(g, finalFolded, finalDelays);
     registers = counts.registers;
     lifetimes = counts.lifetimes;
@@ -74,6 +87,8 @@ export function analyzeDatapath(design: Design, options: AnalyzeOptions = {}): {
     } else {
       allocation = allocateRegisters(lifetimes, registers.minimum);
     }
+  } else if (notApplied) {
+    allocationOmitted = 'no folded datapath as written: it has negative folded delays, and negative_delays: fail forbids the retiming that removes them';
   } else {
     allocationOmitted = 'no feasible folded datapath: retiming cannot remove the negative folded delays';
   }
@@ -95,7 +110,7 @@ export function analyzeDatapath(design: Design, options: AnalyzeOptions = {}): {
     sampleRateMHz: samplePeriodNs !== null ? 1000 / samplePeriodNs : null,
   };
   if (allocationOmitted !== undefined) result.allocationOmitted = allocationOmitted;
-  return { analysis: result, datapath: retiming.feasible ? { graph: g, delays: finalDelays, folded: finalFolded } : null };
+  return { analysis: result, datapath: retiming.feasible && !notApplied ? { graph: g, delays: finalDelays, folded: finalFolded } : null };
 }
 
 /** One row per unit in file order: the node it runs in each partition, padded to N with null. */

@@ -2,7 +2,7 @@
 // Convention: exact decimal node times, integer arithmetic per strongly connected component.
 import type { Design, IterationBound } from '../types';
 import { bucket, OPERATION, stronglyConnected, type IndexedGraph } from './graph';
-import { ceilDiv, decimalToRational, gcd, reduce, type Rational } from './fraction';
+import { ceilDiv, decimalToRational, gcd, reduce, type Rational } from '../fraction';
 
 /** Integer node weights: exact numbers while every value stays below 2^53, else bigints. */
 export type IntegerWeights = Float64Array | bigint[];

@@ -1,10 +1,11 @@
 // Method: YAML 1.2 reading with js-yaml (core schema, no positions) under size, alias and count limits, then shared/design/validate.ts.
 // Convention: never throws; every problem is a Diagnostic with a 1-based line and column, sorted by line.
 import { load } from 'js-yaml';
-import type { Diagnostic, LoadResult } from '../types';
+import type { Design, Diagnostic, LoadResult } from '../types';
 import { diag, diagAt, sortDiagnostics } from './diagnostics';
 import { validateDesign } from './validate';
-import { locate } from './positions';
+import { locate, plainScalarTexts } from './positions';
+import { decimalToRational, isDecimalText } from '../fraction';
 
 export interface Limits {
   /** Largest file, in bytes of UTF-8. */
@@ -159,6 +160,36 @@ function aliasProblem(doc: unknown, bound: number): { path: (string | number)[];
   return null;
 }
 
+// Sixteen digits in a row (a dot may sit between them): more than a double always keeps exactly.
+const LONG_NUMBER = /(?:\d\.?){16}/;
+
+/**
+ * A coefficient written with more significant digits than a double keeps (17 or more, e.g. one
+ * just below a rounding tie) would be quantised from the nearest double, not from the decimal
+ * in the file (docs/rtl.md). Keep its source text where it differs; only files that hold such a
+ * long number pay for the extra pass over the text.
+ */
+function keepCoefficientTexts(text: string, design: Design): void {
+  if (!LONG_NUMBER.test(text)) return;
+  const at: number[] = [];
+  design.nodes.forEach((n, i) => {
+    if (n.coefficient !== undefined) at.push(i);
+  });
+  if (at.length === 0) return;
+  const texts = plainScalarTexts(
+    text,
+    at.map((i) => ['nodes', i, 'coefficient']),
+  );
+  at.forEach((i, k) => {
+    const src = texts[k]?.replace(/_/g, '');
+    const node = design.nodes[i];
+    if (!src || !isDecimalText(src) || node.coefficient === undefined) return;
+    const exact = decimalToRational(src);
+    const nearest = decimalToRational(node.coefficient);
+    if (exact.num !== nearest.num || exact.den !== nearest.den) node.coefficientText = src;
+  });
+}
+
 function limitResult(text: string, d: Diagnostic): LoadResult {
   return { design: null, diagnostics: sortDiagnostics(locate(text, [d])) };
 }
@@ -205,6 +236,7 @@ function loadUnchecked(input: string, limits: Limits): LoadResult {
   }
 
   const { design, diagnostics } = validateDesign(doc);
+  if (design) keepCoefficientTexts(text, design);
   if (diagnostics.length === 0) return { design, diagnostics };
   return { design, diagnostics: sortDiagnostics(locate(text, diagnostics)) };
 }

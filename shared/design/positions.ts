@@ -14,16 +14,28 @@ const POP = 6;
 // Quoted scalar styles: their value starts after the quote; point at the quote.
 const SINGLE_QUOTED = 2;
 const DOUBLE_QUOTED = 3;
+const PLAIN = 1;
 
 /** One step of a wanted path; only the paths of the diagnostics are kept, so the walk skips the rest. */
 interface Trie {
   children: Map<string, Trie> | null;
   keyOffset: number;
   valueOffset: number;
+  /** The source text of a plain scalar value, or null. */
+  plain: string | null;
 }
 
 function newTrie(): Trie {
-  return { children: null, keyOffset: -1, valueOffset: -1 };
+  return { children: null, keyOffset: -1, valueOffset: -1, plain: null };
+}
+
+/** Records where a value starts and, for a plain scalar, its text as written. */
+function setValue(text: string, trie: Trie, ev: Event): void {
+  trie.valueOffset = nodeOffset(ev);
+  if (ev.type === SCALAR) {
+    const s = ev as ScalarEvent;
+    if (s.style === PLAIN && s.valueStart >= 0 && s.valueEnd >= s.valueStart) trie.plain = text.slice(s.valueStart, s.valueEnd);
+  }
 }
 
 interface Frame {
@@ -72,12 +84,12 @@ function walk(text: string, root: Trie): void {
     const top = frames.length ? frames[frames.length - 1] : null;
     if (top === null) {
       trie = root;
-      root.valueOffset = nodeOffset(ev);
+      setValue(text, root, ev);
     } else if (!top.isMap) {
       const idx = top.index++;
       if (top.trie?.children) {
         trie = top.trie.children.get(String(idx)) ?? null;
-        if (trie) trie.valueOffset = nodeOffset(ev);
+        if (trie) setValue(text, trie, ev);
       }
     } else if (top.expectKey) {
       top.expectKey = false;
@@ -95,7 +107,7 @@ function walk(text: string, root: Trie): void {
       top.pending = null;
       if (trie) {
         trie.keyOffset = top.pendingKey;
-        trie.valueOffset = nodeOffset(ev);
+        setValue(text, trie, ev);
       }
     }
     if (t === SEQUENCE || t === MAPPING) {
@@ -125,17 +137,11 @@ function lineColumns(text: string, offsets: number[]): Map<number, [number, numb
   return result;
 }
 
-/**
- * Returns the diagnostics with line and column filled from their `path` (those that already have a
- * line are kept as they are). Never throws: anything it cannot place goes to line 1, column 1.
- */
-export function locate(text: string, diagnostics: Diagnostic[]): Diagnostic[] {
-  const wanted = diagnostics.filter((d) => d.line === null || d.column === null);
-  if (wanted.length === 0) return diagnostics;
+function trieOf(paths: (string | number)[][]): Trie {
   const root = newTrie();
-  for (const d of wanted) {
+  for (const path of paths) {
     let t = root;
-    for (const seg of d.path ?? []) {
+    for (const seg of path) {
       const key = String(seg);
       if (!t.children) t.children = new Map();
       let c = t.children.get(key);
@@ -146,6 +152,35 @@ export function locate(text: string, diagnostics: Diagnostic[]): Diagnostic[] {
       t = c;
     }
   }
+  return root;
+}
+
+/**
+ * The source text of the plain scalar at each path (null where the value is not a plain scalar
+ * or the path is not in the text), e.g. a number with more digits than a double keeps.
+ */
+export function plainScalarTexts(text: string, paths: (string | number)[][]): (string | null)[] {
+  const root = trieOf(paths);
+  try {
+    walk(text, root);
+  } catch {
+    return paths.map(() => null);
+  }
+  return paths.map((path) => {
+    let t: Trie | undefined = root;
+    for (const seg of path) t = t?.children?.get(String(seg));
+    return t?.plain ?? null;
+  });
+}
+
+/**
+ * Returns the diagnostics with line and column filled from their `path` (those that already have a
+ * line are kept as they are). Never throws: anything it cannot place goes to line 1, column 1.
+ */
+export function locate(text: string, diagnostics: Diagnostic[]): Diagnostic[] {
+  const wanted = diagnostics.filter((d) => d.line === null || d.column === null);
+  if (wanted.length === 0) return diagnostics;
+  const root = trieOf(wanted.map((d) => d.path ?? []));
   try {
     walk(text, root);
   } catch {

@@ -3,6 +3,8 @@
 
 /** Largest integer accepted for counts such as delays, stages, ports and slots (32-bit signed). */
 export const MAX_INT = 2_147_483_647;
+/** Longest design name: it names files, Verilog modules and a server column (docs/diagnostics.md). */
+export const MAX_NAME = 200;
 /** Largest folding factor: no design within the node limit can fill more partitions per unit. */
 export const MAX_FACTOR = 1_000_000;
 
@@ -38,7 +40,9 @@ export const designSchema = {
     name: {
       type: 'string',
       pattern: '^[A-Za-z0-9._-]+$',
-      description: 'Short name of the design (letters, digits, `.`, `_`, `-`), unique within the repository.',
+      // A name becomes a file and module name (docs/rtl.md) and a column of the server: 200 fits both.
+      maxLength: MAX_NAME,
+      description: `Short name of the design (letters, digits, \`.\`, \`_\`, \`-\`; at most ${MAX_NAME} characters), unique within the repository.`,
     },
     description: { type: 'string', description: 'Free text for people.' },
     clock_ns: {

@@ -231,6 +231,8 @@ function valueRule(e: ErrorObject, p: Record<string, unknown>, value: unknown): 
       return `${v} may only contain letters, digits, '.', '_' and '-'`;
     case 'minLength':
       return 'must not be empty';
+    case 'maxLength':
+      return `is ${typeof value === 'string' ? value.length : '?'} characters long; the limit is ${String(p.limit)}`;
     case 'not':
       if (value === '__proto__') return '`__proto__` cannot be used as an id';
       if (value === 'input' || value === 'output') return `${v} is reserved for boundary nodes; a unit executes an operation kind such as add or mul`;

@@ -1,6 +1,6 @@
 // Number systems for simulating a DFG: exact rationals, and the two's-complement fixed-point
 // arithmetic the generated RTL uses. Convention: every operation maps zero operands to zero.
-import { decimalToRational, reduce, type Rational } from '../analysis/fraction';
+import { decimalToRational, reduce, type Rational } from '../fraction';
 import type { NodeOp } from '../types';
 
 /** One number system: how each DFG operation acts on values of type T. */
@@ -12,13 +12,19 @@ export interface Arithmetic<T> {
   sub(a: T, b: T): T;
   neg(a: T): T;
   mul(a: T, b: T): T;
-  /** a times a coefficient of the design file (gain). */
-  scale(a: T, coefficient: number): T;
+  /** a times a coefficient of the design file (gain): a number, or its exact decimal source text. */
+  scale(a: T, coefficient: Coefficient): T;
   equals(a: T, b: T): boolean;
   format(a: T): string;
   /** A JSON-safe rendering (string for big values). */
   toJson(a: T): string | number;
 }
+
+/**
+ * A coefficient as the engine computes with it: the number, or the decimal text of the design
+ * file when that text has more digits than the nearest double keeps (`coefficientText`).
+ */
+export type Coefficient = number | string;
 
 // ---------------------------------------------------------------- exact decimals
 
@@ -52,8 +58,8 @@ function dTrim(m: bigint, e: number): Decimal {
   return { m, e };
 }
 
-/** The exact decimal that String(c) prints for a coefficient of the design file. */
-export function decimalOf(c: number): Decimal {
+/** The exact decimal of a coefficient: its source text, or the decimal that String(c) prints. */
+export function decimalOf(c: Coefficient): Decimal {
   const q = decimalToRational(c);
   // q.den divides a power of ten because q came from a decimal.
   let e = 0;
@@ -79,7 +85,7 @@ export function decimalToFraction(a: Decimal): Rational {
  * exactly or not at all.
  */
 export function exactArithmetic(): Arithmetic<Decimal> {
-  const coefs = new Map<number, Decimal>();
+  const coefs = new Map<Coefficient, Decimal>();
   return {
     name: 'exact',
     zero: D0,
@@ -136,7 +142,7 @@ export const DEFAULT_FIXED: FixedFormat = { width: 16, coefFrac: 14 };
  * A coefficient quantised to coefFrac fractional bits: round(c * 2^coefFrac), ties away from
  * zero, computed on the exact decimal so that the TypeScript model and the RTL constant agree.
  */
-export function quantizeCoefficient(c: number, coefFrac: number): bigint {
+export function quantizeCoefficient(c: Coefficient, coefFrac: number): bigint {
   const q = decimalToRational(c);
   const scaled = q.num * (1n << BigInt(coefFrac));
   const neg = scaled < 0n;
@@ -173,7 +179,7 @@ export function fixedArithmetic(format: FixedFormat = DEFAULT_FIXED): Arithmetic
     throw new Error(`coefficient fraction bits must be 0..60, got ${format.coefFrac}`);
   }
   const wrap = (v: bigint) => BigInt.asIntN(W, v);
-  const coefs = new Map<number, bigint>();
+  const coefs = new Map<Coefficient, bigint>();
   return {
     name: 'fixed',
     zero: 0n,
@@ -204,7 +210,7 @@ export function fixedArithmetic(format: FixedFormat = DEFAULT_FIXED): Arithmetic
  * mul: product of the operands, then times the coefficient when one is given; gain: the single
  * operand times the coefficient; neg; pass. An operation without operands yields zero.
  */
-export function applyOp<T>(ar: Arithmetic<T>, op: NodeOp, operands: T[], coefficient: number | null): T {
+export function applyOp<T>(ar: Arithmetic<T>, op: NodeOp, operands: T[], coefficient: Coefficient | null): T {
   if (operands.length === 0) return ar.zero;
   switch (op) {
     case 'add': {

@@ -17,6 +17,7 @@ import type {
   RegisterTable,
   SignalSource,
   UnitControl,
+  UnitSlot,
 } from '../types';
 import { floorDiv } from '../analysis/constraints';
 
@@ -208,6 +209,7 @@ export interface ControlResult {
  */
 export function controlTables(design: Design, analysis: Analysis, datapath: FoldedDatapath | null = null): ControlResult {
   if (!analysis.retiming.feasible) return { control: null, reason: 'no retiming makes every folded delay nonnegative' };
+  if (analysis.retiming.applied === false) return { control: null, reason: 'the plan needs retiming, which negative_delays: fail forbids' };
   // The analysis's own datapath when the caller has it (the pipeline does); else rebuilt from the
   // reported retiming, for callers that hold only a report.
   const g = datapath?.graph ?? buildGraph(design);
@@ -305,7 +307,10 @@ export function controlTables(design: Design, analysis: Analysis, datapath: Fold
       const arity = operands[i].length;
       const op = nodeOp(node, arity);
       ports = Math.max(ports, arity);
-      partitions.push({ node: id, op, arity, coefficient: op === 'gain' || op === 'mul' ? (node.coefficient ?? null) : null });
+      const scaled = op === 'gain' || op === 'mul';
+      const slot: UnitSlot = { node: id, op, arity, coefficient: scaled ? (node.coefficient ?? null) : null };
+      if (scaled && node.coefficientText !== undefined) slot.coefficientText = node.coefficientText;
+      partitions.push(slot);
     }
     return { unit: unit.id, kind: unit.kind, stages: unit.stages, ports, partitions };
   });

@@ -126,7 +126,7 @@ export function runFolded<T>(control: ControlTables, ar: Arithmetic<T>, inputs: 
           }
           operands.push(v);
         }
-        result = ok ? applyOp(ar, slot.op, operands, slot.coefficient) : null;
+        result = ok ? applyOp(ar, slot.op, operands, slot.coefficientText ?? slot.coefficient) : null;
       }
       if (u.stages === 0) unitOut[i] = result;
       else pipes[i][cycle % u.stages] = result;

@@ -1,6 +1,6 @@
 // Direct evaluation of the unfolded DFG, iteration by iteration (the synchronous data-flow
 // reading of a DFG). Convention: zero initial state: every value before iteration 0 is zero.
-import { applyOp, type Arithmetic } from './arith';
+import { applyOp, type Arithmetic, type Coefficient } from './arith';
 import type { Design, DfgNode, Diagnostic, NodeOp } from '../types';
 
 const OPS: readonly NodeOp[] = ['add', 'sub', 'mul', 'gain', 'neg', 'pass'];
@@ -11,7 +11,8 @@ export interface NodeArithmetic {
   id: string;
   kind: 'input' | 'output' | 'op';
   op: NodeOp | null;
-  coefficient: number | null;
+  /** The number, or its exact decimal text when the file gives more digits than a double keeps. */
+  coefficient: Coefficient | null;
   /** Indices into design.edges of the edges entering the node, in operand order. */
   operands: number[];
 }
@@ -88,7 +89,7 @@ export function resolveArithmetic(design: Design): { graph: ResolvedGraph | null
       }
       return { id: n.id, kind: 'output', op: null, coefficient: null, operands };
     }
-    const coefficient = n.coefficient ?? null;
+    const coefficient: Coefficient | null = n.coefficientText ?? n.coefficient ?? null;
     const op = nodeOp(n, operands.length);
     if (op === null) {
       diagnostics.push(

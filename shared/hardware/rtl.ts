@@ -60,6 +60,22 @@ export interface PortTiming {
   firstSample?: number;
   /** Outputs: the cycle of the first valid strobe. */
   firstStrobeCycle?: number;
+  /** Outputs: the name of the one-cycle valid strobe (`<port>_valid` unless that name was taken). */
+  valid?: string;
+}
+
+/** A name of the interface that differs from the one the convention gives (docs/rtl.md). */
+export interface RtlRename {
+  /** `data`: the port of a node; `strobe`: an output's valid strobe; `module`: the top module. */
+  role: 'data' | 'strobe' | 'module';
+  /** The node (data, strobe) or the design name (module). */
+  of: string;
+  /** The name the convention gives: the id, `<port>_valid`, or the design name. */
+  wanted: string;
+  /** The name in the Verilog. */
+  name: string;
+  /** Why, in a few words. */
+  reason: string;
 }
 
 export interface RtlBundle {
@@ -67,7 +83,12 @@ export interface RtlBundle {
   /** Synthesizable sources, one module per file, the top first. */
   files: { name: string; text: string }[];
   ports: PortTiming[];
-  coefficients: { node: string; value: number; quantised: string }[];
+  /** Every interface name that is not the one the convention gives, with the reason. */
+  renamed: RtlRename[];
+  /** Name of the testbench module (and its file, `<testbench>.v`). */
+  testbench: string;
+  /** `text`: the decimal as written, when it has more digits than the double `value` keeps; quantised from it. */
+  coefficients: { node: string; value: number; text?: string; quantised: string }[];
   fixed: FixedFormat;
   /** Width of the coefficient field (0 when the design has no coefficient). */
   coefWidth: number;
@@ -112,18 +133,47 @@ function bitsFor(maxValue: number): number {
   return Math.max(1, Math.ceil(Math.log2(maxValue + 1)));
 }
 
-/** Unique names within one namespace. */
+/** Unique names within one namespace; remembers who holds each name, to say why one was renamed. */
 class Names {
-  private readonly taken = new Set<string>();
-  constructor(reserved: string[] = []) {
-    for (const r of reserved) this.taken.add(r);
+  private readonly taken = new Map<string, string>();
+  constructor(reserved: string[] = [], owner = 'a reserved name') {
+    for (const r of reserved) this.taken.set(r, owner);
   }
-  claim(base: string): string {
+  names(): string[] {
+    return [...this.taken.keys()];
+  }
+  has(name: string): boolean {
+    return this.taken.has(name);
+  }
+  ownerOf(name: string): string | undefined {
+    return this.taken.get(name);
+  }
+  claim(base: string, owner = 'an internal signal'): string {
     let s = base;
     for (let i = 2; this.taken.has(s); i++) s = `${base}_${i}`;
-    this.taken.add(s);
+    this.taken.set(s, owner);
     return s;
   }
+}
+
+/**
+ * Longest module name Pleat writes: module files are `<top>_unit_<UNIT>.v`, and file systems
+ * refuse names past 255 bytes. Longer identifiers keep their start and a hash of the whole.
+ */
+const MAX_IDENT = 64;
+function boundedIdent(s: string, max = MAX_IDENT): string {
+  if (s.length <= max) return s;
+  // FNV-1a (32 bit) of the whole name keeps two long names that share a start apart.
+  let h = 0x811c9dc5;
+  for (let i = 0; i < s.length; i++) h = Math.imul(h ^ s.charCodeAt(i), 0x01000193) >>> 0;
+  return `${s.slice(0, max - 9)}_${h.toString(16).padStart(8, '0')}`;
+}
+
+/** Why verilogIdent changed an id, or null when it did not. */
+function identReason(id: string, ident: string): string | null {
+  if (ident === id) return null;
+  if (RESERVED.has(id)) return 'a Verilog or SystemVerilog keyword';
+  return 'not a Verilog identifier';
 }
 
 /** An id as it may appear inside a `//` comment: no line breaks or other control characters. */
@@ -141,30 +191,67 @@ export function generateRtl(design: Design, control: ControlTables, opts: RtlOpt
   const W = opts.width ?? DEFAULT_FIXED.width;
   const F = opts.coefFrac ?? DEFAULT_FIXED.coefFrac;
   const N = control.factor;
-  const top = opts.topName ?? verilogIdent(design.name);
   const gen = opts.generator ?? 'pleat';
+  const renamed: RtlRename[] = [];
 
-  // Port names first: they are the interface a user sees.
-  const names = new Names(['clk', 'rst', 'W', 'CW', 'COEF_FRAC']);
+  // Port names first: they are the interface a user sees. Each keeps its node's id where it can.
+  const names = new Names(['clk', 'rst', 'W', 'CW', 'COEF_FRAC'], 'a port or parameter of every top module');
   const portOf = new Map<string, string>();
-  for (const x of control.inputs) portOf.set(x.node, names.claim(verilogIdent(x.node)));
+  const claimPort = (node: string, role: 'data' | 'strobe', wanted: string, ident: string, owner: string): string => {
+    const bounded = boundedIdent(ident);
+    const name = names.claim(bounded, owner);
+    if (name !== wanted) {
+      const reason =
+        role === 'data' && identReason(wanted, ident)
+          ? identReason(wanted, ident)!
+          : bounded !== ident
+            ? `longer than ${MAX_IDENT} characters`
+            : `\`${bounded}\` is already ${names.ownerOf(bounded)}`;
+      renamed.push({ role, of: node, wanted, name, reason });
+    }
+    return name;
+  };
+  for (const x of control.inputs) portOf.set(x.node, claimPort(x.node, 'data', x.node, verilogIdent(x.node), `the port of input ${x.node}`));
   const validOf = new Map<string, string>();
-  for (const o of control.outputs) portOf.set(o.node, names.claim(verilogIdent(o.node)));
-  for (const o of control.outputs) validOf.set(o.node, names.claim(`${portOf.get(o.node)}_valid`));
+  for (const o of control.outputs) portOf.set(o.node, claimPort(o.node, 'data', o.node, verilogIdent(o.node), `the port of output ${o.node}`));
+  for (const o of control.outputs) {
+    const want = `${portOf.get(o.node)}_valid`;
+    validOf.set(o.node, claimPort(o.node, 'strobe', want, want, `the valid strobe of output ${o.node}`));
+  }
+  // The top module: named after the design, never like one of its signals or a unit module's
+  // (Verilator refuses a signal named like its module), and short enough for a file name.
+  const unitInternals = ['clk', 'rst', 'op', 'y', 'coef', 'W', 'CW', 'COEF_FRAC', ...Array.from({ length: Math.max(0, ...control.units.map((u) => u.ports)) }, (_, i) => `a${i}`)];
+  const wantedTop = opts.topName ?? verilogIdent(design.name);
+  let top = boundedIdent(wantedTop, MAX_IDENT - 16);
+  let topReason = top !== wantedTop ? `longer than ${MAX_IDENT - 16} characters` : null;
+  if (/^(pl|tb)_/.test(top)) {
+    top = `top_${top}`;
+    topReason ??= 'starts like the internal names (pl_, tb_)';
+  }
+  while (names.has(top) || unitInternals.includes(top)) {
+    topReason ??= names.has(top) ? `\`${top}\` is ${names.ownerOf(top)}` : `\`${top}\` is a signal of the unit modules`;
+    top = `${top}_top`;
+  }
+  if (opts.topName === undefined && top !== design.name) {
+    renamed.push({ role: 'module', of: design.name, wanted: design.name, name: top, reason: topReason ?? identReason(design.name, wantedTop) ?? 'not a Verilog identifier' });
+  }
+  // Module names live in one scope with every signal name: none may be a port of the top.
+  const moduleNames = new Names([...names.names(), ...unitInternals]);
+  moduleNames.claim(top);
+  const tbName = moduleNames.claim(`${top}_tb`);
   // Internal names carry a pl_ prefix; Names keeps them apart from ports that start the same way.
   const part = names.claim('pl_part');
   const iter = names.claim('pl_iter');
   const regName = Array.from({ length: control.registers }, (_, k) => names.claim(`pl_r${k}`));
   const activeUnits = control.units.filter((u) => u.partitions.some((p) => p !== null));
   const unitSig = new Map<string, { base: string; y: string; inst: string; module: string }>();
-  const moduleNames = new Names([top]);
   for (const u of activeUnits) {
-    const base = names.claim(`pl_${verilogIdent(u.unit)}`);
+    const base = names.claim(boundedIdent(`pl_${verilogIdent(u.unit)}`));
     unitSig.set(u.unit, {
       base,
       y: names.claim(`${base}_y`),
       inst: names.claim(`${base}_u`),
-      module: moduleNames.claim(`${top}_unit_${verilogIdent(u.unit)}`),
+      module: moduleNames.claim(boundedIdent(`${top}_unit_${verilogIdent(u.unit)}`, 2 * MAX_IDENT)),
     });
   }
 
@@ -174,8 +261,8 @@ export function generateRtl(design: Design, control: ControlTables, opts: RtlOpt
   for (const u of activeUnits) {
     for (const s of u.partitions) {
       if (!s || s.coefficient === null || !variantOf(s).scaled) continue;
-      const q = quantizeCoefficient(s.coefficient, F);
-      coefficients.push({ node: s.node, value: s.coefficient, quantised: q.toString() });
+      const q = quantizeCoefficient(s.coefficientText ?? s.coefficient, F);
+      coefficients.push({ node: s.node, value: s.coefficient, ...(s.coefficientText !== undefined ? { text: s.coefficientText } : {}), quantised: q.toString() });
       coefParam.set(s.node, names.claim(`PL_COEF_${verilogIdent(s.node)}`));
     }
   }
@@ -394,6 +481,7 @@ export function generateRtl(design: Design, control: ControlTables, opts: RtlOpt
       lag: o.lag,
       firstSample: o.firstSample,
       firstStrobeCycle: firstStrobe,
+      valid: v,
       timing: `${v} is high during cycle ${firstStrobe} + ${N}k and ${y} then shows sample ${o.firstSample} + k, held until the next strobe`,
     });
   }
@@ -426,7 +514,7 @@ export function generateRtl(design: Design, control: ControlTables, opts: RtlOpt
     locals.push(`  localparam CW = ${CW};`, `  localparam COEF_FRAC = ${F};`);
     for (const c of coefficients) {
       const q = BigInt(c.quantised);
-      locals.push(`  localparam signed [CW-1:0] ${coefParam.get(c.node)} = ${hex(q, CW)}; // ${safe(c.node)}: ${c.value} ~ ${q} / 2^${F}`);
+      locals.push(`  localparam signed [CW-1:0] ${coefParam.get(c.node)} = ${hex(q, CW)}; // ${safe(c.node)}: ${c.text ?? c.value} ~ ${q} / 2^${F}`);
     }
     locals.push('');
   }
@@ -463,6 +551,8 @@ export function generateRtl(design: Design, control: ControlTables, opts: RtlOpt
     top,
     files: [{ name: `${top}.v`, text: topText }, ...unitFiles],
     ports,
+    renamed,
+    testbench: tbName,
     coefficients,
     fixed: { width: W, coefFrac: F },
     coefWidth: CW,
@@ -626,11 +716,12 @@ export function generateTestbench(bundle: RtlBundle, control: ControlTables, vec
   const N = control.factor;
   const W = bundle.fixed.width;
   const K = vectors.iterations;
-  const tb = `${bundle.top}_tb`;
+  const tb = bundle.testbench;
   const inPorts = bundle.ports.filter((p) => p.direction === 'input');
   const outPorts = bundle.ports.filter((p) => p.direction === 'output');
   // The testbench's own names stay clear of the design's port names.
-  const names = new Names(['clk', 'rst', ...bundle.ports.map((p) => p.port), ...outPorts.map((p) => `${p.port}_valid`)]);
+  const strobe = (p: PortTiming) => p.valid ?? `${p.port}_valid`;
+  const names = new Names(['clk', 'rst', tb, bundle.top, ...bundle.ports.map((p) => p.port), ...outPorts.map(strobe)]);
   const [pW, pK, pCycles, dut, cyc, it, ph, errors, checked] = ['W', 'K', 'CYCLES', 'dut', 'cyc', 'it', 'ph', 'errors', 'checked'].map((n) => names.claim(`tb_${n}`));
   const vec = new Map(inPorts.map((p) => [p.port, names.claim(`tb_in_${p.port}`)]));
   const exp = new Map(outPorts.map((p) => [p.port, names.claim(`tb_expect_${p.port}`)]));
@@ -654,10 +745,10 @@ export function generateTestbench(bundle: RtlBundle, control: ControlTables, vec
   for (const p of inPorts) L.push(`  reg signed [${pW}-1:0] ${p.port};`, `  reg signed [${pW}-1:0] ${vec.get(p.port)} [0:${Math.max(K, 1) - 1}];`);
   for (const p of outPorts) {
     const n = vectors.outputs[p.node].length;
-    L.push(`  wire signed [${pW}-1:0] ${p.port};`, `  wire ${p.port}_valid;`, `  integer ${seen.get(p.port)};`);
+    L.push(`  wire signed [${pW}-1:0] ${p.port};`, `  wire ${strobe(p)};`, `  integer ${seen.get(p.port)};`);
     L.push(`  reg signed [${pW}-1:0] ${exp.get(p.port)} [0:${Math.max(n, 1) - 1}];`);
   }
-  const conns = ['.clk(clk)', '.rst(rst)', ...inPorts.map((p) => `.${p.port}(${p.port})`), ...outPorts.flatMap((p) => [`.${p.port}(${p.port})`, `.${p.port}_valid(${p.port}_valid)`])];
+  const conns = ['.clk(clk)', '.rst(rst)', ...inPorts.map((p) => `.${p.port}(${p.port})`), ...outPorts.flatMap((p) => [`.${p.port}(${p.port})`, `.${strobe(p)}(${strobe(p)})`])];
   L.push(`  ${bundle.top} #(.W(${pW})) ${dut} (`, conns.map((c) => `    ${c}`).join(',\n'), '  );', '');
   L.push("  initial clk = 1'b0;", '  always #5 clk = ~clk;', '');
   L.push('  initial begin');
@@ -691,7 +782,7 @@ export function generateTestbench(bundle: RtlBundle, control: ControlTables, vec
     const y = p.port;
     const k = seen.get(y)!;
     L.push(
-      `      if (${y}_valid === 1'b1) begin`,
+      `      if (${strobe(p)} === 1'b1) begin`,
       `        if (${k} < ${n}) begin`,
       `          ${checked} = ${checked} + 1;`,
       `          if (${cyc} != ${p.firstStrobeCycle} + ${N} * ${k}) begin`,
@@ -703,9 +794,9 @@ export function generateTestbench(bundle: RtlBundle, control: ControlTables, vec
       '          end',
       '        end',
       `        ${k} = ${k} + 1;`,
-      `      end else if (${y}_valid !== 1'b0) begin`,
+      `      end else if (${strobe(p)} !== 1'b0) begin`,
       `        ${errors} = ${errors} + 1;`,
-      `        if (${errors} <= 20) $display("MISMATCH ${p.port}: valid strobe is %b at cycle %0d", ${y}_valid, ${cyc});`,
+      `        if (${errors} <= 20) $display("MISMATCH ${p.port}: valid strobe is %b at cycle %0d", ${strobe(p)}, ${cyc});`,
       '      end',
     );
   }

@@ -244,7 +244,10 @@ export function applyRules(analysis: Analysis, effective: EffectiveRules): { vio
       warnings.push({
         severity: 'warning',
         code: RULE_WARNING_CODES.notChecked,
-        message: 'max_registers not checked: no feasible folded datapath exists, so there is no register count',
+        message:
+          analysis.retiming.applied === false
+            ? 'max_registers not checked: the plan as written has negative folded delays and negative_delays: fail forbids retiming, so there is no register count'
+            : 'max_registers not checked: no feasible folded datapath exists, so there is no register count',
         line: null,
         column: null,
       });

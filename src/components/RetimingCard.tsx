@@ -13,6 +13,12 @@ export function RetimingCard({ retiming }: { retiming: RetimingResult }) {
         <StatusIcon status="pass" /> No folded delay is negative: the plan works without retiming.
       </p>
     );
+  if (retiming.applied === false)
+    return (
+      <p className="flex items-center gap-2 text-sm text-fail-700">
+        <StatusIcon status="fail" /> Some folded delays are negative, and the rule negative_delays: fail forbids retiming: the plan is judged as written.
+      </p>
+    );
   if (retiming.feasible)
     return (
       <div className="space-y-2 text-sm">

@@ -136,3 +136,45 @@ describe('colour', () => {
     expect((await pleat(['check', '.'], { cwd: repo, env: { NO_COLOR: '1', FORCE_COLOR: '1' } })).stdout).toMatch(ANSI);
   });
 });
+
+describe('negative_delays: fail judges the plan as written', () => {
+  // Our own fixture: a plan whose negative folded delays retiming can remove.
+  const retimed = readFileSync(path.join(__dirname, '../sim/fixtures/smoothing-retimed.fold.yaml'), 'utf8');
+
+  it('nothing is retimed: no `retimed` label, no register count, max_registers not judged on a retimed datapath', async () => {
+    const repo = tempDir();
+    write(repo, 'pleat.config.yaml', 'designs: ["*.fold.yaml"]\nrules:\n  negative_delays: fail\n  max_registers: 1000\n');
+    write(repo, 'smooth.fold.yaml', retimed);
+    const text = await pleat(['check', '--no-color'], { cwd: repo });
+    expect(text.exitCode).toBe(1);
+    const verdict = text.stdout.split('\n').find((l) => l.includes('pressure-smoothing'))!;
+    expect(verdict).toMatch(/^FAIL/);
+    expect(verdict).not.toMatch(/retimed/);
+    expect(verdict).toMatch(/regs -/);
+    expect(text.stdout).not.toMatch(/^ {2}retiming: /m);
+    expect(text.stdout).toMatch(/not retimed \(negative_delays: fail\)/);
+
+    const json = await pleat(['check', '--format', 'json'], { cwd: repo });
+    const d = JSON.parse(json.stdout).designs[0];
+    expect(d.retiming).toMatchObject({ needed: true, feasible: true, applied: false, values: {}, latencyAdded: 0 });
+    expect(d.registers).toBeNull();
+    expect(d.control ?? null).toBeNull();
+    // Each edge shows the delays as written: nothing moved.
+    for (const e of d.edges) expect([e.retimedDelays, e.retimedFoldedDelay]).toEqual([e.delays, e.foldedDelay]);
+    expect(d.violations.map((v: { rule: string }) => v.rule)).toEqual(['negative_delays']);
+    expect(d.diagnostics.map((w: { code: string; message: string }) => `${w.code}: ${w.message}`)).toContainEqual(
+      expect.stringMatching(/max_registers not checked: the plan as written has negative folded delays and negative_delays: fail forbids retiming/),
+    );
+  });
+
+  it('under retime the same plan is retimed and max_registers is judged', async () => {
+    const repo = tempDir();
+    write(repo, 'pleat.config.yaml', 'designs: ["*.fold.yaml"]\nrules:\n  max_registers: 1000\n');
+    write(repo, 'smooth.fold.yaml', retimed);
+    const json = await pleat(['check', '--format', 'json'], { cwd: repo });
+    expect(json.exitCode).toBe(0);
+    const d = JSON.parse(json.stdout).designs[0];
+    expect(d.retiming.applied).toBeUndefined();
+    expect(d.registers.minimum).toBeGreaterThan(0);
+  });
+});

@@ -2,7 +2,7 @@
 // decimal reading of times behind the iteration bound.
 import { describe, expect, it } from 'vitest';
 import { analyze } from '../../shared/analysis/analyze';
-import { decimalToRational } from '../../shared/analysis/fraction';
+import { decimalToRational } from '../../shared/fraction';
 import { makeDesign } from './helpers';
 
 describe('analyze', () => {

@@ -1,5 +1,5 @@
 // `pleat simulate` and `pleat rtl` as a user runs them: the built CLI as a process.
-import { existsSync, readFileSync } from 'node:fs';
+import { existsSync, readdirSync, readFileSync } from 'node:fs';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { execa } from 'execa';
@@ -132,4 +132,64 @@ describe('pleat rtl', () => {
     expect(r.exitCode).toBe(2);
     expect(r.stderr).toMatch(/--out/);
   });
+
+  it('refuses an empty --out (it would write into the working folder)', async () => {
+    const dir = tempDir();
+    const r = await pleat(['rtl', retimed, '--out', ''], { cwd: dir });
+    expect(r.exitCode).toBe(2);
+    expect(r.stderr).toMatch(/--out needs a folder name/);
+    expect(readdirSync(dir)).toEqual([]);
+  });
+
+  it('refuses a folder with files it did not write unless --force; replaces its own earlier output and says so', async () => {
+    const dir = tempDir();
+    const out = path.join(dir, 'rtl');
+    write(out, 'notes.txt', 'mine\n');
+    const refused = await pleat(['rtl', retimed, '--out', out]);
+    expect(refused.exitCode).toBe(2);
+    expect(refused.stderr).toMatch(/already holds files that pleat rtl did not write.*--force/);
+    expect(readdirSync(out)).toEqual(['notes.txt']);
+    const forced = await pleat(['rtl', retimed, '--out', out, '--force']);
+    expect(forced.exitCode, forced.stderr).toBe(0);
+    expect(forced.stderr).toMatch(/--force: writing into/);
+    expect(readFileSync(path.join(out, 'notes.txt'), 'utf8')).toBe('mine\n');
+
+    const fresh = path.join(dir, 'fresh');
+    expect((await pleat(['rtl', retimed, '--out', fresh])).exitCode).toBe(0);
+    const again = await pleat(['rtl', sensor, '--out', fresh]);
+    expect(again.exitCode, again.stderr).toBe(0);
+    expect(again.stderr).toMatch(/replacing the earlier output of pleat rtl in .*pressure_smoothing\.rtl\.json/);
+    // Nothing of the earlier top module is left beside the new one.
+    expect(readdirSync(fresh).filter((f) => f.startsWith('pressure_smoothing'))).toEqual([]);
+  });
+
+  it('an input named like a strobe: --verify passes and <top>.rtl.json lists the renamed strobe', async () => {
+    const dir = tempDir();
+    const f = write(
+      dir,
+      'strobe.fold.yaml',
+      `format: pleat/1
+name: strobe-clash
+units: [{ id: ADD, kind: add, stages: 1 }]
+nodes:
+  - { id: x, kind: input }
+  - { id: y_valid, kind: input }
+  - { id: s, kind: add }
+  - { id: y, kind: output }
+edges:
+  - { from: x, to: s }
+  - { from: y_valid, to: s }
+  - { from: s, to: y }
+folding: { factor: 1, sets: { ADD: [s] } }
+`,
+    );
+    const out = path.join(dir, 'rtl');
+    const r = await pleat(['rtl', f, '--out', out, '--verify']);
+    expect(r.exitCode, r.stderr + r.stdout).toBe(0);
+    expect(r.stdout).toMatch(/testbench: PASS strobe_clash: 32 samples on 1 outputs, 0 mismatches/);
+    expect(r.stdout).toMatch(/renamed strobe of y: y_valid -> y_valid_2/);
+    const j = JSON.parse(readFileSync(path.join(out, 'strobe_clash.rtl.json'), 'utf8'));
+    expect(j.renamed).toContainEqual({ role: 'strobe', of: 'y', wanted: 'y_valid', name: 'y_valid_2', reason: '`y_valid` is already the port of input y_valid' });
+    expect(j.ports.find((p: { node: string }) => p.node === 'y').valid).toBe('y_valid_2');
+  }, 120_000);
 });

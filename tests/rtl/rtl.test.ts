@@ -183,3 +183,107 @@ describe('the testbench can fail', () => {
     expect(out).toMatch(/MISMATCH [yz]: sample \d+ at cycle \d+: expected -?\d+, got -?\d+/);
   }, 120_000);
 });
+
+// ---------------------------------------------------------------- names and exact coefficients
+
+/** A small feasible plan of our own: y = g * x (gain), with extra nodes given by the caller. */
+function gainPlan(opts: { name?: string; coefficient?: string; input?: string; extraInput?: string } = {}): string {
+  const x = opts.input ?? 'x';
+  return `format: pleat/1
+name: ${opts.name ?? 'gain-plan'}
+units: [{ id: MUL, kind: mul, stages: 1 }, { id: ADD, kind: add, stages: 0 }]
+nodes:
+  - { id: ${x}, kind: input }
+${opts.extraInput ? `  - { id: ${opts.extraInput}, kind: input }\n` : ''}  - { id: g, kind: mul, coefficient: ${opts.coefficient ?? '0.75'} }
+  - { id: s, kind: add }
+  - { id: y, kind: output }
+edges:
+  - { from: ${x}, to: g }
+  - { from: g, to: s }
+  - { from: ${opts.extraInput ?? x}, to: s }
+  - { from: s, to: y }
+folding: { factor: 2, sets: { MUL: [g], ADD: [~, s] } }
+`;
+}
+
+describe('coefficients quantised from the decimal in the file', () => {
+  // 0.500030517578125 = 0.5 + 2^-15 is exactly 8192.5 / 2^14, a rounding tie at F = 14; the
+  // coefficient below lies 10^-20 under it. Its nearest double is the tie itself (the gap is far
+  // below half an ulp), so quantising the double would give 8193 instead of 8192.
+  const TEXT = '0.50003051757812499999';
+
+  it('keeps the source text and rounds the exact decimal, not the double', () => {
+    const design = loadDesign(gainPlan({ coefficient: TEXT })).design!;
+    const g = design.nodes.find((n) => n.id === 'g')!;
+    expect(g.coefficient).toBe(0.500030517578125); // what a double can hold (IEEE 754, common practice)
+    expect(g.coefficientText).toBe(TEXT);
+    // Independent reference, by hand with BigInt: round(c * 2^14), ties away from zero, where
+    // c = 50003051757812499999 / 10^20. The remainder against half a unit decides.
+    const num = 50003051757812499999n * 16384n;
+    const den = 10n ** 20n;
+    const floor = num / den;
+    const expected = 2n * (num - floor * den) >= den ? floor + 1n : floor;
+    expect(expected).toBe(8192n);
+    const b = build(design);
+    expect(b.bundle.coefficients).toEqual([{ node: 'g', value: 0.500030517578125, text: TEXT, quantised: expected.toString() }]);
+  });
+
+  it('short decimals keep no text: the double already is that decimal', () => {
+    const design = loadDesign(gainPlan({ coefficient: '0.1' })).design!;
+    expect(design.nodes.find((n) => n.id === 'g')!.coefficientText).toBeUndefined();
+  });
+
+  it('the RTL with that constant is lint clean and bit-exact against the reference', async () => {
+    const b = build(loadDesign(gainPlan({ coefficient: TEXT })).design!);
+    expect(readFileSync(path.join(b.dir, `${b.bundle.top}.v`), 'utf8')).toContain(`g: ${TEXT} ~ 8192 / 2^14`);
+    expect(await lint(b)).toBe('');
+    await expectBitExact(b);
+  }, 120_000);
+});
+
+describe('RTL names that collide', () => {
+  it('an input named like an output strobe: the strobe is renamed, reported, and the testbench follows it', async () => {
+    const b = build(loadDesign(gainPlan({ extraInput: 'y_valid' })).design!);
+    const y = b.bundle.ports.find((p) => p.node === 'y')!;
+    expect(y.valid).toBe('y_valid_2');
+    expect(b.bundle.renamed).toContainEqual({ role: 'strobe', of: 'y', wanted: 'y_valid', name: 'y_valid_2', reason: '`y_valid` is already the port of input y_valid' });
+    expect(await lint(b)).toBe('');
+    await expectBitExact(b);
+  }, 120_000);
+
+  it('a design named like one of its ports: the top module is renamed (Verilator refuses a signal named like its module)', async () => {
+    const b = build(loadDesign(gainPlan({ name: 'x' })).design!);
+    expect(b.bundle.top).toBe('x_top');
+    expect(b.bundle.renamed).toContainEqual({ role: 'module', of: 'x', wanted: 'x', name: 'x_top', reason: '`x` is the port of input x' });
+    expect(await lint(b)).toBe('');
+    await expectBitExact(b);
+  }, 120_000);
+
+  it('a design named like a unit module signal (y) or an internal name (pl_part) stays apart from them', async () => {
+    for (const [name, top] of [
+      ['y', 'y_top'],
+      ['pl_part', 'top_pl_part'],
+    ]) {
+      const b = build(loadDesign(gainPlan({ name })).design!);
+      expect(b.bundle.top).toBe(top);
+      expect(await lint(b), name).toBe('');
+    }
+  }, 120_000);
+
+  it('a 1,500-character design name is refused by the schema; the RTL bounds module and file names anyway', () => {
+    const long = 'n'.repeat(1500);
+    const r = loadDesign(gainPlan({ name: long }));
+    expect(r.design).toBeNull();
+    expect(r.diagnostics[0]).toMatchObject({ code: 'schema-value', line: 2 });
+    expect(r.diagnostics[0].message).toMatch(/1500 characters long; the limit is 200/);
+    // A design object built elsewhere (not through the loader) still gets names a file system takes.
+    const design = { ...loadDesign(gainPlan()).design!, name: long };
+    design.units = design.units.map((u) => ({ ...u, id: u.id === 'MUL' ? 'M'.repeat(1500) : u.id }));
+    design.folding = { ...design.folding, sets: { ['M'.repeat(1500)]: ['g'], ADD: [null, 's'] } };
+    const control = controlTables(design, analyze(design)).control!;
+    const bundle = generateRtl(design, control);
+    expect(bundle.top.length).toBeLessThanOrEqual(48);
+    for (const f of bundle.files) expect(Buffer.byteLength(f.name), f.name).toBeLessThanOrEqual(255); // NAME_MAX of Linux, common practice
+    expect(bundle.renamed.find((r) => r.role === 'module')?.reason).toMatch(/longer than 48 characters/);
+  });
+});

@@ -34,15 +34,27 @@ export function ceilDiv(num: bigint, den: bigint): bigint {
   return num > 0n && q * den !== num ? q + 1n : q;
 }
 
-const DECIMAL = /^(-?)(\d+)(?:\.(\d+))?(?:e([+-]?\d+))?$/i;
+// A YAML 1.2 core-schema float as written (`+1.5`, `.5`, `5.`, `1e-3`), and what String(x) prints.
+const DECIMAL = /^([-+]?)(\d*)(?:\.(\d*))?(?:e([+-]?\d+))?$/i;
 
-/** The exact value of the decimal that String(x) prints, as a reduced fraction. */
-export function decimalToRational(x: number): Rational {
-  if (!Number.isFinite(x)) throw new Error(`not a finite number: ${x}`);
-  const m = DECIMAL.exec(String(x));
-  if (!m) throw new Error(`cannot read ${x} as a decimal`);
-  const [, sign, whole, frac = '', expText] = m;
-  let num = BigInt(whole + frac);
+/** Is `text` a plain decimal literal that decimalToRational can read exactly? */
+export function isDecimalText(text: string): boolean {
+  const m = DECIMAL.exec(text);
+  return m !== null && /\d/.test((m[2] ?? '') + (m[3] ?? '')) && (m[4] === undefined || Math.abs(Number(m[4])) <= 400);
+}
+
+/**
+ * The exact value of a decimal as a reduced fraction: of the decimal that String(x) prints for
+ * a number, or of the decimal text itself (the source text of a design file's number, which may
+ * carry more digits than the nearest double keeps).
+ */
+export function decimalToRational(x: number | string): Rational {
+  if (typeof x === 'number' && !Number.isFinite(x)) throw new Error(`not a finite number: ${x}`);
+  const text = typeof x === 'number' ? String(x) : x;
+  const m = DECIMAL.exec(text);
+  if (!m || !isDecimalText(text)) throw new Error(`cannot read ${x} as a decimal`);
+  const [, sign, whole = '', frac = '', expText] = m;
+  let num = BigInt((whole + frac) || '0');
   const exp = (expText ? Number(expText) : 0) - frac.length;
   let den = 1n;
   if (exp >= 0) num *= 10n ** BigInt(exp);
