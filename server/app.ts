@@ -33,8 +33,13 @@ export function createApp(ctx: AppContext): Express {
   // The bare liveness route answers before any middleware: the benchmark's baseline.
   app.use(healthRoutes(ctx));
 
-  app.use('/api', (_req, res, next) => {
+  app.use('/api', (req, res, next) => {
     res.set('Cache-Control', 'no-store');
+    // PostgreSQL text cannot hold NUL: refuse it in paths and queries before it reaches a query.
+    if (/%00/.test(req.originalUrl)) {
+      res.status(400).json({ error: { code: 'bad-path', message: 'The address contains a NUL character (%00).' } });
+      return;
+    }
     next();
   });
   app.use('/api', cookieParser(), authenticate(ctx));

@@ -29,6 +29,25 @@ export const apiNotFound: RequestHandler = (req, res) => {
   res.status(404).json({ error: { code: 'not-found', message: `No API route ${req.method} ${req.originalUrl.split('?')[0]}.` } });
 };
 
+/** The invitation secret is the credential in its URL: logs get a placeholder instead. */
+export function redactUrl(url: string): string {
+  return url.replace(/(\/api\/invitations\/)[^/?#]+/g, '$1<secret>');
+}
+
+/**
+ * One log entry for an unexpected error. Sequelize's errors carry a stack that begins with a bare
+ * `Error` (it is captured before the query runs), so PostgreSQL's own message, code and detail
+ * are put first; stack frames follow for everything else.
+ */
+export function describeError(err: unknown): string {
+  const e = err as { name?: string; message?: string; stack?: string; parent?: { message?: string; code?: string; detail?: string }; original?: { code?: string } };
+  if (!e || typeof e !== 'object') return String(err);
+  const pg = e.parent ?? e.original;
+  const head = `${e.name ?? 'Error'}: ${e.message ?? ''}${pg && 'code' in pg && pg.code ? ` (PostgreSQL ${pg.code}${e.parent?.detail ? `: ${e.parent.detail}` : ''})` : ''}`;
+  const frames = (e.stack ?? '').split('\n').filter((l) => /^\s+at /.test(l)).slice(0, 12);
+  return [head, ...frames].join('\n');
+}
+
 export function errorHandler(log: (msg: string) => void): ErrorRequestHandler {
   return (err, req, res, _next) => {
     let status = 500;
@@ -46,6 +65,10 @@ export function errorHandler(log: (msg: string) => void): ErrorRequestHandler {
     } else if (err?.type === 'entity.parse.failed') {
       status = 400;
       body = { code: 'invalid-json', message: 'The request body is not valid JSON.' };
+    } else if (err instanceof URIError) {
+      // Express could not decode a path parameter (a lone `%` or `%E0%A4` is not UTF-8).
+      status = 400;
+      body = { code: 'bad-path', message: 'The address has a malformed percent-encoding (each % must start a UTF-8 escape such as %2F).' };
     } else if (err?.name === 'MulterError') {
       status = 400;
       body = { code: 'bad-upload', message: `The uploaded form is not what this route expects (${err.code}).` };
@@ -54,7 +77,7 @@ export function errorHandler(log: (msg: string) => void): ErrorRequestHandler {
       status = err.status;
       body = { code: 'bad-request', message: String(err.message) };
     }
-    if (status >= 500) log(`${req.method} ${req.originalUrl}: ${err?.stack ?? err}`);
+    if (status >= 500) log(`${req.method} ${redactUrl(req.originalUrl)}: ${describeError(err)}`);
     if (res.headersSent) return;
     res.status(status).json({ error: body });
   };

@@ -8,15 +8,20 @@ import type { AppContext } from '../../context';
 import type { Project } from '../../db/models';
 import { projectAccess } from '../../http/access';
 import { HttpError, allow, badRequest, notFound, unauthorized } from '../../http/errors';
-import { checker, idParam } from '../../http/validate';
+import { idParam } from '../../http/validate';
 import { afterResponse } from '../../mail/mailer';
 import { compareRun, RUN_COLUMNS, type DesignRow, type RunRow } from './compare';
 import { ingestRun } from './ingest';
 import { notifyWatchers } from './notify';
 import { canReadRuns, canUploadRun } from './policy';
-import { uploadSchema } from './schema';
+import { MAX_INT32, checkUploadReport } from '../../../shared/reportSchema';
 
-const checkUpload = checker<Report>(uploadSchema, 'report');
+/** The report's schema and storable-value check of shared/reportSchema.ts (the CLI runs the same before sending). */
+function checkUpload(body: unknown): Report {
+  const checked = checkUploadReport(body);
+  if (!checked.ok) throw badRequest(`The report is not valid: ${checked.message}.`, checked.problems);
+  return checked.report;
+}
 
 export function presentRun(r: RunRow) {
   return {
@@ -58,9 +63,10 @@ export function encodeCursor(r: { created_at: Date; id: number }): string {
 }
 
 function decodeCursor(cursor: string): { at: Date; id: number } {
-  const m = /^(\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d(?:\.\d{1,3})?Z),(\d{1,10})$/.exec(cursor);
+  const m = cursor.length <= 64 ? /^(\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d(?:\.\d{1,3})?Z),(\d{1,10})$/.exec(cursor) : null;
   const at = m ? new Date(m[1]!) : null;
-  if (!m || !at || Number.isNaN(at.getTime())) throw badRequest('The cursor is not one this server gave out.');
+  // An id beyond the integer column is not one this server gave out (PostgreSQL would refuse it).
+  if (!m || !at || Number.isNaN(at.getTime()) || Number(m[2]) > MAX_INT32) throw badRequest('The cursor is not one this server gave out.');
   return { at, id: Number(m[2]) };
 }
 
