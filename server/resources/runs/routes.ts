@@ -8,6 +8,7 @@ import type { AppContext } from '../../context';
 import type { Project } from '../../db/models';
 import { projectAccess } from '../../http/access';
 import { HttpError, allow, badRequest, notFound, unauthorized } from '../../http/errors';
+import { pgLimiter } from '../../http/limits';
 import { idParam } from '../../http/validate';
 import { afterResponse } from '../../mail/mailer';
 import { compareRun, RUN_COLUMNS, type DesignRow, type RunRow } from './compare';
@@ -159,7 +160,17 @@ export function runRoutes(ctx: AppContext): Router {
     res.locals.project = project;
     next();
   };
-  router.post('/api/projects/:slug/runs', uploadAccess, express.json({ limit: ctx.config.maxReportBytes }), async (req, res) => {
+  // Per CI token: a burst limit per minute and a quota per day, counted in PostgreSQL.
+  const tokenKey = (req: Request) => String(req.actor?.kind === 'ci' ? req.actor.token.id : 0);
+  const perMinute = pgLimiter(q, {
+    prefix: 'upload-minute:', windowMs: 60_000, limit: ctx.config.upload.perMinute, key: tokenKey,
+    message: `At most ${ctx.config.upload.perMinute} uploads a minute per CI token.`,
+  });
+  const perDay = pgLimiter(q, {
+    prefix: 'upload-day:', windowMs: 24 * 3600_000, limit: ctx.config.upload.perDay, key: tokenKey,
+    message: `This CI token has used its quota of ${ctx.config.upload.perDay} uploads a day.`,
+  });
+  router.post('/api/projects/:slug/runs', uploadAccess, perMinute, perDay, express.json({ limit: ctx.config.maxReportBytes }), async (req, res) => {
     const project = res.locals.project as Project;
     const report = checkUpload(req.body);
     const stored = await ingestRun(ctx, project, report);
