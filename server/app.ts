@@ -10,6 +10,7 @@ import type { AppContext } from './context';
 import { authenticate } from './http/auth';
 import { apiNotFound, errorHandler } from './http/errors';
 import { sameOriginOnly } from './http/origin';
+import { outageMonitor } from './http/outage';
 import { analyzeRoutes } from './resources/analyze/routes';
 import { authRoutes } from './resources/auth/routes';
 import { branchRoutes } from './resources/branches/routes';
@@ -85,6 +86,7 @@ export function createApp(ctx: AppContext): Express {
     });
   });
 
-  app.use(errorHandler(ctx.log));
+  ctx.outage ??= outageMonitor(ctx.db.sequelize, ctx.log);
+  app.use(errorHandler(ctx.log, ctx.outage, ctx.config.outageRetrySeconds));
   return app;
 }

@@ -2,6 +2,7 @@
 import type { Config } from './config';
 import type { Db } from './db/index';
 import type { AnalyzePool } from './analyzePool';
+import type { OutageMonitor } from './http/outage';
 import type { Mailer } from './mail/mailer';
 
 export interface AppContext {
@@ -11,4 +12,6 @@ export interface AppContext {
   log: (msg: string) => void;
   /** The worker threads of POST /api/analyze; made on the first analysis, closed on shutdown. */
   analyzer?: AnalyzePool;
+  /** Notices the database going away and coming back (server/http/outage.ts). */
+  outage?: OutageMonitor;
 }

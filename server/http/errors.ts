@@ -1,6 +1,7 @@
 // Errors leave the server as JSON {error: {code, message}} and never carry a stack trace.
 import type { ErrorRequestHandler, RequestHandler } from 'express';
 import type { ApiErrorBody } from '../../shared/api';
+import type { OutageMonitor } from './outage';
 
 export class HttpError extends Error {
   constructor(
@@ -48,8 +49,15 @@ export function describeError(err: unknown): string {
   return [head, ...frames].join('\n');
 }
 
-export function errorHandler(log: (msg: string) => void): ErrorRequestHandler {
+export function errorHandler(log: (msg: string) => void, outage?: OutageMonitor, retrySeconds = 5): ErrorRequestHandler {
   return (err, req, res, _next) => {
+    if (outage?.report(err)) {
+      // Logged once per outage by the monitor, not once per request.
+      if (res.headersSent) return;
+      res.set('Retry-After', String(retrySeconds));
+      res.status(503).json({ error: { code: 'database-unavailable', message: `The database is not reachable right now; try again in ${retrySeconds} s.` } });
+      return;
+    }
     let status = 500;
     let body: ApiErrorBody['error'] = {
       code: 'internal',
