@@ -133,8 +133,9 @@ async function buildServer() {
   const { build } = await import('esbuild');
   await build({
     absWorkingDir: root,
-    entryPoints: ['server/main.ts'],
-    outfile: 'dist/server/main.js',
+    // The analysis pool's worker thread is a second entry (server/analyzePool.ts loads it).
+    entryPoints: { main: 'server/main.ts', 'analyze-worker': 'server/analyze-worker.ts' },
+    outdir: 'dist/server',
     bundle: true,
     platform: 'node',
     format: 'esm',
@@ -143,7 +144,7 @@ async function buildServer() {
     sourcemap: true,
     logLevel: 'warning',
   });
-  console.log('pleat build: server -> dist/server/main.js');
+  console.log('pleat build: server -> dist/server/main.js, dist/server/analyze-worker.js');
 }
 
 function buildWeb() {

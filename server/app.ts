@@ -5,9 +5,12 @@ import { existsSync } from 'node:fs';
 import { join } from 'node:path';
 import cookieParser from 'cookie-parser';
 import express, { type Express } from 'express';
+import helmet from 'helmet';
 import type { AppContext } from './context';
 import { authenticate } from './http/auth';
 import { apiNotFound, errorHandler } from './http/errors';
+import { sameOriginOnly } from './http/origin';
+import { outageMonitor } from './http/outage';
 import { analyzeRoutes } from './resources/analyze/routes';
 import { authRoutes } from './resources/auth/routes';
 import { branchRoutes } from './resources/branches/routes';
@@ -25,19 +28,46 @@ export function createApp(ctx: AppContext): Express {
   const app = express();
   app.disable('x-powered-by');
   app.set('trust proxy', ctx.config.trustProxy);
-  app.use((_req, res, next) => {
-    res.set({ 'X-Content-Type-Options': 'nosniff', 'Referrer-Policy': 'same-origin', 'X-Frame-Options': 'DENY' });
-    next();
-  });
+  const https = ctx.config.publicUrl.startsWith('https:');
+  // The usual security headers (helmet). The policy allows what the built web app loads: its own
+  // scripts, styles and fonts, inline style attributes (recharts and React set them), data: URLs
+  // (the favicon, chart images); nothing from other hosts, and no framing.
+  app.use(helmet({
+    contentSecurityPolicy: {
+      useDefaults: false,
+      directives: {
+        defaultSrc: ["'self'"],
+        scriptSrc: ["'self'"],
+        styleSrc: ["'self'", "'unsafe-inline'"],
+        imgSrc: ["'self'", 'data:'],
+        fontSrc: ["'self'", 'data:'],
+        connectSrc: ["'self'"],
+        objectSrc: ["'none'"],
+        baseUri: ["'self'"],
+        formAction: ["'self'"],
+        frameAncestors: ["'none'"],
+        ...(https ? { upgradeInsecureRequests: [] } : {}),
+      },
+    },
+    frameguard: { action: 'deny' },
+    referrerPolicy: { policy: 'same-origin' },
+    // Only over https: on http://127.0.0.1 the header would pin nothing and confuse a later https.
+    strictTransportSecurity: https ? { maxAge: 15552000, includeSubDomains: false } : false,
+  }));
 
   // The bare liveness route answers before any middleware: the benchmark's baseline.
   app.use(healthRoutes(ctx));
 
-  app.use('/api', (_req, res, next) => {
+  app.use('/api', (req, res, next) => {
     res.set('Cache-Control', 'no-store');
+    // PostgreSQL text cannot hold NUL: refuse it in paths and queries before it reaches a query.
+    if (/%00/.test(req.originalUrl)) {
+      res.status(400).json({ error: { code: 'bad-path', message: 'The address contains a NUL character (%00).' } });
+      return;
+    }
     next();
   });
-  app.use('/api', cookieParser(), authenticate(ctx));
+  app.use('/api', cookieParser(), sameOriginOnly(ctx), authenticate(ctx));
   for (const routes of [authRoutes, projectRoutes, branchRoutes, runRoutes, ruleRoutes, tokenRoutes, memberRoutes, userRoutes, watchRoutes, analyzeRoutes, devRoutes]) {
     app.use(routes(ctx));
   }
@@ -56,6 +86,7 @@ export function createApp(ctx: AppContext): Express {
     });
   });
 
-  app.use(errorHandler(ctx.log));
+  ctx.outage ??= outageMonitor(ctx.db.sequelize, ctx.log);
+  app.use(errorHandler(ctx.log, ctx.outage, ctx.config.outageRetrySeconds));
   return app;
 }

@@ -30,6 +30,14 @@ export interface Config {
   login: { windowMs: number; limit: number };
   trustProxy: boolean | number | string;
   invitationDays: number;
+  /** Worker threads of the analysis pool (POST /api/analyze). */
+  analyzeThreads: number;
+  /** Analyses per person per minute, and how long one may take. */
+  analyze: { limit: number; timeoutMs: number };
+  /** Uploads per CI token: a burst limit per minute and a quota per day. */
+  upload: { perMinute: number; perDay: number };
+  /** Seconds a client is told to wait (Retry-After) while the database is unreachable. */
+  outageRetrySeconds: number;
 }
 
 const MiB = 1024 * 1024;
@@ -90,6 +98,10 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env, overrides: Part
     login: { windowMs: num(env.PLEAT_LOGIN_WINDOW_MIN, 15) * 60_000, limit: num(env.PLEAT_LOGIN_LIMIT, 10) },
     trustProxy: trust === undefined ? false : trust === 'true' ? true : /^\d+$/.test(trust) ? Number(trust) : trust,
     invitationDays: num(env.PLEAT_INVITATION_DAYS, 7),
+    analyzeThreads: num(env.PLEAT_ANALYZE_THREADS, 0),
+    analyze: { limit: num(env.PLEAT_ANALYZE_LIMIT, 30), timeoutMs: num(env.PLEAT_ANALYZE_TIMEOUT_S, 60) * 1000 },
+    upload: { perMinute: num(env.PLEAT_UPLOAD_LIMIT, 120), perDay: num(env.PLEAT_UPLOAD_QUOTA, 10_000) },
+    outageRetrySeconds: num(env.PLEAT_OUTAGE_RETRY_S, 5),
     ...overrides,
   };
 }

@@ -1,6 +1,8 @@
 // What every route handler can reach: settings, the database, the mailer and a logger.
 import type { Config } from './config';
 import type { Db } from './db/index';
+import type { AnalyzePool } from './analyzePool';
+import type { OutageMonitor } from './http/outage';
 import type { Mailer } from './mail/mailer';
 
 export interface AppContext {
@@ -8,4 +10,8 @@ export interface AppContext {
   db: Db;
   mail: Mailer;
   log: (msg: string) => void;
+  /** The worker threads of POST /api/analyze; made on the first analysis, closed on shutdown. */
+  analyzer?: AnalyzePool;
+  /** Notices the database going away and coming back (server/http/outage.ts). */
+  outage?: OutageMonitor;
 }

@@ -65,6 +65,7 @@ async function main(command: string): Promise<void> {
       await new Promise((resolve) => setTimeout(resolve, 500));
       await mail.settled();
       mail.close();
+      await ctx.analyzer?.close();
       await db.close();
       process.exit(0);
     });

@@ -7,7 +7,7 @@ import { detectBuild } from '../ci/index';
 import { findConfig, loadConfig, type PleatConfig } from '../config';
 import { CliError, type CliContext, type RegisterCommand } from '../context';
 import { diagnosticLine } from '../format/common';
-import { requireGit, sendReport, serverSettings, uploadTarget } from '../upload/index';
+import { requireGit, sendReport, serverSettings, uploadProblem, uploadTarget } from '../upload/index';
 import type { Report } from '../../shared/types';
 
 interface UploadOptions {
@@ -75,6 +75,8 @@ export async function runUpload(file: string, opts: UploadOptions, ctx: CliConte
     if (!opts.quiet) for (const n of c.notes) say(`pleat: note: ${n}`);
   }
   requireGit(report.git);
+  const problem = uploadProblem(report);
+  if (problem) throw new CliError(`${file}: ${problem}; nothing was uploaded`);
 
   const ok = await sendReport(needsLookup ? JSON.stringify(report) : text, target, server.policy, {
     say,

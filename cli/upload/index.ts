@@ -3,6 +3,7 @@
 // keeping the report on disk, and one clear line per outcome. The token is never printed.
 import { mkdirSync, writeFileSync, existsSync } from 'node:fs';
 import path from 'node:path';
+import { checkUploadReport } from '../../shared/report/reportSchema';
 import { checkRules } from '../../shared/report/rules';
 import type { Report, Rules } from '../../shared/types';
 import type { PleatConfig } from '../config';
@@ -117,6 +118,17 @@ export function requireGit(git: Report['git']): void {
   }
 }
 
+/**
+ * The server's own check of an upload (shared/report/reportSchema.ts): a report it would refuse with 400
+ * is not sent, and the reason names the value. Null when the report can be sent.
+ */
+export function uploadProblem(report: unknown): string | null {
+  const checked = checkUploadReport(report);
+  if (checked.ok) return null;
+  const more = checked.problems.length > 1 ? ` (and ${checked.problems.length - 1} more)` : '';
+  return `the report is not one the server takes: ${checked.message}${more}`;
+}
+
 export interface SendOptions {
   say: (line: string) => void;
   quiet?: boolean;
@@ -174,6 +186,12 @@ export async function uploadAfterCheck(a: AfterCheck): Promise<boolean> {
       a.say(`pleat: warning: cannot keep the report in ${shown(a.cwd, kept)}: ${(e as Error).message}`);
       kept = null;
     }
+  }
+  const problem = uploadProblem(a.report);
+  if (problem) {
+    a.say(`pleat: upload failed (not sent): ${problem}`);
+    if (kept) a.say(`pleat: the report is kept in ${shown(a.cwd, kept)}`);
+    return false;
   }
   return sendReport(JSON.stringify(a.report), a.target, a.policy, { say: a.say, quiet: a.quiet, version: a.version, keptAs: kept ? shown(a.cwd, kept) : null });
 }

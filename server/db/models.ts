@@ -16,6 +16,7 @@ class UserModel extends Model<InferAttributes<UserModel>, InferCreationAttribute
   declare passwordHash: string | null;
   declare isAdmin: CreationOptional<boolean>;
   declare deactivatedAt: CreationOptional<Date | null>;
+  declare sessionEpoch: CreationOptional<number>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
 }
@@ -26,6 +27,7 @@ class ProjectModel extends Model<InferAttributes<ProjectModel>, InferCreationAtt
   declare name: string;
   declare baseBranch: CreationOptional<string>;
   declare regressionTolerance: CreationOptional<number>;
+  declare branchRunDays: CreationOptional<number | null>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
 }
@@ -155,6 +157,7 @@ export function defineModels(sequelize: Sequelize) {
     passwordHash: { type: DataTypes.TEXT },
     isAdmin: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: false },
     deactivatedAt: { type: DataTypes.DATE },
+    sessionEpoch: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 0 },
   }, { ...common, tableName: 'users', modelName: 'User' });
 
   Project.init({
@@ -163,6 +166,7 @@ export function defineModels(sequelize: Sequelize) {
     name: { type: DataTypes.TEXT, allowNull: false },
     baseBranch: { type: DataTypes.TEXT, allowNull: false, defaultValue: 'main' },
     regressionTolerance: { type: DataTypes.DOUBLE, allowNull: false, defaultValue: 0.05 },
+    branchRunDays: { type: DataTypes.INTEGER },
   }, { ...common, tableName: 'projects', modelName: 'Project' });
 
   Membership.init({

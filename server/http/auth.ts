@@ -40,6 +40,8 @@ export interface SessionClaims {
   sub: string;
   jti: string;
   exp: number;
+  /** The account's session epoch at sign-in (users.session_epoch); tokens without one are epoch 0. */
+  ep: number;
 }
 
 // jsonwebtoken turns a string secret into a key object on every call, first trying it as a public
@@ -51,10 +53,10 @@ function keyOf(secret: string): KeyObject {
   return k;
 }
 
-export function signSession(ctx: AppContext, userId: number): { token: string; jti: string; expiresAt: Date } {
+export function signSession(ctx: AppContext, userId: number, epoch = 0): { token: string; jti: string; expiresAt: Date } {
   const jti = randomUUID();
   const seconds = Math.round(ctx.config.sessionHours * 3600);
-  const token = jwt.sign({}, keyOf(ctx.config.jwtSecret), { algorithm: 'HS256', subject: String(userId), jwtid: jti, expiresIn: seconds });
+  const token = jwt.sign({ ep: epoch }, keyOf(ctx.config.jwtSecret), { algorithm: 'HS256', subject: String(userId), jwtid: jti, expiresIn: seconds });
   return { token, jti, expiresAt: new Date(Date.now() + seconds * 1000) };
 }
 
@@ -62,7 +64,9 @@ export function verifySession(ctx: AppContext, token: string): SessionClaims | n
   try {
     const claims = jwt.verify(token, keyOf(ctx.config.jwtSecret), { algorithms: ['HS256'] });
     if (typeof claims !== 'object' || !claims.sub || !claims.jti || !claims.exp) return null;
-    return { sub: claims.sub, jti: claims.jti, exp: claims.exp };
+    const ep = (claims as { ep?: unknown }).ep ?? 0;
+    if (typeof ep !== 'number' || !Number.isInteger(ep)) return null;
+    return { sub: claims.sub, jti: claims.jti, exp: claims.exp, ep };
   } catch {
     return null;
   }
@@ -72,8 +76,8 @@ function cookieOptions(ctx: AppContext): CookieOptions {
   return { httpOnly: true, sameSite: 'lax', secure: ctx.config.cookieSecure, path: '/' };
 }
 
-export function setSessionCookie(ctx: AppContext, res: Response, userId: number): void {
-  const s = signSession(ctx, userId);
+export function setSessionCookie(ctx: AppContext, res: Response, user: Pick<User, 'id' | 'sessionEpoch'>): void {
+  const s = signSession(ctx, user.id, user.sessionEpoch ?? 0);
   res.cookie(SESSION_COOKIE, s.token, { ...cookieOptions(ctx), expires: s.expiresAt });
 }
 
@@ -115,11 +119,12 @@ export function authenticate(ctx: AppContext): RequestHandler {
         req.authProblem = 'Your session is not valid or has expired; sign in again.';
         return next();
       }
-      // One round trip: the account, unless it is deactivated or this session was signed out.
+      // One round trip: the account, unless it is deactivated, was deactivated after this session
+      // began (its epoch moved on), or this session was signed out.
       const [user] = await ctx.db.sequelize.query<User>(
-        `SELECT * FROM users WHERE id = $1 AND deactivated_at IS NULL
+        `SELECT * FROM users WHERE id = $1 AND deactivated_at IS NULL AND session_epoch = $3
            AND NOT EXISTS (SELECT 1 FROM revoked_sessions WHERE jti = $2)`,
-        { bind: [userId, claims.jti], model: User, mapToModel: true },
+        { bind: [userId, claims.jti, claims.ep], model: User, mapToModel: true },
       );
       if (!user) {
         req.authProblem = 'Your session has ended; sign in again.';

@@ -1,5 +1,6 @@
 // Request bodies are checked against JSON Schemas (ajv) before a handler reads them.
 import { Ajv, type ValidateFunction } from 'ajv';
+import { storableJsonProblems } from '../../shared/report/reportSchema';
 import { badRequest } from './errors';
 
 const ajv = new Ajv({ allErrors: true, strict: false });
@@ -10,6 +11,9 @@ export type Check<T> = (body: unknown) => T;
 export function checker<T>(schema: object, what = 'request body'): Check<T> {
   const validate: ValidateFunction = ajv.compile(schema);
   return (body) => {
+    // NUL, lone surrogates and deep nesting pass JSON but not PostgreSQL: refused here as 400.
+    const unstorable = storableJsonProblems(body);
+    if (unstorable.length) throw badRequest(`The ${what} is not valid: ${unstorable[0]!.path} ${unstorable[0]!.message}.`, unstorable);
     if (validate(body)) return body as T;
     const problems = (validate.errors ?? []).slice(0, 20).map((e) => ({
       path: e.instancePath || '/',

@@ -66,7 +66,7 @@ export async function makeInvitation(ctx: AppContext, project: Project | null, o
 
 /** The Cookie header of a signed-in session of this user. */
 export function cookieFor(ctx: AppContext, user: User): string {
-  return `${SESSION_COOKIE}=${signSession(ctx, user.id).token}`;
+  return `${SESSION_COOKIE}=${signSession(ctx, user.id, user.sessionEpoch ?? 0).token}`;
 }
 
 /** Everyone the access tests need: one person per role in `project`, and a lead of another project. */

@@ -29,6 +29,8 @@ export async function startTestServer(opts: { mail?: boolean; config?: Partial<C
     PLEAT_JWT_SECRET: 'test-secret-not-used-anywhere-else',
     PLEAT_BCRYPT_ROUNDS: '4',
     PLEAT_LOGIN_LIMIT: '1000',
+    PLEAT_UPLOAD_LIMIT: '100000',
+    PLEAT_ANALYZE_LIMIT: '1000',
     PLEAT_PUBLIC_URL: 'http://pleat.test',
     ...(smtp ? { PLEAT_SMTP_HOST: '127.0.0.1', PLEAT_SMTP_PORT: String(smtp.port) } : { PLEAT_SMTP_HOST: 'none' }),
   }, opts.config);
@@ -47,6 +49,7 @@ export async function startTestServer(opts: { mail?: boolean; config?: Partial<C
       await new Promise<void>((resolve) => server.close(() => resolve()));
       await mail.settled();
       mail.close();
+      await ctx.analyzer?.close();
       await smtp?.close();
       await db.drop();
     },

@@ -140,4 +140,17 @@ describe('pleat upload REPORT.json', () => {
     expect(r.stderr).toMatch(/is not a pleat report/);
     expect(s.requests.length).toBe(before);
   });
+
+  it('checks the report against the server\'s schema (shared/report/reportSchema.ts) and sends nothing the server would refuse', async () => {
+    const commit = randomCommit();
+    const report = JSON.parse((await run(['check', '--format', 'json'], repo, { PLEAT_BRANCH: 'main', PLEAT_COMMIT: commit })).stdout);
+    report.designs[0].edges = [null];
+    const bad = write(repo, 'reports/null-edge.json', JSON.stringify(report));
+    const before = s.requests.length;
+    const r = await run(['upload', bad], repo, { PLEAT_TOKEN: token });
+    expect(r.exitCode).toBe(2);
+    expect(r.stderr).toMatch(/the report is not one the server takes: \/designs\/0\/edges\/0 must be object/);
+    expect(s.requests.length).toBe(before);
+    expect(await runsOf(s.db, commit)).toHaveLength(0);
+  });
 });

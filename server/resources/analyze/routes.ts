@@ -7,8 +7,9 @@ import type { Rules } from '../../../shared/types';
 import type { AppContext } from '../../context';
 import { projectAccess, type ProjectRole } from '../../http/access';
 import { requireUser } from '../../http/auth';
-import { allow, badRequest } from '../../http/errors';
-import { checkDesignText } from '../../engine';
+import { createAnalyzePool } from '../../analyzePool';
+import { HttpError, allow, badRequest } from '../../http/errors';
+import { pgLimiter } from '../../http/limits';
 import { canAnalyze } from './policy';
 
 export function analyzeRoutes(ctx: AppContext): Router {
@@ -27,7 +28,14 @@ export function analyzeRoutes(ctx: AppContext): Router {
     next();
   };
 
-  router.post('/api/analyze', gate, upload, async (req, res) => {
+  // Per person, counted in PostgreSQL: one account cannot keep every worker thread busy.
+  const perUser = pgLimiter(ctx.db.sequelize, {
+    prefix: 'analyze:', windowMs: 60_000, limit: ctx.config.analyze.limit,
+    key: (req) => String(req.actor?.kind === 'user' ? req.actor.user.id : 0),
+    message: `At most ${ctx.config.analyze.limit} analyses a minute per person.`,
+  });
+
+  router.post('/api/analyze', gate, perUser, upload, async (req, res) => {
     const file = req.file;
     if (!file) throw badRequest('Send the design file as multipart form field "design".');
     let teamRules: Rules | null = null;
@@ -38,8 +46,21 @@ export function analyzeRoutes(ctx: AppContext): Router {
       teamRules = ((await TeamRules.findByPk(project.id))?.rules ?? null) as Rules | null;
     }
     const name = basename(file.originalname || 'design.fold.yaml').slice(0, 255);
-    const result = checkDesignText(file.buffer.toString('utf8'), name, teamRules);
-    res.json(result);
+    // Off the request thread: a design of 100,000 edges takes seconds, and health checks and other
+    // people's requests go on meanwhile. A full queue is 503 (try again), a run past the time
+    // limit stops its thread.
+    ctx.analyzer ??= createAnalyzePool({ threads: ctx.config.analyzeThreads || undefined });
+    const signal = AbortSignal.timeout(ctx.config.analyze.timeoutMs);
+    try {
+      res.json(await ctx.analyzer.run({ text: file.buffer.toString('utf8'), file: name, teamRules }, signal));
+    } catch (err) {
+      if (signal.aborted) throw new HttpError(422, 'analysis-timeout', `The analysis took longer than ${ctx.config.analyze.timeoutMs / 1000} s and was stopped; check the design with the CLI.`);
+      if (err instanceof Error && /queue is at limit/i.test(err.message)) {
+        res.set('Retry-After', '5');
+        throw new HttpError(503, 'busy', 'Every analysis thread is busy; try again in a few seconds.');
+      }
+      throw err;
+    }
   });
 
   return router;

@@ -48,7 +48,7 @@ export function authRoutes(ctx: AppContext): Router {
     const user = await User.findOne({ where: { email: normalEmail(body.email) } });
     const ok = await bcrypt.compare(body.password, user?.passwordHash ?? DUMMY_HASH);
     if (!ok || !canSignIn(user)) throw new HttpError(401, 'bad-credentials', 'Wrong e-mail or password, or the account is deactivated.');
-    setSessionCookie(ctx, res, user.id);
+    setSessionCookie(ctx, res, user);
     res.json({ user: publicUser(user), memberships: await memberships(user.id) });
   });
 

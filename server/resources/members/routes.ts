@@ -4,9 +4,9 @@
 //   GET /api/invitations/:token, POST /api/invitations/:token/accept (public, with the link's secret).
 import bcrypt from 'bcryptjs';
 import express, { Router } from 'express';
-import { Op } from 'sequelize';
+import { Op, QueryTypes } from 'sequelize';
 import type { AppContext } from '../../context';
-import type { Membership, Project, Role } from '../../db/models';
+import type { Membership, Project, Role, User as UserRow } from '../../db/models';
 import { projectAccess } from '../../http/access';
 import { hashSecret, requireUser, setSessionCookie } from '../../http/auth';
 import { HttpError, allow, badRequest, conflict, gone, notFound } from '../../http/errors';
@@ -45,18 +45,33 @@ export function memberRoutes(ctx: AppContext): Router {
     return { project, user: requireUser(req) };
   }
 
-  /** A project keeps at least one lead, so someone can always manage it without an admin. */
-  async function keepALead(project: Project, m: Membership, newRole: Role | null) {
-    if (m.role !== 'lead' || newRole === 'lead') return;
-    const leads = await Membership.count({ where: { projectId: project.id, role: 'lead' } });
-    if (leads <= 1) throw conflict('This is the project\'s last lead; make someone else lead first.', 'last-lead');
-  }
-
-  async function membershipOf(project: Project, userIdParam: string | undefined) {
+  /**
+   * Re-roles (newRole) or removes (null) a member. A project keeps at least one lead, so someone
+   * can always manage it without an admin. Every change of a project's roles first locks the
+   * project's row (FOR NO KEY UPDATE: uploads, which only take a key-share lock through the
+   * foreign key, are not held up), so two changes of one project run one after the other and the
+   * second counts the leads the first left. A check outside the lock would let two leads demote
+   * each other at once.
+   */
+  async function changeMember(project: Project, userIdParam: string | undefined, newRole: Role | null): Promise<Membership> {
     const userId = idParam(userIdParam);
-    const m = userId === null ? null : await Membership.findOne({ where: { projectId: project.id, userId }, include: [{ model: User, as: 'user' }] });
-    if (!m) throw notFound('No such member in this project.');
-    return m;
+    if (userId === null) throw notFound('No such member in this project.');
+    return ctx.db.sequelize.transaction(async (transaction) => {
+      await ctx.db.sequelize.query('SELECT 1 FROM projects WHERE id = $1 FOR NO KEY UPDATE', { bind: [project.id], transaction });
+      const m = await Membership.findOne({ where: { projectId: project.id, userId }, include: [{ model: User, as: 'user' }], transaction });
+      if (!m) throw notFound('No such member in this project.');
+      if (m.role === 'lead' && newRole !== 'lead') {
+        const leads = await Membership.count({ where: { projectId: project.id, role: 'lead' }, transaction });
+        if (leads <= 1) throw conflict('This is the project\'s last lead; make someone else lead first.', 'last-lead');
+      }
+      if (newRole) {
+        await m.update({ role: newRole }, { transaction });
+      } else {
+        await Watch.destroy({ where: { projectId: project.id, userId: m.userId }, transaction });
+        await m.destroy({ transaction });
+      }
+      return m;
+    });
   }
 
   router.get('/api/projects/:slug/members', async (req, res) => {
@@ -87,20 +102,13 @@ export function memberRoutes(ctx: AppContext): Router {
   router.patch('/api/projects/:slug/members/:userId', json, async (req, res) => {
     const { project } = await managed(req);
     const { role: newRole } = checkRole(req.body);
-    const m = await membershipOf(project, req.params.userId);
-    await keepALead(project, m, newRole);
-    await m.update({ role: newRole });
+    const m = await changeMember(project, req.params.userId, newRole);
     res.json({ member: presentMember(m) });
   });
 
   router.delete('/api/projects/:slug/members/:userId', async (req, res) => {
     const { project } = await managed(req);
-    const m = await membershipOf(project, req.params.userId);
-    await keepALead(project, m, null);
-    await ctx.db.sequelize.transaction(async (transaction) => {
-      await Watch.destroy({ where: { projectId: project.id, userId: m.userId }, transaction });
-      await m.destroy({ transaction });
-    });
+    await changeMember(project, req.params.userId, null);
     res.status(204).end();
   });
 
@@ -139,26 +147,48 @@ export function memberRoutes(ctx: AppContext): Router {
   router.post('/api/invitations/:token/accept', json, async (req, res) => {
     const inv = await byToken(req.params.token);
     const body = checkAccept(req.body ?? {});
-    const existing = await User.findOne({ where: { email: inv.email } });
-    if (existing?.deactivatedAt) throw new HttpError(403, 'user-deactivated', 'This account is deactivated.');
-    if (!existing && (!body.name || !body.password)) throw badRequest('Choose a name and a password (at least 8 characters).');
-    const hash = existing ? null : await bcrypt.hash(body.password!, ctx.config.bcryptRounds);
-    const user = await ctx.db.sequelize.transaction(async (transaction) => {
-      // Claim the invitation first: of two concurrent accepts only one gets here.
-      const [claimed] = await Invitation.update({ acceptedAt: new Date() }, { where: { id: inv.id, acceptedAt: { [Op.is]: null } }, transaction });
+    const before = await User.findOne({ where: { email: inv.email } });
+    if (before?.deactivatedAt) throw new HttpError(403, 'user-deactivated', 'This account is deactivated.');
+    if (!before && (!body.name || !body.password)) throw badRequest('Choose a name and a password (at least 8 characters).');
+    const hash = before ? null : await bcrypt.hash(body.password!, ctx.config.bcryptRounds);
+    const q = ctx.db.sequelize;
+    const { user, created, role } = await q.transaction(async (transaction) => {
+      // Claim the invitation first: of two concurrent accepts of one link only one gets here.
+      const [claimed] = await Invitation.update({ acceptedAt: new Date() }, {
+        where: { id: inv.id, acceptedAt: { [Op.is]: null }, expiresAt: { [Op.gt]: new Date() } }, transaction,
+      });
       if (!claimed) throw gone('This invitation has been used already; sign in instead.', 'invitation-used');
-      // An existing account keeps its password: the link only adds the membership.
-      const u = existing ?? await User.create({ email: inv.email, name: body.name!, passwordHash: hash }, { transaction });
-      if (inv.isAdmin && !u.isAdmin) await u.update({ isAdmin: true }, { transaction });
-      if (inv.projectId && inv.role) {
-        const [m, created] = await Membership.findOrCreate({ where: { projectId: inv.projectId, userId: u.id }, defaults: { projectId: inv.projectId, userId: u.id, role: inv.role }, transaction });
-        if (!created) await m.update({ role: inv.role }, { transaction });
+      // Two links for one new address accepted at once: the unique e-mail decides which makes the
+      // account (ON CONFLICT waits for the other insert to commit); the other joins that account.
+      let made: UserRow | undefined;
+      if (hash) {
+        [made] = await q.query<UserRow>(
+          `INSERT INTO users (email, name, password_hash) VALUES ($1, $2, $3) ON CONFLICT (email) DO NOTHING RETURNING *`,
+          { bind: [inv.email, body.name!, hash], model: User, mapToModel: true, transaction },
+        );
       }
-      return u;
+      const u = made ?? await User.findOne({ where: { email: inv.email }, transaction });
+      if (!u) throw gone('The account of this invitation is gone; ask for a new one.', 'invitation-used');
+      if (u.deactivatedAt) throw new HttpError(403, 'user-deactivated', 'This account is deactivated.');
+      if (inv.isAdmin && !u.isAdmin) await u.update({ isAdmin: true }, { transaction });
+      let finalRole: Role | null = inv.role;
+      if (inv.projectId && inv.role) {
+        // An invitation adds a member or raises a role, never lowers one: an old link must not
+        // demote someone made lead since (possibly the project's last lead).
+        const [row] = await q.query<{ role: Role }>(
+          `INSERT INTO memberships (project_id, user_id, role) VALUES ($1, $2, $3)
+           ON CONFLICT (project_id, user_id) DO UPDATE SET role = EXCLUDED.role, updated_at = now()
+             WHERE array_position(ARRAY['viewer', 'engineer', 'lead'], EXCLUDED.role) > array_position(ARRAY['viewer', 'engineer', 'lead'], memberships.role)
+           RETURNING role`,
+          { bind: [inv.projectId, u.id, inv.role], type: QueryTypes.SELECT, transaction },
+        );
+        finalRole = row?.role ?? (await Membership.findOne({ where: { projectId: inv.projectId, userId: u.id }, transaction }))!.role;
+      }
+      return { user: u, created: !!made, role: finalRole };
     });
     // A new account is signed in at once; an existing one signs in with its own password.
-    if (!existing) setSessionCookie(ctx, res, user.id);
-    res.json({ user: publicUser(user), project: inv.project ? { slug: inv.project.slug, name: inv.project.name } : null, role: inv.role, signedIn: !existing });
+    if (created) setSessionCookie(ctx, res, user);
+    res.json({ user: publicUser(user), project: inv.project ? { slug: inv.project.slug, name: inv.project.name } : null, role, signedIn: created });
   });
 
   return router;

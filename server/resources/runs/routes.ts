@@ -8,15 +8,21 @@ import type { AppContext } from '../../context';
 import type { Project } from '../../db/models';
 import { projectAccess } from '../../http/access';
 import { HttpError, allow, badRequest, notFound, unauthorized } from '../../http/errors';
-import { checker, idParam } from '../../http/validate';
+import { pgLimiter } from '../../http/limits';
+import { idParam } from '../../http/validate';
 import { afterResponse } from '../../mail/mailer';
 import { compareRun, RUN_COLUMNS, type DesignRow, type RunRow } from './compare';
 import { ingestRun } from './ingest';
 import { notifyWatchers } from './notify';
 import { canReadRuns, canUploadRun } from './policy';
-import { uploadSchema } from './schema';
+import { MAX_INT32, checkUploadReport } from '../../../shared/report/reportSchema';
 
-const checkUpload = checker<Report>(uploadSchema, 'report');
+/** The report's schema and storable-value check of shared/report/reportSchema.ts (the CLI runs the same before sending). */
+function checkUpload(body: unknown): Report {
+  const checked = checkUploadReport(body);
+  if (!checked.ok) throw badRequest(`The report is not valid: ${checked.message}.`, checked.problems);
+  return checked.report;
+}
 
 export function presentRun(r: RunRow) {
   return {
@@ -58,9 +64,10 @@ export function encodeCursor(r: { created_at: Date; id: number }): string {
 }
 
 function decodeCursor(cursor: string): { at: Date; id: number } {
-  const m = /^(\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d(?:\.\d{1,3})?Z),(\d{1,10})$/.exec(cursor);
+  const m = cursor.length <= 64 ? /^(\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d(?:\.\d{1,3})?Z),(\d{1,10})$/.exec(cursor) : null;
   const at = m ? new Date(m[1]!) : null;
-  if (!m || !at || Number.isNaN(at.getTime())) throw badRequest('The cursor is not one this server gave out.');
+  // An id beyond the integer column is not one this server gave out (PostgreSQL would refuse it).
+  if (!m || !at || Number.isNaN(at.getTime()) || Number(m[2]) > MAX_INT32) throw badRequest('The cursor is not one this server gave out.');
   return { at, id: Number(m[2]) };
 }
 
@@ -153,7 +160,17 @@ export function runRoutes(ctx: AppContext): Router {
     res.locals.project = project;
     next();
   };
-  router.post('/api/projects/:slug/runs', uploadAccess, express.json({ limit: ctx.config.maxReportBytes }), async (req, res) => {
+  // Per CI token: a burst limit per minute and a quota per day, counted in PostgreSQL.
+  const tokenKey = (req: Request) => String(req.actor?.kind === 'ci' ? req.actor.token.id : 0);
+  const perMinute = pgLimiter(q, {
+    prefix: 'upload-minute:', windowMs: 60_000, limit: ctx.config.upload.perMinute, key: tokenKey,
+    message: `At most ${ctx.config.upload.perMinute} uploads a minute per CI token.`,
+  });
+  const perDay = pgLimiter(q, {
+    prefix: 'upload-day:', windowMs: 24 * 3600_000, limit: ctx.config.upload.perDay, key: tokenKey,
+    message: `This CI token has used its quota of ${ctx.config.upload.perDay} uploads a day.`,
+  });
+  router.post('/api/projects/:slug/runs', uploadAccess, perMinute, perDay, express.json({ limit: ctx.config.maxReportBytes }), async (req, res) => {
     const project = res.locals.project as Project;
     const report = checkUpload(req.body);
     const stored = await ingestRun(ctx, project, report);

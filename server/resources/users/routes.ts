@@ -65,11 +65,14 @@ export function userRoutes(ctx: AppContext): Router {
     if (body.active === false || body.isAdmin === false) {
       allow(canChangeOwnAccess(actor, target), 'You cannot deactivate or demote your own account.');
     }
+    const deactivating = body.active === false && !target.deactivatedAt;
     await target.update({
       ...(body.name !== undefined ? { name: body.name } : {}),
       ...(body.isAdmin !== undefined ? { isAdmin: body.isAdmin } : {}),
       ...(body.active !== undefined ? { deactivatedAt: body.active ? null : (target.deactivatedAt ?? new Date()) } : {}),
     });
+    // Sessions issued before a deactivation stay dead after a reactivation: their epoch is old.
+    if (deactivating) await target.increment('sessionEpoch');
     res.json({ user: publicUser(target) });
   });
 

@@ -39,7 +39,7 @@ describe('users', () => {
     expect(accepted.body.user).toMatchObject({ email: 'bo@example.test', isAdmin: true });
   });
 
-  it('deactivates an account: its sessions and sign-in stop working; reactivation restores sign-in', async () => {
+  it('deactivates an account: its sessions and sign-in stop working; reactivation restores sign-in, not the old sessions', async () => {
     const u = await makeUser(t.ctx);
     const cookie = cookieFor(t.ctx, u);
     const off = await t.http().patch(`/api/users/${u.id}`).set(asAdmin()).send({ active: false });
@@ -47,7 +47,9 @@ describe('users', () => {
     expect((await t.http().get('/api/auth/me').set('Cookie', cookie)).status).toBe(401);
     const on = await t.http().patch(`/api/users/${u.id}`).set(asAdmin()).send({ active: true });
     expect(on.body.user.active).toBe(true);
-    expect((await t.http().get('/api/auth/me').set('Cookie', cookie)).status).toBe(200);
+    expect((await t.http().get('/api/auth/me').set('Cookie', cookie)).status).toBe(401);
+    await u.reload();
+    expect((await t.http().get('/api/auth/me').set('Cookie', cookieFor(t.ctx, u))).status).toBe(200);
   });
 
   it('does not let an admin deactivate or demote themselves', async () => {
