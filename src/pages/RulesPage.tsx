@@ -238,7 +238,7 @@ function RulesForm({ slug, data }: { slug: string; data: TeamRules }) {
     const reading = readPercent(draft[k], 100);
     const noteId = `rule-${k}-note`;
     return (
-      <div className="grid grid-cols-[minmax(0,1fr)_9rem] items-start gap-3 py-2.5">
+      <div className="grid grid-cols-[minmax(0,1fr)_9rem] sm:grid-cols-[minmax(0,1fr)_11rem] items-start gap-3 py-2.5">
         <label htmlFor={`rule-${k}`}>
           <span className="block font-medium">{ruleLabel[k]}</span>
           <span className="block text-xs text-ink-600">{help[k]} In per cent, 0 to 100. Empty: not set.</span>
@@ -288,12 +288,13 @@ function RulesForm({ slug, data }: { slug: string; data: TeamRules }) {
       </div>
       {percentField('min_utilization')}
       {percentField('min_unit_utilization')}
-      <div className="grid grid-cols-[minmax(0,1fr)_9rem] items-start gap-3 py-2.5">
+      <div className="grid grid-cols-[minmax(0,1fr)_9rem] sm:grid-cols-[minmax(0,1fr)_11rem] items-start gap-3 py-2.5">
         <label htmlFor="rule-max_registers">
           <span className="block font-medium">{ruleLabel.max_registers}</span>
           <span className="block text-xs text-ink-600">{help.max_registers} Empty: not set.</span>
         </label>
         <div>
+          <div className="flex items-center gap-1.5">
           <input
             id="rule-max_registers"
             name="max_registers"
@@ -304,6 +305,9 @@ function RulesForm({ slug, data }: { slug: string; data: TeamRules }) {
             aria-describedby={problems.max_registers ? 'rule-max_registers-problem' : undefined}
             onChange={(e) => setDraft({ ...draft, max_registers: e.target.value })}
           />
+            {/* The same width as the `%` of the other fields, so the inputs line up. */}
+            <span className="w-4" aria-hidden="true" />
+          </div>
           {problems.max_registers && (
             <p id="rule-max_registers-problem" className="mt-1 text-xs text-fail-700">
               {problems.max_registers}
@@ -311,7 +315,7 @@ function RulesForm({ slug, data }: { slug: string; data: TeamRules }) {
           )}
         </div>
       </div>
-      <div className="grid grid-cols-[minmax(0,1fr)_9rem] items-start gap-3 py-2.5">
+      <div className="grid grid-cols-[minmax(0,1fr)_9rem] sm:grid-cols-[minmax(0,1fr)_11rem] items-start gap-3 py-2.5">
         <label htmlFor="regression-tolerance">
           <span className="block font-medium">Regression tolerance</span>
           <span className="block text-xs text-ink-600">Watchers get e-mail when a run gets worse than the base branch by more than this. In per cent.</span>
