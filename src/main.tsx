@@ -6,6 +6,7 @@ import { RouterProvider } from 'react-router-dom';
 import '@fontsource/space-grotesk/400.css';
 import '@fontsource/space-grotesk/500.css';
 import '@fontsource/space-grotesk/700.css';
+import '@fontsource/jetbrains-mono/400.css';
 import './index.css';
 import { queryClient } from './api/queryClient';
 import { router } from './App';

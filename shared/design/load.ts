@@ -6,6 +6,7 @@ import { diag, diagAt, sortDiagnostics } from './diagnostics';
 import { validateDesign } from './validate';
 import { locate, plainScalarTexts } from './positions';
 import { decimalToRational, isDecimalText } from '../fraction';
+import { offsetOf, openConstructBefore } from './unclosed';
 
 export interface Limits {
   /** Largest file, in bytes of UTF-8. */
@@ -91,7 +92,11 @@ function yamlDiagnostic(err: unknown, text: string): Diagnostic {
     const [l, c] = secondDocument(text);
     return diagAt('yaml-syntax', 'YAML syntax: the file holds more than one document; a design file holds exactly one', l, c);
   }
-  return diagAt('yaml-syntax', `YAML syntax: ${reason}`, line, column);
+  // The parser stops where it noticed the problem; a bracket or quote left open is often lines
+  // earlier, so the message names where it was opened as well.
+  const open = openConstructBefore(text, offsetOf(text, line, column));
+  const left = open ? `; the \`${open.char}\` opened at ${open.line}:${open.column} is never closed` : '';
+  return diagAt('yaml-syntax', `YAML syntax: ${reason}${left}`, line, column);
 }
 
 /**

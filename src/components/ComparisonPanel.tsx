@@ -2,7 +2,7 @@ import { Link } from 'react-router-dom';
 import type { Comparison, DesignDelta, Metric, Regression } from '../api/types';
 import { StatusBadge } from './StatusBadge';
 import { dateTime, pct, shortCommit } from './format';
-import { ColumnHeads, tableClass } from './Panel';
+import { ColumnHeads, tableClass, ScrollRegion } from './Panel';
 
 const regressionLabel: Record<Regression, string> = {
   status: 'no longer passes',
@@ -82,7 +82,7 @@ export function ComparisonPanel({ comparison: c, slug, design, onSelectDesign }:
       )}
       {c.baseRun && rows.length === 0 && <p className="text-sm text-ink-600">The base run has no design of this name.</p>}
       {rows.length > 0 && (
-        <div className="overflow-x-auto rounded-lg border border-ink-200">
+        <ScrollRegion label="Changes of each design against the base run" className="rounded-lg border border-ink-200">
           <table className={tableClass.table}>
             <caption className="sr-only">Changes of each design against the base run</caption>
             <ColumnHeads columns={['Design', 'Status (base → now)', 'Utilization', 'Registers', 'Violations', `Beyond tolerance (${pct(c.tolerance, 0)})`]} />
@@ -121,7 +121,7 @@ export function ComparisonPanel({ comparison: c, slug, design, onSelectDesign }:
               ))}
             </tbody>
           </table>
-        </div>
+        </ScrollRegion>
       )}
     </div>
   );

@@ -184,7 +184,7 @@ function RegisterLoadGrid({ tables, factor }: { tables: RegisterTable[]; factor:
           const load = tables[i].loads[t] ?? null;
           if (load === null)
             return (
-              <span className="block text-ink-300" title={tables[i].holds[t] ? `holds ${tables[i].holds[t]}` : 'holds'}>
+              <span className="block text-ink-500" title={tables[i].holds[t] ? `holds ${tables[i].holds[t]}` : 'holds'}>
                 <span aria-hidden="true">—</span>
                 <span className="sr-only">holds</span>
               </span>

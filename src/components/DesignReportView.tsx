@@ -32,6 +32,10 @@ export function DesignReportView({
 }) {
   const valid = design.status !== 'error' && design.factor != null;
   const negatives = design.edges?.filter((e) => e.foldedDelay !== null && e.foldedDelay < 0).length ?? 0;
+  // With negative folded delays that no retiming removes, the folded hardware cannot be built as
+  // planned: the report's "retimed" delays are then only the design's own, and its sample rate
+  // is that of hardware that does not exist. Neither is shown as if it did.
+  const datapath = design.retiming ? design.retiming.feasible : true;
   const sections: [string, string][] = valid
     ? [
         ['rules', 'Rules'],
@@ -75,10 +79,14 @@ export function DesignReportView({
               value={design.iterationBound ? (design.iterationBound.denominator === 1 ? design.iterationBound.numerator : `${design.iterationBound.numerator}/${design.iterationBound.denominator}`) : '—'}
               hint={design.iterationBound ? 'time units' : 'no loops'}
             />
-            <Stat label="Sample rate" value={design.sampleRateMHz != null ? `${num(design.sampleRateMHz)} MHz` : '—'} hint={design.samplePeriodNs != null ? `${num(design.samplePeriodNs)} ns period` : 'no clock_ns given'} />
+            <Stat
+              label="Sample rate"
+              value={datapath && design.sampleRateMHz != null ? `${num(design.sampleRateMHz)} MHz` : '—'}
+              hint={!datapath ? 'no feasible datapath' : design.samplePeriodNs != null ? `${num(design.samplePeriodNs)} ns period` : 'no clock_ns given'}
+            />
           </dl>
 
-          <nav aria-label="Sections of this design" className="sticky top-14 z-20 -mx-1 flex flex-wrap gap-1 rounded-lg bg-paper/95 px-1 py-1.5 backdrop-blur">
+          <nav aria-label="Sections of this design" className="z-20 -mx-1 flex flex-wrap gap-1 rounded-lg bg-paper/95 px-1 py-1.5 backdrop-blur sm:sticky sm:top-14">
             {sections.map(([id, label]) => (
               <a key={id} href={`#${id}`} className="rounded-md px-2.5 py-1 text-sm font-medium text-ink-700 hover:bg-ink-100 hover:text-ink-950">
                 {label}
@@ -108,8 +116,8 @@ export function DesignReportView({
             </Panel>
           )}
 
-          <Panel id="edges" title="Edges" subtitle="Folded delay D_F = N·w − P(U) + slot(V) − slot(U), before and after retiming">
-            <EdgeTable edges={design.edges ?? []} retimingNeeded={design.retiming?.needed} />
+          <Panel id="edges" title="Edges" subtitle={datapath ? 'Folded delay D_F = N·w − P(U) + slot(V) − slot(U), before and after retiming' : 'Folded delay D_F = N·w − P(U) + slot(V) − slot(U); no retiming exists for this plan'}>
+            <EdgeTable edges={design.edges ?? []} retiming={!design.retiming?.needed ? 'not-needed' : datapath ? 'retimed' : 'impossible'} />
           </Panel>
 
           <div className="grid gap-5 2xl:grid-cols-[3fr_2fr]">
@@ -158,6 +166,7 @@ export function DesignReportView({
               factorLowerBound={design.factorLowerBound ?? undefined}
               samplePeriodNs={design.samplePeriodNs}
               sampleRateMHz={design.sampleRateMHz}
+              datapath={datapath}
             />
           </Panel>
         </>

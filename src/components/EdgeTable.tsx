@@ -16,7 +16,16 @@ const ROW_HEIGHT = 37;
  * DOM (a design may have many thousands of edges); spacer rows keep the table's semantics and
  * aria-rowindex tells a screen reader where each row sits.
  */
-export function EdgeTable({ edges, retimingNeeded }: { edges: EdgeResult[]; retimingNeeded?: boolean }) {
+export function EdgeTable({
+  edges,
+  retiming = 'not-needed',
+}: {
+  edges: EdgeResult[];
+  /** 'impossible': no retiming exists, so the report's retimed delays are the design's own and are not shown. */
+  retiming?: 'not-needed' | 'retimed' | 'impossible';
+}) {
+  const showRetimed = retiming !== 'impossible';
+  const columns = showRetimed ? 7 : 5;
   const [filter, setFilter] = useState('');
   const [onlyNegative, setOnlyNegative] = useState(false);
   const [sort, setSort] = useState<{ key: SortKey; dir: 1 | -1 }>({ key: 'index', dir: 1 });
@@ -79,6 +88,12 @@ export function EdgeTable({ edges, retimingNeeded }: { edges: EdgeResult[]; reti
 
   return (
     <div>
+      {!showRetimed && (
+        <p className="mb-3 rounded-lg border border-fail-600/30 bg-fail-100/60 px-3 py-2 text-sm text-fail-700" data-testid="no-retimed-datapath">
+          No retimed datapath exists: no retiming removes the negative folded delays of this plan, so the table has no retimed
+          columns. <a href="#retiming" className="font-medium underline underline-offset-2">The loop that prevents it</a> is under Retiming.
+        </p>
+      )}
       <div className="mb-3 flex flex-wrap items-center gap-4">
         <label className="flex items-center gap-2 text-sm whitespace-nowrap text-ink-700">
           <span>Filter by node</span>
@@ -108,7 +123,9 @@ export function EdgeTable({ edges, retimingNeeded }: { edges: EdgeResult[]; reti
       >
         <table className={tableClass.table} aria-rowcount={rows.length + 1}>
           <caption id={captionId} className="sr-only">
-            Edges with their delays, folded delays and retimed delays; negative folded delays are marked
+            {showRetimed
+              ? 'Edges with their delays, folded delays and retimed delays; negative folded delays are marked'
+              : 'Edges with their delays and folded delays; no retiming exists, so there are no retimed delays; negative folded delays are marked'}
           </caption>
           <thead>
             <tr aria-rowindex={1}>
@@ -117,14 +134,14 @@ export function EdgeTable({ edges, retimingNeeded }: { edges: EdgeResult[]; reti
               {header('to', 'To', undefined, false)}
               {header('delays', 'Delays w', 'Delays on the edge in the design')}
               {header('foldedDelay', 'Folded D_F', 'Registers between the units of the two nodes before retiming')}
-              {header('retimedDelays', 'Retimed w_r', 'Delays after retiming')}
-              {header('retimedFoldedDelay', 'Retimed D_F', 'Folded delay after retiming')}
+              {showRetimed && header('retimedDelays', 'Retimed w_r', 'Delays after retiming')}
+              {showRetimed && header('retimedFoldedDelay', 'Retimed D_F', 'Folded delay after retiming')}
             </tr>
           </thead>
           <tbody>
             {padTop > 0 && (
               <tr aria-hidden="true">
-                <td colSpan={7} style={{ height: padTop, padding: 0, border: 0 }} />
+                <td colSpan={columns} style={{ height: padTop, padding: 0, border: 0 }} />
               </tr>
             )}
             {items.map((vi) => {
@@ -146,19 +163,23 @@ export function EdgeTable({ edges, retimingNeeded }: { edges: EdgeResult[]; reti
                   <td className={`${tableClass.td} text-right`}>
                     <FoldedDelay value={e.foldedDelay} />
                   </td>
-                  <td className={`${tableClass.td} text-right ${retimed ? 'font-bold text-ember-700' : ''}`}>
-                    {e.retimedDelays}
-                    {retimed && <span className="sr-only"> (changed by retiming)</span>}
-                  </td>
-                  <td className={`${tableClass.td} text-right`}>
-                    <FoldedDelay value={e.retimedFoldedDelay} />
-                  </td>
+                  {showRetimed && (
+                    <td className={`${tableClass.td} text-right ${retimed ? 'font-bold text-ember-700' : ''}`}>
+                      {e.retimedDelays}
+                      {retimed && <span className="sr-only"> (changed by retiming)</span>}
+                    </td>
+                  )}
+                  {showRetimed && (
+                    <td className={`${tableClass.td} text-right`}>
+                      <FoldedDelay value={e.retimedFoldedDelay} />
+                    </td>
+                  )}
                 </tr>
               );
             })}
             {padBottom > 0 && (
               <tr aria-hidden="true">
-                <td colSpan={7} style={{ height: padBottom, padding: 0, border: 0 }} />
+                <td colSpan={columns} style={{ height: padBottom, padding: 0, border: 0 }} />
               </tr>
             )}
           </tbody>
@@ -167,7 +188,7 @@ export function EdgeTable({ edges, retimingNeeded }: { edges: EdgeResult[]; reti
       </div>
       <p className="mt-2 text-xs text-ink-600">
         <NegativeMark /> marks a negative folded delay: the consumer would need a value before it exists.
-        {retimingNeeded ? ' Retimed delays in bold differ from the design.' : ''} “tap” is an edge into an output read when produced: it has no folded delay.
+        {retiming === 'retimed' ? ' Retimed delays in bold differ from the design.' : ''} “tap” is an edge into an output read when produced: it has no folded delay.
       </p>
     </div>
   );
@@ -182,7 +203,7 @@ function NegativeMark() {
 }
 
 export function FoldedDelay({ value }: { value: number | null }) {
-  if (value === null) return <span className="text-ink-400">tap</span>;
+  if (value === null) return <span className="text-ink-500">tap</span>;
   if (value < 0)
     return (
       <span className="inline-flex items-center gap-1 font-bold text-fail-700" data-testid="negative-delay">

@@ -51,7 +51,7 @@ export function HistoryCharts({ points }: { points: HistoryPoint[] }) {
   return (
     <div className="grid gap-4 lg:grid-cols-3">
       <ChartCard title="Utilization" summary={lastAndFirst(points.map((p) => p.utilization), (v) => pct(v))}>
-        <LineChart data={data} margin={{ top: 8, right: 8, bottom: 0, left: -12 }}>
+        <LineChart accessibilityLayer={false} data={data} margin={{ top: 8, right: 8, bottom: 0, left: -12 }}>
           <CartesianGrid vertical={false} stroke="#e9ebf4" />
           <XAxis dataKey="label" tick={axis} tickLine={false} minTickGap={16} />
           <YAxis tick={axis} tickLine={false} axisLine={false} domain={[0, 100]} unit="%" />
@@ -60,7 +60,7 @@ export function HistoryCharts({ points }: { points: HistoryPoint[] }) {
         </LineChart>
       </ChartCard>
       <ChartCard title="Register minimum" summary={lastAndFirst(points.map((p) => p.registerMinimum), String)}>
-        <LineChart data={data} margin={{ top: 8, right: 8, bottom: 0, left: -12 }}>
+        <LineChart accessibilityLayer={false} data={data} margin={{ top: 8, right: 8, bottom: 0, left: -12 }}>
           <CartesianGrid vertical={false} stroke="#e9ebf4" />
           <XAxis dataKey="label" tick={axis} tickLine={false} minTickGap={16} />
           <YAxis tick={axis} tickLine={false} axisLine={false} allowDecimals={false} />
@@ -69,7 +69,7 @@ export function HistoryCharts({ points }: { points: HistoryPoint[] }) {
         </LineChart>
       </ChartCard>
       <ChartCard title="Violations" summary={lastAndFirst(points.map((p) => p.violations), String)}>
-        <BarChart data={data} margin={{ top: 8, right: 8, bottom: 0, left: -12 }}>
+        <BarChart accessibilityLayer={false} data={data} margin={{ top: 8, right: 8, bottom: 0, left: -12 }}>
           <CartesianGrid vertical={false} stroke="#e9ebf4" />
           <XAxis dataKey="label" tick={axis} tickLine={false} minTickGap={16} />
           <YAxis tick={axis} tickLine={false} axisLine={false} allowDecimals={false} />

@@ -8,12 +8,15 @@ export function IterationBoundCard({
   factorLowerBound,
   samplePeriodNs,
   sampleRateMHz,
+  datapath = true,
 }: {
   bound: IterationBound | null | undefined;
   factor: number;
   factorLowerBound?: number;
   samplePeriodNs?: number | null;
   sampleRateMHz?: number | null;
+  /** False when no retiming makes the folded datapath buildable: it then has no sample rate. */
+  datapath?: boolean;
 }) {
   return (
     <div className="space-y-4">
@@ -69,10 +72,19 @@ export function IterationBoundCard({
             </dd>
           </div>
         )}
-        {samplePeriodNs != null && (
+        {samplePeriodNs != null && !datapath && (
           <div>
             <dt className="text-ink-600">Sample period · rate</dt>
-            <dd className="font-bold">
+            <dd className="font-bold" data-testid="sample-rate">
+              none
+              <span className="block text-xs font-medium text-ink-600">no folded datapath exists as planned, so no clock reaches a rate</span>
+            </dd>
+          </div>
+        )}
+        {samplePeriodNs != null && datapath && (
+          <div>
+            <dt className="text-ink-600">Sample period · rate</dt>
+            <dd className="font-bold" data-testid="sample-rate">
               {num(samplePeriodNs)} ns · {num(sampleRateMHz ?? 1000 / samplePeriodNs)} MHz
             </dd>
           </div>

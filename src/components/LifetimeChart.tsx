@@ -1,3 +1,4 @@
+import { ScrollRegion } from './Panel';
 import { useMemo, useRef } from 'react';
 import { useVirtualizer } from '@tanstack/react-virtual';
 import { Bar, BarChart, CartesianGrid, Cell, ReferenceLine, ResponsiveContainer, Tooltip, XAxis, YAxis } from 'recharts';
@@ -95,7 +96,7 @@ export function LifetimeChart({ lifetimes, registerMinimum }: { lifetimes: Lifet
       <h3 className="mt-5 mb-2 text-sm font-bold text-ink-800">Live variables per partition (steady state)</h3>
       <div className="h-36" aria-hidden="true">
         <ResponsiveContainer width="100%" height="100%">
-          <BarChart data={live.map((count, t) => ({ t, count }))} margin={{ top: 8, right: 12, bottom: 0, left: -16 }}>
+          <BarChart accessibilityLayer={false} data={live.map((count, t) => ({ t, count }))} margin={{ top: 8, right: 12, bottom: 0, left: -16 }}>
             <CartesianGrid vertical={false} stroke="#e9ebf4" />
             <XAxis dataKey="t" tick={{ fontSize: 11, fill: '#4b5280' }} tickLine={false} />
             <YAxis allowDecimals={false} tick={{ fontSize: 11, fill: '#4b5280' }} tickLine={false} axisLine={false} />
@@ -109,7 +110,7 @@ export function LifetimeChart({ lifetimes, registerMinimum }: { lifetimes: Lifet
           </BarChart>
         </ResponsiveContainer>
       </div>
-      <div className="relative mt-2 overflow-x-auto">
+      <ScrollRegion label="Live variables per partition" className="mt-2">
         <table className="text-xs text-ink-700">
           <caption className="sr-only">Live variables per partition</caption>
           <tbody>
@@ -135,7 +136,7 @@ export function LifetimeChart({ lifetimes, registerMinimum }: { lifetimes: Lifet
             </tr>
           </tbody>
         </table>
-      </div>
+      </ScrollRegion>
       <p className="mt-2 text-xs text-ink-600">
         <span aria-hidden="true" className="mr-1 inline-block size-2 rounded-full bg-ember-500" />
         produced · <span aria-hidden="true" className="mx-1 inline-block h-2 w-4 rounded-sm bg-ink-700" /> held in a register

@@ -1,4 +1,4 @@
-import type { ReactNode } from 'react';
+import type { HTMLAttributes, ReactNode } from 'react';
 
 /** A titled block of a page; the id makes it a target of the in-page navigation. */
 export function Panel({
@@ -18,7 +18,7 @@ export function Panel({
 }) {
   const headingId = id ? `${id}-heading` : undefined;
   return (
-    <section id={id} aria-labelledby={headingId} className={`scroll-mt-28 rounded-xl border border-ink-200 bg-white shadow-[0_1px_0_var(--color-ink-200)] ${className}`}>
+    <section id={id} aria-labelledby={headingId} className={`min-w-0 scroll-mt-28 rounded-xl border border-ink-200 bg-white shadow-[0_1px_0_var(--color-ink-200)] ${className}`}>
       <header className="flex flex-wrap items-start justify-between gap-3 border-b border-ink-100 px-5 py-3">
         <div>
           <h2 id={headingId} className="text-base font-bold tracking-tight text-ink-900">
@@ -93,5 +93,18 @@ export function ColumnHeads({ columns }: { columns: ReactNode[] }) {
         )}
       </tr>
     </thead>
+  );
+}
+
+/**
+ * A box that scrolls sideways by itself, so a wide table never widens the page on a phone. It is
+ * focusable and named, so a keyboard can scroll it (axe-core's scrollable-region-focusable), and
+ * `relative`, so visually hidden text inside it is clipped by it instead of widening the document.
+ */
+export function ScrollRegion({ label, className = '', children, ...rest }: { label: string; className?: string; children: ReactNode } & HTMLAttributes<HTMLDivElement>) {
+  return (
+    <div {...rest} className={`relative overflow-x-auto ${className}`} tabIndex={0} role="region" aria-label={label}>
+      {children}
+    </div>
   );
 }

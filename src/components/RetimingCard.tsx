@@ -59,6 +59,9 @@ export function RetimingCard({ retiming }: { retiming: RetimingResult }) {
       <p className="flex items-center gap-2 font-medium text-fail-700">
         <StatusIcon status="fail" /> No retiming can remove the negative folded delays.
       </p>
+      <p className="text-ink-700">
+        So no folded datapath exists as planned: there are no retimed delays, no register count and no sample rate to report.
+      </p>
       {c && (
         <>
           <p className="text-ink-700">

@@ -64,13 +64,14 @@ function TopBar({ me }: { me: Me }) {
     `rounded-md px-3 py-1.5 text-sm font-medium ${isActive ? 'bg-white/15 text-white' : 'text-ink-200 hover:bg-white/10 hover:text-white'}`;
   return (
     <header className="sticky top-0 z-40 bg-ink-900 text-white shadow-[0_1px_0_rgba(0,0,0,.2)]">
-      <div className="mx-auto flex h-14 max-w-[1680px] items-center gap-4 px-4 sm:px-6 lg:px-8">
+      {/* On a phone the pages of the whole server take a second row, so the sign-out control stays on screen. */}
+      <div className="mx-auto flex min-h-14 max-w-[1680px] flex-wrap items-center gap-x-4 gap-y-1 px-4 py-2 sm:flex-nowrap sm:px-6 sm:py-0 lg:px-8">
         <Link to={to.home()} className="shrink-0 rounded text-white" aria-label="Pleat, your projects">
           <Logo />
         </Link>
         <ProjectSwitcher current={slug} />
         {(can.tryDesign(me) || can.manageUsers(me)) && (
-        <nav aria-label="Main" className="ml-auto flex items-center gap-1">
+        <nav aria-label="Main" className="order-last flex w-full items-center gap-1 sm:order-none sm:ml-auto sm:w-auto">
           {can.tryDesign(me) && (
             <NavLink to={to.tryDesign(slug)} className={navLink}>
               Try a design
@@ -83,7 +84,7 @@ function TopBar({ me }: { me: Me }) {
           )}
         </nav>
         )}
-        <div className={`flex items-center gap-3 ${can.tryDesign(me) || can.manageUsers(me) ? 'border-l border-white/15 pl-4' : 'ml-auto'}`}>
+        <div className={`ml-auto flex shrink-0 items-center gap-3 ${can.tryDesign(me) || can.manageUsers(me) ? 'sm:ml-0 sm:border-l sm:border-white/15 sm:pl-4' : ''}`}>
           <div className="hidden text-right leading-tight sm:block" data-testid="whoami">
             <div className="text-sm font-medium">{me.user.name}</div>
             <div className="text-xs text-ink-300">
@@ -98,7 +99,7 @@ function TopBar({ me }: { me: Me }) {
               )}
             </div>
           </div>
-          <Link to={to.signOut()} className="rounded-md border border-white/20 px-3 py-1.5 text-sm font-medium text-ink-100 hover:bg-white/10">
+          <Link to={to.signOut()} className="rounded-md border border-white/20 px-3 py-1.5 text-sm font-medium whitespace-nowrap text-ink-100 hover:bg-white/10">
             Sign out
           </Link>
         </div>
@@ -128,13 +129,13 @@ function ProjectSwitcher({ current }: { current?: string }) {
   const navigate = useNavigate();
   const list = projects.data?.projects ?? [];
   return (
-    <div className="flex items-center gap-2">
-      <label htmlFor="project-switcher" className="hidden text-xs font-medium tracking-wider text-ink-300 uppercase md:block">
+    <div className="flex min-w-0 flex-1 items-center gap-2 sm:flex-none">
+      <label htmlFor="project-switcher" className="sr-only text-xs font-medium tracking-wider text-ink-300 uppercase md:not-sr-only">
         Project
       </label>
       <select
         id="project-switcher"
-        className="max-w-56 rounded-md border border-white/20 bg-ink-800 px-2 py-1.5 text-sm text-white focus:border-ember-500 focus:outline-none"
+        className="w-full min-w-0 max-w-56 rounded-md border border-white/20 bg-ink-800 px-2 py-1.5 text-sm text-white focus:border-ember-500 focus:outline-none"
         value={current ?? ''}
         disabled={projects.isPending || list.length === 0}
         onChange={(e) => e.target.value && navigate(to.project(e.target.value))}

@@ -28,7 +28,7 @@ export function SourceView({ text, diagnostics, focus }: { text: string; diagnos
   return (
     <div
       ref={scrollRef}
-      className="relative max-h-[28rem] overflow-auto rounded-lg border border-ink-200 bg-ink-950 text-[13px] text-ink-100"
+      className="relative max-h-[28rem] overflow-auto rounded-lg border border-ink-200 bg-ink-950 font-mono text-[13px] text-ink-100"
       tabIndex={0}
       role="region"
       aria-label={`The design file, ${lines.length} lines`}

@@ -5,7 +5,7 @@ import { can } from '../api/roles';
 import type { RunListItem } from '../api/types';
 import { HistoryCharts, type HistoryPoint } from '../components/HistoryCharts';
 import { useProjectContext } from '../components/ProjectLayout';
-import { PageHeader, buttonClass, inputClass, tableClass } from '../components/Panel';
+import { PageHeader, buttonClass, inputClass, tableClass, ScrollRegion } from '../components/Panel';
 import { StatusBadge } from '../components/StatusBadge';
 import { EmptyState, ErrorState, Loading } from '../components/States';
 import { ago, dateTime, pct, shortCommit } from '../components/format';
@@ -135,7 +135,7 @@ export default function BranchPage() {
           </EmptyState>
         ) : (
           <>
-            <div className={`overflow-x-auto rounded-xl border border-ink-200 bg-white ${page.isPlaceholderData ? 'opacity-60' : ''}`} aria-busy={page.isFetching}>
+            <ScrollRegion label={`Runs of ${branch}`} className={`rounded-xl border border-ink-200 bg-white ${page.isPlaceholderData ? 'opacity-60' : ''}`} aria-busy={page.isFetching}>
               <table className={tableClass.table} data-testid="runs-table">
                 <caption className="sr-only">
                   Runs of {branch}
@@ -201,7 +201,7 @@ export default function BranchPage() {
                   })}
                 </tbody>
               </table>
-            </div>
+            </ScrollRegion>
             <nav aria-label="Pages of runs" className="mt-3 flex items-center justify-between gap-3">
               <button type="button" className={buttonClass.secondary} disabled={cursors.length === 1} onClick={() => setCursors((c) => c.slice(0, -1))}>
                 ← Newer

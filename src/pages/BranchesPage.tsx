@@ -4,7 +4,7 @@ import { useBranches, useWatch } from '../api/hooks';
 import { can } from '../api/roles';
 import type { Branch } from '../api/types';
 import { useProjectContext } from '../components/ProjectLayout';
-import { ColumnHeads, PageHeader, tableClass } from '../components/Panel';
+import { ColumnHeads, PageHeader, tableClass, ScrollRegion } from '../components/Panel';
 import { Sparkline } from '../components/Sparkline';
 import { StatusBadge } from '../components/StatusBadge';
 import { EmptyState, QueryState } from '../components/States';
@@ -42,7 +42,7 @@ export default function BranchesPage() {
               .
             </EmptyState>
           ) : (
-            <div className="overflow-x-auto rounded-xl border border-ink-200 bg-white">
+            <ScrollRegion label="Branches" className="rounded-xl border border-ink-200 bg-white">
               <table className={tableClass.table}>
                 <caption className="sr-only">Branches of {project.name} with their latest verdict and trends</caption>
                 <ColumnHeads columns={['Branch', 'Latest verdict', 'Last run', 'Utilization', 'Registers', 'Violations', mayWatch && <span className="sr-only">Watch</span>]} />
@@ -52,7 +52,7 @@ export default function BranchesPage() {
                   ))}
                 </tbody>
               </table>
-            </div>
+            </ScrollRegion>
           )
         }
       </QueryState>

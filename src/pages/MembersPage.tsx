@@ -6,7 +6,7 @@ import type { Member, Role } from '../api/types';
 import { FormError } from '../components/AuthFrame';
 import { Forbidden } from '../components/Forbidden';
 import { useProjectContext } from '../components/ProjectLayout';
-import { ColumnHeads, PageHeader, Panel, buttonClass, inputClass, tableClass } from '../components/Panel';
+import { ColumnHeads, PageHeader, Panel, buttonClass, inputClass, tableClass, ScrollRegion } from '../components/Panel';
 import { EmptyState, QueryState } from '../components/States';
 import { ago, dateTime } from '../components/format';
 import { useDocumentTitle } from '../components/useDocumentTitle';
@@ -51,7 +51,7 @@ function MemberTable({ slug, list }: { slug: string; list: Member[] }) {
   const remove = useRemoveMember(slug);
   const error = setRole.error ?? remove.error;
   return (
-    <div className="overflow-x-auto">
+    <ScrollRegion label="Members">
       <FormError error={error ? errorMessage(error) : null} />
       <table className={tableClass.table}>
         <caption className="sr-only">Members and their roles</caption>
@@ -102,7 +102,7 @@ function MemberTable({ slug, list }: { slug: string; list: Member[] }) {
           ))}
         </tbody>
       </table>
-    </div>
+    </ScrollRegion>
   );
 }
 

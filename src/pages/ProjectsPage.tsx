@@ -1,6 +1,6 @@
 import { useState, type FormEvent } from 'react';
 import { Link } from 'react-router-dom';
-import { errorMessage } from '../api/client';
+import { ApiError, errorMessage } from '../api/client';
 import { useBranches, useCreateProject, useMe, useProjects } from '../api/hooks';
 import type { Project } from '../api/types';
 import { StatusBadge } from '../components/StatusBadge';
@@ -82,11 +82,33 @@ function ProjectCard({ project: p }: { project: Project }) {
   );
 }
 
+/**
+ * What makes a slug, as the server checks it (server/resources/projects/routes.ts). The `pattern`
+ * attribute is compiled with the `v` flag, where a bare `-` in a class is a syntax error and the
+ * browser then skips the check altogether: the dash is escaped.
+ */
+const SLUG_INPUT_PATTERN = '[a-z0-9][a-z0-9\\-]{0,62}';
+const SLUG_RULE = 'A slug is 1 to 63 lower-case letters, digits and dashes, starting with a letter or a digit, such as radar-frontend.';
+
+function slugProblem(slug: string): string | null {
+  if (slug === '') return null;
+  if (new RegExp(`^(?:${SLUG_INPUT_PATTERN})$`, 'v').test(slug)) return null;
+  const lower = slug.toLowerCase().replace(/[^a-z0-9-]+/g, '-').replace(/^-+|-+$/g, '').slice(0, 63);
+  return `${SLUG_RULE}${lower && lower !== slug ? ` Perhaps ${lower}?` : ''}`;
+}
+
+/** The server's answer in words a person can act on; its own text only when nothing better is known. */
+function createError(e: unknown): string {
+  if (e instanceof ApiError && e.status === 400 && /slug/i.test(e.message)) return SLUG_RULE;
+  return errorMessage(e);
+}
+
 function NewProject() {
   const create = useCreateProject();
   const [name, setName] = useState('');
   const [slug, setSlug] = useState('');
   const [base, setBase] = useState('main');
+  const problem = slugProblem(slug.trim());
   const submit = (e: FormEvent) => {
     e.preventDefault();
     create.mutate({ name: name.trim(), slug: slug.trim(), baseBranch: base.trim() || undefined }, { onSuccess: () => (setName(''), setSlug('')) });
@@ -96,32 +118,39 @@ function NewProject() {
       <h2 id="new-project" className="font-bold">
         New project <span className="text-sm font-normal text-ink-600">(admins)</span>
       </h2>
-      <form onSubmit={submit} className="mt-3 grid gap-3 sm:grid-cols-[2fr_1.5fr_1fr_auto] sm:items-end">
+      <form onSubmit={submit} className="mt-3 grid gap-3 sm:grid-cols-[2fr_1.5fr_1fr_auto] sm:items-start">
         <label className="text-sm font-medium text-ink-800">
           Name
           <input className={`${inputClass} mt-1`} required value={name} onChange={(e) => setName(e.target.value)} />
         </label>
-        <label className="text-sm font-medium text-ink-800">
-          Slug
-          <input
-            className={`${inputClass} mt-1`}
-            required
-            pattern="[a-z0-9][a-z0-9-]{0,62}"
-            title="lower-case letters, digits and dashes"
-            value={slug}
-            onChange={(e) => setSlug(e.target.value)}
-          />
-        </label>
+        <div>
+          <label className="text-sm font-medium text-ink-800">
+            Slug
+            <input
+              className={`${inputClass} mt-1`}
+              required
+              pattern={SLUG_INPUT_PATTERN}
+              title={SLUG_RULE}
+              aria-invalid={problem !== null}
+              aria-describedby="new-project-slug-note"
+              value={slug}
+              onChange={(e) => setSlug(e.target.value)}
+            />
+          </label>
+          <p id="new-project-slug-note" className={`mt-1 text-xs ${problem ? 'text-fail-700' : 'text-ink-600'}`} data-testid="slug-note">
+            {problem ?? 'In the project’s addresses: lower-case letters, digits and dashes.'}
+          </p>
+        </div>
         <label className="text-sm font-medium text-ink-800">
           Base branch
           <input className={`${inputClass} mt-1`} value={base} onChange={(e) => setBase(e.target.value)} />
         </label>
-        <button type="submit" className={buttonClass.primary} disabled={create.isPending}>
+        <button type="submit" className={`${buttonClass.primary} sm:mt-6`} disabled={create.isPending}>
           Create
         </button>
       </form>
       <div className="mt-3">
-        <FormError error={create.error ? errorMessage(create.error) : null} />
+        <FormError error={create.error ? createError(create.error) : null} />
         {create.isSuccess && <p role="status" className="text-sm text-pass-700">Project {create.data.project.name} created. Add its members from the project's Members tab.</p>}
       </div>
     </section>

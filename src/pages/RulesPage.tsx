@@ -6,7 +6,7 @@ import type { NegativeDelayPolicy, RuleName, Rules } from '../../shared/types';
 import type { RuleChange, TeamRules } from '../api/types';
 import { FormError } from '../components/AuthFrame';
 import { useProjectContext } from '../components/ProjectLayout';
-import { ColumnHeads, PageHeader, Panel, buttonClass, inputClass, tableClass } from '../components/Panel';
+import { ColumnHeads, PageHeader, Panel, buttonClass, inputClass, tableClass, ScrollRegion } from '../components/Panel';
 import { ruleLabel } from '../components/ViolationsList';
 import { EmptyState, ErrorState, Loading, QueryState } from '../components/States';
 import { ago, dateTime, pct } from '../components/format';
@@ -33,36 +33,71 @@ interface Draft {
   max_registers: string;
 }
 
+/** A fraction as the per-cent text of the form, exact (no rounding to one decimal). */
+function percentText(f: number): string {
+  return String(Number((f * 100).toPrecision(12)));
+}
+
 function toDraft(r: Rules): Draft {
   return {
     negative_delays: r.negative_delays ?? '',
-    min_utilization: r.min_utilization === undefined ? '' : String(Math.round(r.min_utilization * 1000) / 10),
-    min_unit_utilization: r.min_unit_utilization === undefined ? '' : String(Math.round(r.min_unit_utilization * 1000) / 10),
+    min_utilization: r.min_utilization === undefined ? '' : percentText(r.min_utilization),
+    min_unit_utilization: r.min_unit_utilization === undefined ? '' : percentText(r.min_unit_utilization),
     max_registers: r.max_registers === undefined ? '' : String(r.max_registers),
   };
 }
+
+/**
+ * A per-cent field as typed. The config file and the API take fractions (0.72), the form per
+ * cent (72): a number between 0 and 1 without a `%` is ambiguous, so it is refused with the
+ * per-cent reading offered instead of being saved as under one per cent (docs/web.md).
+ */
+export type PercentReading =
+  | { kind: 'empty' }
+  | { kind: 'ok'; fraction: number }
+  | { kind: 'fraction-like'; suggestion: string }
+  | { kind: 'bad'; message: string };
+
+export function readPercent(typed: string, max: number): PercentReading {
+  const t = typed.trim();
+  if (t === '') return { kind: 'empty' };
+  const m = /^([0-9]*\.?[0-9]+|[0-9]+\.)\s*(%?)$/.exec(t);
+  if (!m) return { kind: 'bad', message: `Type a number of per cent from 0 to ${max}, such as 72.` };
+  const v = Number(m[1]);
+  if (v > max) return { kind: 'bad', message: `At most ${max} %; ${t} is more.` };
+  if (v > 0 && v < 1 && m[2] !== '%') return { kind: 'fraction-like', suggestion: percentText(v) };
+  return { kind: 'ok', fraction: Number((v / 100).toPrecision(12)) };
+}
+
+const PERCENT_RULES = ['min_utilization', 'min_unit_utilization'] as const;
 
 function fromDraft(d: Draft): { rules: Rules; problems: Partial<Record<RuleName, string>> } {
   const rules: Rules = {};
   const problems: Partial<Record<RuleName, string>> = {};
   if (d.negative_delays) rules.negative_delays = d.negative_delays;
-  for (const k of ['min_utilization', 'min_unit_utilization'] as const) {
-    if (d[k].trim() === '') continue;
-    const v = Number(d[k]);
-    if (!Number.isFinite(v) || v < 0 || v > 100) problems[k] = 'A percentage from 0 to 100.';
-    else rules[k] = Math.round(v * 10) / 1000;
+  for (const k of PERCENT_RULES) {
+    const r = readPercent(d[k], 100);
+    if (r.kind === 'ok') rules[k] = r.fraction;
+    else if (r.kind === 'bad') problems[k] = r.message;
+    else if (r.kind === 'fraction-like') problems[k] = `${d[k].trim()} looks like a fraction; this field takes per cent.`;
   }
   if (d.max_registers.trim() !== '') {
-    const v = Number(d.max_registers);
-    if (!Number.isInteger(v) || v < 0) problems.max_registers = 'A whole number, 0 or more.';
+    const t = d.max_registers.trim();
+    const v = Number(t);
+    if (!/^[0-9]+$/.test(t) || !Number.isSafeInteger(v)) problems.max_registers = 'A whole number, 0 or more.';
     else rules.max_registers = v;
   }
   return { rules, problems };
 }
 
+/** How a fraction reads in the form's preview: per cent, with the fraction the config file and the API use. */
+function fractionNote(v: number, where: string): string {
+  return `${percentText(v)} % (${v} ${where})`;
+}
+
 export function ruleValueText(rule: string, v: unknown): string {
   if (v === null || v === undefined) return 'not set';
-  if ((rule === 'min_utilization' || rule === 'min_unit_utilization' || rule === 'regression_tolerance') && typeof v === 'number') return pct(v);
+  if ((rule === 'min_utilization' || rule === 'min_unit_utilization' || rule === 'regression_tolerance') && typeof v === 'number') return `${percentText(v)}%`;
   return String(v);
 }
 
@@ -129,26 +164,39 @@ function RulesForm({ slug, data }: { slug: string; data: TeamRules }) {
   const save = useSaveRules(slug);
   const updateProject = useUpdateProject(slug);
   const [draft, setDraft] = useState<Draft>(() => toDraft(data.rules));
-  const [tolerance, setTolerance] = useState(String(Math.round(data.regressionTolerance * 1000) / 10));
+  const [tolerance, setTolerance] = useState(percentText(data.regressionTolerance));
   const [problems, setProblems] = useState<Partial<Record<RuleName | 'tolerance', string>>>({});
   const [saved, setSaved] = useState<string | null>(null);
   useEffect(() => setDraft(toDraft(data.rules)), [data.rules]);
+
+  // What saving would apply, computed as the person types, so the value is seen before it counts.
+  const pending = fromDraft(draft);
+  const tol = readPercent(tolerance, 1000);
+  const changes: { label: string; from: string; to: string }[] = [];
+  for (const k of Object.keys(ruleLabel) as RuleName[]) {
+    if (pending.problems[k]) continue;
+    const before = data.rules[k];
+    const after = pending.rules[k];
+    if (before !== after) changes.push({ label: ruleLabel[k], from: ruleValueText(k, before), to: ruleValueText(k, after) });
+  }
+  if (tol.kind === 'ok' && Math.abs(tol.fraction - data.regressionTolerance) > 1e-12)
+    changes.push({ label: 'Regression tolerance', from: ruleValueText('regression_tolerance', data.regressionTolerance), to: ruleValueText('regression_tolerance', tol.fraction) });
 
   const submit = async (e: FormEvent) => {
     e.preventDefault();
     setSaved(null);
     const { rules, problems: p } = fromDraft(draft);
-    const tol = Number(tolerance);
     const all: typeof problems = { ...p };
-    if (!Number.isFinite(tol) || tol < 0 || tol > 1000) all.tolerance = 'A percentage, 0 or more.';
+    if (tol.kind === 'bad') all.tolerance = tol.message;
+    else if (tol.kind === 'fraction-like') all.tolerance = `${tolerance.trim()} looks like a fraction; this field takes per cent.`;
+    else if (tol.kind === 'empty') all.tolerance = 'A number of per cent, 0 or more.';
     setProblems(all);
     if (Object.keys(all).length) return;
     try {
       const r = await save.mutateAsync(rules);
       let n = r.changed.length;
-      const newTol = Math.round(tol * 10) / 1000;
-      if (Math.abs(newTol - data.regressionTolerance) > 1e-9) {
-        await updateProject.mutateAsync({ regressionTolerance: newTol });
+      if (tol.kind === 'ok' && Math.abs(tol.fraction - data.regressionTolerance) > 1e-12) {
+        await updateProject.mutateAsync({ regressionTolerance: tol.fraction });
         n++;
       }
       setSaved(n === 0 ? 'Nothing changed.' : `Saved ${n} change${n === 1 ? '' : 's'}. The next pleat check applies them.`);
@@ -157,34 +205,63 @@ function RulesForm({ slug, data }: { slug: string; data: TeamRules }) {
     }
   };
 
-  const field = (k: 'min_utilization' | 'min_unit_utilization' | 'max_registers', unit: string) => (
-    <div className="grid grid-cols-[1fr_9rem] items-start gap-3 py-2.5">
-      <label htmlFor={`rule-${k}`}>
-        <span className="block font-medium">{ruleLabel[k]}</span>
-        <span className="block text-xs text-ink-600">{help[k]} Empty: not set.</span>
-      </label>
-      <div>
-        <div className="flex items-center gap-1.5">
-          <input
-            id={`rule-${k}`}
-            name={k}
-            inputMode="decimal"
-            className={`${inputClass} text-right`}
-            value={draft[k]}
-            aria-invalid={!!problems[k]}
-            aria-describedby={problems[k] ? `rule-${k}-problem` : undefined}
-            onChange={(e) => setDraft({ ...draft, [k]: e.target.value })}
-          />
-          <span className="w-4 text-sm text-ink-600">{unit}</span>
-        </div>
-        {problems[k] && (
-          <p id={`rule-${k}-problem`} className="mt-1 text-xs text-fail-700">
-            {problems[k]}
+  /** The line under a per-cent field: the problem, the per-cent reading of a fraction, or what the gate will apply. */
+  const percentNote = (id: string, typed: string, reading: PercentReading, problem: string | undefined, where: string, use: (v: string) => void) => {
+    if (reading.kind === 'fraction-like')
+      return (
+        <div id={id} className="mt-1 space-y-1 text-xs text-fail-700" data-testid={`${id}-fraction`}>
+          <p>
+            {typed.trim()} looks like a fraction, the form of <code>pleat.config.yaml</code>. This field takes per cent.
           </p>
-        )}
+          <button type="button" className="font-medium text-ember-700 underline underline-offset-2" onClick={() => use(`${reading.suggestion}`)}>
+            Use {reading.suggestion} %
+          </button>
+          <p className="text-ink-600">For under one per cent, type it with the sign: {typed.trim()} %.</p>
+        </div>
+      );
+    if (reading.kind === 'bad' && (problem || typed.trim() !== ''))
+      return (
+        <p id={id} className="mt-1 text-xs text-fail-700">
+          {reading.message}
+        </p>
+      );
+    if (reading.kind === 'ok')
+      return (
+        <p id={id} className="mt-1 text-xs text-ink-600" data-testid={`${id}-applies`}>
+          Applies {fractionNote(reading.fraction, where)}
+        </p>
+      );
+    return null;
+  };
+
+  const percentField = (k: (typeof PERCENT_RULES)[number]) => {
+    const reading = readPercent(draft[k], 100);
+    const noteId = `rule-${k}-note`;
+    return (
+      <div className="grid grid-cols-[minmax(0,1fr)_9rem] sm:grid-cols-[minmax(0,1fr)_11rem] items-start gap-3 py-2.5">
+        <label htmlFor={`rule-${k}`}>
+          <span className="block font-medium">{ruleLabel[k]}</span>
+          <span className="block text-xs text-ink-600">{help[k]} In per cent, 0 to 100. Empty: not set.</span>
+        </label>
+        <div>
+          <div className="flex items-center gap-1.5">
+            <input
+              id={`rule-${k}`}
+              name={k}
+              inputMode="decimal"
+              className={`${inputClass} text-right`}
+              value={draft[k]}
+              aria-invalid={reading.kind === 'bad' || reading.kind === 'fraction-like'}
+              aria-describedby={noteId}
+              onChange={(e) => setDraft({ ...draft, [k]: e.target.value })}
+            />
+            <span className="w-4 text-sm text-ink-600">%</span>
+          </div>
+          {percentNote(noteId, draft[k], reading, problems[k], 'in pleat.config.yaml', (v) => setDraft({ ...draft, [k]: v }))}
+        </div>
       </div>
-    </div>
-  );
+    );
+  };
 
   const error = save.error ?? updateProject.error;
   return (
@@ -209,13 +286,39 @@ function RulesForm({ slug, data }: { slug: string; data: TeamRules }) {
           ))}
         </select>
       </div>
-      {field('min_utilization', '%')}
-      {field('min_unit_utilization', '%')}
-      {field('max_registers', '')}
-      <div className="grid grid-cols-[1fr_9rem] items-start gap-3 py-2.5">
+      {percentField('min_utilization')}
+      {percentField('min_unit_utilization')}
+      <div className="grid grid-cols-[minmax(0,1fr)_9rem] sm:grid-cols-[minmax(0,1fr)_11rem] items-start gap-3 py-2.5">
+        <label htmlFor="rule-max_registers">
+          <span className="block font-medium">{ruleLabel.max_registers}</span>
+          <span className="block text-xs text-ink-600">{help.max_registers} Empty: not set.</span>
+        </label>
+        <div>
+          <div className="flex items-center gap-1.5">
+          <input
+            id="rule-max_registers"
+            name="max_registers"
+            inputMode="numeric"
+            className={`${inputClass} text-right`}
+            value={draft.max_registers}
+            aria-invalid={!!problems.max_registers}
+            aria-describedby={problems.max_registers ? 'rule-max_registers-problem' : undefined}
+            onChange={(e) => setDraft({ ...draft, max_registers: e.target.value })}
+          />
+            {/* The same width as the `%` of the other fields, so the inputs line up. */}
+            <span className="w-4" aria-hidden="true" />
+          </div>
+          {problems.max_registers && (
+            <p id="rule-max_registers-problem" className="mt-1 text-xs text-fail-700">
+              {problems.max_registers}
+            </p>
+          )}
+        </div>
+      </div>
+      <div className="grid grid-cols-[minmax(0,1fr)_9rem] sm:grid-cols-[minmax(0,1fr)_11rem] items-start gap-3 py-2.5">
         <label htmlFor="regression-tolerance">
           <span className="block font-medium">Regression tolerance</span>
-          <span className="block text-xs text-ink-600">Watchers get e-mail when a run gets worse than the base branch by more than this.</span>
+          <span className="block text-xs text-ink-600">Watchers get e-mail when a run gets worse than the base branch by more than this. In per cent.</span>
         </label>
         <div>
           <div className="flex items-center gap-1.5">
@@ -224,15 +327,36 @@ function RulesForm({ slug, data }: { slug: string; data: TeamRules }) {
               inputMode="decimal"
               className={`${inputClass} text-right`}
               value={tolerance}
-              aria-invalid={!!problems.tolerance}
+              aria-invalid={tol.kind === 'bad' || tol.kind === 'fraction-like' || tol.kind === 'empty'}
+              aria-describedby="regression-tolerance-note"
               onChange={(e) => setTolerance(e.target.value)}
             />
             <span className="w-4 text-sm text-ink-600">%</span>
           </div>
-          {problems.tolerance && <p className="mt-1 text-xs text-fail-700">{problems.tolerance}</p>}
+          {tol.kind === 'empty' && problems.tolerance ? (
+            <p id="regression-tolerance-note" className="mt-1 text-xs text-fail-700">
+              {problems.tolerance}
+            </p>
+          ) : (
+            percentNote('regression-tolerance-note', tolerance, tol, problems.tolerance, 'as a fraction', setTolerance)
+          )}
         </div>
       </div>
       <div className="space-y-3 pt-4">
+        <div data-testid="rules-pending" aria-live="polite">
+          {changes.length > 0 && (
+            <>
+              <div className="text-sm font-medium text-ink-800">Saving applies</div>
+              <ul className="mt-1 space-y-0.5 text-sm text-ink-700">
+                {changes.map((c) => (
+                  <li key={c.label}>
+                    {c.label}: <span className="text-ink-600">{c.from}</span> <span aria-label="changes to">→</span> <strong>{c.to}</strong>
+                  </li>
+                ))}
+              </ul>
+            </>
+          )}
+        </div>
         <FormError error={error ? errorMessage(error) : null} />
         {saved && (
           <p role="status" className="text-sm font-medium text-pass-700">
@@ -255,7 +379,7 @@ function History({ slug }: { slug: string }) {
   if (changes.length === 0) return <EmptyState title="No rule has been changed yet" />;
   return (
     <div>
-      <div className="overflow-x-auto">
+      <ScrollRegion label="Changes to the team rules">
         <table className={tableClass.table} data-testid="rule-history">
           <caption className="sr-only">Changes to the team rules, newest first</caption>
           <ColumnHeads columns={['When', 'Who', 'Rule', 'Change']} />
@@ -275,7 +399,7 @@ function History({ slug }: { slug: string }) {
             ))}
           </tbody>
         </table>
-      </div>
+      </ScrollRegion>
       {q.hasNextPage && (
         <button type="button" className={`${buttonClass.secondary} mt-3`} onClick={() => void q.fetchNextPage()} disabled={q.isFetchingNextPage}>
           {q.isFetchingNextPage ? 'Loading…' : 'Show older changes'}

@@ -6,7 +6,7 @@ import type { CiToken } from '../api/types';
 import { FormError } from '../components/AuthFrame';
 import { Forbidden } from '../components/Forbidden';
 import { useProjectContext } from '../components/ProjectLayout';
-import { ColumnHeads, PageHeader, Panel, buttonClass, inputClass, tableClass } from '../components/Panel';
+import { ColumnHeads, PageHeader, Panel, buttonClass, inputClass, tableClass, ScrollRegion } from '../components/Panel';
 import { EmptyState, QueryState } from '../components/States';
 import { ago, dateTime } from '../components/format';
 import { useDocumentTitle } from '../components/useDocumentTitle';
@@ -90,7 +90,7 @@ function Tokens({ slug }: { slug: string }) {
 function TokenTable({ slug, list }: { slug: string; list: CiToken[] }) {
   const revoke = useRevokeToken(slug);
   return (
-    <div className="overflow-x-auto">
+    <ScrollRegion label="CI tokens">
       <FormError error={revoke.error ? errorMessage(revoke.error) : null} />
       <table className={tableClass.table}>
         <caption className="sr-only">CI tokens</caption>
@@ -131,6 +131,6 @@ function TokenTable({ slug, list }: { slug: string; list: CiToken[] }) {
           ))}
         </tbody>
       </table>
-    </div>
+    </ScrollRegion>
   );
 }

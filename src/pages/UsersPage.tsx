@@ -5,7 +5,7 @@ import { can } from '../api/roles';
 import type { PublicUser } from '../api/types';
 import { FormError } from '../components/AuthFrame';
 import { Forbidden } from '../components/Forbidden';
-import { ColumnHeads, PageHeader, Panel, buttonClass, inputClass, tableClass } from '../components/Panel';
+import { ColumnHeads, PageHeader, Panel, buttonClass, inputClass, tableClass, ScrollRegion } from '../components/Panel';
 import { EmptyState, QueryState } from '../components/States';
 import { useDocumentTitle } from '../components/useDocumentTitle';
 
@@ -37,7 +37,7 @@ function UserTable({ list }: { list: PublicUser[] }) {
   const me = useMe();
   const update = useUpdateUser();
   return (
-    <div className="overflow-x-auto">
+    <ScrollRegion label="Accounts">
       <FormError error={update.error ? errorMessage(update.error) : null} />
       <table className={tableClass.table}>
         <caption className="sr-only">Accounts</caption>
@@ -86,7 +86,7 @@ function UserTable({ list }: { list: PublicUser[] }) {
           })}
         </tbody>
       </table>
-    </div>
+    </ScrollRegion>
   );
 }
 

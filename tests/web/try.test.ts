@@ -122,4 +122,58 @@ describe('try a design', () => {
     await table.locator(`tbody tr[aria-rowindex="${g.edges + 1}"]`).waitFor();
     expect(s.errors).toEqual([]);
   });
+
+  it('shows no retimed delays and no sample rate for a plan that no retiming can fix', async () => {
+    const file = join(ROOT, 'examples', 'envelope-unretimable.fold.yaml');
+    const loaded = loadDesign(readFileSync(file, 'utf8'));
+    const a = analyze(loaded.design!);
+    // What the engine reports for it: no feasible retiming, yet "retimed" delays (the design's own) and a sample rate.
+    expect(a.retiming.needed && !a.retiming.feasible).toBe(true);
+    expect(a.sampleRateMHz).not.toBeNull();
+    expect(a.edges.every((e) => e.retimedDelays === e.delays)).toBe(true);
+    await tryFile(file);
+    const report = s.page.getByTestId('design-report');
+    await report.getByTestId('no-retimed-datapath').waitFor();
+    const heads = await report.getByTestId('edge-table-scroll').locator('thead th').allTextContents();
+    expect(heads.some((h) => /retimed/i.test(h))).toBe(false);
+    expect(heads.length).toBe(5);
+    const rate = report.locator('dt', { hasText: 'Sample rate' }).locator('xpath=..');
+    expect(await rate.textContent()).not.toContain('MHz');
+    expect(await rate.textContent()).toContain('no feasible datapath');
+    expect(await report.getByTestId('sample-rate').textContent()).not.toContain('MHz');
+    // The loop that stops retiming is what the page points at instead.
+    await report.getByTestId('retiming-conflict').waitFor();
+    expect(s.errors).toEqual([]);
+  });
+
+  it('shows the file in a monospace font served by the app, and names a brace left open', async () => {
+    const lines = ['format: pleat/1', 'name: open-brace', 'units:', '  - { id: ADD1, kind: add, stages: 1 }', 'nodes:', '  - { id: x, kind: input }', '  - { id: s1, kind: add', '  - { id: y, kind: output }', ''];
+    const path = join(dir, 'open-brace.fold.yaml');
+    writeFileSync(path, lines.join('\n'));
+    await tryFile(path);
+    const { page } = s;
+    const view = page.getByTestId('source-view');
+    await view.locator('[data-line="8"][data-marked]').waitFor();
+    // The `{` of line 7, column 5 is never closed; the YAML reader stops on line 8.
+    await page.getByRole('list', { name: 'Findings in the design file' }).getByText('the `{` opened at 7:5 is never closed').waitFor();
+    const font = await view.locator('[data-line="7"] code').evaluate(async (el) => {
+      await document.fonts.ready;
+      const family = getComputedStyle(el).fontFamily.split(',')[0]!.replace(/["']/g, '').trim();
+      const loaded = [...document.fonts].some((f) => f.family.replace(/["']/g, '') === family && f.status === 'loaded');
+      // Every character as wide as every other: the columns of the file line up (what monospace means).
+      const probe = (t: string) => {
+        const c = document.createElement('canvas').getContext('2d')!;
+        c.font = `13px "${family}"`;
+        return c.measureText(t).width;
+      };
+      const fonts = performance.getEntriesByType('resource').map((e) => e.name).filter((u) => /\.woff2(\?|$)/.test(u));
+      return { family, loaded, fonts, narrow: probe('iiiiiiiiii'), wide: probe('MMMMMMMMMM') };
+    });
+    expect(font.family).toBe('JetBrains Mono');
+    expect(font.loaded).toBe(true);
+    expect(font.narrow).toBeCloseTo(font.wide, 3);
+    // Served by the app itself, no font service (the file names are those of @fontsource/jetbrains-mono).
+    expect(font.fonts.some((u) => /jetbrains-mono/.test(u) && new URL(u).origin === web.url)).toBe(true);
+    expect(s.errors).toEqual([]);
+  });
 });

@@ -8,6 +8,7 @@ import { projectAccess } from '../../http/access';
 import { requireUser } from '../../http/auth';
 import { allow, badRequest } from '../../http/errors';
 import { checker } from '../../http/validate';
+import { checkRules } from '../../../shared/report/rules';
 import { canEditRules, canReadRuleHistory, canReadRules } from './policy';
 
 const json = express.json({ limit: '16kb' });
@@ -19,7 +20,8 @@ export const rulesSchema = {
     negative_delays: { enum: ['fail', 'retime', 'warn'] },
     min_utilization: { type: 'number', minimum: 0, maximum: 1 },
     min_unit_utilization: { type: 'number', minimum: 0, maximum: 1 },
-    max_registers: { type: 'integer', minimum: 0 },
+    // Beyond 2^53 a number no longer names one integer (1e308 passes `integer`); no datapath has that many registers.
+    max_registers: { type: 'integer', minimum: 0, maximum: Number.MAX_SAFE_INTEGER },
   },
 } as const;
 
@@ -54,6 +56,9 @@ export function ruleRoutes(ctx: AppContext): Router {
     allow(canEditRules(role), 'Only a lead changes the team rules.');
     const user = requireUser(req);
     const { rules } = checkPut(req.body);
+    // The CLI reads these rules with the engine's own check: refuse here whatever it would refuse.
+    const { problems } = checkRules(rules);
+    if (problems.length) throw badRequest(`The rules are not valid: ${problems[0]!.message}.`, problems.map((p) => ({ path: `/rules/${p.path.slice(1).join('/')}`, message: p.message })));
     const changes = await ctx.db.sequelize.transaction(async (transaction) => {
       // Row lock: two leads saving at once both get their change recorded against the right old value.
       await TeamRules.findOrCreate({ where: { projectId: project.id }, defaults: { projectId: project.id, rules: {}, updatedBy: null }, transaction });

@@ -53,7 +53,8 @@ describe('team rules', () => {
   });
 
   it('refuses rules the CLI would not understand', async () => {
-    for (const bad of [{ min_utilization: 1.5 }, { negative_delays: 'maybe' }, { max_registers: 2.5 }, { max_regs: 3 }]) {
+    // 1e308 and 2^53 + 2 pass JSON Schema's `integer` but name no register count the CLI can hold exactly.
+    for (const bad of [{ min_utilization: 1.5 }, { negative_delays: 'maybe' }, { max_registers: 2.5 }, { max_regs: 3 }, { max_registers: 1e308 }, { max_registers: 2 ** 53 + 2 }, { min_utilization: -0.1 }]) {
       const res = await put(bad);
       expect(res.status, JSON.stringify(bad)).toBe(400);
       expect(res.body.error.details.length).toBeGreaterThan(0);

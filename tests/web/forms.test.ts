@@ -1,0 +1,106 @@
+// Forms that used to save or show the wrong thing: a fraction typed into a per-cent field of the
+// team rules, and a project slug the browser never checked. The values the server stores are
+// read back through the API the CLI uses.
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { ensureChromium, ensureWebBuild, openBrowser, signIn, type Session } from './browser';
+import { demoAccount, demoProject } from './demo';
+import { startWebServer, type WebServer } from './server';
+
+let web: WebServer;
+let s: Session;
+
+beforeAll(async () => {
+  ensureChromium();
+  ensureWebBuild();
+  web = await startWebServer();
+  s = await openBrowser();
+}, 600_000);
+
+afterAll(async () => {
+  await s?.close();
+  await web?.close();
+});
+
+const slug = demoProject.slug;
+const rulesNow = () => s.page.evaluate(async (slug) => (await (await fetch(`/api/projects/${slug}/rules`)).json()).rules, slug);
+
+describe('the team rules form', () => {
+  it('does not save 0.72 typed in a per-cent field as 0.72 %: it offers 72 % and shows what the gate will apply', async () => {
+    const { page } = s;
+    const a = demoAccount('lead');
+    await signIn(page, web.url, a.email, a.password);
+    await page.goto(`${web.url}/projects/${slug}/rules`);
+    const field = page.getByLabel(/^Design utilization floor/);
+    await field.waitFor();
+    const before = await rulesNow();
+
+    await field.fill('0.72');
+    const note = page.getByTestId('rule-min_utilization-note-fraction');
+    await note.getByText('looks like a fraction').waitFor();
+    expect(await field.getAttribute('aria-invalid')).toBe('true');
+    await page.getByRole('button', { name: 'Save the rules' }).click();
+    await page.getByRole('button', { name: 'Save the rules' }).waitFor();
+    // Nothing was saved, and no success was claimed.
+    expect(await page.getByRole('status').filter({ hasText: 'Saved' }).count()).toBe(0);
+    expect(await rulesNow()).toEqual(before);
+
+    // The per-cent reading, one click away: 72 % is the fraction 0.72 (common practice, no source).
+    await note.getByRole('button', { name: 'Use 72 %' }).click();
+    expect(await field.inputValue()).toBe('72');
+    expect(await page.getByTestId('rule-min_utilization-note-applies').textContent()).toBe('Applies 72 % (0.72 in pleat.config.yaml)');
+    expect(await page.getByTestId('rules-pending').textContent()).toContain('Design utilization floor');
+    expect(await page.getByTestId('rules-pending').textContent()).toContain('72%');
+    await page.getByRole('button', { name: 'Save the rules' }).click();
+    await page.getByRole('status').filter({ hasText: 'Saved' }).waitFor();
+    expect((await rulesNow()).min_utilization).toBe(0.72);
+  });
+
+  it('takes under one per cent only with the sign, and refuses more than 100 %', async () => {
+    const { page } = s;
+    const field = page.getByLabel(/^Unit utilization floor/);
+    await field.fill('0.5 %');
+    expect(await page.getByTestId('rule-min_unit_utilization-note-applies').textContent()).toBe('Applies 0.5 % (0.005 in pleat.config.yaml)');
+    await field.fill('150');
+    await page.getByText('At most 100 %').waitFor();
+    await page.getByRole('button', { name: 'Save the rules' }).click();
+    await page.getByRole('button', { name: 'Save the rules' }).waitFor();
+    expect((await rulesNow()).min_unit_utilization).not.toBe(1.5);
+  });
+});
+
+describe('a new project', () => {
+  it('has a slug pattern the browser can compile, and says in words what a slug is, also when the server refuses one', async () => {
+    const { page } = s;
+    const a = demoAccount('admin');
+    await signIn(page, web.url, a.email, a.password);
+    await page.goto(`${web.url}/`);
+    const input = page.getByLabel('Slug');
+    await input.waitFor();
+    // HTML compiles `pattern` as ^(?:pattern)$ with the v flag; an invalid one is ignored (HTML standard).
+    const compiles = await input.evaluate((el) => {
+      try {
+        new RegExp(`^(?:${(el as HTMLInputElement).pattern})$`, 'v');
+        return true;
+      } catch {
+        return false;
+      }
+    });
+    expect(compiles).toBe(true);
+    await page.getByLabel('Name').fill('Radar Frontend');
+    await input.fill('Radar Frontend');
+    expect(await input.evaluate((el) => (el as HTMLInputElement).validity.patternMismatch)).toBe(true);
+    const note = await page.getByTestId('slug-note').textContent();
+    expect(note).toContain('lower-case letters, digits and dashes');
+    expect(note).toContain('radar-frontend');
+
+    // Past the browser's own check (as a script or an old browser would be), the server's refusal reads the same way.
+    await page.locator('form').filter({ has: input }).evaluate((f) => ((f as HTMLFormElement).noValidate = true));
+    await page.getByRole('button', { name: 'Create' }).click();
+    const alert = page.getByRole('alert');
+    await alert.waitFor();
+    const text = await alert.textContent();
+    expect(text).toContain('A slug is 1 to 63 lower-case letters');
+    expect(text).not.toMatch(/request body|must match pattern/);
+    expect(s.errors).toEqual([]);
+  });
+});
