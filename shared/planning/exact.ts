@@ -351,8 +351,28 @@ export function buildExactModel(
     if (p.role[v] === OP) return hi[p.opOf[v]] + N * w;
     return (freeOut ? N * Math.max(...outVals) : 0) + Math.max(0, p.boundarySlot[v]) + N * w;
   };
-  const lifetime = (aAt: (c: number) => Row, c0: number, ends: number[]) => {
+  // Aggregate: the sum over partitions of live(t) is the sum of the lifetimes, so N * regs >= sum of
+  // lengths, each length >= end - tIn per out-edge. Implied by the cycle rows at integer points, it
+  // tightens the relaxation a great deal (a fractional start smears a[c] and b[c] but not this).
+  const totalLength = new Row();
+  const endTime = (e: number): Row => {
+    const v = p.edgeTo[e];
+    const r = new Row();
+    if (p.role[v] === OP) r.addRow(timeRow(p.opOf[v]));
+    else if (freeOut) for (const j of outVals) r.add(ro(j), N * j);
+    r.constant += (p.role[v] === OP ? 0 : Math.max(0, p.boundarySlot[v])) + N * p.edgeDelays[e];
+    return r;
+  };
+  const lengthRows = (id: number, tIn: Row, ends: number[]) => {
+    const len = `ln${id}`;
+    continuous.add(len);
+    bounds.push(` 0 <= ${len} <= ${maxLifetime + N}`);
+    ends.forEach((e, j) => emit(`lg${id}_${j}`, new Row().add(len, 1).addRow(endTime(e), -1).addRow(tIn), '>=', 0));
+    totalLength.add(len, 1);
+  };
+  const lifetime = (aAt: (c: number) => Row, c0: number, ends: number[], tIn?: Row) => {
     const id = varCount++;
+    if (tIn) lengthRows(id, tIn, ends);
     let c1 = c0;
     for (const e of ends) c1 = Math.max(c1, endRange(e));
     for (let c = c0 + 1; c <= c1; c++) {
@@ -390,14 +410,14 @@ export function buildExactModel(
         const r = new Row();
         for (const s of list) if (s.t + p.unitStages[s.k] < c) r.add(s.name, 1);
         return r;
-      }, c0, outEdges[u]);
+      }, c0, outEdges[u], new Row().addRow(timeRow(o)).addRow(stageRow(o)));
     } else if (p.boundarySlot[u] >= 0) {
       const sI = p.boundarySlot[u];
       lifetime((c) => {
         const r = new Row();
         r.constant = c > sI ? 1 : 0;
         return r;
-      }, sI, outEdges[u]);
+      }, sI, outEdges[u], Object.assign(new Row(), { constant: sI }));
     } else {
       // held input: one variable per edge, from the consumer's slot to T_V + N w
       for (const e of outEdges[u]) {
@@ -408,11 +428,12 @@ export function buildExactModel(
           const r = new Row();
           for (const s of list) if (mod(s.t, N) < c) r.add(s.name, 1);
           return r;
-        }, 0, [e]);
+        }, 0, [e], slotRow(p.opOf[v]));
       }
     }
   }
   liveRows.forEach((row, t) => emit(`live${t}`, new Row().add(regs, 1).addRow(row, -1), '>=', 0));
+  if (totalLength.terms.size) emit('sumlen', new Row().add(regs, N).addRow(totalLength, -1), '>=', 0);
   bounds.push(` 0 <= ${regs} <= ${maxRegisters ?? 1_000_000}`);
 
   // ---- multiplexer proxy: distinct producers (unit, or input node) per consumer unit and operand port

@@ -10,7 +10,7 @@ import { exactPlan } from './exact';
 import type { PlanMetrics, PlanOptions, PlanResult } from './types';
 
 /** Largest design (operations) given to the exact model by default; measured in docs/planning.md. */
-export const EXACT_MAX_OPERATIONS = 120;
+export const EXACT_MAX_OPERATIONS = 40;
 
 export function gapPercent(value: number, bound: number): number {
   if (value <= bound) return 0;
