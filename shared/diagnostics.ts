@@ -36,7 +36,7 @@ export const CODES = {
   'unknown-unit': { severity: E, rule: 'A folding set is keyed by a unit that does not exist.' },
   'kind-without-unit': { severity: E, rule: 'An operation node has a kind that no unit has.' },
   'kind-mismatch': { severity: E, rule: 'A node is placed in the folding set of a unit of another kind.' },
-  'unfolded-node': { severity: E, rule: 'An operation node is in no folding set.' },
+  'plan-incomplete': { severity: E, rule: 'Some operations are in no folding set (or there is no folding plan): run `pleat plan` to place them.' },
   'node-in-two-places': { severity: E, rule: 'An operation node appears more than once across the folding sets.' },
   'boundary-in-set': { severity: E, rule: 'An input or output node is placed in a folding set.' },
   'set-too-long': { severity: E, rule: 'A folding set has more entries than the folding factor N.' },
@@ -59,7 +59,7 @@ export type DiagnosticCode = keyof typeof CODES;
  * Codes whose offending thing is a mapping key rather than its value (an unknown field, a set
  * keyed by an unknown unit): positions.ts points at the key for these.
  */
-export const KEY_CODES: ReadonlySet<string> = new Set<DiagnosticCode>(['schema-unknown-field', 'unknown-unit', 'idle-unit']);
+export const KEY_CODES: ReadonlySet<string> = new Set<DiagnosticCode>(['schema-unknown-field', 'unknown-unit', 'idle-unit', 'plan-incomplete']);
 
 /** A diagnostic without a position yet; positions.ts fills line and column from `path`. */
 /** Longest message kept; names in a hostile file can be megabytes long. */

@@ -3,7 +3,7 @@
 import { load } from 'js-yaml';
 import type { Diagnostic, LoadResult } from './types';
 import { diag, diagAt, sortDiagnostics } from './diagnostics';
-import { validateDesign } from './validate';
+import { validateDesign, type ValidateOptions } from './validate';
 import { locate } from './positions';
 
 export interface Limits {
@@ -163,7 +163,7 @@ function limitResult(text: string, d: Diagnostic): LoadResult {
   return { design: null, diagnostics: sortDiagnostics(locate(text, [d])) };
 }
 
-function loadUnchecked(input: string, limits: Limits): LoadResult {
+function loadUnchecked(input: string, limits: Limits, validation: ValidateOptions): LoadResult {
   const text = input.charCodeAt(0) === 0xfeff ? input.slice(1) : input;
   const bytes = utf8Length(text, limits.maxBytes);
   if (bytes > limits.maxBytes) {
@@ -204,16 +204,22 @@ function loadUnchecked(input: string, limits: Limits): LoadResult {
     if (over.length) return { design: null, diagnostics: sortDiagnostics(locate(text, over)) };
   }
 
-  const { design, diagnostics } = validateDesign(doc);
+  const { design, diagnostics } = validateDesign(doc, validation);
   if (diagnostics.length === 0) return { design, diagnostics };
   return { design, diagnostics: sortDiagnostics(locate(text, diagnostics)) };
+}
+
+export interface LoadOptions extends ValidateOptions {
+  limits?: Partial<Limits>;
 }
 
 /**
  * Reads a design file's text into a validated, normalised Design. Never throws and never hangs:
  * every problem, including a failure of the checker itself, comes back as a diagnostic.
+ * `{ unplaced: 'allow' }` loads a design whose folding sets are partial or missing, for a planner
+ * (shared/validate.ts, ValidateOptions); `factor` replaces `folding.factor`.
  */
-export function loadDesign(text: string, options?: { limits?: Partial<Limits> }): LoadResult {
+export function loadDesign(text: string, options?: LoadOptions): LoadResult {
   try {
     const limits: Limits = { ...DEFAULT_LIMITS };
     const given = options?.limits ?? {};
@@ -224,7 +230,10 @@ export function loadDesign(text: string, options?: { limits?: Partial<Limits> })
     if (typeof text !== 'string') {
       return { design: null, diagnostics: [diagAt('internal-error', 'the design was not given as text', 1, 1)] };
     }
-    return loadUnchecked(text, limits);
+    const validation: ValidateOptions = {};
+    if (options?.unplaced !== undefined) validation.unplaced = options.unplaced;
+    if (options?.factor !== undefined) validation.factor = options.factor;
+    return loadUnchecked(text, limits, validation);
   } catch (err) {
     const what = err instanceof Error ? err.message : String(err);
     return {

@@ -27,7 +27,9 @@ export const designSchema = {
   description:
     'A data-flow graph of a DSP datapath, the shared hardware units it is folded onto, and the folding plan. File name: *.fold.yaml.',
   type: 'object',
-  required: ['format', 'name', 'units', 'nodes', 'edges', 'folding'],
+  // `folding` may be left out, and `folding.sets` too: such a file asks for a plan (`pleat plan`);
+  // `pleat check` reports it as `plan-incomplete` (shared/validate.ts).
+  required: ['format', 'name', 'units', 'nodes', 'edges'],
   additionalProperties: false,
   properties: {
     format: {
@@ -121,9 +123,9 @@ export const designSchema = {
     },
     folding: {
       type: 'object',
-      required: ['factor', 'sets'],
+      required: ['factor'],
       additionalProperties: false,
-      description: 'The folding plan.',
+      description: 'The folding plan. Without `sets` (or with operations left out of them) the file asks `pleat plan` to place them.',
       properties: {
         factor: {
           type: 'integer',
@@ -133,7 +135,7 @@ export const designSchema = {
         },
         sets: {
           type: 'object',
-          description: 'Unit id -> node ids by time partition 0..N-1; null (~) leaves a partition idle.',
+          description: 'Unit id -> node ids by time partition 0..N-1; null (~) leaves a partition idle. Operations left out are placed by `pleat plan`; those written here are kept (pins).',
           additionalProperties: {
             type: 'array',
             items: { type: ['string', 'null'], description: 'Node id, or null for an idle partition.' },

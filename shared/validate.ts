@@ -2,7 +2,7 @@
 // loops by Tarjan's strongly connected components (iterative). Convention: diagnostics carry `path`, no position.
 import { Ajv, type ErrorObject, type ValidateFunction } from 'ajv';
 import type { Design, DfgNode, Diagnostic, Edge, NodeOp, Unit } from './types';
-import { designSchema } from './schema';
+import { designSchema, MAX_FACTOR } from './schema';
 import { diag, formatPath, showValue, typeWord, type DiagnosticCode } from './diagnostics';
 
 /** At most this many diagnostics of one code are listed; the last one says how many more there are. */
@@ -253,17 +253,42 @@ function nodeOp(n: Record<string, unknown>, inputs: number): NodeOp | null {
 /** Loop of at most this many node names in a zero-delay-loop message; longer loops are shortened. */
 const LOOP_NAMES_SHOWN = 12;
 
-function semanticChecks(doc: Record<string, unknown>, out: Collector): void {
+/** How the validator treats operations that are in no folding set (see ValidateOptions). */
+export type UnplacedPolicy = 'error' | 'allow';
+
+export interface ValidateOptions {
+  /**
+   * 'error' (default, what `pleat check` uses): operations in no folding set, or a file without
+   * `folding:`, give one `plan-incomplete` error. 'allow': such a design loads (sets partial or
+   * empty, `folding.sets` always a mapping) so that a planner can start from it; the entries
+   * placed are its pins. Every other rule applies in both modes.
+   */
+  unplaced?: UnplacedPolicy;
+  /**
+   * Folding factor to use instead of `folding.factor` (for slot and set-length rules and in the
+   * design returned): `pleat plan --factor`. A file without `folding:` needs it to load.
+   */
+  factor?: number;
+}
+
+/** Most operation ids named in a plan-incomplete message. */
+const UNPLACED_NAMES_SHOWN = 8;
+
+function semanticChecks(doc: Record<string, unknown>, out: Collector, options: ValidateOptions): void {
   const unitsOk = Array.isArray(doc.units);
   const units: unknown[] = unitsOk ? (doc.units as unknown[]) : [];
   const nodes: unknown[] = Array.isArray(doc.nodes) ? (doc.nodes as unknown[]) : [];
   const edges: unknown[] = Array.isArray(doc.edges) ? (doc.edges as unknown[]) : [];
   const folding = isObj(doc.folding) ? doc.folding : null;
   const factor =
-    folding && typeof folding.factor === 'number' && Number.isInteger(folding.factor) && folding.factor >= 1
-      ? folding.factor
-      : null;
-  const sets = folding && isObj(folding.sets) ? folding.sets : null;
+    options.factor !== undefined
+      ? options.factor
+      : folding && typeof folding.factor === 'number' && Number.isInteger(folding.factor) && folding.factor >= 1
+        ? folding.factor
+        : null;
+  // No `sets` (or no `folding`) is an empty plan; a `sets` of the wrong type is a schema error.
+  const sets = folding && isObj(folding.sets) ? folding.sets : folding && folding.sets !== undefined ? null : {};
+  const allowUnplaced = options.unplaced === 'allow';
 
   // ids: units and nodes share one name space. Value >= 0: node index; < 0: -(unit index) - 1.
   const owner = new Map<string, number>();
@@ -377,6 +402,7 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector): void {
   const placedPos = new Int32Array(nN);
   const setKeys: string[] = [];
   const unitHasSet = new Uint8Array(units.length);
+  const emptySets: string[] = [];
   if (sets) {
     for (const key of Object.keys(sets)) {
       const si = setKeys.length;
@@ -427,21 +453,35 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector): void {
           placedPos[ni] = p;
         }
       }
-      if (ui !== undefined && used === 0) {
-        out.add('idle-unit', `unit \`${key}\` has an empty folding set; it does nothing`, ['folding', 'sets', key]);
-      }
+      if (ui !== undefined && used === 0) emptySets.push(key);
     }
-    for (let i = 0; i < units.length; i++) {
-      const u = units[i];
-      if (unitHasSet[i] || !isObj(u) || typeof u.id !== 'string' || unitIndex.get(u.id) !== i) continue;
-      out.add('idle-unit', `unit \`${u.id}\` has no folding set; it does nothing`, ['units', i]);
-    }
+    const unplaced: string[] = [];
     for (let i = 0; i < nN; i++) {
       if (nodeClass[i] !== OPERATION || placedSet[i] >= 0) continue;
       if (shadowed[i]) continue;
       const n = nodes[i] as Record<string, unknown>;
       if (unitsOk && !unitKinds.has(n.kind as string)) continue; // kind-without-unit says it already
-      out.add('unfolded-node', `operation \`${n.id}\` (kind \`${label(n.kind)}\`) is in no folding set; place it in a set of a \`${label(n.kind)}\` unit`, ['nodes', i, 'id']);
+      unplaced.push(label(n.id));
+    }
+    // While operations wait for a plan, a unit without one is expected, not worth a warning.
+    if (unplaced.length === 0 && folding) {
+      for (const key of emptySets) out.add('idle-unit', `unit \`${key}\` has an empty folding set; it does nothing`, ['folding', 'sets', key]);
+      for (let i = 0; i < units.length; i++) {
+        const u = units[i];
+        if (unitHasSet[i] || !isObj(u) || typeof u.id !== 'string' || unitIndex.get(u.id) !== i) continue;
+        out.add('idle-unit', `unit \`${u.id}\` has no folding set; it does nothing`, ['units', i]);
+      }
+    }
+    if (!allowUnplaced && (unplaced.length > 0 || !folding)) {
+      // One error for the whole plan, at `folding:` (or at `nodes:` when there is no folding).
+      const names =
+        unplaced.length <= UNPLACED_NAMES_SHOWN
+          ? unplaced.map((x) => `\`${x}\``).join(', ')
+          : `${unplaced.slice(0, UNPLACED_NAMES_SHOWN).map((x) => `\`${x}\``).join(', ')} and ${unplaced.length - UNPLACED_NAMES_SHOWN} more`;
+      const what = !folding
+        ? `the design has no folding plan (no \`folding:\`)${unplaced.length ? `; ${unplaced.length} operation(s) to place: ${names}` : ''}; run \`pleat plan --factor N\` to make one`
+        : `${unplaced.length} operation(s) are in no folding set: ${names}; run \`pleat plan\` to place them (entries already in the sets are kept)`;
+      out.add('plan-incomplete', what, folding ? ['folding'] : Array.isArray(doc.nodes) ? ['nodes'] : []);
     }
   }
 
@@ -691,7 +731,7 @@ function reachability(
 
 // ------------------------------------------------------------------ normalised design
 
-function normalise(doc: Record<string, unknown>): Design {
+function normalise(doc: Record<string, unknown>, options: ValidateOptions): Design {
   const units = (doc.units as Record<string, unknown>[]).map(
     (u): Unit => ({ id: u.id as string, kind: u.kind as string, stages: u.stages as number }),
   );
@@ -711,8 +751,8 @@ function normalise(doc: Record<string, unknown>): Design {
     if (e.port !== undefined) edge.port = e.port as number;
     edges[i] = edge;
   }
-  const folding = doc.folding as Record<string, unknown>;
-  const rawSets = folding.sets as Record<string, (string | null)[]>;
+  const folding = (isObj(doc.folding) ? doc.folding : {}) as Record<string, unknown>;
+  const rawSets = (isObj(folding.sets) ? folding.sets : {}) as Record<string, (string | null)[]>;
   // fromEntries defines own properties, so no key can reach Object.prototype
   const sets = Object.fromEntries(Object.keys(rawSets).map((k) => [k, rawSets[k].slice()]));
   const rawKinds = isObj(doc.kinds) ? (doc.kinds as Record<string, { time: number }>) : {};
@@ -725,7 +765,7 @@ function normalise(doc: Record<string, unknown>): Design {
     nodes,
     edges,
     folding: {
-      factor: folding.factor as number,
+      factor: options.factor ?? (folding.factor as number),
       sets,
       latency: folding.latency === 'fixed' ? 'fixed' : 'free',
     },
@@ -741,7 +781,7 @@ function normalise(doc: Record<string, unknown>): Design {
  * Checks a parsed design document against the JSON Schema and the rules of format 1. Never throws
  * for any input. Diagnostics carry `path` and no position; loadDesign adds line and column.
  */
-export function validateDesign(doc: unknown): { design: Design | null; diagnostics: Diagnostic[] } {
+export function validateDesign(doc: unknown, options: ValidateOptions = {}): { design: Design | null; diagnostics: Diagnostic[] } {
   const out = new Collector();
   // A file of another version of the format is judged by that version's rules, not these.
   if (isObj(doc) && typeof doc.format === 'string' && /^pleat\/\d+$/.test(doc.format) && doc.format !== 'pleat/1') {
@@ -751,8 +791,15 @@ export function validateDesign(doc: unknown): { design: Design | null; diagnosti
   const validate = schemaValidator();
   const schemaOk = validate(doc) as boolean;
   if (!schemaOk) schemaDiagnostics(doc, validate.errors ?? [], out);
-  if (isObj(doc)) semanticChecks(doc, out);
+  if (isObj(doc)) {
+    if (options.factor !== undefined && !(Number.isInteger(options.factor) && options.factor >= 1 && options.factor <= MAX_FACTOR)) {
+      out.add('schema-value', `the folding factor ${showValue(options.factor)} given instead of folding.factor must be an integer in 1..${MAX_FACTOR}`, ['folding', 'factor']);
+    } else if (options.unplaced === 'allow' && options.factor === undefined && !isObj(doc.folding)) {
+      out.add('schema-required', 'missing required field `folding` (with its `factor`); a plan needs a folding factor: write `folding: { factor: N }` or give the factor to the planner', []);
+    }
+    semanticChecks(doc, out, options);
+  }
   const diagnostics = out.finish();
-  const design = schemaOk && out.errors === 0 ? normalise(doc as Record<string, unknown>) : null;
+  const design = schemaOk && out.errors === 0 ? normalise(doc as Record<string, unknown>, options) : null;
   return { design, diagnostics };
 }

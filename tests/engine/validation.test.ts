@@ -207,6 +207,48 @@ folding:
   });
 });
 
+describe('designs that ask for a plan (docs/diagnostics.md: plan-incomplete)', () => {
+  const partial = VALID.replace('    MAC: [~, step]\n', '');
+  it('plain loading gives one plan-incomplete at the folding key, naming the operations', () => {
+    const r = loadDesign(partial);
+    expect(brief(r.diagnostics)).toEqual([`plan-incomplete@${partial.split('\n').indexOf('folding:') + 1}:1`]);
+    expect(r.diagnostics[0].message).toContain('`step`');
+    expect(r.diagnostics[0].message).toContain('pleat plan');
+    expect(r.design).toBeNull();
+  });
+  it('many unplaced operations are abbreviated in one message', () => {
+    const nodes = Array.from({ length: 30 }, (_, i) => `  - { id: p${i}, kind: add }`).join('\n');
+    const edges = Array.from({ length: 30 }, (_, i) => `  - { from: x, to: p${i} }\n  - { from: p${i}, to: y }`).join('\n');
+    const text = `format: pleat/1\nname: wide\nunits:\n  - { id: A, kind: add, stages: 0 }\nnodes:\n  - { id: x, kind: input }\n${nodes}\n  - { id: y, kind: output }\nedges:\n${edges}\nfolding:\n  factor: 30\n`;
+    const r = loadDesign(text);
+    expect(r.diagnostics.map((d) => d.code)).toEqual(['plan-incomplete']);
+    expect(r.diagnostics[0].message).toMatch(/30 operation\(s\).*and 22 more/);
+  });
+  it('without folding: at all, the error points at nodes', () => {
+    const text = VALID.slice(0, VALID.indexOf('folding:'));
+    const r = loadDesign(text);
+    expect(brief(r.diagnostics)).toEqual([`plan-incomplete@${text.split('\n').indexOf('nodes:') + 1}:1`]);
+  });
+  it("unplaced: 'allow' loads the partial design with its pins, sets a mapping", () => {
+    const r = loadDesign(partial, { unplaced: 'allow' });
+    expect(r.diagnostics).toEqual([]);
+    expect(r.design!.folding.sets).toEqual({ ALU: ['err', null, 'acc'] });
+    const bare = loadDesign(VALID.replace(/  sets:[\s\S]*$/, ''), { unplaced: 'allow' });
+    expect(bare.diagnostics).toEqual([]);
+    expect(bare.design!.folding.sets).toEqual({});
+    const noFolding = loadDesign(VALID.slice(0, VALID.indexOf('folding:')), { unplaced: 'allow', factor: 5 });
+    expect(noFolding.design!.folding.factor).toBe(5);
+    expect(loadDesign(VALID.slice(0, VALID.indexOf('folding:')), { unplaced: 'allow' }).diagnostics.map((d) => d.code)).toEqual(['schema-required']);
+  });
+  it("unplaced: 'allow' keeps every other rule", () => {
+    const two = partial.replace('ALU: [err, ~, acc]', 'ALU: [err, err, acc, ~, ~]\n    MAC: [nope]');
+    const codes = loadDesign(two, { unplaced: 'allow' }).diagnostics.map((d) => d.code).sort();
+    expect(codes).toEqual(['node-in-two-places', 'set-too-long', 'unknown-node']);
+    // a factor given to the loader judges slots and set lengths
+    expect(loadDesign(partial, { unplaced: 'allow', factor: 2 }).diagnostics.map((d) => d.code).sort()).toEqual(['set-too-long', 'slot-out-of-range']);
+  });
+});
+
 describe('problems found while reading the text', () => {
   it('yaml-syntax: a tab used for indentation, at the tab', () => {
     const r = loadDesign('format: pleat/1\nunits:\n\t- { id: A, kind: add, stages: 1 }\n');
@@ -239,8 +281,9 @@ describe('problems found while reading the text', () => {
 
   it('schema-required: every missing top-level field, each once', () => {
     const r = loadDesign('format: pleat/1\nname: bare\n');
-    expect(r.diagnostics.map((d) => d.code)).toEqual(['schema-required', 'schema-required', 'schema-required', 'schema-required']);
-    expect(r.diagnostics.map((d) => d.message).join(' ')).toMatch(/units.*nodes.*edges.*folding/);
+    // `folding` may be missing (a file that asks for a plan): that is plan-incomplete, not a schema error
+    expect(r.diagnostics.map((d) => d.code)).toEqual(['schema-required', 'schema-required', 'schema-required', 'plan-incomplete']);
+    expect(r.diagnostics.map((d) => d.message).join(' ')).toMatch(/units.*nodes.*edges.*pleat plan/);
   });
 
   it('unsupported-format: another version stops the checks there', () => {
@@ -464,11 +507,14 @@ describe('random designs against a brute-force reading of the rules', () => {
         }
       }
     }
+    let unplaced = false;
     nodes.forEach((n, i) => {
       if (nodeOf.get(n.id) !== i || !isOp(n)) return;
-      if (!placed.has(i) && unitKinds.has(n.kind)) codes.push('unfolded-node');
+      if (!placed.has(i) && unitKinds.has(n.kind)) unplaced = true;
       if ((n.kind === 'add' || n.kind === 'mul') && inputs[i] === 0) codes.push('op-arity');
     });
+    // one error for the whole plan, however many operations wait for a place (docs/diagnostics.md)
+    if (unplaced) codes.push('plan-incomplete');
     // delay-free reachability, closed transitively; one loop reported per group of mutually reachable nodes
     const n = nodes.length;
     const reach = Array.from({ length: n }, () => new Array<boolean>(n).fill(false));
