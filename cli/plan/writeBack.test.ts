@@ -74,7 +74,26 @@ describe('writeBack', () => {
     expect(back.units).toEqual(units);
     const { before, after } = keptLines(DESIGN, r);
     expect(after).toEqual(before);
-    expect(r.text).toMatch(/^units:\n {2}- \{ id: ADD1, kind: add, stages: 0 \}\n {2}- \{ id: ADD2/m);
+    // The kept units keep their lines (and comments); the new one comes after its kind.
+    expect(r.text).toContain('units:\n  - { id: ADD1, kind: add, stages: 0 }   # small adder\n  - { id: ADD2, kind: add, stages: 0 }\n  - { id: MUL1, kind: mul, stages: 1 }\n');
+    expect(r.edited).toContainEqual({ from: 6, to: 6, what: 'units' });
+  });
+
+  it('drops only the lines of dropped units, and rewrites the list when a kept unit changes', () => {
+    const two = DESIGN.replace('  - { id: MUL1, kind: mul, stages: 1 }\n', '  - { id: MUL1, kind: mul, stages: 1 }\n  - { id: MUL2, kind: mul, stages: 1 }  # spare\n');
+    const units = [{ id: 'ADD1', kind: 'add', stages: 0 }, { id: 'MUL1', kind: 'mul', stages: 1 }];
+    const r = writeBack(two, { sets: { MUL1: ['m'], ADD1: [null, 'a'] }, units });
+    expect((yamlLoad(r.text) as { units: unknown }).units).toEqual(units);
+    expect(r.text).not.toContain('spare');
+    expect(r.replaced).toContainEqual({ from: 7, to: 7 });
+    const { before, after } = keptLines(two, r);
+    expect(after).toEqual(before);
+    // Stages of a kept unit changed: the list is written anew.
+    const changed = [{ id: 'ADD1', kind: 'add', stages: 1 }, { id: 'MUL1', kind: 'mul', stages: 1 }];
+    const r2 = writeBack(DESIGN, { sets: { MUL1: ['m'], ADD1: [null, 'a'] }, units: changed });
+    expect((yamlLoad(r2.text) as { units: unknown }).units).toEqual(changed);
+    const k2 = keptLines(DESIGN, r2);
+    expect(k2.after).toEqual(k2.before);
   });
 
   it('adds sets to a folding block that has none', () => {

@@ -2,7 +2,7 @@
 // package's Document API finds where `folding.sets`, `folding.factor` and `units` sit; only those
 // lines are replaced, so every other byte of the file (comments, spacing, key order) is kept.
 // Printing the whole document again would reformat lines the plan does not touch.
-import { isCollection, isMap, isPair, isScalar, parseDocument, type Document, type Node, type Pair, type YAMLMap } from 'yaml';
+import { isCollection, isMap, isPair, isScalar, isSeq, parseDocument, type Document, type Node, type Pair, type YAMLMap } from 'yaml';
 import type { Unit } from '../../shared/types';
 
 export interface PlanEdit {
@@ -44,9 +44,13 @@ export function writeBack(original: string, edit: PlanEdit): WriteBackResult {
   if (edit.units && unitsDiffer(doc, edit.units)) {
     const pair = pairOf(root, 'units');
     if (!pair) throw new WriteBackError('the design has no `units` to rewrite');
-    const keyColumn = columnOf(original, (pair.key as Node).range![0]);
-    const indent = itemIndent(original, pair.value, keyColumn + 2) - keyColumn;
-    splices.push(replacePair(original, pair, edit.units.length ? `units:${eol}${renderUnits(edit.units, eol, Math.max(0, indent))}` : 'units: []', 'units'));
+    const fine = unitSplices(original, pair, edit.units, eol);
+    if (fine) splices.push(...fine);
+    else {
+      const keyColumn = columnOf(original, (pair.key as Node).range![0]);
+      const indent = itemIndent(original, pair.value, keyColumn + 2) - keyColumn;
+      splices.push(replacePair(original, pair, edit.units.length ? `units:${eol}${renderUnits(edit.units, eol, Math.max(0, indent))}` : 'units: []', 'units'));
+    }
   }
 
   if (!folding || folding.value === null || (isScalar(folding.value) && folding.value.value === null)) {
@@ -131,6 +135,60 @@ function renderSetsFlow(sets: Record<string, (string | null)[]>): string {
 function renderUnits(units: Unit[], eol: string, indent: number): string {
   const pad = ' '.repeat(indent);
   return units.map((u) => `${pad}- { id: ${yamlId(u.id)}, kind: ${yamlId(u.kind)}, stages: ${u.stages} }`).join(eol);
+}
+
+/**
+ * When the new units are the old ones (unchanged, same order) with some dropped and some added,
+ * only the lines of the dropped units go and new lines come after the last unit of their kind:
+ * the kept units' lines, comments included, stay as written. Null: rewrite the whole list.
+ */
+function unitSplices(text: string, pair: Pair<Node, Node | null>, units: Unit[], eol: string): Splice[] | null {
+  const seq = pair.value;
+  if (!seq || !isSeq(seq) || seq.flow || seq.items.length === 0) return null;
+  const items = seq.items as Node[];
+  const old = items.map((n) => (isMap(n) ? (n.toJSON() as Record<string, unknown>) : null));
+  if (old.some((u) => !u || typeof u.id !== 'string')) return null;
+  const byId = new Map(units.map((u) => [u.id, u]));
+  const kept = old.filter((u) => byId.has(u!.id as string));
+  for (const u of kept) {
+    const n = byId.get(u!.id as string)!;
+    if (u!.kind !== n.kind || ((u!.stages as number | undefined) ?? 0) !== n.stages) return null;
+  }
+  const keptIds = kept.map((u) => u!.id as string);
+  const newKept = units.filter((u) => old.some((o) => o!.id === u.id)).map((u) => u.id);
+  if (keptIds.join('\0') !== newKept.join('\0')) return null;
+  // Each item must start its own line (`- ...`) and end on its own line.
+  const starts = items.map((n) => lineStart(text, n.range![0]));
+  if (items.some((n, i) => !/^[ ]*-[ ]+$/.test(text.slice(starts[i], n.range![0])))) return null;
+  const column = items[0].range![0] - starts[0] - 2;
+  const out: Splice[] = [];
+  const lineAfter = (n: Node) => {
+    let end = contentEnd(n, n.range![1]);
+    while (/\s/.test(text[end - 1])) end--;
+    const e = lineEnd(text, end - 1);
+    return e < text.length ? e + 1 : e;
+  };
+  items.forEach((n, i) => {
+    if (!byId.has(old[i]!.id as string)) out.push({ start: starts[i], end: lineAfter(n), text: '', what: 'units' });
+  });
+  const added = units.filter((u) => !old.some((o) => o!.id === u.id));
+  const groups = new Map<number, Unit[]>();
+  for (const u of added) {
+    let at = -1;
+    old.forEach((o, i) => {
+      if (byId.has(o!.id as string) && o!.kind === u.kind) at = i;
+    });
+    if (at < 0) at = old.reduce((last, o, i) => (byId.has(o!.id as string) ? i : last), items.length - 1);
+    groups.set(at, [...(groups.get(at) ?? []), u]);
+  }
+  for (const [at, list] of groups) {
+    const pos = lineAfter(items[at]);
+    const atEnd = pos === text.length && !text.endsWith('\n');
+    const body = renderUnits(list, eol, Math.max(0, column)).split(eol).map((l) => `${l}${eol}`).join('');
+    if (atEnd) out.push({ start: pos, end: pos, text: `${eol}${body.slice(0, -eol.length)}`, what: 'units' });
+    else out.push({ start: pos, end: pos, text: body, what: 'units' });
+  }
+  return out;
 }
 
 // ---------------------------------------------------------------- locating
@@ -247,8 +305,9 @@ function apply(original: string, splices: Splice[], edit: PlanEdit, eol: string)
     out += original.slice(at, s.start);
     const startLine = lineOf(out, out.length) + (s.text.startsWith(eol) ? 1 : 0);
     out += s.text;
-    edited.push({ from: startLine, to: lineOf(out, out.length), what: s.what });
-    if (s.end > s.start) replaced.push({ from: lineOf(original, s.start), to: lineOf(original, s.end) });
+    // A text that ends with a line break ends on the line before the one the cursor is now on.
+    if (s.text !== '') edited.push({ from: startLine, to: lineOf(out, out.length) - (s.text.endsWith('\n') ? 1 : 0), what: s.what });
+    if (s.end > s.start) replaced.push({ from: lineOf(original, s.start), to: lineOf(original, s.end - 1) });
     at = s.end;
   }
   out += original.slice(at);

@@ -14,10 +14,11 @@ function loadHighs(): Promise<Highs> {
   if (!runtime) {
     runtime = (async () => {
       const { default: loader } = await import('highs');
-      // The CLI is bundled, so the loader cannot find highs.wasm beside itself: hand it the bytes.
+      // The CLI is bundled, so the loader cannot find highs.wasm beside itself: point it at the
+      // package's copy and hand it the bytes.
       const require = createRequire(import.meta.url);
-      const wasmBinary = readFileSync(require.resolve('highs/runtime'));
-      return loader({ wasmBinary });
+      const wasmPath = require.resolve('highs/runtime');
+      return loader({ locateFile: () => wasmPath, wasmBinary: readFileSync(wasmPath) });
     })();
     runtime.catch(() => {
       runtime = null;
