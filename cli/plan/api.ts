@@ -1,14 +1,7 @@
-// The planning engine's types as the CLI uses them. Until the engine (shared/planning/) is merged
-// these restate its published API; afterwards this file only re-exports shared/planning/types.
-import type { Design, Unit } from '../../shared/types';
+// The planning engine's types as the CLI uses them (shared/planning/types.ts).
+import type { Design } from '../../shared/types';
+import type { PlanOptions, PlanResult, SweepOptions, SweepRow } from '../../shared/planning/types';
 
-export type PlanObjective = 'registers' | 'muxes' | 'latency';
-export interface PlanMetrics { registers: number; muxInputs: number; latencyAdded: number }
-export interface MilpSolution { status: 'optimal' | 'feasible' | 'infeasible' | 'timeout' | 'error'; objective: number | null; bound: number | null; values: Record<string, number>; message?: string }
-export interface MilpSolver { solve(lp: string, options: { timeLimitSeconds: number }): Promise<MilpSolution> }
-export interface PlanOptions { factor: number; units: Unit[]; objective: PlanObjective; timeLimitSeconds: number; solver?: MilpSolver; now?: () => number; onProgress?: (p: { phase: string; done?: number; total?: number }) => void; signal?: { aborted: boolean }; exactMaxOperations?: number }
-export interface PlanResult { status: 'optimal' | 'feasible' | 'infeasible'; method: string; factor: number; units: Unit[]; sets: Record<string, (string | null)[]>; objective: PlanMetrics | null; bound: Partial<PlanMetrics> | null; gapPercent: number | null; pins: string[]; reasons: string[]; suggestion: { factor?: number; units?: Record<string, number> } | null; seconds: number; notes?: string[] }
-export interface SweepRow { factor: number; units: Record<string, number>; plan: PlanResult; utilization: number | null; samplePeriodNs: number | null; pareto: boolean }
-export type SweepOptions = Omit<PlanOptions, 'factor' | 'units'> & { factors: number[]; units: 'auto' | Record<string, number>; stages?: Record<string, number>; maxExtraUnits?: number };
+export type * from '../../shared/planning/types';
 export type PlanDesign = (design: Design, options: PlanOptions) => Promise<PlanResult>;
 export type SweepDesign = (design: Design, options: SweepOptions) => Promise<SweepRow[]>;
