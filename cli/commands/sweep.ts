@@ -80,7 +80,8 @@ export async function runSweep(file: string, opts: SweepCliOptions, ctx: CliCont
     onProgress: progress ? (p) => progress(`pleat sweep: ${p.phase}${p.total ? ` ${p.done ?? 0}/${p.total}` : ''}`) : undefined,
   });
   if (progress) process.stderr.write('\r\x1b[2K');
-  const kinds = [...operationsPerKind(design).keys()];
+  // Columns in the order of the design's units, then any kind that only operations have.
+  const kinds = [...new Set([...design.units.map((u) => u.kind), ...operationsPerKind(design).keys()])];
   for (const r of rows) for (const k of Object.keys(r.units)) if (!kinds.includes(k)) kinds.push(k);
   const out: SweepOutput = { file: read.file, name: design.name, clockNs: design.clockNs ?? null, kinds, rows };
   if (opts.format === 'json') process.stdout.write(sweepJson(out, ctx.version));
