@@ -75,7 +75,8 @@ export async function runSweep(file: string, opts: SweepCliOptions, ctx: CliCont
     units: opts.units,
     ...(opts.stages ? { stages: opts.stages } : {}),
     objective: opts.objective,
-    timeLimitSeconds: opts.timeLimit,
+    // The engine shares its budget among the factors; the option is per factor.
+    timeLimitSeconds: opts.timeLimit * opts.factors.length,
     solver: highsSolver(),
     onProgress: progress ? (p) => progress(`pleat sweep: ${p.phase}${p.total ? ` ${p.done ?? 0}/${p.total}` : ''}`) : undefined,
   });
