@@ -34,7 +34,7 @@ export interface HeuristicResult {
   assignment: Assignment | null;
   /** Lifetime minimum of the schedule's own retiming (a proxy of the engine's figure). */
   proxyRegisters: number | null;
-  /** Real metrics of the returned assignment (engine), when found. */
+  /** Real metrics of the returned assignment (engine); null on large designs, which the caller scores once. */
   metrics: PlanMetrics | null;
   reason?: string;
   method: string;
@@ -772,6 +772,11 @@ export function heuristicPlan(p: PlanProblem, options: HeuristicOptions): Heuris
   pressureMoves(p, adj, sched, options.objective, options.deadline, now);
   const proxy = scheduleRegisters(p, sched);
   let assignment: Assignment = { unitOf: sched.unitOf, slotOf: sched.slotOf };
+  const small = n <= (options.maxEngineSearchOps ?? 300);
+  if (!small) {
+    // Large designs: the caller scores the plan once with the engine (plan.ts); no search by engine runs here.
+    return { assignment, proxyRegisters: proxy, metrics: null, method: HEURISTIC_METHOD, notes };
+  }
   const design: Design = designWithSets(p.design, p.N, p.units, setsFromAssignment(p, assignment.unitOf, assignment.slotOf));
   const ev = evaluateDesign(design);
   if (!ev.feasible || !ev.metrics) {
@@ -779,7 +784,7 @@ export function heuristicPlan(p: PlanProblem, options: HeuristicOptions): Heuris
     return { assignment: null, proxyRegisters: proxy, metrics: null, method: HEURISTIC_METHOD, notes, reason: `internal: the schedule failed the engine's check (${ev.reason})` };
   }
   let metrics = ev.metrics;
-  if (n <= (options.maxEngineSearchOps ?? 300) && now() < options.deadline && !options.signal?.aborted) {
+  if (now() < options.deadline && !options.signal?.aborted) {
     options.onProgress?.({ phase: 'swaps scored by the engine' });
     const r = engineSearch(p, assignment, metrics, options.objective, options.deadline, now, options.signal);
     assignment = r.assignment;
