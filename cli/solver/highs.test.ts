@@ -110,6 +110,16 @@ describe('highsSolver', () => {
     if (s.status === 'error') expect(s.message).toMatch(/HiGHS/);
   });
 
+  it('refuses a model text above its size limit with an error value', async () => {
+    const lp = 'Minimize\n obj: x\nSubject To\n c1: x >= 1\nEnd\n';
+    const s = await highsSolver({ maxModelChars: 10 }).solve(lp, { timeLimitSeconds: 5 });
+    expect(s.status).toBe('error');
+    expect(s.message).toMatch(/more than/);
+    // The same text under the default limit solves: min x s.t. x >= 1 is 1 (by inspection).
+    const ok = await highsSolver().solve(lp, { timeLimitSeconds: 5 });
+    expect(ok.objective).toBeCloseTo(1, 9);
+  });
+
   it('solves a pure LP and gives its optimum as the bound', async () => {
     // min -x - y s.t. x + 2y <= 4, 3x + y <= 6: the vertex (8/5, 6/5) gives -14/5 (hand-solved 2x2 system).
     const lp = 'Minimize\n obj: - x - y\nSubject To\n c1: x + 2 y <= 4\n c2: 3 x + y <= 6\nEnd\n';

@@ -32,11 +32,25 @@ export interface HighsSolverOptions {
   relativeGap?: number;
   /** Cancellation polled by HiGHS's MIP interrupt callback. */
   signal?: { aborted: boolean };
+  /**
+   * Largest model text handed to HiGHS. The module copies the text into WebAssembly memory
+   * through its in-memory file system, which takes several times the text's size; beyond this
+   * the solve is refused (status 'error') so the planner falls back instead of the process
+   * running out of memory. Default 32 million characters.
+   */
+  maxModelChars?: number;
 }
+
+export const DEFAULT_MAX_MODEL_CHARS = 32_000_000;
 
 export function highsSolver(solverOptions: HighsSolverOptions = {}): MilpSolver {
   return {
+    name: 'HiGHS',
     async solve(lp: string, options: { timeLimitSeconds: number }): Promise<MilpSolution> {
+      const max = solverOptions.maxModelChars ?? DEFAULT_MAX_MODEL_CHARS;
+      if (lp.length > max) {
+        return failed(`the model is ${(lp.length / 1e6).toFixed(1)} million characters of LP text, more than the ${(max / 1e6).toFixed(1)} million the HiGHS adaptor takes`);
+      }
       let highs: Highs;
       try {
         highs = await loadHighs();
