@@ -6,3 +6,5 @@ export { register as init } from './init';
 export { register as simulate } from './simulate';
 export { register as rtl } from './rtl';
 export { register as upload } from './upload';
+export { register as plan } from './plan';
+export { register as sweep } from './sweep';

@@ -65,6 +65,7 @@ export const register: RegisterCommand = (program: Command) => {
     .command('init')
     .description(`write a starter ${CONFIG_NAME} and an example design (${STARTER_DESIGN}) into the current folder`)
     .option('--force', 'overwrite those files if they exist')
+    .addHelpText('after', '\nThen: `pleat check` verifies the designs; for a design without folding sets, `pleat plan FILE --write` writes them and `pleat sweep FILE --factors 2..16` compares folding factors (docs/cli.md).')
     .action(async (opts: { force?: boolean }) => {
       const cwd = process.cwd();
       const targets = [
@@ -86,5 +87,6 @@ export const register: RegisterCommand = (program: Command) => {
         process.stdout.write(`wrote ${t.rel}\n`);
       }
       process.stdout.write('next: pleat check\n');
+      process.stdout.write('a design without folding sets: pleat plan FILE --write places its operations (pleat sweep FILE --factors 2..16 compares N)\n');
     });
 };
