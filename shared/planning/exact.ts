@@ -632,6 +632,52 @@ export function decodeAssignment(p: PlanProblem, model: ExactModel, values: Reco
 }
 
 /**
+ * A lower bound on the registers of every plan the model admits, from its linear relaxation with
+ * the registers alone as objective: used when the solver stops at its time limit without a bound
+ * of its own. Integrality (Binaries, Generals) is dropped, so this is an LP, solved fast.
+ */
+async function relaxationBound(o: ExactOptions, lp: string, notes: string[]): Promise<number | null> {
+  const lines = lp.split('\n');
+  const out: string[] = [];
+  let skipping = false;
+  for (const line of lines) {
+    if (line === 'Minimize') {
+      out.push(line, ' obj: regs');
+      skipping = true;
+      continue;
+    }
+    if (line === 'Subject To') skipping = false;
+    if (line === 'Binaries' || line === 'Generals') {
+      skipping = true;
+      continue;
+    }
+    if (line === 'End') skipping = false;
+    if (!skipping) out.push(line);
+  }
+  // binaries become continuous columns in 0..1
+  const binaryBounds: string[] = [];
+  let inBinaries = false;
+  for (const line of lines) {
+    if (line === 'Binaries') inBinaries = true;
+    else if (line === 'Generals' || line === 'End') inBinaries = false;
+    else if (inBinaries) for (const name of line.trim().split(/\s+/)) if (name) binaryBounds.push(` 0 <= ${name} <= 1`);
+  }
+  const at = out.indexOf('Bounds');
+  out.splice(at + 1, 0, ...binaryBounds);
+  try {
+    const left = Math.max(0.5, (o.deadline - o.now()) / 1000);
+    const sol = await o.solver.solve(out.join('\n'), { timeLimitSeconds: Math.min(left, 30) });
+    if (sol.status === 'optimal' && sol.objective !== null) {
+      notes.push(`bound from the linear relaxation: ${Math.ceil(sol.objective - 1e-6)} registers`);
+      return Math.ceil(sol.objective - 1e-6);
+    }
+  } catch {
+    // no bound then
+  }
+  return null;
+}
+
+/**
  * Solves the model, decodes the plan and scores it with the engine. When the engine's own
  * retiming needs more registers than the model found for those partitions, the (slot, stages)
  * assignment is cut off and the model solved again (within the time limit), keeping the best
@@ -694,7 +740,8 @@ export async function exactPlan(p: PlanProblem, o: ExactOptions): Promise<ExactR
     if (round === 0) notes.push(`exact model: ${model.columns} columns, ${model.rows} rows, lifetime horizon ${model.horizon} cycles`);
     let sol: MilpSolution;
     try {
-      sol = await o.solver.solve(model.lp, { timeLimitSeconds: Math.max(0.1, left) });
+      // keep a sixth of the time for the relaxation bound in case the solver stops at its limit
+      sol = await o.solver.solve(model.lp, { timeLimitSeconds: Math.max(0.1, objective === 'registers' ? left * 0.83 : left) });
     } catch (err) {
       notes.push(`the solver failed: ${err instanceof Error ? err.message : String(err)}`);
       break;
@@ -714,7 +761,7 @@ export async function exactPlan(p: PlanProblem, o: ExactOptions): Promise<ExactR
     const decoded = Object.keys(sol.values).length ? decodeAssignment(p, model, sol.values) : null;
     if (!decoded) {
       notes.push(`the solver stopped (${sol.status}) without a plan`);
-      if (objective === 'registers' && fromBound !== null) modelBound = fromBound;
+      if (objective === 'registers') modelBound = fromBound ?? (await relaxationBound(o, model.lp, notes));
       break;
     }
     const sets = setsFromAssignment(p, decoded.unitOf, decoded.slotOf);
@@ -732,6 +779,10 @@ export async function exactPlan(p: PlanProblem, o: ExactOptions): Promise<ExactR
     }
     if (!optimalSolve) {
       notes.push(`the solver stopped at its time limit (${sol.status})`);
+      if (objective === 'registers' && fromBound === null) {
+        const rb = await relaxationBound(o, model.lp, notes);
+        if (rb !== null) modelBound = rb;
+      }
       break;
     }
     // proven when the engine agrees with the model on the primary objective
