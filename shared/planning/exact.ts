@@ -121,7 +121,37 @@ export function buildExactModel(
     kindMax.set(kind, Math.max(...list.map((k) => p.unitStages[k])));
   }
   const S = p.scheduleNodes;
-  const unitsOf = (o: number) => (p.pinUnit[o] >= 0 ? [p.pinUnit[o]] : (p.kindUnits.get(p.opKind[o]) ?? []));
+  // Symmetry: units of one kind with the same stages and no pins are interchangeable (every metric
+  // is unchanged when they are relabelled), so label them by the first operation they run: the
+  // i-th unpinned operation of the kind may only use the first i + 1 of them.
+  const usable: number[][] = [];
+  {
+    const rank = new Map<string, number>();
+    const pinnedUnits = new Set<number>();
+    for (let o = 0; o < n; o++) if (p.pinUnit[o] >= 0) pinnedUnits.add(p.pinUnit[o]);
+    for (let o = 0; o < n; o++) {
+      if (p.pinUnit[o] >= 0) {
+        usable.push([p.pinUnit[o]]);
+        continue;
+      }
+      const kind = p.opKind[o];
+      const i = rank.get(kind) ?? 0;
+      rank.set(kind, i + 1);
+      const list: number[] = [];
+      const seenPerStages = new Map<number, number>();
+      for (const k of p.kindUnits.get(kind) ?? []) {
+        if (pinnedUnits.has(k)) {
+          list.push(k);
+          continue;
+        }
+        const j = seenPerStages.get(p.unitStages[k]) ?? 0;
+        seenPerStages.set(p.unitStages[k], j + 1);
+        if (j <= i) list.push(k);
+      }
+      usable.push(list);
+    }
+  }
+  const unitsOf = (o: number) => usable[o];
   const pMin = (a: number) => (a < n ? (p.pinUnit[a] >= 0 ? p.unitStages[p.pinUnit[a]] : kindMin.get(p.opKind[a])!) : 0);
   const pMax = (a: number) => (a < n ? (p.pinUnit[a] >= 0 ? p.unitStages[p.pinUnit[a]] : kindMax.get(p.opKind[a])!) : 0);
   const isTapArc = (arc: Arc) => p.role[p.edgeTo[arc.edge]] === OUT && p.boundarySlot[p.edgeTo[arc.edge]] < 0;
@@ -194,6 +224,52 @@ export function buildExactModel(
     if (!Number.isFinite(lo[x]) || !Number.isFinite(hi[x])) { lo[x] = 0; hi[x] = N - 1 + maxLifetime; }
     lo[x] = Math.ceil(lo[x]);
     hi[x] = Math.floor(hi[x]);
+  }
+  // Tighter: along any simple path the folded delays are lifetimes of distinct producers, whose sum
+  // is at most sum_t live(t) <= N * registers <= maxLifetime (the horizon is set that way), so
+  // T_v - T_anchor <= maxLifetime + the path's largest constants (taken >= 0), and the same backwards.
+  {
+    const upFrom: number[] = [];
+    const upTo: number[] = [];
+    const upW: number[] = [];
+    for (const arc of p.arcs) {
+      if (isTapArc(arc)) continue;
+      const cmax = arc.base + (arc.stages ? pMax(arc.a) : 0) + (isHeldArc(arc) ? N - 1 : 0);
+      upFrom.push(arc.a);
+      upTo.push(arc.b);
+      upW.push(Math.max(0, cmax));
+    }
+    for (let i = dFrom.length - 1; i >= 0 && i >= dFrom.length - 2 * S; i--) {
+      // the anchoring arcs of loose groups (added last), as they are
+      if (dFrom[i] === anchor || dTo[i] === anchor) {
+        upFrom.push(dFrom[i]);
+        upTo.push(dTo[i]);
+        upW.push(Math.max(0, dW[i]));
+      }
+    }
+    const sp = (reverse: boolean): Float64Array => {
+      const dist = new Float64Array(S).fill(Infinity);
+      dist[anchor] = 0;
+      for (let pass = 0; pass < S + 1; pass++) {
+        let changed = false;
+        for (let i = 0; i < upFrom.length; i++) {
+          const [a, b] = reverse ? [upTo[i], upFrom[i]] : [upFrom[i], upTo[i]];
+          if (dist[a] + upW[i] < dist[b]) {
+            dist[b] = dist[a] + upW[i];
+            changed = true;
+          }
+        }
+        if (!changed) break;
+      }
+      return dist;
+    };
+    const ahead = sp(false);
+    const behind = sp(true);
+    for (let x = 0; x < S; x++) {
+      if (x === anchor) continue;
+      if (Number.isFinite(ahead[x])) hi[x] = Math.min(hi[x], Math.floor(maxLifetime + ahead[x]));
+      if (Number.isFinite(behind[x])) lo[x] = Math.max(lo[x], Math.ceil(-(maxLifetime + behind[x])));
+    }
   }
   const empty = [...Array(S).keys()].some((x) => lo[x] > hi[x]);
 
@@ -556,6 +632,52 @@ export function decodeAssignment(p: PlanProblem, model: ExactModel, values: Reco
 }
 
 /**
+ * A lower bound on the registers of every plan the model admits, from its linear relaxation with
+ * the registers alone as objective: used when the solver stops at its time limit without a bound
+ * of its own. Integrality (Binaries, Generals) is dropped, so this is an LP, solved fast.
+ */
+async function relaxationBound(o: ExactOptions, lp: string, notes: string[]): Promise<number | null> {
+  const lines = lp.split('\n');
+  const out: string[] = [];
+  let skipping = false;
+  for (const line of lines) {
+    if (line === 'Minimize') {
+      out.push(line, ' obj: regs');
+      skipping = true;
+      continue;
+    }
+    if (line === 'Subject To') skipping = false;
+    if (line === 'Binaries' || line === 'Generals') {
+      skipping = true;
+      continue;
+    }
+    if (line === 'End') skipping = false;
+    if (!skipping) out.push(line);
+  }
+  // binaries become continuous columns in 0..1
+  const binaryBounds: string[] = [];
+  let inBinaries = false;
+  for (const line of lines) {
+    if (line === 'Binaries') inBinaries = true;
+    else if (line === 'Generals' || line === 'End') inBinaries = false;
+    else if (inBinaries) for (const name of line.trim().split(/\s+/)) if (name) binaryBounds.push(` 0 <= ${name} <= 1`);
+  }
+  const at = out.indexOf('Bounds');
+  out.splice(at + 1, 0, ...binaryBounds);
+  try {
+    const left = Math.max(0.5, (o.deadline - o.now()) / 1000);
+    const sol = await o.solver.solve(out.join('\n'), { timeLimitSeconds: Math.min(left, 30) });
+    if (sol.status === 'optimal' && sol.objective !== null) {
+      notes.push(`bound from the linear relaxation: ${Math.ceil(sol.objective - 1e-6)} registers`);
+      return Math.ceil(sol.objective - 1e-6);
+    }
+  } catch {
+    // no bound then
+  }
+  return null;
+}
+
+/**
  * Solves the model, decodes the plan and scores it with the engine. When the engine's own
  * retiming needs more registers than the model found for those partitions, the (slot, stages)
  * assignment is cut off and the model solved again (within the time limit), keeping the best
@@ -618,7 +740,8 @@ export async function exactPlan(p: PlanProblem, o: ExactOptions): Promise<ExactR
     if (round === 0) notes.push(`exact model: ${model.columns} columns, ${model.rows} rows, lifetime horizon ${model.horizon} cycles`);
     let sol: MilpSolution;
     try {
-      sol = await o.solver.solve(model.lp, { timeLimitSeconds: Math.max(0.1, left) });
+      // keep a sixth of the time for the relaxation bound in case the solver stops at its limit
+      sol = await o.solver.solve(model.lp, { timeLimitSeconds: Math.max(0.1, objective === 'registers' ? left * 0.83 : left) });
     } catch (err) {
       notes.push(`the solver failed: ${err instanceof Error ? err.message : String(err)}`);
       break;
@@ -638,7 +761,7 @@ export async function exactPlan(p: PlanProblem, o: ExactOptions): Promise<ExactR
     const decoded = Object.keys(sol.values).length ? decodeAssignment(p, model, sol.values) : null;
     if (!decoded) {
       notes.push(`the solver stopped (${sol.status}) without a plan`);
-      if (objective === 'registers' && fromBound !== null) modelBound = fromBound;
+      if (objective === 'registers') modelBound = fromBound ?? (await relaxationBound(o, model.lp, notes));
       break;
     }
     const sets = setsFromAssignment(p, decoded.unitOf, decoded.slotOf);
@@ -656,6 +779,10 @@ export async function exactPlan(p: PlanProblem, o: ExactOptions): Promise<ExactR
     }
     if (!optimalSolve) {
       notes.push(`the solver stopped at its time limit (${sol.status})`);
+      if (objective === 'registers' && fromBound === null) {
+        const rb = await relaxationBound(o, model.lp, notes);
+        if (rb !== null) modelBound = rb;
+      }
       break;
     }
     // proven when the engine agrees with the model on the primary objective

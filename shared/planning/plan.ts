@@ -127,7 +127,9 @@ export async function planDesign(design: Design, options: PlanOptions): Promise<
       bound: null,
       gapPercent: null,
       reasons: [
-        `no plan was found (${h.reason ?? 'search exhausted'}); the bounds do not rule one out, so this is not a proof: try a larger N, more units, more time, or the exact model`,
+        options.signal?.aborted
+          ? 'cancelled before a plan was found (not a proof that none exists)'
+          : `no plan was found (${h.reason ?? 'search exhausted'}); the bounds do not rule one out, so this is not a proof: try a larger N, more units, more time, or the exact model`,
       ],
       suggestion: { factor: options.factor + 1 },
       seconds: seconds(),
