@@ -7,12 +7,13 @@ import { projectAccess, type ProjectRole } from '../../http/access';
 import { requireUser } from '../../http/auth';
 import { allow, conflict } from '../../http/errors';
 import { checker } from '../../http/validate';
+import { uploadReportSchema } from '../../../shared/reportSchema';
 import { canCreateProject, canEditProject, canSeeProject } from './policy';
 
 const json = express.json({ limit: '64kb' });
 
 export const SLUG_PATTERN = '^[a-z0-9][a-z0-9-]{0,62}$';
-const branchName = { type: 'string', minLength: 1, maxLength: 255, pattern: '^[^\\s\\x00-\\x1f]+$' };
+const branchName = uploadReportSchema.properties.git.properties.branch;
 const tolerance = { type: 'number', minimum: 0, maximum: 10 };
 
 const checkCreate = checker<{ slug: string; name: string; baseBranch?: string; regressionTolerance?: number }>({
