@@ -12,6 +12,8 @@ import type { Project } from '../../server/db/models';
 import { ensureServerBuilt, startServerProcess, type ServerProcess } from './processes';
 
 const N = Number(process.env.PLEAT_CHAOS_UPLOADS ?? 40);
+// A bound on a loaded machine, not a speed assertion: two minutes plus a second per upload.
+const TIMEOUT = 120_000 + N * 1000;
 let db: TestDb;
 let ctx: AppContext;
 let project: Project;
@@ -86,7 +88,7 @@ describe('kill -9 during concurrent uploads, then a restart', () => {
     expect(rows.size).toBe(N);
     for (const c of commits) expect(rows.get(c)).toEqual({ runs: 1, designs: DESIGNS });
     expect(b.stderr.join('')).not.toMatch(/\n\s+at /);
-  });
+  }, TIMEOUT);
 });
 
 describe('two server processes on one database', () => {
@@ -98,5 +100,5 @@ describe('two server processes on one database', () => {
     const rows = await stored(commits);
     expect(rows.size).toBe(N);
     for (const c of commits) expect(rows.get(c)).toEqual({ runs: 1, designs: DESIGNS });
-  });
+  }, TIMEOUT);
 });
