@@ -6,7 +6,8 @@
 import { QueryTypes } from 'sequelize';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestDb, type TestDb } from '../../server/test/db';
-import { designEntry, makeCiToken, makeProject, makeReport, randomCommit } from '../../server/test/factories';
+import { readFileSync } from 'node:fs';
+import { PASSWORD, designEntry, makeCiToken, makeMember, makeProject, makeReport, randomCommit } from '../../server/test/factories';
 import type { AppContext } from '../../server/context';
 import type { Project } from '../../server/db/models';
 import { ensureServerBuilt, startServerProcess, type ServerProcess } from './processes';
@@ -100,5 +101,24 @@ describe('two server processes on one database', () => {
     const rows = await stored(commits);
     expect(rows.size).toBe(N);
     for (const c of commits) expect(rows.get(c)).toEqual({ runs: 1, designs: DESIGNS });
+  }, TIMEOUT);
+});
+
+describe('the bundled server', () => {
+  it('runs analyses on its bundled worker thread (dist/server/analyze-worker.js)', async () => {
+    const s = await start();
+    const engineer = await makeMember(ctx, project, 'engineer');
+    const login = await fetch(`${s.url}/api/auth/login`, {
+      method: 'POST', headers: { 'Content-Type': 'application/json' }, body: JSON.stringify({ email: engineer.email, password: PASSWORD }),
+    });
+    expect(login.status).toBe(200);
+    const cookie = login.headers.get('set-cookie')!.split(';')[0]!;
+    const form = new FormData();
+    form.set('design', new Blob([readFileSync(new URL('../../examples/sensor-frontend.fold.yaml', import.meta.url))]), 'sensor-frontend.fold.yaml');
+    const res = await fetch(`${s.url}/api/analyze`, { method: 'POST', headers: { Cookie: cookie }, body: form });
+    const body = await res.json() as { design: { status: string; name: string } };
+    expect(res.status).toBe(200);
+    expect(body.design.status).not.toBe('error');
+    expect(s.stderr.join('')).not.toMatch(/\n\s+at /);
   }, TIMEOUT);
 });
