@@ -59,13 +59,13 @@ export interface ServerProcess {
   exited: Promise<void>;
 }
 
-export async function startServerProcess(schema: string, port?: number): Promise<ServerProcess> {
+export async function startServerProcess(schema: string, port?: number, databaseUrl = TEST_DATABASE_URL): Promise<ServerProcess> {
   const p = port ?? await freePort();
   const stderr: string[] = [];
   const child = spawn(process.execPath, [BUNDLE, 'serve'], {
     cwd: ROOT,
     env: {
-      ...process.env, PLEAT_ENV: 'production', PLEAT_DATABASE_URL: TEST_DATABASE_URL, PLEAT_DB_SCHEMA: schema, PLEAT_PORT: String(p),
+      ...process.env, PLEAT_ENV: 'production', PLEAT_DATABASE_URL: databaseUrl, PLEAT_DB_SCHEMA: schema, PLEAT_PORT: String(p),
       PLEAT_JWT_SECRET: 'chaos-test-secret', PLEAT_SMTP_HOST: 'none', PLEAT_MIGRATE: '0', PLEAT_UPLOAD_LIMIT: '1000000',
       PLEAT_UPLOAD_QUOTA: '1000000', PLEAT_MAINTENANCE_MIN: '0', PLEAT_DB_POOL: '10',
     },
