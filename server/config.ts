@@ -38,6 +38,8 @@ export interface Config {
   upload: { perMinute: number; perDay: number };
   /** Seconds a client is told to wait (Retry-After) while the database is unreachable. */
   outageRetrySeconds: number;
+  /** How often the clean-up of server/maintenance.ts runs; 0 turns it off. */
+  maintenanceMs: number;
 }
 
 const MiB = 1024 * 1024;
@@ -102,6 +104,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env, overrides: Part
     analyze: { limit: num(env.PLEAT_ANALYZE_LIMIT, 30), timeoutMs: num(env.PLEAT_ANALYZE_TIMEOUT_S, 60) * 1000 },
     upload: { perMinute: num(env.PLEAT_UPLOAD_LIMIT, 120), perDay: num(env.PLEAT_UPLOAD_QUOTA, 10_000) },
     outageRetrySeconds: num(env.PLEAT_OUTAGE_RETRY_S, 5),
+    maintenanceMs: num(env.PLEAT_MAINTENANCE_MIN, 10) * 60_000,
     ...overrides,
   };
 }

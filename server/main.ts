@@ -12,6 +12,7 @@ import { connectDb } from './db/index';
 import { migrate } from './db/migrate';
 import { startFakeSmtp } from './mail/fakeSmtp';
 import { createMailer } from './mail/mailer';
+import { startMaintenance } from './maintenance';
 
 const log = (msg: string) => process.stderr.write(`pleat-server: ${msg}\n`);
 
@@ -58,8 +59,10 @@ async function main(command: string): Promise<void> {
     server.listen(config.port, config.host, () => resolve());
   });
   log(`listening on http://${config.host}:${config.port}`);
+  const stopMaintenance = config.maintenanceMs > 0 ? startMaintenance(ctx, config.maintenanceMs) : () => {};
   // Finish the requests in flight (at most a few seconds), send queued mail, then close the pool.
   const stop = () => {
+    stopMaintenance();
     server.close(async () => {
       // A handler whose client hung up may still be finishing its queries.
       await new Promise((resolve) => setTimeout(resolve, 500));

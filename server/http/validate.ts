@@ -3,7 +3,7 @@ import { Ajv, type ValidateFunction } from 'ajv';
 import { storableJsonProblems } from '../../shared/report/reportSchema';
 import { badRequest } from './errors';
 
-const ajv = new Ajv({ allErrors: true, strict: false });
+const ajv = new Ajv({ allErrors: true, strict: false, verbose: true });
 
 export type Check<T> = (body: unknown) => T;
 
@@ -17,7 +17,8 @@ export function checker<T>(schema: object, what = 'request body'): Check<T> {
     if (validate(body)) return body as T;
     const problems = (validate.errors ?? []).slice(0, 20).map((e) => ({
       path: e.instancePath || '/',
-      message: e.message ?? 'is not valid',
+      // A pattern's own explanation ('x-message' beside it) says more than the regular expression.
+      message: (e.keyword === 'pattern' ? (e.parentSchema as { 'x-message'?: string } | undefined)?.['x-message'] : undefined) ?? e.message ?? 'is not valid',
     }));
     const first = problems[0];
     throw badRequest(`The ${what} is not valid: ${first ? `${first.path} ${first.message}` : 'unknown problem'}.`, problems);

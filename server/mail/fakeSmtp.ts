@@ -1,6 +1,6 @@
 // A local SMTP server that accepts every message and keeps it: as .eml files in a folder
 // (development: .data/mail/) and/or handed to a callback (tests). It relays nothing anywhere.
-import { mkdirSync, writeFileSync } from 'node:fs';
+import { chmodSync, mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import type { AddressInfo } from 'node:net';
 import { SMTPServer } from 'smtp-server';
@@ -18,7 +18,11 @@ export interface FakeSmtp {
 }
 
 export async function startFakeSmtp(opts: { port?: number; host?: string; dir?: string; onMessage?: (m: CaughtMail) => void } = {}): Promise<FakeSmtp> {
-  if (opts.dir) mkdirSync(opts.dir, { recursive: true });
+  // Mail holds invitation links (one-time credentials): the folder and files are the owner's only.
+  if (opts.dir) {
+    mkdirSync(opts.dir, { recursive: true, mode: 0o700 });
+    chmodSync(opts.dir, 0o700);
+  }
   const messages: CaughtMail[] = [];
   let seq = 0;
   const server = new SMTPServer({
@@ -40,7 +44,7 @@ export async function startFakeSmtp(opts: { port?: number; host?: string; dir?: 
         messages.push(mail);
         if (opts.dir) {
           const stamp = new Date().toISOString().replace(/[:.]/g, '-');
-          writeFileSync(join(opts.dir, `${stamp}-${process.pid}-${++seq}.eml`), mail.raw);
+          writeFileSync(join(opts.dir, `${stamp}-${process.pid}-${++seq}.eml`), mail.raw, { mode: 0o600 });
         }
         opts.onMessage?.(mail);
         callback();

@@ -5,7 +5,7 @@ import { readFileSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Test } from 'supertest';
 import { ingestRun } from './runs/ingest';
-import { cookieFor, makeCiToken, makeInvitation, makeMember, makeReport, makeUser, makeWorld, randomCommit, type World } from '../test/factories';
+import { addMember, cookieFor, makeCiToken, makeProject, makeInvitation, makeMember, makeReport, makeUser, makeWorld, randomCommit, type World } from '../test/factories';
 import { startTestServer, type TestServer } from '../test/server';
 
 const WHO = ['admin', 'lead', 'engineer', 'viewer', 'outsider', 'anonymous', 'ciOwn', 'ciOther'] as const;
@@ -47,6 +47,14 @@ const CASES: Case[] = [
   { route: 'GET /api/projects/:slug', method: 'get', path: (p, w) => `/api/projects/${w.project.slug}`, expect: row('200 200 200 200 404 401 403 403') },
   { route: 'PATCH /api/projects/:slug', method: 'patch', path: (p, w) => `/api/projects/${w.project.slug}`,
     body: () => ({ name: 'Renamed' }), expect: row('200 200 403 403 404 401 403 403') },
+  // A fresh project per caller, with the world's people in their roles, so each call has one to delete.
+  { route: 'DELETE /api/projects/:slug', method: 'delete',
+    prepare: async (t, w) => {
+      const p = await makeProject(t.ctx);
+      for (const [who, role] of [['lead', 'lead'], ['engineer', 'engineer'], ['viewer', 'viewer']] as const) await addMember(t.ctx, p, w[who], role);
+      return { slug: p.slug };
+    },
+    path: (p) => `/api/projects/${p.slug}`, body: (p) => ({ confirm: p.slug }), expect: row('204 403 403 403 403 401 403 403') },
   { route: 'GET /api/projects/:slug/branches', method: 'get', path: (p, w) => `/api/projects/${slug(p, w)}/branches`, expect: row('200 200 200 200 404 401 403 403') },
   { route: 'GET /api/projects/:slug/branches/:branch/runs', method: 'get', path: (p, w) => `/api/projects/${slug(p, w)}/branches/main/runs`,
     expect: row('200 200 200 200 404 401 403 403') },

@@ -1,13 +1,26 @@
 // The demo seed runs the real engine over the examples: check the story it promises (a passing
 // trunk, a branch that regresses, one that fails) and that seeding twice adds nothing.
+import { mkdtempSync, rmSync, symlinkSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join, resolve } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { cookieFor } from '../test/factories';
 import { startTestServer, type TestServer } from '../test/server';
 import { DEMO_ACCOUNTS, DEMO_PASSWORD, DEMO_PROJECT, seedDemo } from './seed';
 
 let t: TestServer;
-beforeAll(async () => { t = await startTestServer(); });
-afterAll(async () => t?.close());
+let root: string;
+beforeAll(async () => {
+  t = await startTestServer();
+  // The seed writes the CI token into <root>/.data: a root of the test's own, not the checkout.
+  root = mkdtempSync(join(tmpdir(), 'pleat-seed-'));
+  symlinkSync(resolve('examples'), join(root, 'examples'));
+  t.ctx.config.root = root;
+});
+afterAll(async () => {
+  await t?.close();
+  rmSync(root, { recursive: true, force: true });
+});
 
 describe('seedDemo', () => {
   it('creates the four demo accounts, the project and a history; a second run adds nothing', async () => {

@@ -3,8 +3,8 @@
 // examples/ (the folding factor raised, a unit's folding set rotated). The commits are invented
 // but stable, so seeding twice adds nothing the second time.
 import { createHash } from 'node:crypto';
-import { readFileSync } from 'node:fs';
-import { join } from 'node:path';
+import { chmodSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { dirname, join } from 'node:path';
 import bcrypt from 'bcryptjs';
 import { buildReport } from '../../shared/report/report';
 import { mergeRules } from '../../shared/report/rules';
@@ -199,6 +199,14 @@ export async function seedDemo(ctx: AppContext, log: (msg: string) => void = () 
     }
   }
   log(runsAdded ? `seeded the demo project '${project.slug}' with ${runsAdded} runs` : `demo project '${project.slug}' already seeded`);
-  if (ciToken) log(`CI token of '${project.slug}' (shown once): ${ciToken}`);
+  if (ciToken) {
+    // The secret goes to a file only its owner can read, never to the log (logs are collected
+    // and kept; a token in them is a token for anyone who reads them).
+    const file = join(ctx.config.root, '.data', 'demo-ci-token');
+    mkdirSync(dirname(file), { recursive: true, mode: 0o700 });
+    writeFileSync(file, ciToken + '\n', { mode: 0o600 });
+    chmodSync(file, 0o600);
+    log(`CI token of '${project.slug}' written to ${file} (readable by you only); use it as PLEAT_TOKEN`);
+  }
   return { runsAdded, ciToken };
 }

@@ -18,7 +18,8 @@ import { canAcceptInvitation, canManageMembers } from './policy';
 const json = express.json({ limit: '16kb' });
 const role = { enum: ['lead', 'engineer', 'viewer'] };
 export const emailSchema = { type: 'string', minLength: 3, maxLength: 320, pattern: '^[^\\s@]+@[^\\s@]+$' };
-export const passwordSchema = { type: 'string', minLength: 8, maxLength: 200 };
+/** At least 8 characters, and not only spaces (which a form can submit by accident). */
+export const passwordSchema = { type: 'string', minLength: 8, maxLength: 200, pattern: '\\S', 'x-message': 'must contain something other than spaces' };
 
 const checkAdd = checker<{ email: string; role: Role }>({
   type: 'object', required: ['email', 'role'], additionalProperties: false, properties: { email: emailSchema, role },

@@ -10,3 +10,6 @@ export const canSeeProject = (role: ProjectRole): boolean => isAtLeast(role, 'vi
 
 /** A lead (or an admin) changes the project's settings: name, base branch, regression tolerance. */
 export const canEditProject = (role: ProjectRole): boolean => isAtLeast(role, 'lead');
+
+/** Only an admin deletes a project (with its runs). */
+export const canDeleteProject = (user: User): boolean => user.isAdmin;

@@ -5,14 +5,16 @@ import { isUniqueViolation } from '../../db/index';
 import type { Project } from '../../db/models';
 import { projectAccess, type ProjectRole } from '../../http/access';
 import { requireUser } from '../../http/auth';
-import { allow, conflict } from '../../http/errors';
+import { QueryTypes } from 'sequelize';
+import { allow, badRequest, conflict } from '../../http/errors';
 import { checker } from '../../http/validate';
-import { canCreateProject, canEditProject, canSeeProject } from './policy';
+import { uploadReportSchema } from '../../../shared/report/reportSchema';
+import { canCreateProject, canDeleteProject, canEditProject, canSeeProject } from './policy';
 
 const json = express.json({ limit: '64kb' });
 
 export const SLUG_PATTERN = '^[a-z0-9][a-z0-9-]{0,62}$';
-const branchName = { type: 'string', minLength: 1, maxLength: 255, pattern: '^[^\\s\\x00-\\x1f]+$' };
+const branchName = uploadReportSchema.properties.git.properties.branch;
 const tolerance = { type: 'number', minimum: 0, maximum: 10 };
 
 const checkCreate = checker<{ slug: string; name: string; baseBranch?: string; regressionTolerance?: number }>({
@@ -27,11 +29,19 @@ const checkCreate = checker<{ slug: string; name: string; baseBranch?: string; r
   },
 });
 
-const checkPatch = checker<{ name?: string; baseBranch?: string; regressionTolerance?: number }>({
+const checkPatch = checker<{ name?: string; baseBranch?: string; regressionTolerance?: number; branchRunDays?: number | null }>({
   type: 'object',
   additionalProperties: false,
   minProperties: 1,
-  properties: { name: { type: 'string', minLength: 1, maxLength: 200 }, baseBranch: branchName, regressionTolerance: tolerance },
+  properties: {
+    name: { type: 'string', minLength: 1, maxLength: 200 }, baseBranch: branchName, regressionTolerance: tolerance,
+    // Days runs of other branches than the base branch are kept; null keeps them for ever.
+    branchRunDays: { anyOf: [{ type: 'integer', minimum: 1, maximum: 36500 }, { type: 'null' }] },
+  },
+});
+
+const checkDelete = checker<{ confirm: string }>({
+  type: 'object', required: ['confirm'], additionalProperties: false, properties: { confirm: { type: 'string', maxLength: 100 } },
 });
 
 export function presentProject(p: Project, role: ProjectRole | null) {
@@ -40,6 +50,7 @@ export function presentProject(p: Project, role: ProjectRole | null) {
     name: p.name,
     baseBranch: p.baseBranch,
     regressionTolerance: p.regressionTolerance,
+    branchRunDays: p.branchRunDays ?? null,
     role,
     createdAt: p.createdAt,
   };
@@ -96,9 +107,39 @@ export function projectRoutes(ctx: AppContext): Router {
           oldValue: project.regressionTolerance, newValue: body.regressionTolerance,
         }, { transaction });
       }
+      // Retention deletes runs: who shortened it, and when, is kept beside the rule changes.
+      if (body.branchRunDays !== undefined && body.branchRunDays !== (project.branchRunDays ?? null)) {
+        await RuleChange.create({
+          projectId: project.id, userId: user.id, rule: 'branch_run_days',
+          oldValue: project.branchRunDays ?? null, newValue: body.branchRunDays,
+        }, { transaction });
+      }
       await project.update(body, { transaction });
     });
     res.json({ project: presentProject(project, role) });
+  });
+
+  // Deleting a project deletes its runs, members, tokens and rules. The body repeats the slug, so
+  // a stray request (or a slip of the mouse) deletes nothing.
+  router.delete('/api/projects/:slug', json, async (req, res) => {
+    const user = requireUser(req);
+    allow(canDeleteProject(user), 'Only an admin deletes projects.');
+    const { project } = await projectAccess(ctx, req, { slug: req.params.slug });
+    const { confirm } = checkDelete(req.body ?? {});
+    if (confirm !== project.slug) {
+      throw badRequest(`To delete the project and all its runs, send {"confirm": "${project.slug}"} (the project's slug).`);
+    }
+    // The runs first, in batches, so no single statement holds thousands of rows; then the rest
+    // goes with the project (ON DELETE CASCADE).
+    for (;;) {
+      const rows = await ctx.db.sequelize.query(
+        'DELETE FROM runs WHERE id IN (SELECT id FROM runs WHERE project_id = $1 LIMIT 1000) RETURNING id',
+        { bind: [project.id], type: QueryTypes.SELECT },
+      );
+      if (rows.length < 1000) break;
+    }
+    await Project.destroy({ where: { id: project.id } });
+    res.status(204).end();
   });
 
   return router;

@@ -5,6 +5,7 @@ import type { AppContext } from '../../context';
 import { projectAccess } from '../../http/access';
 import { requireUser } from '../../http/auth';
 import { allow, badRequest } from '../../http/errors';
+import { branchNameProblem } from '../../../shared/report/reportSchema';
 import { canWatch } from './policy';
 
 export function watchRoutes(ctx: AppContext): Router {
@@ -19,7 +20,8 @@ export function watchRoutes(ctx: AppContext): Router {
 
   function branchParam(value: unknown): string {
     const b = String(value ?? '');
-    if (!b || b.length > 255 || /[\s\x00-\x1f]/.test(b)) throw badRequest('Not a branch name.');
+    const problem = branchNameProblem(b);
+    if (problem) throw badRequest(`Not a branch name: ${problem}.`);
     return b;
   }
 
