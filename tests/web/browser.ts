@@ -4,6 +4,7 @@ import { execFileSync } from 'node:child_process';
 import { existsSync, mkdirSync, mkdtempSync, readdirSync, rmSync, statSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
+import { AxeBuilder } from '@axe-core/playwright';
 import { chromium, type BrowserContext, type Page } from 'playwright-core';
 import { ROOT } from './server';
 
@@ -121,44 +122,12 @@ export async function screenshot(page: Page, name: string, fullPage = true): Pro
 }
 
 /**
- * A small audit of what keyboard and screen-reader users need from every page (common practice,
- * no source; the rules of WCAG 2.x in spirit): form fields with a label, tables with a caption
- * and header cells, buttons and links with a name, scrollable regions reachable by keyboard,
- * and one h1. Returns the problems found.
+ * What axe-core (the @axe-core/playwright package, rules of WCAG 2.x and common practice) finds of
+ * impact serious or critical on the page as it is now, one line per element, for a readable failure.
  */
-export async function auditPage(page: Page): Promise<string[]> {
-  return page.evaluate(() => {
-    const problems: string[] = [];
-    const describe = (el: Element) => `${el.tagName.toLowerCase()}${el.id ? `#${el.id}` : ''}${el.className && typeof el.className === 'string' ? `.${el.className.split(' ').slice(0, 2).join('.')}` : ''}`;
-    const visible = (el: Element) => {
-      const r = (el as HTMLElement).getBoundingClientRect();
-      return r.width > 0 || r.height > 0 || el.classList.contains('sr-only');
-    };
-    for (const el of document.querySelectorAll('input, select, textarea')) {
-      const input = el as HTMLInputElement;
-      if (input.type === 'hidden') continue;
-      const labelled =
-        input.labels?.length || input.getAttribute('aria-label') || input.getAttribute('aria-labelledby') || input.getAttribute('title');
-      if (!labelled) problems.push(`form field without a label: ${describe(el)}`);
-    }
-    for (const t of document.querySelectorAll('table')) {
-      if (!t.querySelector('caption') && !t.getAttribute('aria-label') && !t.getAttribute('aria-labelledby')) problems.push(`table without a caption: ${describe(t)}`);
-      if (!t.querySelector('th')) problems.push(`table without header cells: ${describe(t)}`);
-    }
-    for (const el of document.querySelectorAll('button, a[href]')) {
-      if (!visible(el)) continue;
-      const name = (el.textContent ?? '').trim() || el.getAttribute('aria-label') || el.getAttribute('title');
-      if (!name) problems.push(`${el.tagName.toLowerCase()} without a name: ${describe(el)}`);
-    }
-    for (const el of document.querySelectorAll('div, ul, figure')) {
-      const style = getComputedStyle(el);
-      const scrolls = /(auto|scroll)/.test(style.overflowY + style.overflowX) && (el.scrollHeight > el.clientHeight + 1 || el.scrollWidth > el.clientWidth + 1);
-      if (!scrolls) continue;
-      const reachable = (el as HTMLElement).tabIndex >= 0 || el.querySelector('a[href], button, input, select, [tabindex="0"]');
-      if (!reachable) problems.push(`scrollable region not reachable by keyboard: ${describe(el)}`);
-    }
-    const h1 = document.querySelectorAll('h1').length;
-    if (h1 !== 1) problems.push(`${h1} h1 headings (want 1)`);
-    return problems;
-  });
+export async function axeViolations(page: Page): Promise<string[]> {
+  const result = await new AxeBuilder({ page }).analyze();
+  return result.violations
+    .filter((v) => v.impact === 'serious' || v.impact === 'critical')
+    .flatMap((v) => v.nodes.slice(0, 5).map((n) => `${v.id} (${v.impact}): ${n.target.join(' ')}: ${n.failureSummary?.split('\n').slice(1, 2).join('').trim()}`));
 }

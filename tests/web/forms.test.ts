@@ -2,7 +2,7 @@
 // team rules, and a project slug the browser never checked. The values the server stores are
 // read back through the API the CLI uses.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { ensureChromium, ensureWebBuild, openBrowser, signIn, type Session } from './browser';
+import { ensureChromium, ensureWebBuild, openBrowser, screenshot, signIn, type Session } from './browser';
 import { demoAccount, demoProject } from './demo';
 import { startWebServer, type WebServer } from './server';
 
@@ -38,6 +38,12 @@ describe('the team rules form', () => {
     const note = page.getByTestId('rule-min_utilization-note-fraction');
     await note.getByText('looks like a fraction').waitFor();
     expect(await field.getAttribute('aria-invalid')).toBe('true');
+    // For a person to look at, at a laptop and a phone width.
+    await screenshot(page, 'rules-fraction', false);
+    await page.setViewportSize({ width: 390, height: 844 });
+    await field.scrollIntoViewIfNeeded();
+    await screenshot(page, 'rules-fraction', false);
+    await page.setViewportSize({ width: 1366, height: 768 });
     await page.getByRole('button', { name: 'Save the rules' }).click();
     await page.getByRole('button', { name: 'Save the rules' }).waitFor();
     // Nothing was saved, and no success was claimed.

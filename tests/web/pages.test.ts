@@ -3,10 +3,9 @@
 // screen, and axe-core (the @axe-core/playwright package, WCAG 2.x rules) finds no serious or
 // critical violation. Each page is saved as a screenshot for a person to look at.
 import { join } from 'node:path';
-import { AxeBuilder } from '@axe-core/playwright';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Page } from 'playwright-core';
-import { ensureChromium, ensureWebBuild, openBrowser, screenshot, signIn, type Session } from './browser';
+import { axeViolations, ensureChromium, ensureWebBuild, openBrowser, screenshot, signIn, type Session } from './browser';
 import { demoAccount, demoProject, type DemoRole } from './demo';
 import { ROOT, startWebServer, type WebServer } from './server';
 
@@ -21,14 +20,6 @@ beforeAll(async () => {
 afterAll(async () => {
   await web?.close();
 });
-
-/** axe-core's findings of impact serious or critical, one line each, for a readable failure. */
-async function axeProblems(page: Page): Promise<string[]> {
-  const result = await new AxeBuilder({ page }).analyze();
-  return result.violations
-    .filter((v) => v.impact === 'serious' || v.impact === 'critical')
-    .flatMap((v) => v.nodes.slice(0, 5).map((n) => `${v.id} (${v.impact}): ${n.target.join(' ')}: ${n.failureSummary?.split('\n').slice(1, 2).join('').trim()}`));
-}
 
 /** How far the document scrolls sideways, and where the sign-out control sits. */
 async function layout(page: Page) {
@@ -90,7 +81,7 @@ describe.each(SIZES)('every page at $width px wide', (size) => {
       expect(l.signOut!.right, `${name}: sign-out on screen`).toBeLessThanOrEqual(l.viewport.width);
       expect(l.signOut!.bottom, `${name}: sign-out on screen`).toBeLessThanOrEqual(l.viewport.height);
     }
-    expect(await axeProblems(page), `${name}: axe-core, serious and critical`).toEqual([]);
+    expect(await axeViolations(page), `${name}: axe-core, serious and critical`).toEqual([]);
   }
 
   it('sign-in', async () => {
