@@ -50,8 +50,9 @@ export async function runSweep(file: string, opts: SweepCliOptions, ctx: CliCont
   const color = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stdout.isTTY, env: process.env }));
   const errColor = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stderr.isTTY, env: process.env }));
   const abs = path.resolve(process.cwd(), file);
-  // Loaded at the first factor so that a file without `folding:` reads too; the sweep sets N itself.
-  const read = await readForPlanning(abs, opts.factors[0]);
+  // Loaded at the largest factor, so that a file without `folding:` reads too and no pin is
+  // refused for its partition; the sweep sets N itself (pins beyond a smaller N are noted).
+  const read = await readForPlanning(abs, opts.factors[opts.factors.length - 1]);
   if (!read.design) {
     for (const d of read.diagnostics) {
       const line = diagnosticLine(read.file, d);

@@ -29,10 +29,6 @@ const MAX_PARTITIONS = 16;
 const MAX_CELL = 14;
 const MAX_DIAGNOSTICS = 50;
 
-export function statusOf(plan: PlanResult): PlanStatus {
-  return plan.status;
-}
-
 /** Exit code of one entry: 0 plan found, 1 no plan, 2 invalid input. */
 export function entryExit(e: PlanEntry): number {
   return e.status === 'error' ? 2 : e.status === 'infeasible' ? 1 : 0;
@@ -95,7 +91,7 @@ export function planLines(e: PlanEntry, c: ChalkInstance = NO_COLOR): string[] {
   for (const u of rows) for (const v of (p.sets[u.id] ?? []).slice(0, cols)) width = Math.max(width, Math.min(MAX_CELL, label(v).length));
   const unitWidth = Math.max(4, ...rows.map((u) => u.id.length));
   const kindWidth = Math.max(...rows.map((u) => `${u.kind}/${u.stages}`.length), 4);
-  out.push(c.dim(`  ${''.padEnd(unitWidth)}  ${''.padEnd(kindWidth)}  ${[...Array(cols).keys()].map((t) => cell(`p${t}`, width)).join(' ')}${N > cols ? ` ... p${N - 1}` : ''}`));
+  out.push(c.dim(`  ${''.padEnd(unitWidth)}  ${''.padEnd(kindWidth)}  ${[...Array(cols).keys()].map((t) => cell(`p${t}`, width)).join(' ')}${N > cols ? ` ... p${N - 1}` : ''}`.trimEnd()));
   for (const u of rows) {
     const list = p.sets[u.id] ?? [];
     const cells = [...Array(cols).keys()].map((t) => {

@@ -1,7 +1,7 @@
 // A MilpSolver over HiGHS (the `highs` npm package: the HiGHS solver compiled to WebAssembly).
 // Loaded on first use only, so commands other than `plan` and `sweep` never pay for the 3.5 MB
 // module. The model arrives as CPLEX-LP text; statuses and the MIP dual bound are mapped to the
-// engine's MilpSolution (see docs/cli.md, "How plans are found").
+// engine's MilpSolution (docs/cli.md, "Planning"; the model itself: docs/planning.md).
 import { readFileSync } from 'node:fs';
 import { createRequire } from 'node:module';
 import type { Highs, Model } from 'highs';

@@ -9,6 +9,9 @@ import { cleanupTemps, ensureBuilt, EXAMPLES, pleat, tempDir, write } from './he
 beforeAll(ensureBuilt, 180_000);
 afterAll(cleanupTemps);
 
+// Each test starts several planner processes (the exact model runs up to --time-limit each).
+const SLOW = 300_000;
+
 /**
  * A decimating pressure-sensor filter of our own: two cascaded first-order sections with gains,
  * four adds and three multiplies, one loop per section. No folding sets: the planner places all.
@@ -107,7 +110,7 @@ describe('pleat check on a design without sets', () => {
     expect(diags).toHaveLength(1);
     expect(diags[0]).toContain(`baro.fold.yaml:${line}:1: error plan-incomplete`);
     expect(diags[0]).toContain('pleat plan');
-  });
+  }, SLOW);
 });
 
 describe('pleat plan', () => {
@@ -132,7 +135,7 @@ describe('pleat plan', () => {
     expect(placed.sort()).toEqual(['f1', 'f2', 'g', 'o1', 'o2', 's1', 's2']);
     // The original stays as it was with --out.
     expect(readFileSync(path.join(dir, 'baro.fold.yaml'), 'utf8')).toBe(BARO);
-  });
+  }, SLOW);
 
   it('--write keeps comments and every line outside the inserted sets byte for byte', async () => {
     const dir = tempDir();
@@ -153,7 +156,7 @@ describe('pleat plan', () => {
     const c = await check('baro.fold.yaml', dir);
     expect([0, 1]).toContain(c.code);
     expect(c.d.retiming.feasible).toBe(true);
-  });
+  }, SLOW);
 
   it('keeps pins where the design placed them and says so', async () => {
     const dir = tempDir();
@@ -169,7 +172,7 @@ describe('pleat plan', () => {
     expect(text.stdout).toContain('g*');
     const c = await check('out.fold.yaml', dir);
     expect([0, 1]).toContain(c.code);
-  });
+  }, SLOW);
 
   it('makes units with ids of its own scheme and never plans fewer units than ceil(ops/N)', async () => {
     const dir = tempDir();
@@ -191,7 +194,7 @@ describe('pleat plan', () => {
     expect([0, 1]).toContain(c.code);
     expect(c.d.factor).toBe(2);
     expect(c.d.retiming.feasible).toBe(true);
-  });
+  }, SLOW);
 
   it('exits 1 when a kind has more operations than unit slots, naming the count that would do', async () => {
     const dir = tempDir();
@@ -206,7 +209,7 @@ describe('pleat plan', () => {
     expect(text.exitCode).toBe(1);
     expect(text.stdout).toContain('NO PLAN');
     expect(text.stdout).toMatch(/--units .*add=2/);
-  });
+  }, SLOW);
 
   it('exits 1 when a loop needs a larger N, and never plans below the factor lower bound', async () => {
     const dir = tempDir();
@@ -241,7 +244,7 @@ folding:
     expect([0, 1]).toContain(c.code);
     expect(c.d.factorLowerBound).toBe(3);
     expect(c.d.factor).toBeGreaterThanOrEqual(c.d.factorLowerBound);
-  });
+  }, SLOW);
 
   it('plans the examples with their sets taken out; every plan passes pleat check', async () => {
     const dir = tempDir();
@@ -258,7 +261,7 @@ folding:
       expect(c.d.retiming.feasible, name).toBe(true);
       expect(designs[0].objective?.registers, name).toBe(c.d.registers?.minimum);
     }
-  });
+  }, SLOW);
 
   it('exits 2 on invalid input with file:line:column, and on bad options', async () => {
     const dir = tempDir();
@@ -280,5 +283,5 @@ folding:
     expect(fft.exitCode).toBe(2);
     expect(fft.stdout).toMatch(/ERROR .*baro-decimator[\s\S]*--units names kind `fft`, which the design baro-decimator does not use \(its kinds: add, mul\)/);
     expect(readFileSync(path.join(dir, 'baro.fold.yaml'), 'utf8')).toBe(BARO);
-  });
+  }, SLOW);
 });

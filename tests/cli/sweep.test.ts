@@ -8,6 +8,9 @@ import { cleanupTemps, ensureBuilt, pleat, tempDir, write } from './helpers';
 beforeAll(ensureBuilt, 180_000);
 afterAll(cleanupTemps);
 
+// Each test starts several planner processes (the exact model runs up to --time-limit each).
+const SLOW = 300_000;
+
 /** A tide-gauge smoother of our own: 3 adds and 3 multiplies, one loop, no folding sets. */
 const TIDE = `format: pleat/1
 name: tide-smoother
@@ -98,7 +101,7 @@ describe('pleat sweep', () => {
       expect(r.pareto, `N=${r.factor}`).toBe(!dominated);
     }
     for (const r of rows.filter((x) => x.status === 'infeasible')) expect(r.pareto).toBe(false);
-  });
+  }, SLOW);
 
   it('every plan of the sweep passes pleat check', async () => {
     const dir = tempDir();
@@ -112,7 +115,7 @@ describe('pleat sweep', () => {
       expect(d.retiming.feasible).toBe(true);
       expect(d.registers.minimum).toBe(r.registers);
     }
-  });
+  }, SLOW);
 
   it('fixed unit counts, text and CSV output', async () => {
     const dir = tempDir();
@@ -130,7 +133,7 @@ describe('pleat sweep', () => {
     const text = await pleat(['sweep', 'tide.fold.yaml', '--factors', '2,3', '--units', 'add=1,mul=1', '--time-limit', '3'], { cwd: dir });
     expect(text.stdout).toMatch(/Pareto front over \(units, registers, sample period\): N = 3/);
     expect(text.stdout).toMatch(/^\s*2\s+1\s+1\s+-/m);
-  });
+  }, SLOW);
 
   it('exits 1 when no factor admits a plan and 2 on bad input', async () => {
     const dir = tempDir();
@@ -148,5 +151,5 @@ describe('pleat sweep', () => {
     const bad = await pleat(['sweep', 'bad.fold.yaml', '--factors', '2..3'], { cwd: dir });
     expect(bad.exitCode).toBe(2);
     expect(bad.stderr).toMatch(new RegExp(`bad\\.fold\\.yaml:${line}:\\d+: error unknown-node`));
-  });
+  }, SLOW);
 });
