@@ -8,10 +8,21 @@ export const MAX_NAME = 200;
 /** Largest folding factor: no design within the node limit can fill more partitions per unit. */
 export const MAX_FACTOR = 1_000_000;
 
-const count = (description: string, min = 0) => ({
+/**
+ * Deepest pipeline of one unit. Real cores have tens to a few hundred stages; 10,000 is far past
+ * any of them and keeps every cycle count of the analysis small and exact (docs/diagnostics.md).
+ */
+export const MAX_STAGES = 10_000;
+/**
+ * Most delays on one edge. A million samples of delay is a memory, not a line of registers, and
+ * the folded datapath holds every delay as a register (docs/diagnostics.md).
+ */
+export const MAX_DELAYS = 1_000_000;
+
+const count = (description: string, min = 0, max = MAX_INT) => ({
   type: 'integer',
   minimum: min,
-  maximum: MAX_INT,
+  maximum: max,
   description,
 });
 
@@ -77,7 +88,7 @@ export const designSchema = {
             not: { enum: ['input', 'output'] },
             description: 'Operation kind this unit executes (e.g. add, mul). `input` and `output` are reserved for boundary nodes.',
           },
-          stages: count('Pipeline stages of the unit (0 = combinational).'),
+          stages: count(`Pipeline stages of the unit (0 = combinational; at most ${MAX_STAGES}).`, 0, MAX_STAGES),
         },
       },
     },
@@ -118,7 +129,7 @@ export const designSchema = {
         properties: {
           from: { type: 'string', minLength: 1, description: 'Id of the node that produces the value.' },
           to: { type: 'string', minLength: 1, description: 'Id of the node that consumes the value.' },
-          delays: { ...count('Number of delay elements (registers) on the edge.'), default: 0 },
+          delays: { ...count(`Number of delay elements (registers) on the edge (at most ${MAX_DELAYS}).`, 0, MAX_DELAYS), default: 0 },
           port: count('Operand position at the consumer, for non-commutative operations (0 = first).'),
         },
       },

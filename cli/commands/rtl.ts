@@ -112,8 +112,9 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
     import('../../shared/reference'),
     import('../../shared/analyze'),
   ]);
-  const { control } = controlTables(loaded.design, loaded.analysis);
-  if (!control) throw infeasible(loaded);
+  const built = controlTables(loaded.design, loaded.analysis);
+  const { control } = built;
+  if (!control) throw infeasible(loaded, built);
   const graph = resolveArithmetic(loaded.design).graph!;
   const generator = `pleat ${ctx.version}`;
   const bundle = rtl.generateRtl(loaded.design, control, { width: opts.width, coefFrac: opts.coefFrac, generator });

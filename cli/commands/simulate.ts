@@ -75,7 +75,8 @@ export async function loadForHardware(fileArg: string, errColor: ReturnType<type
 }
 
 /** Exit 1 with the retiming conflict in a line, when the plan has no folded datapath. */
-export function infeasible(loaded: LoadedDesign): CliError {
+export function infeasible(loaded: LoadedDesign, result?: { tooLarge?: boolean; reason?: string }): CliError {
+  if (result?.tooLarge) return new CliError(`${loaded.file}: the folded datapath is too large to build: ${result.reason}`, 1);
   const c = loaded.analysis.retiming.conflict;
   const loop = c ? ` (loop ${c.edges.map((e) => e.from).join(' -> ')} -> ${c.edges[0]?.from ?? ''})` : '';
   return new CliError(
@@ -120,8 +121,9 @@ export async function runSimulate(file: string, opts: SimulateOptions, ctx: CliC
   const errColor = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stderr.isTTY, env: process.env }));
   const loaded = await loadForHardware(file, errColor);
   const [{ controlTables, controlText }, { simulateDesign }] = await Promise.all([import('../../shared/control'), import('../../shared/foldedSim')]);
-  const { control } = controlTables(loaded.design, loaded.analysis);
-  if (!control) throw infeasible(loaded);
+  const built = controlTables(loaded.design, loaded.analysis);
+  const { control } = built;
+  if (!control) throw infeasible(loaded, built);
   const { report, diagnostics } = simulateDesign(loaded.design, { ...loaded.analysis, control }, {
     iterations: opts.iterations,
     seed: opts.seed,
