@@ -17,6 +17,7 @@ const W = 'warning' as const;
 export const CODES = {
   // protection of the tool, checked before or right after parsing
   'file-too-large': { severity: E, rule: 'The file is larger than the size limit (16 MiB of UTF-8 by default).' },
+  'file-encoding': { severity: E, rule: 'The file is not UTF-8: invalid bytes, or UTF-16 or UTF-32 text.' },
   'alias-limit': { severity: E, rule: 'YAML aliases expand to more values than the limit, or a structure refers to itself.' },
   'nesting-limit': { severity: E, rule: 'Collections are nested more than 100 levels deep.' },
   'too-many-nodes': { severity: E, rule: 'The design has more nodes than the limit (1,000,000 by default).' },

@@ -5,6 +5,7 @@ import type { Design, Diagnostic, LoadResult } from './types';
 import { diag, diagAt, sortDiagnostics } from './diagnostics';
 import { validateDesign } from './validate';
 import { locate, plainScalarTexts } from './positions';
+import { formatBytes } from './encoding';
 import { decimalToRational, isDecimalText } from './fraction';
 
 export interface Limits {
@@ -198,10 +199,9 @@ function loadUnchecked(input: string, limits: Limits): LoadResult {
   const text = input.charCodeAt(0) === 0xfeff ? input.slice(1) : input;
   const bytes = utf8Length(text, limits.maxBytes);
   if (bytes > limits.maxBytes) {
-    const size = (n: number) => (n >= 1024 * 1024 ? `${(n / (1024 * 1024)).toFixed(1)} MiB` : `${n} bytes`);
     return {
       design: null,
-      diagnostics: [diagAt('file-too-large', `the file is larger than ${size(limits.maxBytes)}, the limit for a design file; split the design`, 1, 1)],
+      diagnostics: [diagAt('file-too-large', `the file is larger than ${formatBytes(limits.maxBytes)}, the limit for a design file; split the design`, 1, 1)],
     };
   }
 

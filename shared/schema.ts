@@ -19,6 +19,16 @@ export const MAX_STAGES = 10_000;
  */
 export const MAX_DELAYS = 1_000_000;
 
+/**
+ * Computation times and the clock period: positive, finite, and within bounds no design leaves
+ * (a femtosecond to a second of clock; a millionth to a million time units), so that sample
+ * periods, rates and iteration bounds are finite numbers (docs/diagnostics.md).
+ */
+export const MIN_TIME = 1e-6;
+export const MAX_TIME = 1e6;
+export const MIN_CLOCK_NS = 1e-6;
+export const MAX_CLOCK_NS = 1e9;
+
 const count = (description: string, min = 0, max = MAX_INT) => ({
   type: 'integer',
   minimum: min,
@@ -58,7 +68,8 @@ export const designSchema = {
     description: { type: 'string', description: 'Free text for people.' },
     clock_ns: {
       type: 'number',
-      exclusiveMinimum: 0,
+      minimum: MIN_CLOCK_NS,
+      maximum: MAX_CLOCK_NS,
       description: 'Clock period of the folded hardware in nanoseconds; gives the sample period and rate.',
     },
     kinds: {
@@ -69,7 +80,7 @@ export const designSchema = {
         required: ['time'],
         additionalProperties: false,
         properties: {
-          time: { type: 'number', exclusiveMinimum: 0, description: 'Computation time in time units (> 0).' },
+          time: { type: 'number', minimum: MIN_TIME, maximum: MAX_TIME, description: `Computation time in time units (${MIN_TIME} to ${MAX_TIME}).` },
         },
       },
     },
@@ -107,7 +118,7 @@ export const designSchema = {
             examples: ['input', 'output', 'add', 'mul'],
             description: '`input`, `output`, or an operation kind that some unit has.',
           },
-          time: { type: 'number', exclusiveMinimum: 0, description: 'Computation time of this node; overrides the time of its kind.' },
+          time: { type: 'number', minimum: MIN_TIME, maximum: MAX_TIME, description: `Computation time of this node (${MIN_TIME} to ${MAX_TIME}); overrides the time of its kind.` },
           slot: count('Inputs and outputs only: the time partition (0..N-1) at which the sample arrives or is read.'),
           coefficient: { type: 'number', description: 'Constant factor, for a `gain` node.' },
           op: {

@@ -7,6 +7,7 @@ import { colorLevel, makeChalk } from '../color';
 import { findConfig, loadConfig, type PleatConfig } from '../config';
 import { CliError, type CliContext, type RegisterCommand } from '../context';
 import { expandGlobs, expandPaths, reportPath, type Unreadable } from '../files';
+import { decodeDesignBytes, formatBytes } from '../../shared/encoding';
 import { diagnosticLine, type FormatContext, type Formatter } from '../format/common';
 import { formatText } from '../format/text';
 import { gitRoot } from '../git';
@@ -265,12 +266,18 @@ function checkOne(abs: string, file: string, effective: EffectiveRules, engine: 
       return result;
     }
     if (s.size > engine.maxBytes) {
-      const mib = (n: number) => (n / (1024 * 1024)).toFixed(1);
-      result.diagnostics.push({ severity: 'error', code: 'file-too-large', message: `the file is ${mib(s.size)} MiB; the limit is ${mib(engine.maxBytes)} MiB`, line: 1, column: 1 });
+      result.diagnostics.push({ severity: 'error', code: 'file-too-large', message: `the file is ${formatBytes(s.size)}; the limit is ${formatBytes(engine.maxBytes)}`, line: 1, column: 1 });
       result.ms = performance.now() - t0;
       return result;
     }
-    const text = readFileSync(abs, 'utf8');
+    // Bytes, decoded strictly: a replaced byte could turn an id into another one and pass.
+    const decoded = decodeDesignBytes(readFileSync(abs));
+    if (decoded.text === null) {
+      result.diagnostics.push(decoded.diagnostic);
+      result.ms = performance.now() - t0;
+      return result;
+    }
+    const text = decoded.text;
     timing?.lap(`${file}: read`);
     const loaded = engine.loadDesign(text);
     timing?.lap(`${file}: loaded and validated`);

@@ -7,6 +7,7 @@ import { colorLevel, makeChalk } from '../color';
 import { CliError, type CliContext, type RegisterCommand } from '../context';
 import { diagnosticLine } from '../format/common';
 import type { Analysis, Design, Diagnostic } from '../../shared/types';
+import { decodeDesignBytes, formatBytes } from '../../shared/encoding';
 
 /** A design read, validated and analysed, or a CliError already explaining why not. */
 export interface LoadedDesign {
@@ -42,8 +43,10 @@ export async function loadForHardware(fileArg: string, errColor: ReturnType<type
   try {
     const s = statSync(abs);
     if (!s.isFile()) throw new CliError(`not a design file: ${fileArg}`);
-    if (s.size > DEFAULT_LIMITS.maxBytes) throw new CliError(`${shown}: the file is larger than the ${DEFAULT_LIMITS.maxBytes / (1024 * 1024)} MiB limit`);
-    text = readFileSync(abs, 'utf8');
+    if (s.size > DEFAULT_LIMITS.maxBytes) throw new CliError(`${shown}: the file is ${formatBytes(s.size)}; the limit is ${formatBytes(DEFAULT_LIMITS.maxBytes)}`);
+    const decoded = decodeDesignBytes(readFileSync(abs));
+    if (decoded.text === null) throw new CliError(`${diagnosticLine(shown, decoded.diagnostic)}`);
+    text = decoded.text;
   } catch (e) {
     if (e instanceof CliError) throw e;
     throw new CliError(`cannot read ${fileArg}: ${(e as NodeJS.ErrnoException).code === 'ENOENT' ? 'no such file' : (e as Error).message}`);
