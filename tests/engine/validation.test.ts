@@ -9,6 +9,7 @@ import { Ajv } from 'ajv';
 import { loadDesign, DEFAULT_LIMITS } from '../../shared/load';
 import { validateDesign, MAX_PER_CODE } from '../../shared/validate';
 import { CODES } from '../../shared/diagnostics';
+import { decodeDesignBytes } from '../../shared/encoding';
 import { designSchema } from '../../shared/schema';
 import type { Diagnostic } from '../../shared/types';
 
@@ -287,6 +288,11 @@ describe('problems found while reading the text', () => {
   it('too-many-nodes and too-many-edges: at the list, with their own codes', () => {
     const r = loadDesign(VALID, { limits: { maxNodes: 4, maxEdges: 5 } });
     expect(brief(r.diagnostics)).toEqual(['too-many-nodes@12:3', 'too-many-edges@18:3']);
+  });
+
+  it('file-encoding: bytes that are not UTF-8, at the first bad byte (shared/encoding.ts)', () => {
+    const d = decodeDesignBytes(new Uint8Array([0x6e, 0x61, 0x6d, 0x65, 0x3a, 0x20, 0xff]));
+    expect(brief([d.diagnostic!])).toEqual(['file-encoding@1:7']);
   });
 
   it('internal-error: text that is not a string comes back as a diagnostic', () => {
