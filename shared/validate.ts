@@ -3,7 +3,7 @@
 import { Ajv, type ErrorObject, type ValidateFunction } from 'ajv';
 import type { Design, DfgNode, Diagnostic, Edge, NodeOp, Unit } from './types';
 import { designSchema } from './schema';
-import { diag, formatPath, showValue, typeWord, type DiagnosticCode } from './diagnostics';
+import { diag, formatPath, showValue, typeWord, withArticle, type DiagnosticCode } from './diagnostics';
 
 /** At most this many diagnostics of one code are listed; the last one says how many more there are. */
 export const MAX_PER_CODE = 100;
@@ -379,6 +379,7 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector): void {
   const placedPos = new Int32Array(nN);
   const setKeys: string[] = [];
   const unitHasSet = new Uint8Array(units.length);
+  const malformedKinds = new Set<string>();
   if (sets) {
     for (const key of Object.keys(sets)) {
       const si = setKeys.length;
@@ -396,9 +397,13 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector): void {
           ['folding', 'sets', key],
         );
       } else unitHasSet[ui] = 1;
-      if (!Array.isArray(list)) continue;
       const unit = ui !== undefined ? (units[ui] as Record<string, unknown>) : null;
       const unitKind = unit && typeof unit.kind === 'string' ? unit.kind : null;
+      // A set the schema already refuses (not a list, or entries that are not ids) is the root
+      // cause: its nodes are not also `unfolded-node`, nor the set `idle-unit`.
+      const malformed = !Array.isArray(list) || list.some((v) => v !== null && typeof v !== 'string');
+      if (malformed && unitKind !== null) malformedKinds.add(unitKind);
+      if (!Array.isArray(list)) continue;
       if (factor !== null && list.length > factor) {
         out.add('set-too-long', `folding set \`${key}\` has ${list.length} entries but the folding factor is ${factor}; partitions run 0..${factor - 1}`, ['folding', 'sets', key, factor]);
       }
@@ -429,7 +434,7 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector): void {
           placedPos[ni] = p;
         }
       }
-      if (ui !== undefined && used === 0) {
+      if (ui !== undefined && used === 0 && !(unitKind !== null && malformedKinds.has(unitKind))) {
         out.add('idle-unit', `unit \`${key}\` has an empty folding set; it does nothing`, ['folding', 'sets', key]);
       }
     }
@@ -443,7 +448,8 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector): void {
       if (shadowed[i]) continue;
       const n = nodes[i] as Record<string, unknown>;
       if (unitsOk && !unitKinds.has(n.kind as string)) continue; // kind-without-unit says it already
-      out.add('unfolded-node', `operation \`${n.id}\` (kind \`${label(n.kind)}\`) is in no folding set; place it in a set of a \`${label(n.kind)}\` unit`, ['nodes', i, 'id']);
+      if (malformedKinds.has(n.kind as string)) continue; // the malformed set of its kind says it already
+      out.add('unfolded-node', `operation \`${n.id}\` (kind \`${label(n.kind)}\`) is in no folding set; place it in a set of ${withArticle(`\`${label(n.kind)}\``, String(n.kind))} unit`, ['nodes', i, 'id']);
     }
   }
 
@@ -670,6 +676,18 @@ function reachability(
       queue[tail++] = v;
     }
   }
+  // An edge to a node that does not exist is the root cause (`unknown-node`): whatever its
+  // source feeds is unknown, so its source and their producers get no follow-on warnings.
+  let unknownTarget = false;
+  for (let i = 0; i < nE; i++) {
+    if (eTo[i] >= 0) continue;
+    unknownTarget = true;
+    const u = eFrom[i];
+    if (u >= 0 && !reached[u]) {
+      reached[u] = 1;
+      queue[tail++] = u;
+    }
+  }
   for (let head = 0; head < tail; head++) {
     const v = queue[head];
     for (let q = start[v]; q < start[v + 1]; q++) {
@@ -678,6 +696,14 @@ function reachability(
         reached[u] = 1;
         queue[tail++] = u;
       }
+    }
+  }
+  // An output that nothing feeds: simulation calls it unfed and the RTL holds it at 0.
+  if (!unknownTarget) {
+    for (let v = 0; v < nN; v++) {
+      if (nodeClass[v] !== OUTPUT || shadowed[v] || start[v + 1] > start[v]) continue;
+      const id = (nodes[v] as Record<string, unknown>).id as string;
+      out.add('unfed-output', `output \`${id}\` has no edge into it; it would never show a value`, ['nodes', v, 'id']);
     }
   }
   for (let v = 0; v < nN; v++) {

@@ -301,6 +301,36 @@ describe('problems found while reading the text', () => {
   });
 });
 
+describe('root causes reported once', () => {
+  it('unfed-output: an output with no edge into it is a warning at its id', () => {
+    const text = VALID.replace('  - { id: level, kind: output, slot: 3 }', '  - { id: level, kind: output, slot: 3 }\n  - { id: spare, kind: output }');
+    const r = loadDesign(text);
+    expect(r.design).not.toBeNull();
+    expect(brief(r.diagnostics)).toEqual(['unfed-output@17:11']); // line of `spare` in VALID plus one
+    expect(r.diagnostics[0].message).toBe('output `spare` has no edge into it; it would never show a value');
+  });
+
+  it('a misspelt edge target gives one unknown-node error, not also no-path-to-output or unfed-output warnings upstream', () => {
+    const r = loadDesign(VALID.replace('  - { from: acc, to: level }', '  - { from: acc, to: levl }'));
+    expect(r.diagnostics.map((d) => d.code)).toEqual(['unknown-node']);
+  });
+
+  it('a malformed folding set gives its schema error only, not unfolded-node for its nodes or idle-unit', () => {
+    const r = loadDesign(VALID.replace(/MAC: \[[^\]]*\]/, 'MAC: [{ step: 1 }]'));
+    expect(r.design).toBeNull();
+    expect(r.diagnostics.map((d) => d.code)).toEqual(['schema-type']);
+  });
+
+  it('says "an `add` unit" and "a `mul` unit" (English articles, common practice)', () => {
+    const text = VALID.replace(/    ALU: \[[^\]]*\]\n/, '    ALU: []\n');
+    const msgs = loadDesign(text).diagnostics.filter((d) => d.code === 'unfolded-node').map((d) => d.message);
+    expect(msgs.length).toBeGreaterThan(0);
+    for (const m of msgs) expect(m).toMatch(/in a set of an `add` unit$/);
+    const mul = loadDesign(VALID.replace(/    MAC: \[[^\]]*\]\n/, '    MAC: []\n')).diagnostics.filter((d) => d.code === 'unfolded-node');
+    expect(mul[0].message).toMatch(/in a set of a `mul` unit$/);
+  });
+});
+
 describe('reporting', () => {
   it('reports all problems of a file at once, sorted by line', () => {
     const r = loadDesign(readFileSync(fixtures + 'three-problems.fold.yaml', 'utf8'));
