@@ -8,6 +8,7 @@ import { Option, type Command } from 'commander';
 import { colorLevel, makeChalk } from '../color';
 import { CliError, type CliContext, type RegisterCommand } from '../context';
 import { infeasible, intOption, loadForHardware } from './simulate';
+import { escapeControls, escapeControlsDeep, escapeTerminal } from '../format/escape';
 import type { AreaFigures, RtlBundle } from '../../shared/rtl';
 
 interface RtlOptions {
@@ -195,7 +196,7 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   writeFileSync(path.join(dir, `${bundle.top}.rtl.json`), `${JSON.stringify(report, null, 2)}\n`);
   const failed = verify !== null && !verify.passed;
 
-  for (const n of notices) process.stderr.write(`${n}\n`);
+  for (const n of notices) process.stderr.write(`${escapeTerminal(n)}\n`);
   if (opts.format === 'json') {
     process.stdout.write(`${JSON.stringify(report, null, 2)}\n`);
     return failed ? 1 : 0;
@@ -205,8 +206,9 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   lines.push(`wrote ${report.files.length} Verilog files and ${bundle.top}.rtl.json to ${shownDir}/ (top module ${bundle.top}, W = ${bundle.fixed.width}, N = ${bundle.factor})`);
   lines.push('interface (cycle 0 = first cycle after the last rising edge of clk with rst high):');
   for (const p of bundle.ports) lines.push(`  ${p.direction === 'input' ? 'in ' : 'out'} ${p.port}: ${p.timing}`);
-  for (const r of bundle.renamed) lines.push(`  renamed ${r.role === 'module' ? 'top module' : r.role === 'strobe' ? `strobe of ${r.of}` : `port of ${r.of}`}: ${r.wanted} -> ${r.name} (${r.reason})`);
-  for (const w of bundle.warnings) lines.push(`${color.yellow('warning')}: ${w}`);
+  // Node ids and the design name come from the file: escaped before colours are added.
+  for (const r of escapeControlsDeep(bundle.renamed)) lines.push(`  renamed ${r.role === 'module' ? 'top module' : r.role === 'strobe' ? `strobe of ${r.of}` : `port of ${r.of}`}: ${r.wanted} -> ${r.name} (${r.reason})`);
+  for (const w of bundle.warnings) lines.push(`${color.yellow('warning')}: ${escapeControls(w)}`);
   if (verify) lines.push(`testbench: ${verify.passed ? color.green(verify.summary) : color.red(verify.summary || 'no PASS line')}`);
   if (area) {
     const pad = (s: string | number, n: number) => String(s).padStart(n);

@@ -8,6 +8,7 @@ import { CliError, type CliContext, type RegisterCommand } from '../context';
 import { diagnosticLine } from '../format/common';
 import type { Analysis, Design, Diagnostic } from '../../shared/types';
 import { decodeDesignBytes, formatBytes } from '../../shared/encoding';
+import { escapeControls, escapeControlsDeep } from '../format/escape';
 
 /** A design read, validated and analysed, or a CliError already explaining why not. */
 export interface LoadedDesign {
@@ -156,13 +157,15 @@ export async function runSimulate(file: string, opts: SimulateOptions, ctx: CliC
     return report.match ? 0 : 1;
   }
 
-  const r = report;
+  // Ids and the path come from the file: escaped before colours are added (cli/format/escape.ts).
+  const r = escapeControlsDeep(report);
+  const shownFile = escapeControls(loaded.file);
   const N = r.factor;
   const out: string[] = [];
   out.push(
     r.match
-      ? `${color.green('match')}  ${loaded.file} (${r.design}): the folded datapath computes what the unfolded graph computes`
-      : `${color.red('MISMATCH')}  ${loaded.file} (${r.design}): the folded datapath differs from the unfolded graph`,
+      ? `${color.green('match')}  ${shownFile} (${r.design}): the folded datapath computes what the unfolded graph computes`
+      : `${color.red('MISMATCH')}  ${shownFile} (${r.design}): the folded datapath differs from the unfolded graph`,
   );
   const arith = r.arithmetic === 'exact' ? 'exact decimals' : `fixed point, W = ${r.fixed!.width}, ${r.fixed!.coefFrac} coefficient fraction bits`;
   out.push(`  compared ${r.samplesPerOutput} sample${r.samplesPerOutput === 1 ? '' : 's'} of each of ${r.outputs.length} output${r.outputs.length === 1 ? '' : 's'} (${r.samplesCompared} in all): ${r.hardwareIterations} iterations, ${r.cycles} cycles; ${arith}; seed ${r.seed}`);
@@ -176,7 +179,7 @@ export async function runSimulate(file: string, opts: SimulateOptions, ctx: CliC
     const m = r.firstMismatch;
     out.push(`  first mismatch: output ${m.output}, sample ${m.sample} (iteration ${m.iteration}, cycle ${m.cycle}): expected ${m.expected}, got ${m.actual}`);
   }
-  if (opts.tables) for (const line of controlText(control)) out.push(`  ${line}`);
+  if (opts.tables) for (const line of controlText(control)) out.push(`  ${escapeControls(line)}`);
   process.stdout.write(`${out.join('\n')}\n`);
   return r.match ? 0 : 1;
 }
