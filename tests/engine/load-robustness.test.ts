@@ -5,6 +5,7 @@ import fc from 'fast-check';
 import { loadDesign } from '../../shared/load';
 import { validateDesign } from '../../shared/validate';
 import type { LoadResult } from '../../shared/types';
+import { fuzzInput, judge } from '../fuzz/harness';
 
 // A sample-rate converter stage for a radio receiver: invented for these tests.
 const VALID = `format: pleat/1
@@ -237,3 +238,16 @@ describe('validateDesign never throws', () => {
     );
   });
 });
+
+describe('fuzz campaign, short run (the long one is npm run fuzz, docs/reliability.md)', () => {
+  it('300 generated and mutated designs: no exception, internal error, bad position, invalid design accepted or non-finite figure', () => {
+    // Seed 2 here; the long run uses seed 1, so the short run adds inputs rather than repeating them.
+    const failures: string[] = [];
+    for (let i = 0; i < 300; i++) {
+      const v = judge(fuzzInput(2, i));
+      if (!v.ok) failures.push(`input ${i}: ${v.failure}`);
+    }
+    expect(failures).toEqual([]);
+  });
+});
+
