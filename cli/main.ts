@@ -4,10 +4,11 @@ import { Command, CommanderError } from 'commander';
 import pkg from '../package.json';
 import * as commands from './commands/index';
 import { CliError, type CliContext } from './context';
+import { escapeTerminal } from './format/escape';
 
 function internalError(err: unknown): void {
   const message = err instanceof Error ? err.message : String(err);
-  process.stderr.write(`pleat: internal error: ${message.split('\n')[0]}\n`);
+  process.stderr.write(`pleat: internal error: ${escapeTerminal(message.split('\n')[0])}\n`);
   if (process.env.PLEAT_DEBUG && err instanceof Error && err.stack) process.stderr.write(`${err.stack}\n`);
   process.exitCode = 2;
 }
@@ -57,7 +58,7 @@ export async function main(argv: string[]): Promise<void> {
       return;
     }
     if (err instanceof CliError) {
-      process.stderr.write(`pleat: ${err.message}\n`);
+      process.stderr.write(`pleat: ${escapeTerminal(err.message)}\n`);
       process.exitCode = err.exitCode;
       return;
     }

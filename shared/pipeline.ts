@@ -18,6 +18,8 @@ export interface PipelineOptions extends AnalyzeOptions {
    * simulate and rtl, which need them whole. Default DEFAULT_MAX_CONTROL_CELLS.
    */
   maxControlCells?: number;
+  /** false: leave the control tables out (simulate and rtl build them whole, with reasons, from `datapath`). */
+  withControl?: boolean;
   limits?: Partial<Limits>;
 }
 
@@ -67,7 +69,7 @@ export function runDesignModel(
   // Under negative_delays: fail nothing is retimed: the plan is judged as written.
   const retime = options.retime ?? options.rules?.negative_delays?.value !== 'fail';
   const { analysis: bare, datapath } = analyzeDatapath(design, { ...options, retime });
-  const analysis = withControl(design, bare, options.maxControlCells ?? DEFAULT_MAX_CONTROL_CELLS, datapath);
+  const analysis = options.withControl === false ? bare : withControl(design, bare, options.maxControlCells ?? DEFAULT_MAX_CONTROL_CELLS, datapath);
   const control = analysis.control ?? null;
   const { violations: raw, warnings } = applyRules(analysis, options.rules ?? NO_RULES);
   const text = options.text;

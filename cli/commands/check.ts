@@ -6,7 +6,8 @@ import { Option, type Command } from 'commander';
 import { colorLevel, makeChalk } from '../color';
 import { findConfig, loadConfig, type PleatConfig } from '../config';
 import { CliError, type CliContext, type RegisterCommand } from '../context';
-import { expandGlobs, expandPaths, reportPath } from '../files';
+import { expandGlobs, expandPaths, reportPath, type Unreadable } from '../files';
+import { decodeDesignBytes, formatBytes } from '../../shared/design/encoding';
 import { diagnosticLine, type FormatContext, type Formatter } from '../format/common';
 import { formatText } from '../format/text';
 import { gitRoot } from '../git';
@@ -104,13 +105,15 @@ export async function runCheck(paths: string[], opts: CheckOptions, ctx: CliCont
 
   // Which files.
   let files: string[];
+  let unreadable: Unreadable[] = [];
   if (paths.length > 0) {
-    const { files: found, problems } = await expandPaths(paths, cwd);
+    const { files: found, problems, unreadable: bad } = await expandPaths(paths, cwd);
     if (problems.length > 0) throw new CliError(problems.join('; '));
     files = found;
+    unreadable = bad;
   } else if (config?.designs) {
-    files = await expandGlobs(config.designs, config.dir);
-    if (files.length === 0) {
+    ({ files, unreadable } = await expandGlobs(config.designs, config.dir));
+    if (files.length === 0 && unreadable.length === 0) {
       throw new CliError(`no design files match the designs of ${path.relative(cwd, config.file) || config.file} (${config.designs.join(', ')})`);
     }
   } else if (config) {
@@ -126,6 +129,19 @@ export async function runCheck(paths: string[], opts: CheckOptions, ctx: CliCont
   const engine = await loadEngine();
   timing?.lap('engine loaded');
   for (const abs of files) checked.push(checkOne(abs, reportPath(abs, root), effective, engine, timing));
+  // What the walk could not read is an error of its own, never a silent pass (docs/cli.md).
+  for (const u of unreadable) {
+    checked.push({
+      abs: u.abs,
+      file: reportPath(u.abs, root),
+      name: null,
+      diagnostics: [{ severity: 'error', code: 'file-unreadable', message: u.message, line: null, column: null }],
+      analysis: null,
+      violations: [],
+      ruleWarnings: [],
+      ms: 0,
+    });
+  }
   markDuplicateNames(checked, engine.locate);
 
   const designs = checked.map((c) => c.report ?? designReport({ file: c.file, name: null, diagnostics: c.diagnostics ?? [], analysis: null }));
@@ -229,12 +245,25 @@ function checkOne(abs: string, file: string, effective: EffectiveRules, engine: 
     // Refuse oversized files before reading them into memory.
     // Synchronous reads: files are checked one after the other, and node:fs/promises costs start-up time.
     const s = statSync(abs);
-    if (s.size > engine.maxBytes) {
-      const mib = (n: number) => (n / (1024 * 1024)).toFixed(1);
-      result.diagnostics = [{ severity: 'error', code: 'file-too-large', message: `the file is ${mib(s.size)} MiB; the limit is ${mib(engine.maxBytes)} MiB`, line: 1, column: 1 }];
+    if (!s.isFile()) {
+      // A FIFO or a device would block the read or never end: say what it is instead.
+      const what = s.isFIFO() ? 'a named pipe (FIFO)' : s.isSocket() ? 'a socket' : s.isCharacterDevice() || s.isBlockDevice() ? 'a device' : s.isDirectory() ? 'a folder' : 'not a regular file';
+      result.diagnostics = [{ severity: 'error', code: 'file-unreadable', message: `cannot read it as a design file: it is ${what}`, line: null, column: null }];
       return result;
     }
-    const text = readFileSync(abs, 'utf8');
+    if (s.size > engine.maxBytes) {
+      result.diagnostics = [{ severity: 'error', code: 'file-too-large', message: `the file is ${formatBytes(s.size)}; the limit is ${formatBytes(engine.maxBytes)}`, line: 1, column: 1 }];
+      result.ms = performance.now() - t0;
+      return result;
+    }
+    // Bytes, decoded strictly: a replaced byte could turn an id into another one and pass.
+    const decoded = decodeDesignBytes(readFileSync(abs));
+    if (decoded.text === null) {
+      result.diagnostics = [decoded.diagnostic];
+      result.ms = performance.now() - t0;
+      return result;
+    }
+    const text = decoded.text;
     timing?.lap(`${file}: read`);
     result.report = engine.runDesignText(text, file, { rules: effective }).report;
     timing?.lap(`${file}: checked`);

@@ -8,6 +8,7 @@ import { Option, type Command } from 'commander';
 import { colorLevel, makeChalk } from '../color';
 import { CliError, type CliContext, type RegisterCommand } from '../context';
 import { infeasible, intOption, loadForHardware } from './simulate';
+import { escapeControls, escapeControlsDeep, escapeTerminal } from '../format/escape';
 import type { RtlBundle } from '../../shared/hardware/rtl';
 
 interface RtlOptions {
@@ -105,13 +106,15 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   const color = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stdout.isTTY, env: process.env }));
   const errColor = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stderr.isTTY, env: process.env }));
   const loaded = await loadForHardware(file, errColor);
-  const [rtl, { resolveArithmetic }, { runDesignModel }] = await Promise.all([
+  const [{ controlTables }, rtl, { resolveArithmetic }, { runDesignModel }] = await Promise.all([
+    import('../../shared/hardware/control'),
     import('../../shared/hardware/rtl'),
     import('../../shared/hardware/reference'),
     import('../../shared/pipeline'),
   ]);
-  const { control } = loaded;
-  if (!control) throw infeasible(loaded);
+  const built = controlTables(loaded.design, loaded.analysis, loaded.datapath);
+  const { control } = built;
+  if (!control) throw infeasible(loaded, built);
   const graph = resolveArithmetic(loaded.design).graph!;
   const generator = `pleat ${ctx.version}`;
   const bundle = rtl.generateRtl(loaded.design, control, { width: opts.width, coefFrac: opts.coefFrac, generator });
@@ -151,7 +154,8 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   let area: { folded: AreaFigures; parallel: AreaFigures; tool: string } | null = null;
   if (opts.area) {
     const par = rtl.parallelDesign(loaded.design);
-    const parControl = runDesignModel(par, `${loaded.file} (parallel)`, { maxControlCells: Infinity }).control;
+    const parRun = runDesignModel(par, `${loaded.file} (parallel)`, { withControl: false });
+    const parControl = parRun.analysis ? controlTables(par, parRun.analysis, parRun.datapath).control : null;
     if (!parControl) throw new CliError('internal: the fully parallel graph has no datapath');
     const parBundle = rtl.generateRtl(par, parControl, { width: opts.width, coefFrac: opts.coefFrac, generator, topName: `${bundle.top}_parallel` });
     const parDir = path.join(dir, 'parallel');
@@ -192,7 +196,7 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   writeFileSync(path.join(dir, `${bundle.top}.rtl.json`), `${JSON.stringify(report, null, 2)}\n`);
   const failed = verify !== null && !verify.passed;
 
-  for (const n of notices) process.stderr.write(`${n}\n`);
+  for (const n of notices) process.stderr.write(`${escapeTerminal(n)}\n`);
   if (opts.format === 'json') {
     process.stdout.write(`${JSON.stringify(report, null, 2)}\n`);
     return failed ? 1 : 0;
@@ -202,8 +206,9 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   lines.push(`wrote ${report.files.length} Verilog files and ${bundle.top}.rtl.json to ${shownDir}/ (top module ${bundle.top}, W = ${bundle.fixed.width}, N = ${bundle.factor})`);
   lines.push('interface (cycle 0 = first cycle after the last rising edge of clk with rst high):');
   for (const p of bundle.ports) lines.push(`  ${p.direction === 'input' ? 'in ' : 'out'} ${p.port}: ${p.timing}`);
-  for (const r of bundle.renamed) lines.push(`  renamed ${r.role === 'module' ? 'top module' : r.role === 'strobe' ? `strobe of ${r.of}` : `port of ${r.of}`}: ${r.wanted} -> ${r.name} (${r.reason})`);
-  for (const w of bundle.warnings) lines.push(`${color.yellow('warning')}: ${w}`);
+  // Node ids and the design name come from the file: escaped before colours are added.
+  for (const r of escapeControlsDeep(bundle.renamed)) lines.push(`  renamed ${r.role === 'module' ? 'top module' : r.role === 'strobe' ? `strobe of ${r.of}` : `port of ${r.of}`}: ${r.wanted} -> ${r.name} (${r.reason})`);
+  for (const w of bundle.warnings) lines.push(`${color.yellow('warning')}: ${escapeControls(w)}`);
   if (verify) lines.push(`testbench: ${verify.passed ? color.green(verify.summary) : color.red(verify.summary || 'no PASS line')}`);
   if (area) {
     const pad = (s: string | number, n: number) => String(s).padStart(n);

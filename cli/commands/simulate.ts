@@ -6,7 +6,10 @@ import { InvalidArgumentError, Option, type Command } from 'commander';
 import { colorLevel, makeChalk } from '../color';
 import { CliError, type CliContext, type RegisterCommand } from '../context';
 import { diagnosticLine } from '../format/common';
-import type { Analysis, ControlTables, Design, Diagnostic } from '../../shared/types';
+import type { Analysis, Design, Diagnostic } from '../../shared/types';
+import type { FoldedDatapath } from '../../shared/analysis/analyze';
+import { decodeDesignBytes, formatBytes } from '../../shared/design/encoding';
+import { escapeControls, escapeControlsDeep } from '../format/escape';
 
 /** A design read, validated and analysed, or a CliError already explaining why not. */
 export interface LoadedDesign {
@@ -14,8 +17,8 @@ export interface LoadedDesign {
   text: string;
   design: Design;
   analysis: Analysis;
-  /** Full control tables of the analysed datapath; null when no feasible datapath exists. */
-  control: ControlTables | null;
+  /** The folded datapath the analysis chose, for the control tables; null when none exists. */
+  datapath: FoldedDatapath | null;
 }
 
 export function intOption(min: number, max: number) {
@@ -44,8 +47,10 @@ export async function loadForHardware(fileArg: string, errColor: ReturnType<type
   try {
     const s = statSync(abs);
     if (!s.isFile()) throw new CliError(`not a design file: ${fileArg}`);
-    if (s.size > DEFAULT_LIMITS.maxBytes) throw new CliError(`${shown}: the file is larger than the ${DEFAULT_LIMITS.maxBytes / (1024 * 1024)} MiB limit`);
-    text = readFileSync(abs, 'utf8');
+    if (s.size > DEFAULT_LIMITS.maxBytes) throw new CliError(`${shown}: the file is ${formatBytes(s.size)}; the limit is ${formatBytes(DEFAULT_LIMITS.maxBytes)}`);
+    const decoded = decodeDesignBytes(readFileSync(abs));
+    if (decoded.text === null) throw new CliError(`${diagnosticLine(shown, decoded.diagnostic)}`);
+    text = decoded.text;
   } catch (e) {
     if (e instanceof CliError) throw e;
     throw new CliError(`cannot read ${fileArg}: ${(e as NodeJS.ErrnoException).code === 'ENOENT' ? 'no such file' : (e as Error).message}`);
@@ -74,12 +79,14 @@ export async function loadForHardware(fileArg: string, errColor: ReturnType<type
     throw new CliError(`${shown} cannot be evaluated: ${diagnostics.length} node${diagnostics.length === 1 ? '' : 's'} without usable arithmetic`);
   }
   // The engine's pipeline, with the control tables whole: simulation and RTL need every register.
-  const run = runDesignModel(loaded.design, shown, { maxControlCells: Infinity });
-  return { file: shown, text, design: loaded.design, analysis: run.analysis!, control: run.control };
+  // The engine's pipeline; the command builds the control tables whole from its datapath.
+  const run = runDesignModel(loaded.design, shown, { withControl: false });
+  return { file: shown, text, design: loaded.design, analysis: run.analysis!, datapath: run.datapath };
 }
 
 /** Exit 1 with the retiming conflict in a line, when the plan has no folded datapath. */
-export function infeasible(loaded: LoadedDesign): CliError {
+export function infeasible(loaded: LoadedDesign, result?: { tooLarge?: boolean; reason?: string }): CliError {
+  if (result?.tooLarge) return new CliError(`${loaded.file}: the folded datapath is too large to build: ${result.reason}`, 1);
   const c = loaded.analysis.retiming.conflict;
   const loop = c ? ` (loop ${c.edges.map((e) => e.from).join(' -> ')} -> ${c.edges[0]?.from ?? ''})` : '';
   return new CliError(
@@ -123,9 +130,10 @@ export async function runSimulate(file: string, opts: SimulateOptions, ctx: CliC
   const color = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stdout.isTTY, env: process.env }));
   const errColor = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stderr.isTTY, env: process.env }));
   const loaded = await loadForHardware(file, errColor);
-  const [{ controlText }, { simulateDesign }] = await Promise.all([import('../../shared/hardware/control'), import('../../shared/hardware/foldedSim')]);
-  const { control } = loaded;
-  if (!control) throw infeasible(loaded);
+  const [{ controlTables, controlText }, { simulateDesign }] = await Promise.all([import('../../shared/hardware/control'), import('../../shared/hardware/foldedSim')]);
+  const built = controlTables(loaded.design, loaded.analysis, loaded.datapath);
+  const { control } = built;
+  if (!control) throw infeasible(loaded, built);
   const { report, diagnostics } = simulateDesign(loaded.design, { ...loaded.analysis, control }, {
     iterations: opts.iterations,
     seed: opts.seed,
@@ -155,13 +163,15 @@ export async function runSimulate(file: string, opts: SimulateOptions, ctx: CliC
     return report.match ? 0 : 1;
   }
 
-  const r = report;
+  // Ids and the path come from the file: escaped before colours are added (cli/format/escape.ts).
+  const r = escapeControlsDeep(report);
+  const shownFile = escapeControls(loaded.file);
   const N = r.factor;
   const out: string[] = [];
   out.push(
     r.match
-      ? `${color.green('match')}  ${loaded.file} (${r.design}): the folded datapath computes what the unfolded graph computes`
-      : `${color.red('MISMATCH')}  ${loaded.file} (${r.design}): the folded datapath differs from the unfolded graph`,
+      ? `${color.green('match')}  ${shownFile} (${r.design}): the folded datapath computes what the unfolded graph computes`
+      : `${color.red('MISMATCH')}  ${shownFile} (${r.design}): the folded datapath differs from the unfolded graph`,
   );
   const arith = r.arithmetic === 'exact' ? 'exact decimals' : `fixed point, W = ${r.fixed!.width}, ${r.fixed!.coefFrac} coefficient fraction bits`;
   out.push(`  compared ${r.samplesPerOutput} sample${r.samplesPerOutput === 1 ? '' : 's'} of each of ${r.outputs.length} output${r.outputs.length === 1 ? '' : 's'} (${r.samplesCompared} in all): ${r.hardwareIterations} iterations, ${r.cycles} cycles; ${arith}; seed ${r.seed}`);
@@ -175,7 +185,7 @@ export async function runSimulate(file: string, opts: SimulateOptions, ctx: CliC
     const m = r.firstMismatch;
     out.push(`  first mismatch: output ${m.output}, sample ${m.sample} (iteration ${m.iteration}, cycle ${m.cycle}): expected ${m.expected}, got ${m.actual}`);
   }
-  if (opts.tables) for (const line of controlText(control)) out.push(`  ${line}`);
+  if (opts.tables) for (const line of controlText(control)) out.push(`  ${escapeControls(line)}`);
   process.stdout.write(`${out.join('\n')}\n`);
   return r.match ? 0 : 1;
 }

@@ -1,6 +1,7 @@
 // Small helpers shared by the report formatters.
 import type { ChalkInstance } from 'chalk';
 import type { Diagnostic, Report } from '../../shared/types';
+import { escapeControls } from './escape';
 
 export interface FormatContext {
   /** How a report path is shown (text: relative to the working directory). */
@@ -27,8 +28,9 @@ export function fraction(num: number, den: number): string {
 }
 
 export function diagnosticLine(file: string, d: Diagnostic): string {
-  const where = d.line !== null ? `${file}:${d.line}:${d.column ?? 1}` : file;
-  return `${where}: ${d.severity} ${d.code}: ${d.message}`;
+  const f = escapeControls(file);
+  const where = d.line !== null ? `${f}:${d.line}:${d.column ?? 1}` : f;
+  return `${where}: ${d.severity} ${d.code}: ${escapeControls(d.message)}`;
 }
 
 export function plural(n: number, word: string, many = `${word}s`): string {

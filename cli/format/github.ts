@@ -3,6 +3,7 @@
 import { countStatuses } from '../../shared/report/report';
 import type { Report } from '../../shared/types';
 import { plural, type FormatContext } from './common';
+import { escapeControls, escapeControlsDeep } from './escape';
 
 export function escapeData(s: string): string {
   return s.replace(/%/g, '%25').replace(/\r/g, '%0D').replace(/\n/g, '%0A');
@@ -20,8 +21,11 @@ function command(kind: 'error' | 'warning' | 'notice', props: Record<string, str
   return `::${kind}${p ? ` ${p}` : ''}::${escapeData(message)}`;
 }
 
-export function formatGithub(report: Report, ctx: FormatContext = {}): string {
-  const fileOf = ctx.annotationFile ?? ((f: string) => f);
+export function formatGithub(raw: Report, ctx: FormatContext = {}): string {
+  // Workflow commands are read from the log line by line: no control character may reach it raw.
+  const report = escapeControlsDeep(raw);
+  const annotation = ctx.annotationFile ?? ((f: string) => f);
+  const fileOf = (f: string) => escapeControls(annotation(f));
   const lines: string[] = [];
   for (const d of report.designs) {
     const file = fileOf(d.file);

@@ -2,6 +2,7 @@
 // accept): one testsuite per design file, one testcase for validity and one per rule in force.
 import type { DesignReport, Report, RuleName } from '../../shared/types';
 import { diagnosticLine, type FormatContext } from './common';
+import { escapeControlsDeep } from './escape';
 
 // Characters XML 1.0 does not allow at all (control characters, lone surrogates, U+FFFE/U+FFFF).
 const INVALID_XML = /[^\x09\x0A\x0D\x20-\uD7FF\uE000-\uFFFD\u{10000}-\u{10FFFF}]/gu;
@@ -68,7 +69,9 @@ function casesOf(d: DesignReport, report: Report, ms: number | undefined): Case[
   return cases;
 }
 
-export function formatJunit(report: Report, ctx: FormatContext = {}): string {
+export function formatJunit(raw: Report, ctx: FormatContext = {}): string {
+  // Escaped rather than replaced by U+FFFD, so the log still says which character it was.
+  const report = escapeControlsDeep(raw);
   const suites: string[] = [];
   let tests = 0;
   let failures = 0;

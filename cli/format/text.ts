@@ -4,6 +4,7 @@ import { Chalk, type ChalkInstance } from 'chalk';
 import { countStatuses } from '../../shared/report/report';
 import type { DesignReport, EdgeResult, Report, Status } from '../../shared/types';
 import { diagnosticLine, fraction, pct, plural, type FormatContext } from './common';
+import { escapeControls, escapeControlsDeep } from './escape';
 
 const MAX_EDGES = 8;
 const MAX_MOVES = 12;
@@ -13,9 +14,12 @@ const MAX_DIAGNOSTICS = 50;
 
 const NO_COLOR = new Chalk({ level: 0 });
 
-export function formatText(report: Report, ctx: FormatContext = {}): string {
+export function formatText(raw: Report, ctx: FormatContext = {}): string {
+  // Ids, names and paths come from files: their control characters must not reach the terminal.
+  const report = escapeControlsDeep(raw);
   const c = ctx.color ?? NO_COLOR;
-  const show = ctx.displayFile ?? ((f: string) => f);
+  const display = ctx.displayFile ?? ((f: string) => f);
+  const show = (f: string) => escapeControls(display(f));
   const lines: string[] = [];
   for (const d of report.designs) {
     if (ctx.quiet && d.status === 'pass') continue;

@@ -45,10 +45,17 @@ export function instanceName(name: string, elapsed: number, N: number): string {
 export function allocateRegisters(chart: LifetimeChart, registers: number): Allocation {
   const N = chart.factor;
   const K = registers;
-  const vars = chart.variables.filter((x) => x.tOut > x.tIn);
-  if (K === 0 || vars.length === 0) {
+  const live = chart.variables.filter((x) => x.tOut > x.tIn);
+  if (K === 0 || live.length === 0) {
     return { registers: K, factor: N, method: METHOD_FORWARD_BACKWARD, cells: emptyRows(N, K), moves: [] };
   }
+  // Moving every production time by the same whole number of iterations changes nothing but the
+  // numbering of cycles (registers are empty until the first production), and deep pipelines
+  // (a unit of 10^5 stages) would otherwise be simulated through every empty cycle before it.
+  let minTIn = Infinity;
+  for (const x of live) if (x.tIn < minTIn) minTIn = x.tIn;
+  const shift = Math.floor(minTIn / N) * N;
+  const vars = shift === 0 ? live : live.map((x) => ({ ...x, tIn: x.tIn - shift, tOut: x.tOut - shift }));
   let method = METHOD_RANKED_PERIOD;
   for (const attempt of ATTEMPTS) {
     const sim = new ForwardBackward(vars, N, K, attempt.longestFirst);
@@ -56,6 +63,7 @@ export function allocateRegisters(chart: LifetimeChart, registers: number): Allo
     if (steady.kind === 'periodic') {
       return { registers: K, factor: N, method: METHOD_FORWARD_BACKWARD, ...sim.recordWindow(steady.snapshot) };
     }
+    if (steady.kind === 'transient') continue; // the packed starts begin in the steady state
     if (steady.kind === 'budget') {
       // Another start would need as long: stop here.
       method = METHOD_RANKED_BUDGET;
@@ -78,7 +86,7 @@ interface Snapshot {
   ages: Float64Array;
 }
 
-type SteadyState = { kind: 'periodic'; snapshot: Snapshot } | { kind: 'long-period' } | { kind: 'budget' };
+type SteadyState = { kind: 'periodic'; snapshot: Snapshot } | { kind: 'long-period' } | { kind: 'budget' } | { kind: 'transient' };
 
 class ForwardBackward {
   private readonly length: Float64Array;
@@ -212,6 +220,9 @@ class ForwardBackward {
     const settle = 8 * (K + Math.ceil(maxLength / N)) + 64;
     const perIteration = N * K + this.vars.length;
     const lastIteration = firstBoundary + Math.min(settle, Math.max(4, Math.floor(budget / perIteration)));
+    // From empty registers the start-up alone (until every variable is produced) may cost more
+    // than the budget when production times are far apart: leave that start to the packed ones.
+    if (start === 'empty' && firstBoundary * perIteration > budget) return { kind: 'transient' };
     const seen = new Map<number, Snapshot[]>();
     for (let l = this.cycle / N; l <= lastIteration; l++) {
       if (l >= firstBoundary) {

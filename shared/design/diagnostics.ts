@@ -4,6 +4,15 @@ import type { Diagnostic } from '../types';
 
 export type Severity = Diagnostic['severity'];
 
+/**
+ * `a` or `an` before a word as it is spoken: "an `add` unit", "a `mul` unit". `spoken` is the
+ * bare word when `text` carries quotes or backticks. Vowel letters decide, which is right for
+ * the operation kinds and ids of designs (English usage, common practice).
+ */
+export function withArticle(text: string, spoken = text): string {
+  return `${/^[aeiou]/i.test(spoken.replace(/^[^A-Za-z0-9]+/, '')) ? 'an' : 'a'} ${text}`;
+}
+
 export interface CodeInfo {
   severity: Severity;
   /** The rule in one line; docs/diagnostics.md has the long form and an example fix. */
@@ -17,6 +26,8 @@ const W = 'warning' as const;
 export const CODES = {
   // protection of the tool, checked before or right after parsing
   'file-too-large': { severity: E, rule: 'The file is larger than the size limit (16 MiB of UTF-8 by default).' },
+  'unfed-output': { severity: W, rule: 'An output has no edge into it: it would never show a value.' },
+  'file-encoding': { severity: E, rule: 'The file is not UTF-8: invalid bytes, or UTF-16 or UTF-32 text.' },
   'alias-limit': { severity: E, rule: 'YAML aliases expand to more values than the limit, or a structure refers to itself.' },
   'nesting-limit': { severity: E, rule: 'Collections are nested more than 100 levels deep.' },
   'too-many-nodes': { severity: E, rule: 'The design has more nodes than the limit (1,000,000 by default).' },

@@ -5,6 +5,7 @@ import type { Design, Diagnostic, LoadResult } from '../types';
 import { diag, diagAt, sortDiagnostics } from './diagnostics';
 import { validateDesign, type ValidateOptions } from './validate';
 import { locate, plainScalarTexts } from './positions';
+import { formatBytes } from './encoding';
 import { decimalToRational, isDecimalText } from '../fraction';
 import { offsetOf, openConstructBefore } from './unclosed';
 
@@ -203,10 +204,9 @@ function loadUnchecked(input: string, limits: Limits, validation: ValidateOption
   const text = input.charCodeAt(0) === 0xfeff ? input.slice(1) : input;
   const bytes = utf8Length(text, limits.maxBytes);
   if (bytes > limits.maxBytes) {
-    const size = (n: number) => (n >= 1024 * 1024 ? `${(n / (1024 * 1024)).toFixed(1)} MiB` : `${n} bytes`);
     return {
       design: null,
-      diagnostics: [diagAt('file-too-large', `the file is larger than ${size(limits.maxBytes)}, the limit for a design file; split the design`, 1, 1)],
+      diagnostics: [diagAt('file-too-large', `the file is larger than ${formatBytes(limits.maxBytes)}, the limit for a design file; split the design`, 1, 1)],
     };
   }
 
@@ -254,7 +254,7 @@ export interface LoadOptions extends ValidateOptions {
  * Reads a design file's text into a validated, normalised Design. Never throws and never hangs:
  * every problem, including a failure of the checker itself, comes back as a diagnostic.
  * `{ unplaced: 'allow' }` loads a design whose folding sets are partial or missing, for a planner
- * (shared/validate.ts, ValidateOptions); `factor` replaces `folding.factor`.
+ * (shared/design/validate.ts, ValidateOptions); `factor` replaces `folding.factor`.
  */
 export function loadDesign(text: string, options?: LoadOptions): LoadResult {
   try {

@@ -8,10 +8,31 @@ export const MAX_NAME = 200;
 /** Largest folding factor: no design within the node limit can fill more partitions per unit. */
 export const MAX_FACTOR = 1_000_000;
 
-const count = (description: string, min = 0) => ({
+/**
+ * Deepest pipeline of one unit. Real cores have tens to a few hundred stages; 10,000 is far past
+ * any of them and keeps every cycle count of the analysis small and exact (docs/diagnostics.md).
+ */
+export const MAX_STAGES = 10_000;
+/**
+ * Most delays on one edge. A million samples of delay is a memory, not a line of registers, and
+ * the folded datapath holds every delay as a register (docs/diagnostics.md).
+ */
+export const MAX_DELAYS = 1_000_000;
+
+/**
+ * Computation times and the clock period: positive, finite, and within bounds no design leaves
+ * (a femtosecond to a second of clock; a millionth to a million time units), so that sample
+ * periods, rates and iteration bounds are finite numbers (docs/diagnostics.md).
+ */
+export const MIN_TIME = 1e-6;
+export const MAX_TIME = 1e6;
+export const MIN_CLOCK_NS = 1e-6;
+export const MAX_CLOCK_NS = 1e9;
+
+const count = (description: string, min = 0, max = MAX_INT) => ({
   type: 'integer',
   minimum: min,
-  maximum: MAX_INT,
+  maximum: max,
   description,
 });
 
@@ -30,7 +51,7 @@ export const designSchema = {
     'A data-flow graph of a DSP datapath, the shared hardware units it is folded onto, and the folding plan. File name: *.fold.yaml.',
   type: 'object',
   // `folding` may be left out, and `folding.sets` too: such a file asks for a plan (`pleat plan`);
-  // `pleat check` reports it as `plan-incomplete` (shared/validate.ts).
+  // `pleat check` reports it as `plan-incomplete` (shared/design/validate.ts).
   required: ['format', 'name', 'units', 'nodes', 'edges'],
   additionalProperties: false,
   properties: {
@@ -49,7 +70,8 @@ export const designSchema = {
     description: { type: 'string', description: 'Free text for people.' },
     clock_ns: {
       type: 'number',
-      exclusiveMinimum: 0,
+      minimum: MIN_CLOCK_NS,
+      maximum: MAX_CLOCK_NS,
       description: 'Clock period of the folded hardware in nanoseconds; gives the sample period and rate.',
     },
     kinds: {
@@ -60,7 +82,7 @@ export const designSchema = {
         required: ['time'],
         additionalProperties: false,
         properties: {
-          time: { type: 'number', exclusiveMinimum: 0, description: 'Computation time in time units (> 0).' },
+          time: { type: 'number', minimum: MIN_TIME, maximum: MAX_TIME, description: `Computation time in time units (${MIN_TIME} to ${MAX_TIME}).` },
         },
       },
     },
@@ -79,7 +101,7 @@ export const designSchema = {
             not: { enum: ['input', 'output'] },
             description: 'Operation kind this unit executes (e.g. add, mul). `input` and `output` are reserved for boundary nodes.',
           },
-          stages: count('Pipeline stages of the unit (0 = combinational).'),
+          stages: count(`Pipeline stages of the unit (0 = combinational; at most ${MAX_STAGES}).`, 0, MAX_STAGES),
         },
       },
     },
@@ -98,7 +120,7 @@ export const designSchema = {
             examples: ['input', 'output', 'add', 'mul'],
             description: '`input`, `output`, or an operation kind that some unit has.',
           },
-          time: { type: 'number', exclusiveMinimum: 0, description: 'Computation time of this node; overrides the time of its kind.' },
+          time: { type: 'number', minimum: MIN_TIME, maximum: MAX_TIME, description: `Computation time of this node (${MIN_TIME} to ${MAX_TIME}); overrides the time of its kind.` },
           slot: count('Inputs and outputs only: the time partition (0..N-1) at which the sample arrives or is read.'),
           coefficient: { type: 'number', description: 'Constant factor, for a `gain` node.' },
           op: {
@@ -120,7 +142,7 @@ export const designSchema = {
         properties: {
           from: { type: 'string', minLength: 1, description: 'Id of the node that produces the value.' },
           to: { type: 'string', minLength: 1, description: 'Id of the node that consumes the value.' },
-          delays: { ...count('Number of delay elements (registers) on the edge.'), default: 0 },
+          delays: { ...count(`Number of delay elements (registers) on the edge (at most ${MAX_DELAYS}).`, 0, MAX_DELAYS), default: 0 },
           port: count('Operand position at the consumer, for non-commutative operations (0 = first).'),
         },
       },

@@ -405,6 +405,7 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector, options: V
   const setKeys: string[] = [];
   const unitHasSet = new Uint8Array(units.length);
   const emptySets: string[] = [];
+  const malformedKinds = new Set<string>();
   if (sets) {
     for (const key of Object.keys(sets)) {
       const si = setKeys.length;
@@ -422,9 +423,13 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector, options: V
           ['folding', 'sets', key],
         );
       } else unitHasSet[ui] = 1;
-      if (!Array.isArray(list)) continue;
       const unit = ui !== undefined ? (units[ui] as Record<string, unknown>) : null;
       const unitKind = unit && typeof unit.kind === 'string' ? unit.kind : null;
+      // A set the schema already refuses (not a list, or entries that are not ids) is the root
+      // cause: its nodes are not also `plan-incomplete`, nor the set `idle-unit`.
+      const malformed = !Array.isArray(list) || list.some((v) => v !== null && typeof v !== 'string');
+      if (malformed && unitKind !== null) malformedKinds.add(unitKind);
+      if (!Array.isArray(list)) continue;
       if (factor !== null && list.length > factor) {
         out.add('set-too-long', `folding set \`${key}\` has ${list.length} entries but the folding factor is ${factor}; partitions run 0..${factor - 1}`, ['folding', 'sets', key, factor]);
       }
@@ -455,7 +460,7 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector, options: V
           placedPos[ni] = p;
         }
       }
-      if (ui !== undefined && used === 0) emptySets.push(key);
+      if (ui !== undefined && used === 0 && !(unitKind !== null && malformedKinds.has(unitKind))) emptySets.push(key);
     }
     const unplaced: string[] = [];
     for (let i = 0; i < nN; i++) {
@@ -463,6 +468,7 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector, options: V
       if (shadowed[i]) continue;
       const n = nodes[i] as Record<string, unknown>;
       if (unitsOk && !unitKinds.has(n.kind as string)) continue; // kind-without-unit says it already
+      if (malformedKinds.has(n.kind as string)) continue; // the malformed set of its kind says it already
       unplaced.push(label(n.id));
     }
     // While operations wait for a plan, a unit without one is expected, not worth a warning.
@@ -481,8 +487,8 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector, options: V
           ? unplaced.map((x) => `\`${x}\``).join(', ')
           : `${unplaced.slice(0, UNPLACED_NAMES_SHOWN).map((x) => `\`${x}\``).join(', ')} and ${unplaced.length - UNPLACED_NAMES_SHOWN} more`;
       const what = !folding
-        ? `the design has no folding plan (no \`folding:\`)${unplaced.length ? `; ${unplaced.length} operation(s) to place: ${names}` : ''}; run \`pleat plan --factor N\` to make one`
-        : `${unplaced.length} operation(s) are in no folding set: ${names}; run \`pleat plan\` to place them (entries already in the sets are kept)`;
+        ? `the design has no folding plan (no \`folding:\`)${unplaced.length ? `; ${operations(unplaced.length)} to place: ${names}` : ''}; run \`pleat plan --factor N\` to make one`
+        : `${operations(unplaced.length)} ${unplaced.length === 1 ? 'is' : 'are'} in no folding set: ${names}; run \`pleat plan\` to place them (entries already in the sets are kept)`;
       out.add('plan-incomplete', what, folding ? ['folding'] : Array.isArray(doc.nodes) ? ['nodes'] : []);
     }
   }
@@ -710,6 +716,18 @@ function reachability(
       queue[tail++] = v;
     }
   }
+  // An edge to a node that does not exist is the root cause (`unknown-node`): whatever its
+  // source feeds is unknown, so its source and their producers get no follow-on warnings.
+  let unknownTarget = false;
+  for (let i = 0; i < nE; i++) {
+    if (eTo[i] >= 0) continue;
+    unknownTarget = true;
+    const u = eFrom[i];
+    if (u >= 0 && !reached[u]) {
+      reached[u] = 1;
+      queue[tail++] = u;
+    }
+  }
   for (let head = 0; head < tail; head++) {
     const v = queue[head];
     for (let q = start[v]; q < start[v + 1]; q++) {
@@ -718,6 +736,14 @@ function reachability(
         reached[u] = 1;
         queue[tail++] = u;
       }
+    }
+  }
+  // An output that nothing feeds: simulation calls it unfed and the RTL holds it at 0.
+  if (!unknownTarget) {
+    for (let v = 0; v < nN; v++) {
+      if (nodeClass[v] !== OUTPUT || shadowed[v] || start[v + 1] > start[v]) continue;
+      const id = (nodes[v] as Record<string, unknown>).id as string;
+      out.add('unfed-output', `output \`${id}\` has no edge into it; it would never show a value`, ['nodes', v, 'id']);
     }
   }
   for (let v = 0; v < nN; v++) {
@@ -804,4 +830,8 @@ export function validateDesign(doc: unknown, options: ValidateOptions = {}): { d
   const diagnostics = out.finish();
   const design = schemaOk && out.errors === 0 ? normalise(doc as Record<string, unknown>, options) : null;
   return { design, diagnostics };
+}
+
+function operations(n: number): string {
+  return n === 1 ? '1 operation' : `${n} operations`;
 }

@@ -200,16 +200,34 @@ export interface ControlResult {
   control: ControlTables | null;
   /** Why there are no tables, when control is null. */
   reason?: string;
+  /** The datapath exists but has more register cells than the tables are built for. */
+  tooLarge?: boolean;
 }
+
+/**
+ * Most register cells (partitions x registers) for which control tables are built. Tables,
+ * simulation and RTL handle every register cell one by one, so their cost grows with this
+ * product (a long delay line is that many registers); the bound keeps `pleat simulate` and
+ * `pleat rtl` to seconds (about ten times the largest example, 16,688 cells). A datapath past it is refused with the figures.
+ */
+export const MAX_HARDWARE_CELLS = 250_000;
 
 /**
  * The control tables of the folded datapath of a design: per unit the operation of each
  * partition, per unit operand port a multiplexer table, per register its loads, per output port
  * when it loads and which sample it carries. Needs a feasible retiming in the analysis.
  */
-export function controlTables(design: Design, analysis: Analysis, datapath: FoldedDatapath | null = null): ControlResult {
+export function controlTables(design: Design, analysis: Analysis, datapath: FoldedDatapath | null = null, maxCells = MAX_HARDWARE_CELLS): ControlResult {
   if (!analysis.retiming.feasible) return { control: null, reason: 'no retiming makes every folded delay nonnegative' };
   if (analysis.retiming.applied === false) return { control: null, reason: 'the plan needs retiming, which negative_delays: fail forbids' };
+  const cells = analysis.factor * (analysis.registers?.minimum ?? 0);
+  if (cells > maxCells) {
+    return {
+      control: null,
+      tooLarge: true,
+      reason: `the datapath needs ${analysis.registers!.minimum.toLocaleString('en-US')} registers over ${analysis.factor.toLocaleString('en-US')} partitions (${cells.toLocaleString('en-US')} register cells); simulation and RTL build every register cell explicitly, up to ${maxCells.toLocaleString('en-US')} (docs/rtl.md)`,
+    };
+  }
   // The analysis's own datapath when the caller has it (the pipeline does); else rebuilt from the
   // reported retiming, for callers that hold only a report.
   const g = datapath?.graph ?? buildGraph(design);
@@ -424,21 +442,25 @@ export function controlTables(design: Design, analysis: Analysis, datapath: Fold
 /**
  * Largest register table (partitions x registers) that withControl attaches to a report. Building
  * the tables costs about as much as the whole analysis on designs past this size, and a CI check
- * should not pay for that on every commit; `pleat rtl` and `pleat simulate --tables` have no limit.
+ * should not pay for that on every commit; `pleat rtl` and `pleat simulate --tables` go up to
+ * MAX_HARDWARE_CELLS.
  */
 export const DEFAULT_MAX_CONTROL_CELLS = 20_000;
 
 /**
  * The analysis with its control tables attached, for the report: null when no feasible datapath
  * exists; left out (no `control` field) when the register table would exceed maxCells, as the
- * analysis leaves out its allocation table. `pleat rtl` and `pleat simulate` have no such limit.
+ * analysis leaves out its allocation table. `pleat rtl` and `pleat simulate` go up to MAX_HARDWARE_CELLS.
  */
 export function withControl(design: Design, analysis: Analysis, maxCells = DEFAULT_MAX_CONTROL_CELLS, datapath: FoldedDatapath | null = null): Analysis {
   const regs = analysis.registers?.minimum ?? 0;
   const cells = analysis.factor * regs;
   if (cells > maxCells) {
     // Said in the report, so a reader of it (the web report) can tell why the tables are missing.
-    return { ...analysis, controlOmitted: `the register load table would have ${analysis.factor} partitions x ${regs} registers = ${cells} cells, more than the limit of ${maxCells} for a check report; 'pleat simulate --tables' or 'pleat rtl' writes them in full` };
+    return {
+      ...analysis,
+      controlOmitted: `the register load table would have ${analysis.factor} partitions x ${regs} registers = ${cells} cells, more than the limit of ${maxCells} for a check report; ${cells <= MAX_HARDWARE_CELLS ? "'pleat simulate --tables' or 'pleat rtl' writes them in full" : `past ${MAX_HARDWARE_CELLS} cells 'pleat simulate' and 'pleat rtl' do not build them either`}`,
+    };
   }
   return { ...analysis, control: controlTables(design, analysis, datapath).control };
 }

@@ -78,7 +78,16 @@ export function runFolded<T>(control: ControlTables, ar: Arithmetic<T>, inputs: 
 
   const pipes: Val<T>[][] = units.map((u) => new Array<Val<T>>(u.stages).fill(ar.zero));
   const unitOut: Val<T>[] = new Array(U).fill(null);
-  let regs: Val<T>[] = new Array(control.registers).fill(ar.zero);
+  const regs: Val<T>[] = new Array(control.registers).fill(ar.zero);
+  // The loads of each partition, listed once: a cycle then costs its loads, not the whole file.
+  const loadsAt: { register: number; source: SignalSource }[][] = Array.from({ length: N }, () => []);
+  for (const rt of control.registerTables) {
+    for (let p = 0; p < N; p++) {
+      const load = rt.loads[p];
+      if (load) loadsAt[p].push({ register: rt.register, source: load.source });
+    }
+  }
+  const loaded: Val<T>[] = [];
   const strobes: Record<string, Strobe<T>[]> = {};
   for (const o of control.outputs) strobes[o.node] = [];
 
@@ -136,12 +145,11 @@ export function runFolded<T>(control: ControlTables, ar: Arithmetic<T>, inputs: 
       if (o.cycle % N !== t || iteration < o.validAfterIterations) continue;
       strobes[o.node].push({ cycle: cycle + 1, value: read(o.source) });
     }
-    const next = regs.slice();
-    for (const rt of control.registerTables) {
-      const load = rt.loads[t];
-      if (load) next[rt.register] = read(load.source);
-    }
-    regs = next;
+    // Every load reads the values of this cycle before any register changes.
+    const loads = loadsAt[t];
+    loaded.length = loads.length;
+    for (let k = 0; k < loads.length; k++) loaded[k] = read(loads[k].source);
+    for (let k = 0; k < loads.length; k++) regs[loads[k].register] = loaded[k];
   }
   return { cycles, strobes };
 }

@@ -1,4 +1,4 @@
-// Method: lower bounds of folding: the folding-factor bound of shared/iterationBound.ts (maximum cycle
+// Method: lower bounds of folding: the folding-factor bound of shared/analysis/iterationBound.ts (maximum cycle
 // ratio of stages over delays), unit slots per kind, constraint cycles through the boundary, and a loop bound on registers.
 // Convention: stages are each kind's fewest (a bound over every binding); registers >= ceil(sum of forced lifetimes / N).
 import type { Design } from '../types';

@@ -1,5 +1,5 @@
-// Method: scores a complete plan by the engine itself: analyze (shared/analyze.ts) for the retiming
-// `check` chooses and the lifetime-analysis minimum, the control tables (shared/control.ts) for mux inputs.
+// Method: scores a complete plan by the engine itself: analyze (shared/analysis/analyze.ts) for the retiming
+// `check` chooses and the lifetime-analysis minimum, the control tables (shared/hardware/control.ts) for mux inputs.
 // Convention: muxInputs = sum over unit operand ports of the distinct sources of that port's table.
 import type { Analysis, Design } from '../types';
 import { analyze } from '../analysis/analyze';

@@ -51,7 +51,7 @@ export interface PlanProblem {
   edgeFrom: Int32Array;
   edgeTo: Int32Array;
   edgeDelays: Int32Array;
-  /** Operand position of each edge at its consumer (the order of shared/reference.ts). */
+  /** Operand position of each edge at its consumer (the order of shared/hardware/reference.ts). */
   edgePort: Int32Array;
   /** Schedule nodes: ops, then the boundary node(s). */
   scheduleNodes: number;
@@ -169,7 +169,7 @@ export function buildProblem(design: Design, factor: number, units: Unit[]): Pla
       const base = si >= 0 && so >= 0 ? si - so - N * w : -N * w;
       arcs.push({ a: inNode, b: outNode, base, stages: false, edge: e });
     }
-    // edges out of outputs or into inputs are invalid (shared/validate.ts)
+    // edges out of outputs or into inputs are invalid (shared/design/validate.ts)
   }
   return {
     design,

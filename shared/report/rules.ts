@@ -22,6 +22,9 @@ export const RULE_NAMES: readonly RuleName[] = [
 export const NEGATIVE_DELAY_POLICIES: readonly NegativeDelayPolicy[] = ['fail', 'retime', 'warn'];
 
 /** What applies when neither the team nor the repository says anything. */
+/** Largest max_registers: more registers than any design within the format's bounds can need is no limit. */
+export const MAX_REGISTERS_RULE = 2_147_483_647;
+
 export const DEFAULT_RULES: Rules = { negative_delays: 'retime' };
 
 /** Codes of the warnings that applyRules adds to a design's diagnostics. */
@@ -67,10 +70,11 @@ export function checkRules(raw: unknown, basePath: (string | number)[] = ['rules
         }
         break;
       case 'max_registers':
-        if (typeof value === 'number' && Number.isInteger(value) && value >= 0) {
+        // 1e308 is an integer to JavaScript but no register count: only exact integers are read.
+        if (typeof value === 'number' && Number.isSafeInteger(value) && value >= 0 && value <= MAX_REGISTERS_RULE) {
           rules.max_registers = value;
         } else {
-          problems.push({ path, message: `max_registers must be an integer >= 0 (got ${show(value)})` });
+          problems.push({ path, message: `max_registers must be a whole number from 0 to ${MAX_REGISTERS_RULE.toLocaleString('en-US')} (got ${show(value)})` });
         }
         break;
       default: {

@@ -1,8 +1,10 @@
 // Config discovery, repository rules, --output and colour, through the built CLI.
-import { existsSync, readFileSync } from 'node:fs';
+import { execFileSync } from 'node:child_process';
+import { chmodSync, existsSync, readFileSync, symlinkSync } from 'node:fs';
+import { execa } from 'execa';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { cleanupTemps, ensureBuilt, failingDesign, passingDesign, pleat, tempDir, write } from './helpers';
+import { BIN, cleanupTemps, ensureBuilt, failingDesign, passingDesign, pleat, tempDir, write } from './helpers';
 
 // ECMA-48 control sequence introducer, as terminals read colour codes.
 const ANSI = /\u001b\[[0-9;]*m/;
@@ -176,5 +178,68 @@ describe('negative_delays: fail judges the plan as written', () => {
     const d = JSON.parse(json.stdout).designs[0];
     expect(d.retiming.applied).toBeUndefined();
     expect(d.registers.minimum).toBeGreaterThan(0);
+  });
+});
+
+describe('folder and glob walks report what they cannot read (file-unreadable)', () => {
+  function tree(): string {
+    const repo = tempDir();
+    write(repo, 'hw/good.fold.yaml', passingDesign('walk-good'));
+    symlinkSync('missing.fold.yaml', path.join(repo, 'hw/broken.fold.yaml'));
+    symlinkSync('loop-b.fold.yaml', path.join(repo, 'hw/loop-a.fold.yaml'));
+    symlinkSync('loop-a.fold.yaml', path.join(repo, 'hw/loop-b.fold.yaml'));
+    // A FIFO: the honest stand-in for an unreadable file while the tests run as root (reading
+    // it would block for ever, so the walk must not read it).
+    execFileSync('mkfifo', [path.join(repo, 'hw/pipe.fold.yaml')]);
+    return repo;
+  }
+
+  it('broken links, link loops and named pipes are errors of their own: `check .` no longer passes', async () => {
+    const repo = tree();
+    const r = await pleat(['check', '.', '--format', 'json'], { cwd: repo });
+    expect(r.exitCode).toBe(2);
+    const byFile = Object.fromEntries(JSON.parse(r.stdout).designs.map((d: { file: string; status: string; diagnostics: { code: string; message: string }[] }) => [d.file, d]));
+    expect(byFile['hw/good.fold.yaml'].status).toBe('pass');
+    for (const [f, why] of [
+      ['hw/broken.fold.yaml', /broken symbolic link/],
+      ['hw/loop-a.fold.yaml', /loop of symbolic links/],
+      ['hw/loop-b.fold.yaml', /loop of symbolic links/],
+      ['hw/pipe.fold.yaml', /named pipe/],
+    ] as const) {
+      expect(byFile[f]?.status, f).toBe('error');
+      expect(byFile[f].diagnostics[0].code).toBe('file-unreadable');
+      expect(byFile[f].diagnostics[0].message).toMatch(why);
+    }
+    // The config's globs walk the same way.
+    write(repo, 'pleat.config.yaml', 'designs: ["hw/*.fold.yaml"]\n');
+    const g = await pleat(['check', '--format', 'json'], { cwd: repo });
+    expect(g.exitCode).toBe(2);
+    expect(JSON.parse(g.stdout).designs.filter((d: { diagnostics: { code: string }[] }) => d.diagnostics.some((x) => x.code === 'file-unreadable'))).toHaveLength(4);
+  });
+
+  it('a link to a parent folder does not check a file twice or call it a duplicate', async () => {
+    const repo = tempDir();
+    write(repo, 'hw/one.fold.yaml', passingDesign('walk-one'));
+    symlinkSync('..', path.join(repo, 'hw/up'));
+    const r = await pleat(['check', '.', '--format', 'json'], { cwd: repo });
+    expect(r.exitCode, r.stdout).toBe(0);
+    expect(JSON.parse(r.stdout).designs.map((d: { file: string }) => d.file)).toEqual(['hw/one.fold.yaml']);
+  });
+
+  it('a folder that cannot be listed is an error (run as the unprivileged user nobody: root reads any folder)', async () => {
+    const repo = tempDir();
+    chmodSync(repo, 0o755);
+    write(repo, 'good.fold.yaml', passingDesign('walk-visible'));
+    write(repo, 'locked/hidden.fold.yaml', passingDesign('walk-hidden'));
+    chmodSync(path.join(repo, 'locked'), 0o000);
+    const asRoot = process.getuid?.() === 0;
+    // Root ignores permissions, so the check runs as `nobody` through runuser (util-linux).
+    const cmd = asRoot ? ['runuser', '-u', 'nobody', '--', process.execPath, BIN] : [process.execPath, BIN];
+    const r = await execa(cmd[0], [...cmd.slice(1), 'check', '.', '--format', 'json'], { cwd: repo, reject: false });
+    chmodSync(path.join(repo, 'locked'), 0o755);
+    expect(r.exitCode, String(r.stderr)).toBe(2);
+    const designs = JSON.parse(String(r.stdout)).designs;
+    expect(designs.map((d: { file: string; status: string }) => `${d.file} ${d.status}`)).toEqual(['good.fold.yaml pass', 'locked error']);
+    expect(designs[1].diagnostics[0]).toMatchObject({ code: 'file-unreadable', message: expect.stringMatching(/cannot read the folder \(permission denied\)/) });
   });
 });

@@ -185,3 +185,25 @@ describe('--format text', () => {
     expect(quietPass.stdout).toBe('');
   });
 });
+
+describe('control characters from files never reach the terminal or the CI log raw', () => {
+  it('ESC, NUL and U+2028 in ids and file names are shown escaped in text, github, junit and json output', async () => {
+    const dir = tempDir();
+    // An id with a terminal colour sequence, one with NUL, one with a line separator (YAML escapes).
+    const text = passingDesign('ctl-chars')
+      .replace(/\bid: x\b/g, 'id: "x\\e[31m"')
+      .replace(/from: x\b/g, 'from: "x\\e[31m"')
+      .replace(/\bkind: output\b/, 'kind: output }\n  - { id: "dead\\0end\\u2028", kind: input');
+    write(dir, 'evil\u001b[2J.fold.yaml', text);
+    for (const format of ['text', 'github', 'junit', 'json']) {
+      const r = await pleat(['check', '.', '--format', format], { cwd: dir });
+      expect([0, 1, 2], format).toContain(r.exitCode);
+      const all = r.stdout + r.stderr;
+      expect(all, format).not.toMatch(/[\u0000\u001b\u2028]/);
+      if (format !== 'json') expect(all, format).toMatch(/evil\\x1b\[2J\.fold\.yaml/);
+      else expect(JSON.parse(r.stdout).designs[0].file).toBe('evil\u001b[2J.fold.yaml'); // same data, escaped as JSON
+    }
+    const t = await pleat(['check', '.'], { cwd: dir });
+    expect(t.stdout).toMatch(/dead\\x00end\\u2028/);
+  });
+});

@@ -1,7 +1,7 @@
 // The CLI as a process on mutated and random design files: it must never crash, hang or print a
 // stack trace. A broken file gives exit 2 and a diagnostic with file:line:col; a mutation that
 // happens to stay valid may pass or fail its rules (exit 0 or 1). Common practice, no source.
-import { readFileSync, readdirSync } from 'node:fs';
+import { readFileSync, readdirSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { execa } from 'execa';
 import fc from 'fast-check';
@@ -89,5 +89,23 @@ describe('mutated and random design files', () => {
     expect(r.exitCode).toBe(2);
     expect(String(r.stdout) + String(r.stderr)).toMatch(/broken\.fold\.yaml:\d+:\d+: error [a-z-]+:/);
     expect(String(r.stdout) + String(r.stderr)).not.toMatch(STACK);
+  });
+});
+
+describe('encodings and sizes as the CLI reads files', () => {
+  const valid = seeds[0];
+  it('invalid UTF-8 and UTF-16 files are file-encoding errors with file:line:col, exit 2; sizes are exact bytes', async () => {
+    const dir = tempDir();
+    const bytes = Buffer.from(valid, 'utf8');
+    const at = valid.indexOf('\n') + 3;
+    writeFileSync(path.join(dir, 'bad.fold.yaml'), Buffer.concat([bytes.subarray(0, at), Buffer.from([0xc3, 0x28]), bytes.subarray(at)]));
+    writeFileSync(path.join(dir, 'wide.fold.yaml'), Buffer.concat([Buffer.from([0xff, 0xfe]), Buffer.from(valid, 'utf16le')]));
+    writeFileSync(path.join(dir, 'big.fold.yaml'), Buffer.alloc(16 * 1024 * 1024 + 1, 0x23)); // '#' x (16 MiB + 1)
+    const r = await execa(process.execPath, [BIN, 'check', '.', '--no-color'], { cwd: dir, reject: false });
+    expect(r.exitCode).toBe(2);
+    expect(r.stdout).toMatch(/^ {2}bad\.fold\.yaml:2:3: error file-encoding: the file is not valid UTF-8: byte \d+ \(C3 28/m);
+    expect(r.stdout).toMatch(/^ {2}wide\.fold\.yaml:1:1: error file-encoding: the file is UTF-16 \(little-endian/m);
+    expect(r.stdout).not.toMatch(/null byte/);
+    expect(r.stdout).toMatch(/big\.fold\.yaml:1:1: error file-too-large: the file is 16,777,217 bytes \(16\.0 MiB\); the limit is 16,777,216 bytes \(16\.0 MiB\)/);
   });
 });

@@ -9,6 +9,7 @@ import { Ajv } from 'ajv';
 import { loadDesign, DEFAULT_LIMITS } from '../../shared/design/load';
 import { validateDesign, MAX_PER_CODE } from '../../shared/design/validate';
 import { CODES } from '../../shared/design/diagnostics';
+import { decodeDesignBytes } from '../../shared/design/encoding';
 import { designSchema } from '../../shared/design/schema';
 import type { Diagnostic } from '../../shared/types';
 
@@ -332,9 +333,44 @@ describe('problems found while reading the text', () => {
     expect(brief(r.diagnostics)).toEqual(['too-many-nodes@12:3', 'too-many-edges@18:3']);
   });
 
+  it('file-encoding: bytes that are not UTF-8, at the first bad byte (shared/design/encoding.ts)', () => {
+    const d = decodeDesignBytes(new Uint8Array([0x6e, 0x61, 0x6d, 0x65, 0x3a, 0x20, 0xff]));
+    expect(brief([d.diagnostic!])).toEqual(['file-encoding@1:7']);
+  });
+
   it('internal-error: text that is not a string comes back as a diagnostic', () => {
     const r = loadDesign(42 as unknown as string);
     expect(brief(r.diagnostics)).toEqual(['internal-error@1:1']);
+  });
+});
+
+describe('root causes reported once', () => {
+  it('unfed-output: an output with no edge into it is a warning at its id', () => {
+    const text = VALID.replace('  - { id: level, kind: output, slot: 3 }', '  - { id: level, kind: output, slot: 3 }\n  - { id: spare, kind: output }');
+    const r = loadDesign(text);
+    expect(r.design).not.toBeNull();
+    expect(brief(r.diagnostics)).toEqual(['unfed-output@17:11']); // line of `spare` in VALID plus one
+    expect(r.diagnostics[0].message).toBe('output `spare` has no edge into it; it would never show a value');
+  });
+
+  it('a misspelt edge target gives one unknown-node error, not also no-path-to-output or unfed-output warnings upstream', () => {
+    const r = loadDesign(VALID.replace('  - { from: acc, to: level }', '  - { from: acc, to: levl }'));
+    expect(r.diagnostics.map((d) => d.code)).toEqual(['unknown-node']);
+  });
+
+  it('a malformed folding set gives its schema error only, not unfolded-node for its nodes or idle-unit', () => {
+    const r = loadDesign(VALID.replace(/MAC: \[[^\]]*\]/, 'MAC: [{ step: 1 }]'));
+    expect(r.design).toBeNull();
+    expect(r.diagnostics.map((d) => d.code)).toEqual(['schema-type']);
+  });
+
+  it('says "an `add` unit" and "a `mul` unit" (English articles, common practice)', () => {
+    const text = VALID.replace(/    ALU: \[[^\]]*\]\n/, '    ALU: []\n');
+    const msgs = loadDesign(text).diagnostics.filter((d) => d.code === 'unfolded-node').map((d) => d.message);
+    expect(msgs.length).toBeGreaterThan(0);
+    for (const m of msgs) expect(m).toMatch(/in a set of an `add` unit$/);
+    const mul = loadDesign(VALID.replace(/    MAC: \[[^\]]*\]\n/, '    MAC: []\n')).diagnostics.filter((d) => d.code === 'unfolded-node');
+    expect(mul[0].message).toMatch(/in a set of a `mul` unit$/);
   });
 });
 

@@ -192,4 +192,35 @@ folding: { factor: 1, sets: { ADD: [s] } }
     expect(j.renamed).toContainEqual({ role: 'strobe', of: 'y', wanted: 'y_valid', name: 'y_valid_2', reason: '`y_valid` is already the port of input y_valid' });
     expect(j.ports.find((p: { node: string }) => p.node === 'y').valid).toBe('y_valid_2');
   }, 120_000);
+
+  it('a datapath of a million registers (one edge of 10^6 delays) is refused at once with the figures, by simulate and rtl', async () => {
+    const dir = tempDir();
+    const f = write(
+      dir,
+      'line.fold.yaml',
+      `format: pleat/1
+name: long-line
+units: [{ id: MUL, kind: mul, stages: 1 }, { id: ADD, kind: add, stages: 0 }]
+nodes:
+  - { id: x, kind: input }
+  - { id: g, kind: mul, coefficient: 0.5 }
+  - { id: s, kind: add }
+  - { id: y, kind: output }
+edges:
+  - { from: x, to: g }
+  - { from: g, to: s, delays: 1000000 }
+  - { from: x, to: s }
+  - { from: s, to: y }
+folding: { factor: 2, sets: { MUL: [g], ADD: [~, s] } }
+`,
+    );
+    // This used to run for about a minute and 1.2 GB before printing a match.
+    for (const args of [['simulate', f], ['rtl', f, '--out', path.join(dir, 'rtl')]]) {
+      const r = await pleat(args, { cwd: dir });
+      expect(r.exitCode, args[0]).toBe(1);
+      expect(r.stderr).toMatch(/too large to build: the datapath needs 1,000,000 registers over 2 partitions \(2,000,000 register cells\)/);
+      expect(r.stderr).not.toMatch(/at .*\.js:\d+/);
+    }
+    expect(existsSync(path.join(dir, 'rtl'))).toBe(false);
+  });
 });

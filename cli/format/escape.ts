@@ -1,0 +1,66 @@
+// Characters of ids and file names that must not reach a terminal or a CI log raw: C0 and C1
+// controls (ESC starts terminal sequences, NUL cuts logs), DEL, the Unicode line and paragraph
+// separators, bidirectional overrides and zero-width characters (they hide or reorder text).
+// Each is shown as a visible escape (`\x1b`, `\u2028`); everything else is left as it is, and
+// escaping twice changes nothing. Common practice, no source (see docs/cli.md).
+const UNSAFE = /[\u0000-\u0008\u000b-\u001f\u007f-\u009f\u200b-\u200f\u2028-\u202e\u2060-\u2064\u2066-\u2069\ufeff]/g;
+const UNSAFE_TEST = /[\u0000-\u0008\u000b-\u001f\u007f-\u009f\u200b-\u200f\u2028-\u202e\u2060-\u2064\u2066-\u2069\ufeff]/;
+// Inside one value a line break is unsafe too (it would start a fake line of output).
+const UNSAFE_IN_VALUE = /[\n\t]/g;
+
+function show(ch: string): string {
+  const c = ch.charCodeAt(0);
+  return c <= 0xff ? `\\x${c.toString(16).padStart(2, '0')}` : `\\u${c.toString(16).padStart(4, '0')}`;
+}
+
+/** Text of several lines (a CLI message): controls escaped, its own line breaks kept. */
+export function escapeTerminal(s: string): string {
+  return s.replace(UNSAFE, show);
+}
+
+/** A JSON text with the unsafe characters that JSON.stringify leaves raw written as \u escapes: the same data. */
+export function escapeJsonText(json: string): string {
+  return json.replace(UNSAFE, (ch) => `\\u${ch.charCodeAt(0).toString(16).padStart(4, '0')}`);
+}
+
+/** One user-given value (id, name, path, message) made safe to print on one line. */
+export function escapeControls(s: string): string {
+  return s.replace(UNSAFE, show).replace(UNSAFE_IN_VALUE, show);
+}
+
+function needs(s: string): boolean {
+  return UNSAFE_TEST.test(s) || s.includes('\n') || s.includes('\t');
+}
+
+/**
+ * The same value with every string (keys included) escaped; parts that need nothing are
+ * returned as they are, so a clean report is walked once and not copied.
+ */
+export function escapeControlsDeep<T>(value: T): T {
+  if (typeof value === 'string') return (needs(value) ? escapeControls(value) : value) as T;
+  if (Array.isArray(value)) {
+    let copy: unknown[] | null = null;
+    for (let i = 0; i < value.length; i++) {
+      const v = escapeControlsDeep(value[i]);
+      if (v !== value[i]) {
+        copy ??= value.slice();
+        copy[i] = v;
+      }
+    }
+    return (copy ?? value) as T;
+  }
+  if (value && typeof value === 'object') {
+    let copy: Record<string, unknown> | null = null;
+    for (const [k, v] of Object.entries(value as Record<string, unknown>)) {
+      const nk = needs(k) ? escapeControls(k) : k;
+      const nv = escapeControlsDeep(v);
+      if (nk !== k || nv !== v) {
+        copy ??= { ...(value as Record<string, unknown>) };
+        if (nk !== k) delete copy[k];
+        copy[nk] = nv;
+      }
+    }
+    return (copy ?? value) as T;
+  }
+  return value;
+}
