@@ -134,11 +134,8 @@ export async function runCheck(paths: string[], opts: CheckOptions, ctx: CliCont
     checked.push({
       abs: u.abs,
       file: reportPath(u.abs, root),
-      name: null,
+      report: null,
       diagnostics: [{ severity: 'error', code: 'file-unreadable', message: u.message, line: null, column: null }],
-      analysis: null,
-      violations: [],
-      ruleWarnings: [],
       ms: 0,
     });
   }

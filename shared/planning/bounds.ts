@@ -1,6 +1,7 @@
 // Method: lower bounds of folding: the folding-factor bound of shared/analysis/iterationBound.ts (maximum cycle
 // ratio of stages over delays), unit slots per kind, constraint cycles through the boundary, and a loop bound on registers.
 // Convention: stages are each kind's fewest (a bound over every binding); registers >= ceil(sum of forced lifetimes / N).
+import { withArticle } from '../design/diagnostics';
 import type { Design } from '../types';
 import { buildGraph } from '../analysis/graph';
 import { factorLowerBound, loopStructure } from '../analysis/iterationBound';
@@ -58,8 +59,8 @@ export function planBounds(p: PlanProblem): PlanBounds {
       short = true;
       reasons.push(
         units === 0
-          ? `no unit executes kind \`${kind}\` (${ops} operation(s)); add at least ${Math.ceil(ops / N)}`
-          : `kind \`${kind}\` has ${ops} operations but ${units} unit(s) x N = ${N} give only ${units * N} slots; it needs at least ${Math.ceil(ops / N)} unit(s) at this N`,
+          ? `no unit executes kind \`${kind}\` (${count(ops, 'operation')}); add at least ${count(Math.ceil(ops / N), 'unit')} of that kind`
+          : `kind \`${kind}\` has ${count(ops, 'operation')} but ${units === 1 ? withArticle(`\`${kind}\``, kind) + ' unit' : `${units} \`${kind}\` units`} x N = ${N} give only ${count(units * N, 'slot')}; it needs at least ${count(Math.ceil(ops / N), 'unit')} at this N`,
       );
     }
   }
@@ -194,4 +195,8 @@ export function registerLowerBound(p: PlanProblem): number {
     total += l.value;
   }
   return Math.ceil(total / N);
+}
+
+function count(n: number, word: string): string {
+  return `${n} ${word}${n === 1 ? '' : 's'}`;
 }

@@ -8,7 +8,9 @@ import fc from 'fast-check';
 import { Ajv } from 'ajv';
 import { loadDesign, DEFAULT_LIMITS } from '../../shared/design/load';
 import { validateDesign, MAX_PER_CODE } from '../../shared/design/validate';
-import { CODES } from '../../shared/design/diagnostics';
+import { CODES, withArticle } from '../../shared/design/diagnostics';
+import { planBounds } from '../../shared/planning/bounds';
+import { buildProblem } from '../../shared/planning/problem';
 import { decodeDesignBytes } from '../../shared/design/encoding';
 import { designSchema } from '../../shared/design/schema';
 import type { Diagnostic } from '../../shared/types';
@@ -223,7 +225,7 @@ describe('designs that ask for a plan (docs/diagnostics.md: plan-incomplete)', (
     const text = `format: pleat/1\nname: wide\nunits:\n  - { id: A, kind: add, stages: 0 }\nnodes:\n  - { id: x, kind: input }\n${nodes}\n  - { id: y, kind: output }\nedges:\n${edges}\nfolding:\n  factor: 30\n`;
     const r = loadDesign(text);
     expect(r.diagnostics.map((d) => d.code)).toEqual(['plan-incomplete']);
-    expect(r.diagnostics[0].message).toMatch(/30 operation\(s\).*and 22 more/);
+    expect(r.diagnostics[0].message).toMatch(/30 operations are in no folding set.*and 22 more/);
   });
   it('without folding: at all, the error points at nodes', () => {
     const text = VALID.slice(0, VALID.indexOf('folding:'));
@@ -365,12 +367,14 @@ describe('root causes reported once', () => {
   });
 
   it('says "an `add` unit" and "a `mul` unit" (English articles, common practice)', () => {
-    const text = VALID.replace(/    ALU: \[[^\]]*\]\n/, '    ALU: []\n');
-    const msgs = loadDesign(text).diagnostics.filter((d) => d.code === 'unfolded-node').map((d) => d.message);
-    expect(msgs.length).toBeGreaterThan(0);
-    for (const m of msgs) expect(m).toMatch(/in a set of an `add` unit$/);
-    const mul = loadDesign(VALID.replace(/    MAC: \[[^\]]*\]\n/, '    MAC: []\n')).diagnostics.filter((d) => d.code === 'unfolded-node');
-    expect(mul[0].message).toMatch(/in a set of a `mul` unit$/);
+    // The messages that name a unit of a kind are the planner's reasons (unfolded-node is gone).
+    expect(withArticle('`add`', 'add')).toBe('an `add`');
+    expect(withArticle('`mul`', 'mul')).toBe('a `mul`');
+    const design = loadDesign(VALID.replace(/    ALU: \[[^\]]*\]\n/, '    ALU: []\n'), { unplaced: 'allow' }).design!;
+    const adders = design.units.filter((u) => u.kind === 'add').length;
+    expect(adders).toBe(1);
+    const reasons = planBounds(buildProblem(design, 1, design.units)).reasons;
+    expect(reasons.join('\n')).toMatch(/but an `add` unit x N = 1/);
   });
 });
 
