@@ -1,6 +1,7 @@
 // Direct evaluation of the unfolded DFG, iteration by iteration (the synchronous data-flow
 // reading of a DFG). Convention: zero initial state: every value before iteration 0 is zero.
 import { applyOp, type Arithmetic } from './arith';
+import { bucket, stronglyConnected } from '../graphAlgorithms';
 import type { Design, DfgNode, Diagnostic, NodeOp } from '../types';
 
 const OPS: readonly NodeOp[] = ['add', 'sub', 'mul', 'gain', 'neg', 'pass'];
@@ -104,27 +105,28 @@ export function resolveArithmetic(design: Design): { graph: ResolvedGraph | null
     return { id: n.id, kind: 'op', op, coefficient: op === 'gain' || op === 'mul' ? coefficient : null, operands };
   });
 
-  // Order by zero-delay edges (Kahn); a leftover node sits on a delay-free loop.
-  const indeg = new Array(nodes.length).fill(0);
-  const out: number[][] = nodes.map(() => []);
+  // Order by zero-delay edges: their strongly connected components come in reverse topological
+  // order; a component of two or more nodes, or a node feeding itself, is a delay-free loop.
+  const zeroFrom: number[] = [];
+  const zeroTo: number[] = [];
   for (const e of design.edges) {
     if (e.delays !== 0) continue;
     const f = index.get(e.from);
     const t = index.get(e.to);
     if (f === undefined || t === undefined) continue;
-    out[f].push(t);
-    indeg[t]++;
+    zeroFrom.push(f);
+    zeroTo.push(t);
   }
-  const order: number[] = [];
-  const queue: number[] = [];
-  indeg.forEach((d, i) => d === 0 && queue.push(i));
-  while (queue.length) {
-    const v = queue.shift()!;
-    order.push(v);
-    for (const t of out[v]) if (--indeg[t] === 0) queue.push(t);
-  }
-  if (order.length < nodes.length) {
-    const stuck = nodes.filter((_, i) => indeg[i] > 0).map((n) => n.id);
+  const { start, items } = bucket(nodes.length, Int32Array.from(zeroFrom));
+  const { comp, count } = stronglyConnected(nodes.length, start, items, Int32Array.from(zeroTo));
+  const size = new Int32Array(count);
+  for (let v = 0; v < nodes.length; v++) size[comp[v]]++;
+  const onLoop = new Uint8Array(count);
+  for (let c = 0; c < count; c++) if (size[c] > 1) onLoop[c] = 1;
+  zeroFrom.forEach((f, k) => f === zeroTo[k] && (onLoop[comp[f]] = 1));
+  const order = nodes.map((_, i) => i).sort((a, b) => comp[b] - comp[a] || a - b);
+  const stuck = nodes.filter((_, i) => onLoop[comp[i]]).map((n) => n.id);
+  if (stuck.length) {
     diagnostics.push(diag('sim-delay-free-loop', `a loop without delays runs through ${stuck.slice(0, 5).join(', ')}: it cannot be evaluated`, ['edges']));
   }
   return { graph: diagnostics.length ? null : { nodes, index, order }, diagnostics };
