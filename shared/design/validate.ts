@@ -5,6 +5,7 @@ import type { Design, DfgNode, Diagnostic, Edge, NodeOp, Unit } from '../types';
 import { designSchema } from './schema';
 import { diag, formatPath, showValue, typeWord, type DiagnosticCode } from './diagnostics';
 import { stronglyConnected } from '../graphAlgorithms';
+import { closest } from '../didYouMean';
 
 /** At most this many diagnostics of one code are listed; the last one says how many more there are. */
 export const MAX_PER_CODE = 100;
@@ -110,38 +111,6 @@ function allowedFields(schemaPath: string): string[] {
   let s: unknown = designSchema;
   for (const p of parts) s = isObj(s) ? s[p] : undefined;
   return isObj(s) && isObj(s.properties) ? Object.keys(s.properties) : [];
-}
-
-function editDistance(a: string, b: string): number {
-  if (Math.abs(a.length - b.length) > 2) return 3;
-  const prev = new Array<number>(b.length + 1);
-  for (let j = 0; j <= b.length; j++) prev[j] = j;
-  for (let i = 1; i <= a.length; i++) {
-    let diagPrev = prev[0];
-    prev[0] = i;
-    for (let j = 1; j <= b.length; j++) {
-      const tmp = prev[j];
-      prev[j] = Math.min(prev[j] + 1, prev[j - 1] + 1, diagPrev + (a[i - 1] === b[j - 1] ? 0 : 1));
-      diagPrev = tmp;
-    }
-  }
-  return prev[b.length];
-}
-
-/** The candidate within a small edit distance of `word` (one edit for short words, two for longer ones). */
-function closest(word: string, candidates: string[]): string | null {
-  if (word.length > 64) return null; // long names are not typos, and the distance would cost their product
-  let best: string | null = null;
-  let bestD = word.length <= 4 ? 2 : 3;
-  const lw = word.toLowerCase();
-  for (const c of candidates) {
-    const d = editDistance(lw, c.toLowerCase());
-    if (d < bestD) {
-      bestD = d;
-      best = c;
-    }
-  }
-  return best;
 }
 
 const TYPE_WORDS: Record<string, string> = {

@@ -11,6 +11,7 @@ import type {
   Rules,
   Violation,
 } from '../types';
+import { closest } from '../didYouMean';
 
 export const RULE_NAMES: readonly RuleName[] = [
   'negative_delays',
@@ -295,32 +296,4 @@ function show(v: unknown): string {
   if (v === null || v === undefined) return 'nothing';
   if (typeof v === 'object') return Array.isArray(v) ? 'a list' : 'a mapping';
   return String(v);
-}
-
-/** Closest known name within edit distance 3, for "did you mean". */
-function closest(word: string, names: readonly string[]): string | null {
-  let best: string | null = null;
-  let bestD = 4;
-  for (const n of names) {
-    const d = editDistance(word.toLowerCase(), n);
-    if (d < bestD) {
-      bestD = d;
-      best = n;
-    }
-  }
-  return best;
-}
-
-function editDistance(a: string, b: string): number {
-  const row = Array.from({ length: b.length + 1 }, (_, j) => j);
-  for (let i = 1; i <= a.length; i++) {
-    let prev = row[0];
-    row[0] = i;
-    for (let j = 1; j <= b.length; j++) {
-      const tmp = row[j];
-      row[j] = Math.min(row[j] + 1, row[j - 1] + 1, prev + (a[i - 1] === b[j - 1] ? 0 : 1));
-      prev = tmp;
-    }
-  }
-  return row[b.length];
 }
