@@ -6,6 +6,7 @@ import { designSchema } from './schema';
 import { diag, formatPath, showValue, typeWord, type DiagnosticCode } from './diagnostics';
 import { stronglyConnected } from '../graphAlgorithms';
 import { closest } from '../didYouMean';
+import { nodeOp } from './operations';
 
 /** At most this many diagnostics of one code are listed; the last one says how many more there are. */
 export const MAX_PER_CODE = 100;
@@ -211,14 +212,6 @@ function valueRule(e: ErrorObject, p: Record<string, unknown>, value: unknown): 
 }
 
 // ------------------------------------------------------------------ semantic rules
-
-function nodeOp(n: Record<string, unknown>, inputs: number): NodeOp | null {
-  if (typeof n.op === 'string') return n.op as NodeOp;
-  const k = n.kind;
-  if (k === 'mul' && inputs === 1 && typeof n.coefficient === 'number') return 'gain';
-  if (k === 'add' || k === 'sub' || k === 'mul' || k === 'gain' || k === 'neg' || k === 'pass') return k;
-  return null;
-}
 
 /** Loop of at most this many node names in a zero-delay-loop message; longer loops are shortened. */
 const LOOP_NAMES_SHOWN = 12;

@@ -2,10 +2,11 @@
 // reading of a DFG). Convention: zero initial state: every value before iteration 0 is zero.
 import { applyOp, type Arithmetic } from './arith';
 import { bucket, stronglyConnected } from '../graphAlgorithms';
-import type { Design, DfgNode, Diagnostic, NodeOp } from '../types';
+import { NODE_OPS, nodeOp, UNARY_OPS } from '../design/operations';
+import type { Design, Diagnostic, NodeOp } from '../types';
 
-const OPS: readonly NodeOp[] = ['add', 'sub', 'mul', 'gain', 'neg', 'pass'];
-const UNARY: ReadonlySet<NodeOp> = new Set(['gain', 'neg', 'pass']);
+// The one resolver of a node's operation is the design stage's; re-exported for the hardware modules.
+export { nodeOp };
 
 /** The arithmetic of one node, with its operand edges in port order. */
 export interface NodeArithmetic {
@@ -42,15 +43,6 @@ export function operandOrder(design: Design, edgeIdx: number[]): number[] {
   });
   keyed.sort((a, b) => a.key - b.key || a.pos - b.pos);
   return keyed.map((k) => k.i);
-}
-
-/** The arithmetic of an operation node per docs/format.md, or null when the file gives none. */
-export function nodeOp(n: DfgNode, arity: number): NodeOp | null {
-  if (n.op) return n.op;
-  if ((OPS as readonly string[]).includes(n.kind)) {
-    return n.kind === 'mul' && arity === 1 && n.coefficient !== undefined ? 'gain' : (n.kind as NodeOp);
-  }
-  return null;
 }
 
 function diag(code: string, message: string, path: (string | number)[]): Diagnostic {
@@ -93,11 +85,11 @@ export function resolveArithmetic(design: Design): { graph: ResolvedGraph | null
     const op = nodeOp(n, operands.length);
     if (op === null) {
       diagnostics.push(
-        diag('sim-no-arithmetic', `node ${n.id} of kind ${n.kind} has no arithmetic: give it an op (add, sub, mul, gain, neg, pass) to simulate it or generate RTL`, ['nodes', i]),
+        diag('sim-no-arithmetic', `node ${n.id} of kind ${n.kind} has no arithmetic: give it an op (${NODE_OPS.join(', ')}) to simulate it or generate RTL`, ['nodes', i]),
       );
     } else if (operands.length === 0) {
       diagnostics.push(diag('sim-no-operands', `operation ${n.id} has no incoming edge, so it has nothing to compute`, ['nodes', i]));
-    } else if (UNARY.has(op) && operands.length !== 1) {
+    } else if (UNARY_OPS.has(op) && operands.length !== 1) {
       diagnostics.push(diag('sim-arity', `${op} node ${n.id} takes one operand but ${operands.length} edges feed it`, ['nodes', i]));
     } else if (op === 'gain' && coefficient === null) {
       diagnostics.push(diag('sim-no-coefficient', `gain node ${n.id} needs a coefficient`, ['nodes', i]));
