@@ -13,14 +13,48 @@ import type {
 } from '../types';
 import { closest } from '../didYouMean';
 
-export const RULE_NAMES: readonly RuleName[] = [
-  'negative_delays',
-  'min_utilization',
-  'min_unit_utilization',
-  'max_registers',
-];
-
 export const NEGATIVE_DELAY_POLICIES: readonly NegativeDelayPolicy[] = ['fail', 'retime', 'warn'];
+
+/** What a rule accepts: the subset of JSON Schema (draft-07) that the rules mapping uses. */
+type RuleSchema =
+  | { enum: readonly string[]; description?: string }
+  | { type: 'number' | 'integer'; minimum: number; maximum?: number; description?: string };
+
+/**
+ * The one JSON Schema of the rules mapping: the server checks team rules with it (ajv), and
+ * checkRules reads the same limits for the config file, so both accept the same values.
+ */
+export const RULES_SCHEMA: {
+  type: 'object';
+  additionalProperties: false;
+  properties: Record<RuleName, RuleSchema>;
+} = {
+  type: 'object',
+  additionalProperties: false,
+  properties: {
+    negative_delays: { enum: NEGATIVE_DELAY_POLICIES },
+    min_utilization: { type: 'number', minimum: 0, maximum: 1, description: 'a share of the available slots' },
+    min_unit_utilization: { type: 'number', minimum: 0, maximum: 1, description: 'a share of the available slots' },
+    max_registers: { type: 'integer', minimum: 0 },
+  },
+};
+
+export const RULE_NAMES = Object.keys(RULES_SCHEMA.properties) as readonly RuleName[];
+
+function accepts(spec: RuleSchema, value: unknown): boolean {
+  if ('enum' in spec) return typeof value === 'string' && spec.enum.includes(value);
+  if (typeof value !== 'number' || !Number.isFinite(value)) return false;
+  if (spec.type === 'integer' && !Number.isInteger(value)) return false;
+  return value >= spec.minimum && (spec.maximum === undefined || value <= spec.maximum);
+}
+
+/** What a rule accepts, in words: `one of fail, retime, warn`, `a number from 0 to 1`, `an integer >= 0`. */
+function expected(spec: RuleSchema): string {
+  if ('enum' in spec) return `one of ${spec.enum.join(', ')}`;
+  const what = spec.type === 'integer' ? 'an integer' : 'a number';
+  const range = spec.maximum === undefined ? `${what} >= ${spec.minimum}` : `${what} from ${spec.minimum} to ${spec.maximum}`;
+  return spec.description ? `${range}, ${spec.description}` : range;
+}
 
 /** What applies when neither the team nor the repository says anything. */
 export const DEFAULT_RULES: Rules = { negative_delays: 'retime' };
@@ -51,36 +85,17 @@ export function checkRules(raw: unknown, basePath: (string | number)[] = ['rules
   }
   for (const [key, value] of Object.entries(raw as Record<string, unknown>)) {
     const path = [...basePath, key];
-    switch (key) {
-      case 'negative_delays':
-        if (typeof value === 'string' && (NEGATIVE_DELAY_POLICIES as readonly string[]).includes(value)) {
-          rules.negative_delays = value as NegativeDelayPolicy;
-        } else {
-          problems.push({ path, message: `negative_delays must be one of fail, retime, warn (got ${show(value)})` });
-        }
-        break;
-      case 'min_utilization':
-      case 'min_unit_utilization':
-        if (typeof value === 'number' && Number.isFinite(value) && value >= 0 && value <= 1) {
-          rules[key] = value;
-        } else {
-          problems.push({ path, message: `${key} must be a number from 0 to 1, a share of the available slots (got ${show(value)})` });
-        }
-        break;
-      case 'max_registers':
-        if (typeof value === 'number' && Number.isInteger(value) && value >= 0) {
-          rules.max_registers = value;
-        } else {
-          problems.push({ path, message: `max_registers must be an integer >= 0 (got ${show(value)})` });
-        }
-        break;
-      default: {
-        const near = closest(key, RULE_NAMES);
-        problems.push({
-          path,
-          message: `unknown rule "${key}"${near ? `; did you mean "${near}"?` : ''} (known: ${RULE_NAMES.join(', ')})`,
-        });
-      }
+    const spec = Object.hasOwn(RULES_SCHEMA.properties, key) ? RULES_SCHEMA.properties[key as RuleName] : undefined;
+    if (!spec) {
+      const near = closest(key, RULE_NAMES);
+      problems.push({
+        path,
+        message: `unknown rule "${key}"${near ? `; did you mean "${near}"?` : ''} (known: ${RULE_NAMES.join(', ')})`,
+      });
+    } else if (accepts(spec, value)) {
+      (rules as Record<string, unknown>)[key] = value;
+    } else {
+      problems.push({ path, message: `${key} must be ${expected(spec)} (got ${show(value)})` });
     }
   }
   return { rules, problems };

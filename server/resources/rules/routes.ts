@@ -1,7 +1,8 @@
 // GET/PUT /api/projects/:slug/rules and GET /api/projects/:slug/rules/history.
 import express, { Router } from 'express';
 import { Op } from 'sequelize';
-import type { RuleName, Rules } from '../../../shared/types';
+import type { Rules } from '../../../shared/types';
+import { RULE_NAMES, RULES_SCHEMA } from '../../../shared/report/rules';
 import type { AppContext } from '../../context';
 import type { Project } from '../../db/models';
 import { projectAccess } from '../../http/access';
@@ -12,22 +13,9 @@ import { canEditRules, canReadRuleHistory, canReadRules } from './policy';
 
 const json = express.json({ limit: '16kb' });
 
-export const rulesSchema = {
-  type: 'object',
-  additionalProperties: false,
-  properties: {
-    negative_delays: { enum: ['fail', 'retime', 'warn'] },
-    min_utilization: { type: 'number', minimum: 0, maximum: 1 },
-    min_unit_utilization: { type: 'number', minimum: 0, maximum: 1 },
-    max_registers: { type: 'integer', minimum: 0 },
-  },
-} as const;
-
 const checkPut = checker<{ rules: Rules }>({
-  type: 'object', required: ['rules'], additionalProperties: false, properties: { rules: rulesSchema },
+  type: 'object', required: ['rules'], additionalProperties: false, properties: { rules: RULES_SCHEMA },
 });
-
-const RULE_NAMES: RuleName[] = ['negative_delays', 'min_utilization', 'min_unit_utilization', 'max_registers'];
 
 export function ruleRoutes(ctx: AppContext): Router {
   const router = Router();
