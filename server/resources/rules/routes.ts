@@ -1,13 +1,15 @@
 // GET/PUT /api/projects/:slug/rules and GET /api/projects/:slug/rules/history.
 import express, { Router } from 'express';
 import { Op } from 'sequelize';
-import type { Rules } from '../../../shared/types';
+import type { RuleName, Rules } from '../../../shared/types';
+import type { RuleHistory, TeamRules as TeamRulesView } from '../../../shared/report/api';
 import { RULE_NAMES, RULES_SCHEMA } from '../../../shared/report/rules';
 import type { AppContext } from '../../context';
 import type { Project } from '../../db/models';
 import { projectAccess } from '../../http/access';
 import { requireUser } from '../../http/auth';
 import { allow, badRequest } from '../../http/errors';
+import { send } from '../../http/present';
 import { checker } from '../../http/validate';
 import { canEditRules, canReadRuleHistory, canReadRules } from './policy';
 
@@ -34,7 +36,7 @@ export function ruleRoutes(ctx: AppContext): Router {
   router.get('/api/projects/:slug/rules', async (req, res) => {
     const { project, role } = await projectAccess(ctx, req, { slug: req.params.slug });
     allow(canReadRules(role));
-    res.json(await current(project));
+    send<TeamRulesView>(res, await current(project));
   });
 
   router.put('/api/projects/:slug/rules', json, async (req, res) => {
@@ -54,7 +56,7 @@ export function ruleRoutes(ctx: AppContext): Router {
       if (changed.length) await row.update({ rules, updatedBy: user.id }, { transaction });
       return changed;
     });
-    res.json({ ...(await current(project)), changed: changes });
+    send<TeamRulesView & { changed: RuleName[] }>(res, { ...(await current(project)), changed: changes });
   });
 
   router.get('/api/projects/:slug/rules/history', async (req, res) => {
@@ -71,7 +73,7 @@ export function ruleRoutes(ctx: AppContext): Router {
       limit: limit + 1,
     });
     const page = rows.slice(0, limit);
-    res.json({
+    send<RuleHistory>(res, {
       changes: page.map((c) => ({
         id: c.id, rule: c.rule, oldValue: c.oldValue, newValue: c.newValue, at: c.createdAt,
         by: c.user ? { id: c.user.id, name: c.user.name } : null,
