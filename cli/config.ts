@@ -1,5 +1,5 @@
 // Finds and reads pleat.config.yaml. Parsing takes the fast path (js-yaml, no positions); the
-// position-keeping `yaml` package is loaded only when there is a problem to point at.
+// engine's position lookup (shared/design/positions.ts) runs only when there is a problem to point at.
 import { existsSync, readFileSync, statSync } from 'node:fs';
 import path from 'node:path';
 import { checkRules } from '../shared/report/rules';
@@ -176,43 +176,10 @@ async function positioned(text: string, p: Problem): Promise<Diagnostic> {
   return (await positionAll(text, [p]))[0];
 }
 
-/** Adds line and column to each problem from the source text, with the `yaml` package. */
+/** Adds line and column to each problem from the source text, as for a design file. */
 async function positionAll(text: string, problems: Problem[]): Promise<Diagnostic[]> {
-  let locate: (p: Problem) => { line: number; column: number } | null = () => null;
-  try {
-    // Under Node the yaml package is CommonJS: bundled, its exports may sit on `default`.
-    type Yaml = typeof import('yaml');
-    const mod = (await import('yaml')) as Partial<Yaml> & { default?: Yaml };
-    const { parseDocument, LineCounter, isMap, isSeq, isScalar } = (mod.parseDocument ? mod : mod.default) as Yaml;
-    const lineCounter = new LineCounter();
-    const doc = parseDocument(text, { lineCounter, uniqueKeys: false });
-    const at = (offset: number) => {
-      const pos = lineCounter.linePos(offset);
-      return { line: pos.line, column: pos.col };
-    };
-    locate = (p) => {
-      let node: unknown = doc.contents;
-      let keyNode: unknown = null;
-      for (const seg of p.path) {
-        if (isMap(node)) {
-          const pair = node.items.find((it) => (isScalar(it.key) ? String(it.key.value) : String(it.key)) === String(seg));
-          if (!pair) break;
-          keyNode = pair.key;
-          node = pair.value;
-        } else if (isSeq(node) && typeof seg === 'number') {
-          keyNode = null;
-          node = node.items[seg];
-        } else break;
-      }
-      const target = (p.atKey && keyNode ? keyNode : node ?? keyNode) as { range?: [number, number, number] } | null;
-      if (target && target.range) return at(target.range[0]);
-      return p.path.length === 0 ? { line: 1, column: 1 } : null;
-    };
-  } catch {
-    /* positions are a help, not a requirement */
-  }
-  return problems.map((p) => {
-    const pos = locate(p);
-    return { severity: p.severity, code: p.code, message: p.message, line: pos?.line ?? null, column: pos?.column ?? null, path: p.path };
-  });
+  const { locate } = await import('../shared/design/positions');
+  const bare: Diagnostic[] = problems.map((p) => ({ severity: p.severity, code: p.code, message: p.message, line: null, column: null, path: p.path }));
+  const atKey = new Set(bare.filter((_, i) => problems[i].atKey));
+  return locate(text, bare, (d) => atKey.has(d));
 }

@@ -17,21 +17,28 @@ import { createServer } from 'node:net';
 import { cpus, loadavg } from 'node:os';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
+import { parseArgs } from 'node:util';
 import autocannon from 'autocannon';
 import bcrypt from 'bcryptjs';
 import pg from 'pg';
 
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
-const argv = process.argv.slice(2);
-const opt = (name, dflt) => {
-  const i = argv.indexOf(name);
-  return i >= 0 ? argv[i + 1] : dflt;
-};
-const STORED = Number(opt('--runs', 100_000));
-const DURATION = Number(opt('--duration', 5));
-const CONNECTIONS = Number(opt('--connections', 10));
-const JSON_OUT = opt('--json', null);
-const WRITE_DOCS = !argv.includes('--no-docs');
+// node's own argument parser: an unknown or misspelt option is an error, not silently ignored.
+const { values: args } = parseArgs({
+  options: {
+    runs: { type: 'string', default: '100000' },
+    duration: { type: 'string', default: '5' },
+    connections: { type: 'string', default: '10' },
+    json: { type: 'string' },
+    'no-docs': { type: 'boolean', default: false },
+    'keep-db': { type: 'boolean', default: false },
+  },
+});
+const STORED = Number(args.runs);
+const DURATION = Number(args.duration);
+const CONNECTIONS = Number(args.connections);
+const JSON_OUT = args.json ?? null;
+const WRITE_DOCS = !args['no-docs'];
 const say = (m) => process.stderr.write(`bench-server: ${m}\n`);
 const loadAtStart = loadavg()[0];
 
@@ -213,7 +220,7 @@ server.kill('SIGTERM');
 const { rows: [{ count: ingested }] } = await client.query(`SELECT count(*) FROM runs WHERE branch = 'ingest'`);
 await client.end();
 await new Promise((resolve) => server.once('exit', resolve));
-if (!argv.includes('--keep-db')) {
+if (!args['keep-db']) {
   // The bench database is large and only for this run; --keep-db leaves it for a look.
   const admin = new pg.Client({ connectionString: pgUrl('postgres') });
   await admin.connect();

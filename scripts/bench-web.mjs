@@ -11,6 +11,7 @@ import path from 'node:path';
 import { spawnSync } from 'node:child_process';
 import { gzipSync } from 'node:zlib';
 import { fileURLToPath, pathToFileURL } from 'node:url';
+import { parseArgs } from 'node:util';
 
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
 const vite = path.join(root, 'node_modules', 'vite', 'bin', 'vite.js');
@@ -74,9 +75,8 @@ export function benchWeb({ build = true } = {}) {
 const kib = (n) => `${(n / 1024).toFixed(1)} KiB`;
 
 if (process.argv[1] && import.meta.url === pathToFileURL(process.argv[1]).href) {
-  const argv = process.argv.slice(2);
-  const jsonAt = argv.indexOf('--json');
-  const r = benchWeb({ build: !argv.includes('--no-build') });
+  const { values: args } = parseArgs({ options: { json: { type: 'string' }, 'no-build': { type: 'boolean', default: false } } });
+  const r = benchWeb({ build: !args['no-build'] });
   console.log('web app, first page (gzip -9)');
   console.log(`  entry chunk ${r.app.entry.url}: ${kib(r.app.entry.gzip)} gzip (${kib(r.app.entry.raw)} raw)`);
   for (const p of r.app.preloads) console.log(`  preloaded ${p.url}: ${kib(p.gzip)} gzip`);
@@ -84,5 +84,5 @@ if (process.argv[1] && import.meta.url === pathToFileURL(process.argv[1]).href) 
   console.log(`  JavaScript before the first page draws: ${kib(r.app.firstPageJsGzip)} gzip; with CSS ${kib(r.app.firstPageGzip)}`);
   console.log(`  baseline, a bare React 19 page (react + react-dom) built the same way: ${kib(r.floor.firstPageJsGzip)} gzip`);
   console.log(`  ratio to the baseline: ${r.ratio.toFixed(2)}x`);
-  if (jsonAt >= 0) writeFileSync(argv[jsonAt + 1], JSON.stringify(r, null, 2) + '\n');
+  if (args.json !== undefined) writeFileSync(args.json, JSON.stringify(r, null, 2) + '\n');
 }

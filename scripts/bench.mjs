@@ -12,18 +12,18 @@ import { cpus, loadavg, tmpdir, totalmem } from 'node:os';
 import path from 'node:path';
 import { spawnSync } from 'node:child_process';
 import { fileURLToPath, pathToFileURL } from 'node:url';
+import { parseArgs } from 'node:util';
 import { generateDesign } from './gen-design.mjs';
 
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
-const argv = process.argv.slice(2);
-const opt = (name, dflt) => {
-  const i = argv.indexOf(name);
-  return i >= 0 ? argv[i + 1] : dflt;
-};
-const RUNS = Number(opt('--runs', 3));
-const COLD_RUNS = Number(opt('--cold-runs', Math.max(9, RUNS * 4)));
-const SIZES = opt('--sizes', '1000,10000,100000').split(',').map(Number);
-const JSON_OUT = opt('--json', null);
+// node's own argument parser: an unknown or misspelt option is an error, not silently ignored.
+const { values: args } = parseArgs({
+  options: { runs: { type: 'string', default: '3' }, 'cold-runs': { type: 'string' }, sizes: { type: 'string', default: '1000,10000,100000' }, json: { type: 'string' } },
+});
+const RUNS = Number(args.runs);
+const COLD_RUNS = Number(args['cold-runs'] ?? Math.max(9, RUNS * 4));
+const SIZES = args.sizes.split(',').map(Number);
+const JSON_OUT = args.json ?? null;
 
 const TARGETS = { timeRatio: 2, memRatio: 2, coldRatio: 2.5 };
 const TIME = existsSync('/usr/bin/time') ? '/usr/bin/time' : null;

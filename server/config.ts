@@ -3,6 +3,7 @@
 import { randomBytes } from 'node:crypto';
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join, resolve } from 'node:path';
+import { cleanEnv, EnvError, makeValidator } from 'envalid';
 
 export type Env = 'development' | 'test' | 'production';
 
@@ -44,11 +45,43 @@ export interface Config {
 
 const MiB = 1024 * 1024;
 
-function num(value: string | undefined, fallback: number): number {
-  if (value === undefined || value === '') return fallback;
-  const n = Number(value);
-  if (!Number.isFinite(n)) throw new Error(`not a number: ${value}`);
+/**
+ * The numeric settings, parsed by envalid: a bad value fails start-up with the variable's name
+ * ("PLEAT_PORT: not a number: abc") instead of a bare "not a number: abc". Empty counts as unset.
+ */
+const num = makeValidator<number>((raw) => {
+  // Stricter than envalid's own num(), which reads "12abc" as 12: the whole value must be a finite number.
+  const n = Number(raw);
+  if (!Number.isFinite(n)) throw new EnvError(`not a number: ${raw}`);
   return n;
+});
+
+function numbers(env: NodeJS.ProcessEnv) {
+  const given = Object.fromEntries(Object.entries(env).filter(([, v]) => v !== undefined && v !== ''));
+  return cleanEnv(given, {
+    PLEAT_PORT: num({ default: 4180 }),
+    PLEAT_PG_PORT: num({ default: 54329 }),
+    PLEAT_SMTP_PORT: num({ default: 4125 }),
+    PLEAT_DB_POOL: num({ default: 10 }),
+    PLEAT_SESSION_HOURS: num({ default: 24 * 7 }),
+    PLEAT_BCRYPT_ROUNDS: num({ default: 10 }),
+    PLEAT_MAX_REPORT_MB: num({ default: 32 }),
+    PLEAT_LOGIN_WINDOW_MIN: num({ default: 15 }),
+    PLEAT_LOGIN_LIMIT: num({ default: 10 }),
+    PLEAT_INVITATION_DAYS: num({ default: 7 }),
+    PLEAT_ANALYZE_THREADS: num({ default: 0 }),
+    PLEAT_ANALYZE_LIMIT: num({ default: 30 }),
+    PLEAT_ANALYZE_TIMEOUT_S: num({ default: 60 }),
+    PLEAT_UPLOAD_LIMIT: num({ default: 120 }),
+    PLEAT_UPLOAD_QUOTA: num({ default: 10_000 }),
+    PLEAT_OUTAGE_RETRY_S: num({ default: 5 }),
+    PLEAT_MAINTENANCE_MIN: num({ default: 10 }),
+  }, {
+    reporter: ({ errors }) => {
+      const bad = Object.entries(errors).map(([name, e]) => `${name}: ${e?.message ?? 'invalid'}`);
+      if (bad.length) throw new Error(`server settings: ${bad.join('; ')}`);
+    },
+  });
 }
 
 /** In development the JWT secret is generated once and kept in .data/ (git-ignored). */
@@ -67,14 +100,15 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env, overrides: Part
   const mode: Env = env.PLEAT_ENV === 'production' || env.NODE_ENV === 'production'
     ? 'production'
     : env.PLEAT_ENV === 'test' ? 'test' : 'development';
-  const port = num(env.PLEAT_PORT, 4180);
-  const pgPort = num(env.PLEAT_PG_PORT, 54329);
+  const n = numbers(env);
+  const port = n.PLEAT_PORT;
+  const pgPort = n.PLEAT_PG_PORT;
   let jwtSecret = env.PLEAT_JWT_SECRET ?? '';
   if (!jwtSecret) {
     if (mode === 'production') throw new Error('PLEAT_JWT_SECRET must be set in production');
     jwtSecret = devSecret(root);
   }
-  const smtpPort = num(env.PLEAT_SMTP_PORT, 4125);
+  const smtpPort = n.PLEAT_SMTP_PORT;
   const publicUrl = (env.PLEAT_PUBLIC_URL ?? `http://127.0.0.1:${port}`).replace(/\/+$/, '');
   const trust = env.PLEAT_TRUST_PROXY;
   return {
@@ -84,27 +118,27 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env, overrides: Part
     port,
     databaseUrl: env.PLEAT_DATABASE_URL ?? `postgres://pleat@127.0.0.1:${pgPort}/pleat`,
     dbSchema: env.PLEAT_DB_SCHEMA || null,
-    dbPool: num(env.PLEAT_DB_POOL, 10),
+    dbPool: n.PLEAT_DB_POOL,
     jwtSecret,
-    sessionHours: num(env.PLEAT_SESSION_HOURS, 24 * 7),
+    sessionHours: n.PLEAT_SESSION_HOURS,
     cookieSecure: env.PLEAT_COOKIE_SECURE ? env.PLEAT_COOKIE_SECURE === '1' : publicUrl.startsWith('https:'),
-    bcryptRounds: num(env.PLEAT_BCRYPT_ROUNDS, 10),
+    bcryptRounds: n.PLEAT_BCRYPT_ROUNDS,
     publicUrl,
     smtp: env.PLEAT_SMTP_HOST === 'none'
       ? null
       : { host: env.PLEAT_SMTP_HOST ?? '127.0.0.1', port: smtpPort, from: env.PLEAT_MAIL_FROM ?? 'Pleat <pleat@localhost>' },
     devMailDir: mode === 'development' ? join(root, '.data', 'mail') : null,
     webDir: resolve(root, env.PLEAT_WEB_DIR ?? 'dist/web'),
-    maxReportBytes: num(env.PLEAT_MAX_REPORT_MB, 32) * MiB,
+    maxReportBytes: n.PLEAT_MAX_REPORT_MB * MiB,
     maxDesignBytes: 16 * MiB,
-    login: { windowMs: num(env.PLEAT_LOGIN_WINDOW_MIN, 15) * 60_000, limit: num(env.PLEAT_LOGIN_LIMIT, 10) },
+    login: { windowMs: n.PLEAT_LOGIN_WINDOW_MIN * 60_000, limit: n.PLEAT_LOGIN_LIMIT },
     trustProxy: trust === undefined ? false : trust === 'true' ? true : /^\d+$/.test(trust) ? Number(trust) : trust,
-    invitationDays: num(env.PLEAT_INVITATION_DAYS, 7),
-    analyzeThreads: num(env.PLEAT_ANALYZE_THREADS, 0),
-    analyze: { limit: num(env.PLEAT_ANALYZE_LIMIT, 30), timeoutMs: num(env.PLEAT_ANALYZE_TIMEOUT_S, 60) * 1000 },
-    upload: { perMinute: num(env.PLEAT_UPLOAD_LIMIT, 120), perDay: num(env.PLEAT_UPLOAD_QUOTA, 10_000) },
-    outageRetrySeconds: num(env.PLEAT_OUTAGE_RETRY_S, 5),
-    maintenanceMs: num(env.PLEAT_MAINTENANCE_MIN, 10) * 60_000,
+    invitationDays: n.PLEAT_INVITATION_DAYS,
+    analyzeThreads: n.PLEAT_ANALYZE_THREADS,
+    analyze: { limit: n.PLEAT_ANALYZE_LIMIT, timeoutMs: n.PLEAT_ANALYZE_TIMEOUT_S * 1000 },
+    upload: { perMinute: n.PLEAT_UPLOAD_LIMIT, perDay: n.PLEAT_UPLOAD_QUOTA },
+    outageRetrySeconds: n.PLEAT_OUTAGE_RETRY_S,
+    maintenanceMs: n.PLEAT_MAINTENANCE_MIN * 60_000,
     ...overrides,
   };
 }

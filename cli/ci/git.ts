@@ -2,7 +2,7 @@
 // a branch that points at a detached HEAD, and `git merge-base`. A plain `pleat check` reads the
 // .git folder instead (cli/git.ts) and starts no process.
 import { execFileSync } from 'node:child_process';
-import { hexCommit } from './types';
+import { hexCommit, shortRef } from './types';
 
 /** Runs git and returns its trimmed output, or null when git fails or is not installed. */
 export type GitRunner = (args: string[], cwd: string) => string | null;
@@ -40,7 +40,7 @@ export function gitHead(cwd: string, git: GitRunner = runGit): GitHead {
     .map((s) => s.trim())
     .filter(Boolean);
   const local = refs.find((r) => r.startsWith('refs/heads/'));
-  if (local) return { branch: local.slice('refs/heads/'.length), commit, notes: [] };
+  if (local) return { branch: shortRef(local), commit, notes: [] };
   const remote = refs.find((r) => r.startsWith('refs/remotes/') && !r.endsWith('/HEAD'));
   if (remote) return { branch: remote.replace(/^refs\/remotes\/[^/]+\//, ''), commit, notes: [] };
   return { branch: null, commit, notes: [`HEAD is detached at ${commit.slice(0, 12)} and no branch points at it; set PLEAT_BRANCH`] };

@@ -82,7 +82,7 @@ export function detectBuild(opts: DetectOptions): Detected {
       ctx.commit = ctx.commit ?? local.commit;
       if (ctx.branch === null) notes.push(...local.notes);
     } else {
-      const local = gitInfo(opts.cwd, {});
+      const local = gitInfo(opts.cwd);
       if (ctx.commit === null || ctx.commit === local.commit) ctx.branch = ctx.branch ?? local.branch;
       ctx.commit = ctx.commit ?? local.commit;
     }

@@ -1,4 +1,5 @@
 // How rows leave the server: only the fields a client may see (never hashes).
+import type { Response } from 'express';
 import type { PublicUser } from '../../shared/report/api';
 import type { User } from '../db/models';
 
@@ -11,4 +12,21 @@ export function publicUser(u: User): PublicUser {
 /** Lower-cased, trimmed e-mail: addresses are compared without case. */
 export function normalEmail(email: string): string {
   return email.trim().toLowerCase();
+}
+
+/**
+ * What a presenter may hand over for a response of type T (shared/report/api.ts): the same shape,
+ * with a Date wherever T has an ISO string, since res.json turns Dates into exactly those.
+ */
+export type Sent<T> = T extends string
+  ? T | Date
+  : T extends readonly (infer U)[]
+    ? Sent<U>[]
+    : T extends object
+      ? { [K in keyof T]: Sent<T[K]> }
+      : T;
+
+/** res.json with the body checked against the API's response type, so server and web client agree. */
+export function send<T>(res: Response, body: Sent<T>): void {
+  res.json(body);
 }

@@ -1,6 +1,7 @@
-// Method: the DFG indexed by node and edge with the Notation's slot and stages, plus Tarjan's SCCs
+// Method: the DFG indexed by node and edge with the Notation's slot and stages (SCCs: shared/graphAlgorithms.ts)
 // and Bellman-Ford with subtree disassembly (Tarjan 1981). Convention: held inputs/taps have no slot.
 import type { Design } from '../types';
+import { bucket, stronglyConnected } from '../graphAlgorithms';
 
 /** Role of a node. */
 export const OPERATION = 0;
@@ -132,74 +133,9 @@ export function buildGraph(design: Design): IndexedGraph {
   };
 }
 
-/** Counting sort of items 0..key.length-1 by key (0..n-1): compressed adjacency lists. */
-export function bucket(n: number, key: Int32Array): { start: Int32Array; items: Int32Array } {
-  const start = new Int32Array(n + 1);
-  for (let i = 0; i < key.length; i++) start[key[i] + 1]++;
-  for (let v = 0; v < n; v++) start[v + 1] += start[v];
-  const fill = start.slice(0, n);
-  const items = new Int32Array(key.length);
-  for (let i = 0; i < key.length; i++) items[fill[key[i]]++] = i;
-  return { start, items };
-}
-
-/**
- * Strongly connected components (Tarjan), iterative so that a million-node chain cannot
- * overflow the call stack. comp[v] numbers components in reverse topological order.
- */
-export function stronglyConnected(
-  n: number,
-  outStart: Int32Array,
-  outArc: Int32Array,
-  arcTo: Int32Array,
-): { comp: Int32Array; count: number } {
-  const index = new Int32Array(n).fill(-1);
-  const low = new Int32Array(n);
-  const comp = new Int32Array(n).fill(-1);
-  const stack = new Int32Array(n);
-  const call = new Int32Array(n);
-  const cursor = new Int32Array(n);
-  let sp = 0;
-  let counter = 0;
-  let count = 0;
-  for (let root = 0; root < n; root++) {
-    if (index[root] !== -1) continue;
-    let cp = 0;
-    index[root] = low[root] = counter++;
-    stack[sp++] = root;
-    call[cp++] = root;
-    cursor[root] = outStart[root];
-    while (cp > 0) {
-      const v = call[cp - 1];
-      if (cursor[v] < outStart[v + 1]) {
-        const w = arcTo[outArc[cursor[v]++]];
-        if (index[w] === -1) {
-          index[w] = low[w] = counter++;
-          stack[sp++] = w;
-          call[cp++] = w;
-          cursor[w] = outStart[w];
-        } else if (comp[w] === -1 && index[w] < low[v]) {
-          low[v] = index[w]; // w is still on the stack
-        }
-        continue;
-      }
-      cp--;
-      if (low[v] === index[v]) {
-        let w: number;
-        do {
-          w = stack[--sp];
-          comp[w] = count;
-        } while (w !== v);
-        count++;
-      }
-      if (cp > 0) {
-        const parent = call[cp - 1];
-        if (low[v] < low[parent]) low[parent] = low[v];
-      }
-    }
-  }
-  return { comp, count };
-}
+// bucket and stronglyConnected live in shared/graphAlgorithms.ts (the design stage uses them too);
+// re-exported here for the analysis modules.
+export { bucket, stronglyConnected };
 
 /** Weights of a constraint graph: plain numbers (exact below 2^53) or bigints. */
 export type Weights = ArrayLike<number> | readonly bigint[];

@@ -176,8 +176,10 @@ export function plainScalarTexts(text: string, paths: (string | number)[][]): (s
 /**
  * Returns the diagnostics with line and column filled from their `path` (those that already have a
  * line are kept as they are). Never throws: anything it cannot place goes to line 1, column 1.
+ * The one YAML position lookup of the project: design files and pleat.config.yaml both use it;
+ * `atKey` says which findings point at the key rather than its value (design codes by default).
  */
-export function locate(text: string, diagnostics: Diagnostic[]): Diagnostic[] {
+export function locate(text: string, diagnostics: Diagnostic[], atKey: (d: Diagnostic) => boolean = (d) => KEY_CODES.has(d.code)): Diagnostic[] {
   const wanted = diagnostics.filter((d) => d.line === null || d.column === null);
   if (wanted.length === 0) return diagnostics;
   const root = trieOf(wanted.map((d) => d.path ?? []));
@@ -195,7 +197,7 @@ export function locate(text: string, diagnostics: Diagnostic[]): Diagnostic[] {
       t = t.children?.get(String(path[i]));
       if (!t) break;
       const last = i === path.length - 1;
-      const here = last && KEY_CODES.has(d.code) && t.keyOffset >= 0 ? t.keyOffset : t.valueOffset >= 0 ? t.valueOffset : t.keyOffset;
+      const here = last && atKey(d) && t.keyOffset >= 0 ? t.keyOffset : t.valueOffset >= 0 ? t.valueOffset : t.keyOffset;
       if (here >= 0) off = here;
     }
     chosen.set(d, off);

@@ -1,6 +1,8 @@
 // Method: JSON Schema draft-07 (json-schema.org) of the design format pleat/1, for ajv and for editors.
 // Convention: structure only; cross-references (ids, sets, loops) are checked in shared/design/validate.ts.
 
+import { NODE_OPS } from './operations';
+
 /** Largest integer accepted for counts such as delays, stages, ports and slots (32-bit signed). */
 export const MAX_INT = 2_147_483_647;
 /** Longest design name: it names files, Verilog modules and a server column (docs/diagnostics.md). */
@@ -125,7 +127,7 @@ export const designSchema = {
           coefficient: { type: 'number', description: 'Constant factor, for a `gain` node.' },
           op: {
             type: 'string',
-            enum: ['add', 'sub', 'mul', 'gain', 'neg', 'pass'],
+            enum: [...NODE_OPS],
             description:
               'Arithmetic for simulation: add, sub (first port minus the others), mul, gain (input times coefficient), neg, pass. Default: derived from the kind.',
           },

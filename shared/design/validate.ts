@@ -1,9 +1,12 @@
 // Method: JSON Schema validation (ajv, draft-07) plus the semantic rules of format pleat/1; zero-delay
-// loops by Tarjan's strongly connected components (iterative). Convention: diagnostics carry `path`, no position.
+// loops by Tarjan's strongly connected components (shared/graphAlgorithms.ts). Convention: diagnostics carry `path`, no position.
 import { Ajv, type ErrorObject, type ValidateFunction } from 'ajv';
 import type { Design, DfgNode, Diagnostic, Edge, NodeOp, Unit } from '../types';
 import { designSchema, MAX_FACTOR } from './schema';
 import { diag, formatPath, showValue, typeWord, type DiagnosticCode } from './diagnostics';
+import { stronglyConnected } from '../graphAlgorithms';
+import { closest } from '../didYouMean';
+import { nodeOp } from './operations';
 
 /** At most this many diagnostics of one code are listed; the last one says how many more there are. */
 export const MAX_PER_CODE = 100;
@@ -111,38 +114,6 @@ function allowedFields(schemaPath: string): string[] {
   return isObj(s) && isObj(s.properties) ? Object.keys(s.properties) : [];
 }
 
-function editDistance(a: string, b: string): number {
-  if (Math.abs(a.length - b.length) > 2) return 3;
-  const prev = new Array<number>(b.length + 1);
-  for (let j = 0; j <= b.length; j++) prev[j] = j;
-  for (let i = 1; i <= a.length; i++) {
-    let diagPrev = prev[0];
-    prev[0] = i;
-    for (let j = 1; j <= b.length; j++) {
-      const tmp = prev[j];
-      prev[j] = Math.min(prev[j] + 1, prev[j - 1] + 1, diagPrev + (a[i - 1] === b[j - 1] ? 0 : 1));
-      diagPrev = tmp;
-    }
-  }
-  return prev[b.length];
-}
-
-/** The candidate within a small edit distance of `word` (one edit for short words, two for longer ones). */
-function closest(word: string, candidates: string[]): string | null {
-  if (word.length > 64) return null; // long names are not typos, and the distance would cost their product
-  let best: string | null = null;
-  let bestD = word.length <= 4 ? 2 : 3;
-  const lw = word.toLowerCase();
-  for (const c of candidates) {
-    const d = editDistance(lw, c.toLowerCase());
-    if (d < bestD) {
-      bestD = d;
-      best = c;
-    }
-  }
-  return best;
-}
-
 const TYPE_WORDS: Record<string, string> = {
   string: 'a string',
   number: 'a number',
@@ -243,14 +214,6 @@ function valueRule(e: ErrorObject, p: Record<string, unknown>, value: unknown): 
 }
 
 // ------------------------------------------------------------------ semantic rules
-
-function nodeOp(n: Record<string, unknown>, inputs: number): NodeOp | null {
-  if (typeof n.op === 'string') return n.op as NodeOp;
-  const k = n.kind;
-  if (k === 'mul' && inputs === 1 && typeof n.coefficient === 'number') return 'gain';
-  if (k === 'add' || k === 'sub' || k === 'mul' || k === 'gain' || k === 'neg' || k === 'pass') return k;
-  return null;
-}
 
 /** Loop of at most this many node names in a zero-delay-loop message; longer loops are shortened. */
 const LOOP_NAMES_SHOWN = 12;
@@ -544,7 +507,7 @@ function unknownNodeMessage(name: string, where: string, unitIndex: Map<string, 
   return `${where} names node \`${name}\`, which does not exist${hintFrom(name, nodeIds())}`;
 }
 
-/** Zero-delay loops: strongly connected components of the graph of edges with no delay (Tarjan, iterative). */
+/** Zero-delay loops: strongly connected components of the graph of edges with no delay. */
 function zeroDelayLoops(
   nodes: unknown[],
   nN: number,
@@ -571,67 +534,18 @@ function zeroDelayLoops(
     if (eDelays[i] === 0 && eFrom[i] >= 0 && eTo[i] >= 0) adjEdge[fill[eFrom[i]]++] = i;
   }
 
-  const index = new Int32Array(nN).fill(-1);
-  const low = new Int32Array(nN);
-  const onStack = new Uint8Array(nN);
-  const comp = new Int32Array(nN).fill(-1);
-  const sccStack = new Int32Array(nN);
-  const callNode = new Int32Array(nN);
-  const callPos = new Int32Array(nN);
-  let sp = 0;
-  let counter = 0;
-  let nComp = 0;
+  // components of the zero-delay graph; a loop is a component of two or more nodes or a self-loop
+  const { comp, count, root } = stronglyConnected(nN, start, adjEdge, eTo);
+  const size = new Int32Array(count);
+  for (let v = 0; v < nN; v++) size[comp[v]]++;
   const loopRoots: number[] = [];
-
-  for (let s = 0; s < nN; s++) {
-    if (index[s] !== -1 || start[s] === start[s + 1]) continue;
-    let csp = 0;
-    index[s] = low[s] = counter++;
-    sccStack[sp++] = s;
-    onStack[s] = 1;
-    callNode[csp] = s;
-    callPos[csp] = start[s];
-    csp++;
-    while (csp > 0) {
-      const v = callNode[csp - 1];
-      const p = callPos[csp - 1];
-      if (p < start[v + 1]) {
-        callPos[csp - 1] = p + 1;
-        const w = eTo[adjEdge[p]];
-        if (index[w] === -1) {
-          index[w] = low[w] = counter++;
-          sccStack[sp++] = w;
-          onStack[w] = 1;
-          callNode[csp] = w;
-          callPos[csp] = start[w];
-          csp++;
-        } else if (onStack[w] && index[w] < low[v]) {
-          low[v] = index[w];
-        }
-      } else {
-        csp--;
-        if (low[v] === index[v]) {
-          const c = nComp++;
-          let size = 0;
-          let w: number;
-          do {
-            w = sccStack[--sp];
-            onStack[w] = 0;
-            comp[w] = c;
-            size++;
-          } while (w !== v);
-          let selfLoop = false;
-          if (size === 1) {
-            for (let q = start[v]; q < start[v + 1]; q++) if (eTo[adjEdge[q]] === v) selfLoop = true;
-          }
-          if (size > 1 || selfLoop) loopRoots.push(v);
-        }
-        if (csp > 0) {
-          const u = callNode[csp - 1];
-          if (low[v] < low[u]) low[u] = low[v];
-        }
-      }
+  for (let c = 0; c < count; c++) {
+    const v = root[c];
+    let selfLoop = false;
+    if (size[c] === 1) {
+      for (let q = start[v]; q < start[v + 1]; q++) if (eTo[adjEdge[q]] === v) selfLoop = true;
     }
+    if (size[c] > 1 || selfLoop) loopRoots.push(v);
   }
   if (loopRoots.length === 0) return;
 

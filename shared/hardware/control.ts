@@ -1,7 +1,7 @@
 // Control tables of a folded datapath (Parhi, "VLSI Digital Signal Processing Systems", ch. 6:
 // folding transformation, with registers placed by forward-backward allocation). Convention: a
 // register loads at the end of a partition and holds the value during the following cycles.
-import { buildGraph, INPUT, NO_SLOT, OPERATION, OUTPUT } from '../analysis/graph';
+import { buildGraph, INPUT, NO_SLOT, OPERATION, OUTPUT, type IndexedGraph } from '../analysis/graph';
 import { foldedDelays } from '../analysis/foldedDelay';
 import { lifetimeVariables } from '../analysis/registers';
 import type { FoldedDatapath } from '../analysis/analyze';
@@ -212,24 +212,24 @@ export interface ControlResult {
  */
 export const MAX_HARDWARE_CELLS = 250_000;
 
-/**
- * The control tables of the folded datapath of a design: per unit the operation of each
- * partition, per unit operand port a multiplexer table, per register its loads, per output port
- * when it loads and which sample it carries. Needs a feasible retiming in the analysis.
- */
-export function controlTables(design: Design, analysis: Analysis, datapath: FoldedDatapath | null = null, maxCells = MAX_HARDWARE_CELLS): ControlResult {
-  if (!analysis.retiming.feasible) return { control: null, reason: 'no retiming makes every folded delay nonnegative' };
-  if (analysis.retiming.applied === false) return { control: null, reason: 'the plan needs retiming, which negative_delays: fail forbids' };
-  const cells = analysis.factor * (analysis.registers?.minimum ?? 0);
-  if (cells > maxCells) {
-    return {
-      control: null,
-      tooLarge: true,
-      reason: `the datapath needs ${analysis.registers!.minimum.toLocaleString('en-US')} registers over ${analysis.factor.toLocaleString('en-US')} partitions (${cells.toLocaleString('en-US')} register cells); simulation and RTL build every register cell explicitly, up to ${maxCells.toLocaleString('en-US')} (docs/rtl.md)`,
-    };
-  }
-  // The analysis's own datapath when the caller has it (the pipeline does); else rebuilt from the
-  // reported retiming, for callers that hold only a report.
+/** The folded datapath the tables are read from, every delay checked nonnegative. */
+interface Datapath {
+  g: IndexedGraph;
+  N: number;
+  /** Retiming value of each node. */
+  r: Float64Array;
+  /** Retimed delay of each edge. */
+  wr: Float64Array;
+  /** Folded delay of each edge (NaN for a tap). */
+  folded: Float64Array;
+}
+
+/** Step 1: the analysis's own datapath when the caller has it; else rebuilt from the report. */
+function checkedDatapath(design: Design, analysis: Analysis, datapath: FoldedDatapath | null): Datapath | string {
+  if (!analysis.retiming.feasible) return 'no retiming makes every folded delay nonnegative';
+  if (analysis.retiming.applied === false) return 'the plan needs retiming, which negative_delays: fail forbids';
+  // The pipeline passes its datapath; callers that hold only a report rebuild it from the
+  // reported retiming.
   const g = datapath?.graph ?? buildGraph(design);
   const N = g.factor;
   const r = new Float64Array(g.nodeCount);
@@ -240,21 +240,29 @@ export function controlTables(design: Design, analysis: Analysis, datapath: Fold
     for (let e = 0; e < g.edgeCount; e++) wr[e] = g.edgeDelays[e] + r[g.edgeTo[e]] - r[g.edgeFrom[e]];
   }
   for (let e = 0; e < g.edgeCount; e++) {
-    if (wr[e] < 0) {
-      return { control: null, reason: `the retiming leaves edge ${design.edges[e].from} -> ${design.edges[e].to} with ${wr[e]} delays` };
-    }
+    if (wr[e] < 0) return `the retiming leaves edge ${design.edges[e].from} -> ${design.edges[e].to} with ${wr[e]} delays`;
   }
   const folded = datapath?.folded ?? foldedDelays(g, wr);
   for (let e = 0; e < g.edgeCount; e++) {
-    if (folded[e] < 0) {
-      return { control: null, reason: `edge ${design.edges[e].from} -> ${design.edges[e].to} keeps a negative folded delay (${folded[e]})` };
-    }
+    if (folded[e] < 0) return `edge ${design.edges[e].from} -> ${design.edges[e].to} keeps a negative folded delay (${folded[e]})`;
   }
+  return { g, N, r, wr, folded };
+}
 
+/** The variables of lifetime analysis, as the analysis names them, each with its signal. */
+interface Variables {
+  vars: Variable[];
+  byName: Map<string, number>;
+  /** Name of the variable an edge of an unscheduled input holds (one per delayed edge). */
+  heldVarOfEdge: Map<number, string>;
+  signalOf: (u: number) => SignalSource;
+}
+
+/** Step 2: variables of lifetime analysis and the signal that produces each. */
+function lifetimeVariablesOf(analysis: Analysis, dp: Datapath): Variables {
+  const { g, folded, wr } = dp;
   const signalOf = (u: number): SignalSource =>
     g.role[u] === INPUT ? { kind: 'input', node: g.nodeIds[u] } : { kind: 'unit', unit: g.unitIds[g.unitOf[u]] };
-
-  // Variables of lifetime analysis, named as the analysis names them.
   const lifetimes = analysis.lifetimes?.variables ?? lifetimeVariables(g, folded, wr);
   const vars: Variable[] = lifetimes.map((l) => ({ ...l, source: signalOf(g.nodeIndex.get(l.node)!) }));
   const byName = new Map(vars.map((v, i) => [v.variable, i]));
@@ -272,24 +280,32 @@ export function controlTables(design: Design, analysis: Analysis, datapath: Fold
       heldVarOfEdge.set(e, name);
     }
   }
+  return { vars, byName, heldVarOfEdge, signalOf };
+}
 
-  const live = liveInstances(N, vars);
-  let placement: Placement;
-  let registers: number;
-  let allocationSource: ControlTables['allocationSource'] = 'control';
-  let allocationNote: string | undefined;
+interface ChosenPlacement {
+  placement: Placement;
+  registers: number;
+  allocationSource: ControlTables['allocationSource'];
+  allocationNote?: string;
+}
+
+/** Step 3: the analysis's allocation when it holds exactly the live instances, else Pleat's own. */
+function choosePlacement(analysis: Analysis, N: number, live: string[][], vars: Variable[]): ChosenPlacement {
   const fromAnalysis = analysis.allocation ? analysisPlacement(analysis.allocation, N, live, vars) : 'the analysis has no allocation table';
   if (typeof fromAnalysis !== 'string') {
-    placement = fromAnalysis;
-    registers = analysis.allocation!.registers;
-    allocationSource = 'analysis';
-  } else {
-    ({ placement, registers } = ownPlacement(N, live));
-    allocationNote = `registers placed by Pleat's control tables (${fromAnalysis}${analysis.allocationOmitted ? `: ${analysis.allocationOmitted}` : ''})`;
+    return { placement: fromAnalysis, registers: analysis.allocation!.registers, allocationSource: 'analysis' };
   }
+  const { placement, registers } = ownPlacement(N, live);
+  const allocationNote = `registers placed by Pleat's control tables (${fromAnalysis}${analysis.allocationOmitted ? `: ${analysis.allocationOmitted}` : ''})`;
+  return { placement, registers, allocationSource: 'control', allocationNote };
+}
 
-  // Route of every edge: the signal its consumer reads in its partition.
-  const route = (e: number): EdgeRoute => {
+/** Step 4: the route of every edge, the signal its consumer reads in its partition. */
+function edgeRouter(design: Design, dp: Datapath, v: Variables, placement: Placement): (e: number) => EdgeRoute {
+  const { g, N, folded } = dp;
+  const { vars, byName, heldVarOfEdge, signalOf } = v;
+  return (e: number): EdgeRoute => {
     const u = g.edgeFrom[e];
     const d = folded[e];
     if (Number.isNaN(d)) return { source: null, variable: null };
@@ -303,14 +319,12 @@ export function controlTables(design: Design, analysis: Analysis, datapath: Fold
     if (reg === undefined) throw new Error(`allocation has no register holding ${displayKey(vars, key, mod(at, N), N)} in partition ${mod(at, N)}`);
     return { source: { kind: 'register', register: reg }, variable: displayKey(vars, key, mod(at, N), N) };
   };
+}
 
-  // Operand edges of each operation, in port order.
-  const incoming: number[][] = design.nodes.map(() => []);
-  for (let e = 0; e < g.edgeCount; e++) incoming[g.edgeTo[e]].push(e);
-  const operands = incoming.map((list) => operandOrder(design, list));
-
-  // Units: what runs in each partition.
-  const units: UnitControl[] = design.units.map((unit) => {
+/** Step 5: per unit, the operation that starts in each partition. */
+function unitTables(design: Design, g: IndexedGraph, operands: number[][]): UnitControl[] {
+  const N = g.factor;
+  return design.units.map((unit) => {
     const set = design.folding.sets[unit.id] ?? [];
     const partitions: UnitControl['partitions'] = [];
     let ports = 0;
@@ -332,8 +346,11 @@ export function controlTables(design: Design, analysis: Analysis, datapath: Fold
     }
     return { unit: unit.id, kind: unit.kind, stages: unit.stages, ports, partitions };
   });
+}
 
-  // Multiplexers in front of each operand port.
+/** Step 6: the multiplexer in front of each operand port of each unit. */
+function muxTables(design: Design, g: IndexedGraph, units: UnitControl[], operands: number[][], route: (e: number) => EdgeRoute): MuxTable[] {
+  const N = g.factor;
   const muxes: MuxTable[] = [];
   for (const uc of units) {
     for (let p = 0; p < uc.ports; p++) {
@@ -363,8 +380,11 @@ export function controlTables(design: Design, analysis: Analysis, datapath: Fold
       muxes.push({ unit: uc.unit, port: p, sources, select, reads });
     }
   }
+  return muxes;
+}
 
-  // Registers: loads at the end of each partition, derived from the placement.
+/** Step 7: per register, what it holds and loads at the end of each partition, from the placement. */
+function registerLoadTables(N: number, registers: number, placement: Placement, vars: Variable[]): RegisterTable[] {
   const registerTables: RegisterTable[] = [];
   for (let k = 0; k < registers; k++) {
     registerTables.push({ register: k, loads: new Array(N).fill(null), holds: new Array(N).fill(null) });
@@ -382,8 +402,12 @@ export function controlTables(design: Design, analysis: Analysis, datapath: Fold
       registerTables[k].loads[t] = { source, variable: displayKey(vars, key, nextT, N) };
     }
   }
+  return registerTables;
+}
 
-  // Output ports.
+/** Step 8: per output port, when it loads and which sample it carries. */
+function outputControls(dp: Datapath, operands: number[][], route: (e: number) => EdgeRoute, signalOf: (u: number) => SignalSource): OutputControl[] {
+  const { g, N, r, wr } = dp;
   const outputs: OutputControl[] = [];
   for (let y = 0; y < g.nodeCount; y++) {
     if (g.role[y] !== OUTPUT) continue;
@@ -420,7 +444,37 @@ export function controlTables(design: Design, analysis: Analysis, datapath: Fold
       validAfterIterations: Math.max(0, lag) + floorDiv(cycle, N),
     });
   }
+  return outputs;
+}
 
+/**
+ * The control tables of the folded datapath of a design: per unit the operation of each
+ * partition, per unit operand port a multiplexer table, per register its loads, per output port
+ * when it loads and which sample it carries. Needs a feasible retiming in the analysis.
+ */
+export function controlTables(design: Design, analysis: Analysis, datapath: FoldedDatapath | null = null, maxCells = MAX_HARDWARE_CELLS): ControlResult {
+  const cells = analysis.factor * (analysis.registers?.minimum ?? 0);
+  if (analysis.retiming.feasible && analysis.retiming.applied !== false && cells > maxCells) {
+    return {
+      control: null,
+      tooLarge: true,
+      reason: `the datapath needs ${analysis.registers!.minimum.toLocaleString('en-US')} registers over ${analysis.factor.toLocaleString('en-US')} partitions (${cells.toLocaleString('en-US')} register cells); simulation and RTL build every register cell explicitly, up to ${maxCells.toLocaleString('en-US')} (docs/rtl.md)`,
+    };
+  }
+  const dp = checkedDatapath(design, analysis, datapath);
+  if (typeof dp === 'string') return { control: null, reason: dp };
+  const { g, N } = dp;
+  const variables = lifetimeVariablesOf(analysis, dp);
+  const live = liveInstances(N, variables.vars);
+  const { placement, registers, allocationSource, allocationNote } = choosePlacement(analysis, N, live, variables.vars);
+  const route = edgeRouter(design, dp, variables, placement);
+
+  // Operand edges of each operation, in port order.
+  const incoming: number[][] = design.nodes.map(() => []);
+  for (let e = 0; e < g.edgeCount; e++) incoming[g.edgeTo[e]].push(e);
+  const operands = incoming.map((list) => operandOrder(design, list));
+
+  const units = unitTables(design, g, operands);
   const inputs = design.nodes.filter((n) => n.kind === 'input').map((n) => ({ node: n.id, slot: n.slot ?? null }));
   const latencyAdded = analysis.retiming.latencyAdded ?? 0;
   return {
@@ -432,9 +486,9 @@ export function controlTables(design: Design, analysis: Analysis, datapath: Fold
       latencyAdded,
       inputs,
       units,
-      muxes,
-      registerTables,
-      outputs,
+      muxes: muxTables(design, g, units, operands, route),
+      registerTables: registerLoadTables(N, registers, placement, variables.vars),
+      outputs: outputControls(dp, operands, route, variables.signalOf),
     },
   };
 }

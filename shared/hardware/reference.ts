@@ -1,10 +1,12 @@
 // Direct evaluation of the unfolded DFG, iteration by iteration (the synchronous data-flow
 // reading of a DFG). Convention: zero initial state: every value before iteration 0 is zero.
 import { applyOp, type Arithmetic, type Coefficient } from './arith';
-import type { Design, DfgNode, Diagnostic, NodeOp } from '../types';
+import { bucket, stronglyConnected } from '../graphAlgorithms';
+import { NODE_OPS, nodeOp, UNARY_OPS } from '../design/operations';
+import type { Design, Diagnostic, NodeOp } from '../types';
 
-const OPS: readonly NodeOp[] = ['add', 'sub', 'mul', 'gain', 'neg', 'pass'];
-const UNARY: ReadonlySet<NodeOp> = new Set(['gain', 'neg', 'pass']);
+// The one resolver of a node's operation is the design stage's; re-exported for the hardware modules.
+export { nodeOp };
 
 /** The arithmetic of one node, with its operand edges in port order. */
 export interface NodeArithmetic {
@@ -42,15 +44,6 @@ export function operandOrder(design: Design, edgeIdx: number[]): number[] {
   });
   keyed.sort((a, b) => a.key - b.key || a.pos - b.pos);
   return keyed.map((k) => k.i);
-}
-
-/** The arithmetic of an operation node per docs/format.md, or null when the file gives none. */
-export function nodeOp(n: DfgNode, arity: number): NodeOp | null {
-  if (n.op) return n.op;
-  if ((OPS as readonly string[]).includes(n.kind)) {
-    return n.kind === 'mul' && arity === 1 && n.coefficient !== undefined ? 'gain' : (n.kind as NodeOp);
-  }
-  return null;
 }
 
 function diag(code: string, message: string, path: (string | number)[]): Diagnostic {
@@ -93,11 +86,11 @@ export function resolveArithmetic(design: Design): { graph: ResolvedGraph | null
     const op = nodeOp(n, operands.length);
     if (op === null) {
       diagnostics.push(
-        diag('sim-no-arithmetic', `node ${n.id} of kind ${n.kind} has no arithmetic: give it an op (add, sub, mul, gain, neg, pass) to simulate it or generate RTL`, ['nodes', i]),
+        diag('sim-no-arithmetic', `node ${n.id} of kind ${n.kind} has no arithmetic: give it an op (${NODE_OPS.join(', ')}) to simulate it or generate RTL`, ['nodes', i]),
       );
     } else if (operands.length === 0) {
       diagnostics.push(diag('sim-no-operands', `operation ${n.id} has no incoming edge, so it has nothing to compute`, ['nodes', i]));
-    } else if (UNARY.has(op) && operands.length !== 1) {
+    } else if (UNARY_OPS.has(op) && operands.length !== 1) {
       diagnostics.push(diag('sim-arity', `${op} node ${n.id} takes one operand but ${operands.length} edges feed it`, ['nodes', i]));
     } else if (op === 'gain' && coefficient === null) {
       diagnostics.push(diag('sim-no-coefficient', `gain node ${n.id} needs a coefficient`, ['nodes', i]));
@@ -105,27 +98,28 @@ export function resolveArithmetic(design: Design): { graph: ResolvedGraph | null
     return { id: n.id, kind: 'op', op, coefficient: op === 'gain' || op === 'mul' ? coefficient : null, operands };
   });
 
-  // Order by zero-delay edges (Kahn); a leftover node sits on a delay-free loop.
-  const indeg = new Array(nodes.length).fill(0);
-  const out: number[][] = nodes.map(() => []);
+  // Order by zero-delay edges: their strongly connected components come in reverse topological
+  // order; a component of two or more nodes, or a node feeding itself, is a delay-free loop.
+  const zeroFrom: number[] = [];
+  const zeroTo: number[] = [];
   for (const e of design.edges) {
     if (e.delays !== 0) continue;
     const f = index.get(e.from);
     const t = index.get(e.to);
     if (f === undefined || t === undefined) continue;
-    out[f].push(t);
-    indeg[t]++;
+    zeroFrom.push(f);
+    zeroTo.push(t);
   }
-  const order: number[] = [];
-  const queue: number[] = [];
-  indeg.forEach((d, i) => d === 0 && queue.push(i));
-  while (queue.length) {
-    const v = queue.shift()!;
-    order.push(v);
-    for (const t of out[v]) if (--indeg[t] === 0) queue.push(t);
-  }
-  if (order.length < nodes.length) {
-    const stuck = nodes.filter((_, i) => indeg[i] > 0).map((n) => n.id);
+  const { start, items } = bucket(nodes.length, Int32Array.from(zeroFrom));
+  const { comp, count } = stronglyConnected(nodes.length, start, items, Int32Array.from(zeroTo));
+  const size = new Int32Array(count);
+  for (let v = 0; v < nodes.length; v++) size[comp[v]]++;
+  const onLoop = new Uint8Array(count);
+  for (let c = 0; c < count; c++) if (size[c] > 1) onLoop[c] = 1;
+  zeroFrom.forEach((f, k) => f === zeroTo[k] && (onLoop[comp[f]] = 1));
+  const order = nodes.map((_, i) => i).sort((a, b) => comp[b] - comp[a] || a - b);
+  const stuck = nodes.filter((_, i) => onLoop[comp[i]]).map((n) => n.id);
+  if (stuck.length) {
     diagnostics.push(diag('sim-delay-free-loop', `a loop without delays runs through ${stuck.slice(0, 5).join(', ')}: it cannot be evaluated`, ['edges']));
   }
   return { graph: diagnostics.length ? null : { nodes, index, order }, diagnostics };

@@ -11,19 +11,55 @@ import type {
   Rules,
   Violation,
 } from '../types';
-
-export const RULE_NAMES: readonly RuleName[] = [
-  'negative_delays',
-  'min_utilization',
-  'min_unit_utilization',
-  'max_registers',
-];
+import { closest } from '../didYouMean';
 
 export const NEGATIVE_DELAY_POLICIES: readonly NegativeDelayPolicy[] = ['fail', 'retime', 'warn'];
 
-/** What applies when neither the team nor the repository says anything. */
+/** What a rule accepts: the subset of JSON Schema (draft-07) that the rules mapping uses. */
+type RuleSchema =
+  | { enum: readonly string[]; description?: string }
+  | { type: 'number' | 'integer'; minimum: number; maximum?: number; description?: string };
+
 /** Largest max_registers: more registers than any design within the format's bounds can need is no limit. */
 export const MAX_REGISTERS_RULE = 2_147_483_647;
+
+/**
+ * The one JSON Schema of the rules mapping: the server checks team rules with it (ajv), and
+ * checkRules reads the same limits for the config file, so both accept the same values.
+ */
+export const RULES_SCHEMA: {
+  type: 'object';
+  additionalProperties: false;
+  properties: Record<RuleName, RuleSchema>;
+} = {
+  type: 'object',
+  additionalProperties: false,
+  properties: {
+    negative_delays: { enum: NEGATIVE_DELAY_POLICIES },
+    min_utilization: { type: 'number', minimum: 0, maximum: 1, description: 'a share of the available slots' },
+    min_unit_utilization: { type: 'number', minimum: 0, maximum: 1, description: 'a share of the available slots' },
+    max_registers: { type: 'integer', minimum: 0, maximum: MAX_REGISTERS_RULE },
+  },
+};
+
+export const RULE_NAMES = Object.keys(RULES_SCHEMA.properties) as readonly RuleName[];
+
+function accepts(spec: RuleSchema, value: unknown): boolean {
+  if ('enum' in spec) return typeof value === 'string' && spec.enum.includes(value);
+  if (typeof value !== 'number' || !Number.isFinite(value)) return false;
+  if (spec.type === 'integer' && !Number.isInteger(value)) return false;
+  return value >= spec.minimum && (spec.maximum === undefined || value <= spec.maximum);
+}
+
+/** What a rule accepts, in words: `one of fail, retime, warn`, `a number from 0 to 1`, `an integer >= 0`. */
+function expected(spec: RuleSchema): string {
+  if ('enum' in spec) return `one of ${spec.enum.join(', ')}`;
+  const what = spec.type === 'integer' ? 'an integer' : 'a number';
+  const range = spec.maximum === undefined ? `${what} >= ${spec.minimum}` : `${what} from ${spec.minimum} to ${spec.maximum}`;
+  return spec.description ? `${range}, ${spec.description}` : range;
+}
+
+/** What applies when neither the team nor the repository says anything. */
 
 export const DEFAULT_RULES: Rules = { negative_delays: 'retime' };
 
@@ -53,37 +89,17 @@ export function checkRules(raw: unknown, basePath: (string | number)[] = ['rules
   }
   for (const [key, value] of Object.entries(raw as Record<string, unknown>)) {
     const path = [...basePath, key];
-    switch (key) {
-      case 'negative_delays':
-        if (typeof value === 'string' && (NEGATIVE_DELAY_POLICIES as readonly string[]).includes(value)) {
-          rules.negative_delays = value as NegativeDelayPolicy;
-        } else {
-          problems.push({ path, message: `negative_delays must be one of fail, retime, warn (got ${show(value)})` });
-        }
-        break;
-      case 'min_utilization':
-      case 'min_unit_utilization':
-        if (typeof value === 'number' && Number.isFinite(value) && value >= 0 && value <= 1) {
-          rules[key] = value;
-        } else {
-          problems.push({ path, message: `${key} must be a number from 0 to 1, a share of the available slots (got ${show(value)})` });
-        }
-        break;
-      case 'max_registers':
-        // 1e308 is an integer to JavaScript but no register count: only exact integers are read.
-        if (typeof value === 'number' && Number.isSafeInteger(value) && value >= 0 && value <= MAX_REGISTERS_RULE) {
-          rules.max_registers = value;
-        } else {
-          problems.push({ path, message: `max_registers must be a whole number from 0 to ${MAX_REGISTERS_RULE.toLocaleString('en-US')} (got ${show(value)})` });
-        }
-        break;
-      default: {
-        const near = closest(key, RULE_NAMES);
-        problems.push({
-          path,
-          message: `unknown rule "${key}"${near ? `; did you mean "${near}"?` : ''} (known: ${RULE_NAMES.join(', ')})`,
-        });
-      }
+    const spec = Object.hasOwn(RULES_SCHEMA.properties, key) ? RULES_SCHEMA.properties[key as RuleName] : undefined;
+    if (!spec) {
+      const near = closest(key, RULE_NAMES);
+      problems.push({
+        path,
+        message: `unknown rule "${key}"${near ? `; did you mean "${near}"?` : ''} (known: ${RULE_NAMES.join(', ')})`,
+      });
+    } else if (accepts(spec, value)) {
+      (rules as Record<string, unknown>)[key] = value;
+    } else {
+      problems.push({ path, message: `${key} must be ${expected(spec)} (got ${show(value)})` });
     }
   }
   return { rules, problems };
@@ -302,32 +318,4 @@ function show(v: unknown): string {
   if (v === null || v === undefined) return 'nothing';
   if (typeof v === 'object') return Array.isArray(v) ? 'a list' : 'a mapping';
   return String(v);
-}
-
-/** Closest known name within edit distance 3, for "did you mean". */
-function closest(word: string, names: readonly string[]): string | null {
-  let best: string | null = null;
-  let bestD = 4;
-  for (const n of names) {
-    const d = editDistance(word.toLowerCase(), n);
-    if (d < bestD) {
-      bestD = d;
-      best = n;
-    }
-  }
-  return best;
-}
-
-function editDistance(a: string, b: string): number {
-  const row = Array.from({ length: b.length + 1 }, (_, j) => j);
-  for (let i = 1; i <= a.length; i++) {
-    let prev = row[0];
-    row[0] = i;
-    for (let j = 1; j <= b.length; j++) {
-      const tmp = row[j];
-      row[j] = Math.min(row[j] + 1, row[j - 1] + 1, prev + (a[i - 1] === b[j - 1] ? 0 : 1));
-      prev = tmp;
-    }
-  }
-  return row[b.length];
 }

@@ -1,7 +1,7 @@
 // The report formats of `pleat check`, read back by tools outside the project: JSON.parse for the
-// JSON report, Python's standard XML parser (expat) for JUnit, and the workflow-command syntax
+// JSON report, fast-xml-parser (npm registry) for JUnit, and the workflow-command syntax
 // that GitHub documents for Actions logs.
-import { spawnSync } from 'node:child_process';
+import { XMLParser, XMLValidator } from 'fast-xml-parser';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { escapeData, escapeProperty } from '../../cli/format/github';
 import { cleanupTemps, ensureBuilt, failingDesign, invalidDesign, passingDesign, pleat, tempDir, write } from './helpers';
@@ -67,34 +67,46 @@ describe('--format json', () => {
   });
 });
 
-/** Parses XML with Python's expat-based ElementTree and returns what the test needs. */
-function parseXml(xml: string): { ok: boolean; error?: string; suites?: { name: string; attrs: Record<string, string>; cases: number; failures: number; errors: number; skipped: number; failureTexts: string[]; errorTexts: string[] }[]; root?: Record<string, string> } {
-  const script = `
-import sys, json, xml.etree.ElementTree as ET
-try:
-    root = ET.fromstring(sys.stdin.buffer.read())
-except ET.ParseError as e:
-    print(json.dumps({"ok": False, "error": str(e)})); sys.exit(0)
-suites = []
-for s in root.iter("testsuite"):
-    cases = s.findall("testcase")
-    suites.append({"name": s.get("name"), "attrs": dict(s.attrib), "cases": len(cases),
-      "failures": sum(len(c.findall("failure")) for c in cases),
-      "errors": sum(len(c.findall("error")) for c in cases),
-      "skipped": sum(len(c.findall("skipped")) for c in cases),
-      "failureTexts": [f.get("message") + "|" + (f.text or "") for c in cases for f in c.findall("failure")],
-      "errorTexts": [f.get("message") + "|" + (f.text or "") for c in cases for f in c.findall("error")]})
-print(json.dumps({"ok": root.tag == "testsuites", "root": dict(root.attrib), "suites": suites}))
-`;
-  const r = spawnSync('python3', ['-c', script], { input: xml, encoding: 'utf8' });
-  if (r.status !== 0) throw new Error(`python3 failed: ${r.stderr}`);
-  return JSON.parse(r.stdout);
+type Suite = { name: string; attrs: Record<string, string>; cases: number; failures: number; errors: number; skipped: number; failureTexts: string[]; errorTexts: string[] };
+type XmlElement = { '@'?: Record<string, string>; '#text'?: string; [child: string]: unknown };
+
+/** Parses XML with fast-xml-parser (npm registry, its validator checks well-formedness) and returns what the test needs. */
+function parseXml(xml: string): { ok: boolean; error?: string; suites?: Suite[]; root?: Record<string, string> } {
+  const valid = XMLValidator.validate(xml);
+  if (valid !== true) return { ok: false, error: `${valid.err.msg} (line ${valid.err.line})` };
+  const parser = new XMLParser({
+    ignoreAttributes: false,
+    attributeNamePrefix: '',
+    attributesGroupName: '@',
+    parseAttributeValue: false,
+    parseTagValue: false,
+    trimValues: false,
+    isArray: (name) => ['testsuite', 'testcase', 'failure', 'error', 'skipped'].includes(name),
+  });
+  const doc = parser.parse(xml) as Record<string, XmlElement>;
+  const root = doc.testsuites;
+  if (!root) return { ok: false, root: {} };
+  const kids = (e: XmlElement, name: string) => ((e[name] as XmlElement[] | undefined) ?? []).map((k) => (typeof k === 'string' ? { '#text': k } : k));
+  const text = (e: XmlElement) => `${e['@']?.message ?? ''}|${e['#text'] ?? ''}`;
+  const suites = kids(root, 'testsuite').map((s): Suite => {
+    const cases = kids(s, 'testcase');
+    const all = (name: string) => cases.flatMap((c) => kids(c, name));
+    return {
+      name: s['@']?.name ?? '',
+      attrs: s['@'] ?? {},
+      cases: cases.length,
+      failures: all('failure').length,
+      errors: all('error').length,
+      skipped: all('skipped').length,
+      failureTexts: all('failure').map(text),
+      errorTexts: all('error').map(text),
+    };
+  });
+  return { ok: true, root: root['@'] ?? {}, suites };
 }
 
-const hasPython = spawnSync('python3', ['-c', 'import xml.etree.ElementTree'], { encoding: 'utf8' }).status === 0;
-
 describe('--format junit', () => {
-  it.skipIf(!hasPython)('is well-formed XML with one testsuite per design file and consistent counts', async () => {
+  it('is well-formed XML with one testsuite per design file and consistent counts', async () => {
     const r = await pleat(['check', '.', '--format', 'junit'], { cwd: dir });
     expect(r.exitCode).toBe(2);
     expect(r.stdout.startsWith('<?xml version="1.0" encoding="UTF-8"?>')).toBe(true);
@@ -120,7 +132,7 @@ describe('--format junit', () => {
     expect(suites[2].errorTexts[0]).toContain('c-invalid.fold.yaml:9:13: error unknown-node');
   });
 
-  it.skipIf(!hasPython)('escapes markup characters in messages', async () => {
+  it('escapes markup characters in messages', async () => {
     const d = tempDir();
     write(d, 'odd.fold.yaml', invalidDesign().replace('{ from: ghost, to: y }', '{ from: "a<b&\\"c\\"]]>", to: y }'));
     const r = await pleat(['check', 'odd.fold.yaml', '--format', 'junit'], { cwd: d });

@@ -5,6 +5,7 @@ import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { execa } from 'execa';
+import { vi } from 'vitest';
 
 export const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../..');
 export const BIN = path.join(ROOT, 'bin/pleat.js');
@@ -38,22 +39,22 @@ export async function ensureBuilt(): Promise<void> {
   if (isFresh()) return;
   const lock = path.join(ROOT, '.tmp', 'cli-build.lock');
   mkdirSync(path.dirname(lock), { recursive: true });
-  const deadline = Date.now() + 120_000;
-  for (;;) {
-    try {
-      mkdirSync(lock);
-      break;
-    } catch {
-      // Another test file is building; a lock older than two minutes is left over from a crash.
+  await vi.waitFor(
+    () => {
       try {
-        if (Date.now() - statSync(lock).mtimeMs > 120_000) rmSync(lock, { recursive: true, force: true });
-      } catch {
-        /* gone meanwhile */
+        mkdirSync(lock);
+      } catch (err) {
+        // Another test file is building; a lock older than two minutes is left over from a crash.
+        try {
+          if (Date.now() - statSync(lock).mtimeMs > 120_000) rmSync(lock, { recursive: true, force: true });
+        } catch {
+          /* gone meanwhile */
+        }
+        throw new Error(`waiting for another CLI build (${(err as Error).message})`);
       }
-      if (Date.now() > deadline) throw new Error('timed out waiting for another CLI build');
-      await new Promise((r) => setTimeout(r, 200));
-    }
-  }
+    },
+    { timeout: 150_000, interval: 200 },
+  );
   try {
     if (!isFresh()) await execa(process.execPath, ['scripts/build.mjs', '--cli-only'], { cwd: ROOT });
   } finally {

@@ -3,7 +3,8 @@
 // checked on random rule sets with fast-check.
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { applyRules, checkRules, mergeRules } from '../../shared/report/rules';
+import { Ajv } from 'ajv';
+import { applyRules, checkRules, mergeRules, RULES_SCHEMA } from '../../shared/report/rules';
 import { buildReport, designReport, exitCodeOf, worstStatus } from '../../shared/report/report';
 import type { Analysis, EffectiveRules, Rules } from '../../shared/types';
 
@@ -100,6 +101,23 @@ describe('checkRules', () => {
     const { problems } = checkRules({ negative_delays: 'maybe', min_utilization: 75, max_registers: 2.5, min_utilisation: 0.5 });
     expect(problems.map((p) => p.path.join('.'))).toEqual(['rules.negative_delays', 'rules.min_utilization', 'rules.max_registers', 'rules.min_utilisation']);
     expect(problems[3].message).toContain('did you mean "min_utilization"?');
+  });
+
+  it('accepts exactly what ajv accepts under the rules schema the server uses', () => {
+    // ajv (npm registry) is the outside judge of the one JSON Schema of rules.
+    const validate = new Ajv({ strict: false }).compile(RULES_SCHEMA);
+    const value = fc.oneof(
+      fc.constantFrom('fail', 'retime', 'warn', 'maybe', '', null, true, [], {}),
+      fc.double({ min: -2, max: 70, noNaN: true }),
+      fc.integer({ min: -5, max: 100 }),
+    );
+    const key = fc.constantFrom('negative_delays', 'min_utilization', 'min_unit_utilization', 'max_registers', 'max_register');
+    fc.assert(
+      fc.property(fc.dictionary(key, value, { maxKeys: 4 }), (raw) => {
+        expect(checkRules(raw).problems.length === 0).toBe(validate(raw));
+      }),
+      { numRuns: 2000 },
+    );
   });
 });
 

@@ -165,6 +165,46 @@ folding: { factor: 1, sets: { M: [m], A: [n] } }
   });
 });
 
+describe('evaluation order of the reference', () => {
+  it('puts every zero-delay edge forward, and names exactly the nodes of a delay-free loop', () => {
+    // Brute-force reference written here: a delay-free loop is a circuit of zero-delay edges, found
+    // by closing zero-delay reachability transitively (common practice, no source).
+    const d = load(`format: pleat/1
+name: ordered
+units: [{ id: A, kind: add, stages: 0 }]
+nodes:
+  - { id: y, kind: output }
+  - { id: c, kind: add }
+  - { id: b, kind: add }
+  - { id: a, kind: add }
+  - { id: x, kind: input }
+edges:
+  - { from: x, to: a }
+  - { from: a, to: b }
+  - { from: b, to: c }
+  - { from: c, to: b, delays: 1 }
+  - { from: c, to: y }
+folding: { factor: 3, sets: { A: [a, b, c] } }
+`);
+    const ok = resolveArithmetic(d);
+    expect(ok.diagnostics).toEqual([]);
+    const at = new Map(ok.graph!.order.map((v, k) => [d.nodes[v].id, k]));
+    for (const e of d.edges) if (e.delays === 0) expect(at.get(e.from)!).toBeLessThan(at.get(e.to)!);
+
+    // Validation refuses such a file, so the loop is made in memory: c -> b loses its delay.
+    const looped: Design = { ...d, edges: d.edges.map((e) => (e.from === 'c' && e.to === 'b' ? { ...e, delays: 0 } : e)) };
+    const ids = looped.nodes.map((n) => n.id);
+    const reach = ids.map((f) => ids.map((t) => looped.edges.some((e) => e.delays === 0 && e.from === f && e.to === t)));
+    for (let k = 0; k < ids.length; k++) for (let i = 0; i < ids.length; i++) for (let j = 0; j < ids.length; j++) if (reach[i][k] && reach[k][j]) reach[i][j] = true;
+    const onLoop = ids.filter((_, i) => reach[i][i]);
+    expect(onLoop.sort()).toEqual(['b', 'c']);
+    const bad = resolveArithmetic(looped);
+    expect(bad.graph).toBeNull();
+    expect(bad.diagnostics.map((x) => x.code)).toEqual(['sim-delay-free-loop']);
+    expect(bad.diagnostics[0].message).toBe(`a loop without delays runs through ${ids.filter((id) => onLoop.includes(id)).join(', ')}: it cannot be evaluated`);
+  });
+});
+
 describe('fixed-point arithmetic of the RTL', () => {
   const ar = fixedArithmetic({ width: 16, coefFrac: 14 });
 

@@ -1,6 +1,6 @@
 // Each demo role signs in through the web app and finds exactly what docs/roles.md's role table
 // gives it; what the pages do not offer, the server refuses too (checked from the same page).
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
 import { ensureChromium, ensureWebBuild, openBrowser, signIn, type Session } from './browser';
 import { demoAccount, demoProject, type DemoRole } from './demo';
 import { startWebServer, type WebServer } from './server';
@@ -146,14 +146,16 @@ describe('an invitation', () => {
     await page.getByRole('heading', { name: 'You are signed out' }).waitFor();
 
     // The fake SMTP server caught the mail; the link in it is the only way in.
-    let link: string | undefined;
-    for (let i = 0; i < 100 && !link; i++) {
-      const mail = web.smtp.messages.find((m) => m.to.includes(email));
-      link = mail?.raw.replace(/=\r?\n/g, '').match(/https?:\/\/[^\s"<>]+\/invitations\/[A-Za-z0-9_-]+/)?.[0];
-      if (!link) await new Promise((r) => setTimeout(r, 100));
-    }
-    expect(link, 'invitation e-mail with a link').toBeTruthy();
-    await page.goto(link!);
+    const link = await vi.waitFor(
+      () => {
+        const mail = web.smtp.messages.find((m) => m.to.includes(email));
+        const found = mail?.raw.replace(/=\r?\n/g, '').match(/https?:\/\/[^\s"<>]+\/invitations\/[A-Za-z0-9_-]+/)?.[0];
+        expect(found, 'invitation e-mail with a link').toBeTruthy();
+        return found!;
+      },
+      { timeout: 10_000, interval: 100 },
+    );
+    await page.goto(link);
     await page.getByText(`${email} is invited to be engineer in ${demoProject.name}`).waitFor();
     await page.getByLabel('Your name').fill('Nia New');
     await page.getByLabel('Choose a password').fill('a long enough password');

@@ -6,8 +6,10 @@ import type { Invitation, Role, User } from '../../db/models';
 import { hashSecret, newSecret } from '../../http/auth';
 import { afterResponse } from '../../mail/mailer';
 import { invitationMessage } from '../../mail/messages';
+import type { Sent } from '../../http/present';
+import type { Invitation as ApiInvitation } from '../../../shared/report/api';
 
-export function presentInvitation(inv: Invitation) {
+export function presentInvitation(inv: Invitation): Sent<ApiInvitation> {
   return {
     id: inv.id, email: inv.email, role: inv.role, isAdmin: inv.isAdmin,
     project: inv.project ? { slug: inv.project.slug, name: inv.project.name } : null,

@@ -10,7 +10,8 @@ import type { Membership, Project, Role, User as UserRow } from '../../db/models
 import { projectAccess } from '../../http/access';
 import { hashSecret, requireUser, setSessionCookie } from '../../http/auth';
 import { HttpError, allow, badRequest, conflict, gone, notFound } from '../../http/errors';
-import { normalEmail, publicUser } from '../../http/present';
+import { normalEmail, publicUser, type Sent } from '../../http/present';
+import type { Member } from '../../../shared/report/api';
 import { checker, idParam } from '../../http/validate';
 import { invite, presentInvitation } from './invitations';
 import { canAcceptInvitation, canManageMembers } from './policy';
@@ -32,7 +33,7 @@ const checkAccept = checker<{ name?: string; password?: string }>({
   properties: { name: { type: 'string', minLength: 1, maxLength: 200 }, password: passwordSchema },
 });
 
-function presentMember(m: Membership) {
+function presentMember(m: Membership): Sent<Member> {
   return { user: publicUser(m.user!), role: m.role, since: m.createdAt };
 }
 

@@ -2,34 +2,23 @@
 import express, { Router } from 'express';
 import { Op } from 'sequelize';
 import type { RuleName, Rules } from '../../../shared/types';
+import type { RuleHistory, TeamRules as TeamRulesView } from '../../../shared/report/api';
+import { RULE_NAMES, RULES_SCHEMA } from '../../../shared/report/rules';
 import type { AppContext } from '../../context';
 import type { Project } from '../../db/models';
 import { projectAccess } from '../../http/access';
 import { requireUser } from '../../http/auth';
 import { allow, badRequest } from '../../http/errors';
+import { send } from '../../http/present';
 import { checker } from '../../http/validate';
 import { checkRules } from '../../../shared/report/rules';
 import { canEditRules, canReadRuleHistory, canReadRules } from './policy';
 
 const json = express.json({ limit: '16kb' });
 
-export const rulesSchema = {
-  type: 'object',
-  additionalProperties: false,
-  properties: {
-    negative_delays: { enum: ['fail', 'retime', 'warn'] },
-    min_utilization: { type: 'number', minimum: 0, maximum: 1 },
-    min_unit_utilization: { type: 'number', minimum: 0, maximum: 1 },
-    // Beyond 2^53 a number no longer names one integer (1e308 passes `integer`); no datapath has that many registers.
-    max_registers: { type: 'integer', minimum: 0, maximum: Number.MAX_SAFE_INTEGER },
-  },
-} as const;
-
 const checkPut = checker<{ rules: Rules }>({
-  type: 'object', required: ['rules'], additionalProperties: false, properties: { rules: rulesSchema },
+  type: 'object', required: ['rules'], additionalProperties: false, properties: { rules: RULES_SCHEMA },
 });
-
-const RULE_NAMES: RuleName[] = ['negative_delays', 'min_utilization', 'min_unit_utilization', 'max_registers'];
 
 export function ruleRoutes(ctx: AppContext): Router {
   const router = Router();
@@ -48,7 +37,7 @@ export function ruleRoutes(ctx: AppContext): Router {
   router.get('/api/projects/:slug/rules', async (req, res) => {
     const { project, role } = await projectAccess(ctx, req, { slug: req.params.slug });
     allow(canReadRules(role));
-    res.json(await current(project));
+    send<TeamRulesView>(res, await current(project));
   });
 
   router.put('/api/projects/:slug/rules', json, async (req, res) => {
@@ -71,7 +60,7 @@ export function ruleRoutes(ctx: AppContext): Router {
       if (changed.length) await row.update({ rules, updatedBy: user.id }, { transaction });
       return changed;
     });
-    res.json({ ...(await current(project)), changed: changes });
+    send<TeamRulesView & { changed: RuleName[] }>(res, { ...(await current(project)), changed: changes });
   });
 
   router.get('/api/projects/:slug/rules/history', async (req, res) => {
@@ -88,7 +77,7 @@ export function ruleRoutes(ctx: AppContext): Router {
       limit: limit + 1,
     });
     const page = rows.slice(0, limit);
-    res.json({
+    send<RuleHistory>(res, {
       changes: page.map((c) => ({
         id: c.id, rule: c.rule, oldValue: c.oldValue, newValue: c.newValue, at: c.createdAt,
         by: c.user ? { id: c.user.id, name: c.user.name } : null,

@@ -2,7 +2,8 @@
 // with its comparison), POST /api/projects/:slug/runs (CI upload).
 import express, { Router, type Request } from 'express';
 import { QueryTypes } from 'sequelize';
-import type { RunDesignRow } from '../../../shared/report/api';
+import type { RunDesignRow, RunListItem } from '../../../shared/report/api';
+import type { Sent } from '../../http/present';
 import type { Report } from '../../../shared/types';
 import type { AppContext } from '../../context';
 import type { Project } from '../../db/models';
@@ -24,7 +25,7 @@ function checkUpload(body: unknown): Report {
   return checked.report;
 }
 
-export function presentRun(r: RunRow) {
+export function presentRun(r: RunRow): Sent<Omit<RunListItem, 'designs'>> {
   return {
     id: r.id,
     branch: r.branch,

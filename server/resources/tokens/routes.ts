@@ -6,6 +6,8 @@ import { projectAccess } from '../../http/access';
 import { CI_TOKEN_PREFIX, hashSecret, newSecret, requireUser } from '../../http/auth';
 import { allow, notFound } from '../../http/errors';
 import { checker, idParam } from '../../http/validate';
+import type { Sent } from '../../http/present';
+import type { CiToken as ApiCiToken } from '../../../shared/report/api';
 import { canCreateToken, canListTokens, canRevokeToken } from './policy';
 
 const json = express.json({ limit: '16kb' });
@@ -17,7 +19,7 @@ const checkCreate = checker<{ name: string }>({
 /** Shown in lists so a lead can tell tokens apart: the token's first characters. */
 const PREFIX_LENGTH = CI_TOKEN_PREFIX.length + 6;
 
-function presentToken(t: CiToken) {
+function presentToken(t: CiToken): Sent<ApiCiToken> {
   return {
     id: t.id,
     name: t.name,

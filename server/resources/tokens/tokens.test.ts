@@ -43,13 +43,12 @@ describe('CI tokens', () => {
     const up = () => t.http().post(`/api/projects/${project.slug}/runs`).set('Authorization', `Bearer ${secret}`).send(makeReport());
     expect((await up()).status).toBe(201);
     // last_used_at is written off the request's path; wait until it shows.
-    let lastUsed = null;
-    for (let i = 0; i < 50 && !lastUsed; i++) {
-      const list = await t.http().get(`/api/projects/${project.slug}/tokens`).set(asLead());
-      lastUsed = list.body.tokens.find((x: { id: number }) => x.id === created.body.token.id).lastUsedAt;
-      if (!lastUsed) await new Promise((r) => setTimeout(r, 20));
-    }
-    expect(lastUsed).not.toBeNull();
+    await expect
+      .poll(async () => {
+        const list = await t.http().get(`/api/projects/${project.slug}/tokens`).set(asLead());
+        return list.body.tokens.find((x: { id: number }) => x.id === created.body.token.id).lastUsedAt;
+      }, { timeout: 5_000, interval: 20 })
+      .toBeTruthy();
     const revoked = await t.http().delete(`/api/projects/${project.slug}/tokens/${created.body.token.id}`).set(asLead());
     expect(revoked.status).toBe(200);
     expect(revoked.body.token.revokedAt).not.toBeNull();
