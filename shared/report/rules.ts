@@ -51,11 +51,12 @@ function accepts(spec: RuleSchema, value: unknown): boolean {
   return value >= spec.minimum && (spec.maximum === undefined || value <= spec.maximum);
 }
 
-/** What a rule accepts, in words: `one of fail, retime, warn`, `a number from 0 to 1`, `an integer >= 0`. */
+/** What a rule accepts, in words: `one of fail, retime, warn`, `a number from 0 to 1`, `a whole number from 0 to 2,147,483,647`. */
 function expected(spec: RuleSchema): string {
   if ('enum' in spec) return `one of ${spec.enum.join(', ')}`;
-  const what = spec.type === 'integer' ? 'an integer' : 'a number';
-  const range = spec.maximum === undefined ? `${what} >= ${spec.minimum}` : `${what} from ${spec.minimum} to ${spec.maximum}`;
+  const what = spec.type === 'integer' ? 'a whole number' : 'a number';
+  const n = (x: number) => x.toLocaleString('en-US');
+  const range = spec.maximum === undefined ? `${what} >= ${n(spec.minimum)}` : `${what} from ${n(spec.minimum)} to ${n(spec.maximum)}`;
   return spec.description ? `${range}, ${spec.description}` : range;
 }
 
