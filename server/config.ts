@@ -30,6 +30,23 @@ export interface Config {
   login: { windowMs: number; limit: number };
   trustProxy: boolean | number | string;
   invitationDays: number;
+  jobs: JobSettings;
+}
+
+/** The plan and sweep jobs (docs/server.md, section Jobs). */
+export interface JobSettings {
+  /** PostgreSQL schema of pg-boss's own tables. */
+  queueSchema: string;
+  /** Seconds a job may run past its own time limit before the queue counts its worker as lost. */
+  graceSeconds: number;
+  /** How often a worker's supervisor looks for jobs of lost workers (pg-boss maintenance), seconds. */
+  superviseSeconds: number;
+  /** How often an idle worker asks for work, seconds. */
+  pollSeconds: number;
+  /** How many more times a job whose worker was lost is tried. */
+  retries: number;
+  /** Tests only: a worker waits this long after taking a job, so a test can kill it mid-job. */
+  holdMs: number;
 }
 
 const MiB = 1024 * 1024;
@@ -90,6 +107,14 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env, overrides: Part
     login: { windowMs: num(env.PLEAT_LOGIN_WINDOW_MIN, 15) * 60_000, limit: num(env.PLEAT_LOGIN_LIMIT, 10) },
     trustProxy: trust === undefined ? false : trust === 'true' ? true : /^\d+$/.test(trust) ? Number(trust) : trust,
     invitationDays: num(env.PLEAT_INVITATION_DAYS, 7),
+    jobs: {
+      queueSchema: env.PLEAT_QUEUE_SCHEMA || (env.PLEAT_DB_SCHEMA ? `${env.PLEAT_DB_SCHEMA}_queue` : 'pleat_queue'),
+      graceSeconds: num(env.PLEAT_JOB_GRACE_S, 60),
+      superviseSeconds: num(env.PLEAT_QUEUE_SUPERVISE_S, 30),
+      pollSeconds: num(env.PLEAT_QUEUE_POLL_S, 2),
+      retries: num(env.PLEAT_JOB_RETRIES, 1),
+      holdMs: mode === 'test' ? num(env.PLEAT_TEST_JOB_HOLD_MS, 0) : 0,
+    },
     ...overrides,
   };
 }

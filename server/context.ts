@@ -1,6 +1,7 @@
 // What every route handler can reach: settings, the database, the mailer and a logger.
 import type { Config } from './config';
 import type { Db } from './db/index';
+import type { JobQueue } from './jobs/queue';
 import type { Mailer } from './mail/mailer';
 
 export interface AppContext {
@@ -8,4 +9,6 @@ export interface AppContext {
   db: Db;
   mail: Mailer;
   log: (msg: string) => void;
+  /** The plan and sweep job queue (started on first use). */
+  queue: JobQueue;
 }

@@ -4,11 +4,13 @@
 import type { Sequelize } from 'sequelize';
 import { Umzug, type MigrationParams, type UmzugStorage } from 'umzug';
 import * as m001 from './migrations/001-initial';
+import * as m002 from './migrations/002-jobs';
 
 export type Migration = (params: MigrationParams<Sequelize>) => Promise<unknown>;
 
 const MIGRATIONS: { name: string; up: Migration; down: Migration }[] = [
   { name: '001-initial', ...m001 },
+  { name: '002-jobs', ...m002 },
 ];
 
 /** Keeps applied migration names in a table of the connection's own schema (search_path). */
