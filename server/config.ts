@@ -45,7 +45,7 @@ export interface JobSettings {
   pollSeconds: number;
   /** How many more times a job whose worker was lost is tried. */
   retries: number;
-  /** Tests only: a worker waits this long after taking a job, so a test can kill it mid-job. */
+  /** Tests only: a worker waits this long after taking its first job, so a test can kill it mid-job. */
   holdMs: number;
 }
 

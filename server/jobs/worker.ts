@@ -39,11 +39,15 @@ export async function startWorker(config: Config, db: Db, planner: Planner, log:
   await boss.start();
   await ensureQueues(boss, config);
 
+  let held = false;
   const runOne = async (jobId: number) => {
     const claim = await claimJob(q, jobId, name);
     if (!claim) return;
     log(`job ${jobId}: attempt ${claim.attempt} (${claim.kind})${claim.previousLost ? ', after a lost attempt' : ''}`);
-    if (config.jobs.holdMs > 0) await new Promise((r) => setTimeout(r, config.jobs.holdMs));
+    if (config.jobs.holdMs > 0 && !held) {
+      held = true;
+      await new Promise((r) => setTimeout(r, config.jobs.holdMs));
+    }
 
     let cancelled = false;
     const deadline = Date.now() + (budgetSeconds(claim.kind, claim.params) + config.jobs.graceSeconds / 2) * 1000;
@@ -93,8 +97,14 @@ export async function startWorker(config: Config, db: Db, planner: Planner, log:
   };
 
   const poll = { batchSize: 1, pollingIntervalSeconds: config.jobs.pollSeconds };
+  // One job at a time per process. pg-boss stops waiting for a handler at the job's expiry and
+  // may hand this process the next job while the engine still runs the last one: it waits here.
+  let busy: Promise<void> = Promise.resolve();
   await boss.work<QueueMessage>(PLAN_QUEUE, poll, async ([job]) => {
-    if (job) await runOne(job.data.jobId);
+    if (!job) return;
+    const run = busy.then(() => runOne(job.data.jobId));
+    busy = run.catch(() => {});
+    await run;
   });
   await boss.work<QueueMessage>(LOST_QUEUE, poll, async ([job]) => {
     if (!job) return;
