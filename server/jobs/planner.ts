@@ -1,13 +1,8 @@
-// Where the worker finds the planning engine (shared/planning/). Loaded when a worker starts, so
-// the API process never loads it.
+// Where the worker finds the planning engine (shared/planning/). Imported by the worker only
+// (server/main.ts loads it for the `worker` sub-command), so the API process never loads it.
+import { planDesign, sweepDesign } from '../../shared/planning/index';
 import type { Planner } from './run';
 
 export async function loadPlanner(): Promise<Planner> {
-  // The engine lands on another branch; until it is merged this import names its entry point.
-  const specifier = '../../shared/planning/index';
-  const mod = (await import(/* @vite-ignore */ specifier)) as Partial<Planner>;
-  if (typeof mod.planDesign !== 'function' || typeof mod.sweepDesign !== 'function') {
-    throw new Error('the planning engine (shared/planning) does not export planDesign and sweepDesign');
-  }
-  return { planDesign: mod.planDesign, sweepDesign: mod.sweepDesign };
+  return { planDesign, sweepDesign };
 }

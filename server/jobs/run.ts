@@ -1,9 +1,8 @@
 // One plan or sweep, as a worker runs it: the design text in, the engine's answer out. No
 // database here; server/jobs/worker.ts does the claiming, progress writes and cancel checks.
-import { analyze } from '../../shared/analyze';
 import type { CurrentPlan, JobParams, JobResult } from '../../shared/api';
-import { withControl } from '../../shared/control';
 import { loadDesign } from '../../shared/load';
+import { evaluateDesign } from '../../shared/planning/index';
 import { withPlan } from '../../shared/plannedDesign';
 import type { Design, Unit } from '../../shared/types';
 import { highsSolver } from '../../solvers/highs';
@@ -42,16 +41,14 @@ export function unitsFor(design: Design, counts: Record<string, number> | undefi
   return out;
 }
 
-/** The design's own plan, measured by the checking engine, when its sets are complete. */
+/** The design's own plan, measured as the planner measures its plans, when its sets are complete. */
 function currentPlan(text: string, design: Design): CurrentPlan | null {
   if (Object.keys(design.folding.sets).length === 0) return null;
-  const full = loadDesign(text);
   const base: CurrentPlan = { factor: design.folding.factor, units: design.units, sets: design.folding.sets, objective: null };
+  const full = loadDesign(text);
   if (!full.design) return base;
-  const a = withControl(full.design, analyze(full.design));
-  if (!a.registers || !a.control) return base;
-  const muxInputs = a.control.muxes.reduce((n, m) => n + m.sources.length, 0);
-  return { ...base, objective: { registers: a.registers.minimum, muxInputs, latencyAdded: a.control.latencyAdded } };
+  const scored = evaluateDesign(full.design);
+  return { ...base, objective: scored.metrics };
 }
 
 export interface RunHooks {

@@ -13,9 +13,9 @@ import { bossOptions, ensureQueues, LOST_QUEUE, PLAN_QUEUE, type QueueMessage } 
 import { JobInputError, runJob, type Planner } from './run';
 import { cancelRequested, claimJob, failLostJob, finishAttempt, writeProgress } from './store';
 
-/** The engine's own budget for a job: the time limit per plan, times the factors of a sweep. */
-export function budgetSeconds(kind: 'plan' | 'sweep', params: JobParams): number {
-  return params.timeLimitSeconds * (kind === 'sweep' ? Math.max(1, params.factors?.length ?? 1) : 1);
+/** The engine's own budget for a job: its time limit (a sweep shares it among its factors). */
+export function budgetSeconds(_kind: 'plan' | 'sweep', params: JobParams): number {
+  return params.timeLimitSeconds;
 }
 
 /** After budget + grace/2 the worker stops the engine itself; after budget + grace the queue counts the worker as lost. */
@@ -40,9 +40,9 @@ export async function startWorker(config: Config, db: Db, planner: Planner, log:
   await ensureQueues(boss, config);
 
   let held = false;
-  const runOne = async (jobId: number) => {
+  const runOne = async (jobId: number): Promise<'done' | 'nothing' | 'superseded'> => {
     const claim = await claimJob(q, jobId, name);
-    if (!claim) return;
+    if (!claim) return 'nothing';
     log(`job ${jobId}: attempt ${claim.attempt} (${claim.kind})${claim.previousLost ? ', after a lost attempt' : ''}`);
     if (config.jobs.holdMs > 0 && !held) {
       held = true;
@@ -79,6 +79,7 @@ export async function startWorker(config: Config, db: Db, planner: Planner, log:
         ? await finishAttempt(q, jobId, claim.attempt, { status: 'cancelled' })
         : await finishAttempt(q, jobId, claim.attempt, { status: 'done', result });
       log(`job ${jobId}: attempt ${claim.attempt} ${won ? (cancelled ? 'cancelled' : 'done') : 'discarded (a later attempt took over)'}`);
+      return won ? 'done' : 'superseded';
     } catch (err) {
       await writing;
       const e = err as Error;
@@ -90,23 +91,45 @@ export async function startWorker(config: Config, db: Db, planner: Planner, log:
             ? `The job ran past its time limit (${budgetSeconds(claim.kind, claim.params)} s) and was stopped.`
             : `The planner failed: ${e.message}`;
       if (message && !(err instanceof JobInputError)) log(`job ${jobId}: ${e.stack ?? e.message}`);
-      await finishAttempt(q, jobId, claim.attempt, message ? { status: 'failed', error: message } : { status: 'cancelled' });
+      const won = await finishAttempt(q, jobId, claim.attempt, message ? { status: 'failed', error: message } : { status: 'cancelled' });
+      return won ? 'done' : 'superseded';
     } finally {
       for (const t of timers) clearInterval(t);
     }
   };
 
-  const poll = { batchSize: 1, pollingIntervalSeconds: config.jobs.pollSeconds };
-  // One job at a time per process. pg-boss stops waiting for a handler at the job's expiry and
-  // may hand this process the next job while the engine still runs the last one: it waits here.
-  let busy: Promise<void> = Promise.resolve();
-  await boss.work<QueueMessage>(PLAN_QUEUE, poll, async ([job]) => {
-    if (!job) return;
-    const run = busy.then(() => runOne(job.data.jobId));
-    busy = run.catch(() => {});
-    await run;
+  // Our own fetch loop, one job at a time: pg-boss's work() stops waiting for a handler at the
+  // job's expiry and fetches the next while the engine still runs; here a busy worker takes
+  // nothing new, and one whose attempt was superseded leaves the queue's record alone.
+  let stopping = false;
+  let wake: (() => void) | null = null;
+  const nap = () => new Promise<void>((resolve) => {
+    const timer = setTimeout(resolve, config.jobs.pollSeconds * 1000);
+    wake = () => { clearTimeout(timer); resolve(); };
   });
-  await boss.work<QueueMessage>(LOST_QUEUE, poll, async ([job]) => {
+  const loop = (async () => {
+    while (!stopping) {
+      let job: PgBoss.Job<QueueMessage> | undefined;
+      try {
+        [job] = await boss.fetch<QueueMessage>(PLAN_QUEUE, { batchSize: 1 });
+      } catch (err) {
+        log(`job queue: fetch failed: ${(err as Error).message}`);
+      }
+      if (!job) {
+        await nap();
+        continue;
+      }
+      try {
+        const outcome = await runOne(job.data.jobId);
+        if (outcome !== 'superseded') await boss.complete(PLAN_QUEUE, job.id);
+      } catch (err) {
+        // Our tables could not be written (the database went away): let the queue try again.
+        log(`job ${job.data.jobId}: ${(err as Error).message}`);
+        await boss.fail(PLAN_QUEUE, job.id, { message: (err as Error).message }).catch(() => {});
+      }
+    }
+  })();
+  await boss.work<QueueMessage>(LOST_QUEUE, { batchSize: 1, pollingIntervalSeconds: config.jobs.pollSeconds }, async ([job]) => {
     if (!job) return;
     const tries = config.jobs.retries + 1;
     await failLostJob(q, job.data.jobId,
@@ -116,7 +139,12 @@ export async function startWorker(config: Config, db: Db, planner: Planner, log:
   log(`worker ${name} takes jobs from ${config.jobs.queueSchema}.${PLAN_QUEUE}`);
   return {
     name,
-    // Graceful: a job in hand may finish; past the timeout pg-boss fails it and the queue retries it.
-    stop: () => boss.stop({ graceful: true, timeout: 30_000, wait: true, close: true }),
+    // A job in hand may finish (up to 30 s); one that does not is left to expire and be retried.
+    async stop() {
+      stopping = true;
+      (wake as (() => void) | null)?.();
+      await Promise.race([loop, new Promise((r) => setTimeout(r, 30_000).unref())]);
+      await boss.stop({ graceful: false, wait: true, close: true });
+    },
   };
 }
