@@ -5,6 +5,7 @@ import type { Comparison, PublicUser, RunDesignRow } from '../../shared/api';
 import type { DesignReport, EffectiveRules, Report, Rules, Status } from '../../shared/types';
 
 export type { ApiErrorBody, Basis, Comparison, DesignDelta, Metric, PublicUser, Regression, RunDesignRow } from '../../shared/api';
+export type { CurrentPlan, JobAttempt, JobDetail, JobKind, JobObjective, JobPlan, JobPlanMetrics, JobProgress, JobResult, JobStatus, JobSummary, JobSweepRow, JobUnit } from '../../shared/api';
 
 export type Role = 'lead' | 'engineer' | 'viewer';
 /** The caller's role as the server reports it per project: 'admin' for admins. */
