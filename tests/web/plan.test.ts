@@ -12,7 +12,7 @@ import { QueryTypes } from 'sequelize';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { JobResult } from '../../shared/api';
 import { startWorkerProcess, type WorkerProcess } from '../../server/test/workers';
-import { ensureChromium, ensureWebBuild, openBrowser, signIn, type Session } from './browser';
+import { ensureChromium, ensureWebBuild, openBrowser, screenshot, signIn, type Session } from './browser';
 import { demoAccount, demoProject } from './demo';
 import { ROOT, startWebServer, type WebServer } from './server';
 
@@ -70,6 +70,29 @@ describe('plan a design from try a design', () => {
     const stored = Object.entries(row.result.plan.sets).flatMap(([unit, slots]) => slots.flatMap((n, t) => (n ? [{ node: n, unit, t }] : [])));
     expect([...placed].sort((a, b) => a.node.localeCompare(b.node))).toEqual([...stored].sort((a, b) => a.node.localeCompare(b.node)));
     await page.getByRole('button', { name: 'Download the planned design' }).waitFor();
+    await screenshot(page, 'job-plan');
+    expect(s.errors).toEqual([]);
+  }, 180_000);
+
+  it('sweeps N from a run of the demo and shows the table with one row per factor', async () => {
+    // The demo's runs carry their designs' text (server/seed/seed.ts), so a run's design can be swept.
+    const [run] = await web.db.sequelize.query<{ id: number; name: string }>(
+      `SELECT r.id, d->>'name' AS name FROM runs r, jsonb_array_elements(r.report->'designs') d WHERE d ? 'source' ORDER BY r.id LIMIT 1`,
+      { type: QueryTypes.SELECT },
+    );
+    const { page } = s;
+    await page.goto(`${web.url}/projects/${demoProject.slug}/runs/${run!.id}?design=${encodeURIComponent(run!.name)}`);
+    const actions = page.getByTestId('plan-actions');
+    await actions.getByLabel('N from').fill('2');
+    await actions.getByLabel('to').fill('4');
+    await actions.getByLabel('Time limit (s)').fill('3');
+    await actions.getByRole('button', { name: 'Sweep N' }).click();
+    await page.waitForURL(/\/jobs\/\d+$/);
+    await page.getByTestId('sweep-result').waitFor({ timeout: 90_000 });
+    const rows = page.getByTestId('sweep-result').locator('tbody tr');
+    expect(await rows.count()).toBe(3);
+    expect(await rows.locator('td:first-child').allTextContents()).toEqual(['2', '3', '4']);
+    await screenshot(page, 'job-sweep');
     expect(s.errors).toEqual([]);
   }, 180_000);
 });
