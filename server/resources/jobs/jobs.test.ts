@@ -108,8 +108,22 @@ describe('jobs run by a worker', () => {
   beforeAll(async () => {
     // Nothing queued before this point should run: the jobs above were for the routes only.
     await t.db.sequelize.query(`UPDATE jobs SET status = 'cancelled', cancel_requested = true WHERE status = 'queued'`);
-    worker = await startWorker(t.ctx.config, t.db, await loadPlanner(), () => {});
+    // The worker holds its first job a moment, so that the cancel below reaches a running job.
+    worker = await startWorker({ ...t.ctx.config, jobs: { ...t.ctx.config.jobs, holdMs: 1500 } }, t.db, await loadPlanner(), () => {});
   });
+
+  it('cancels a running job: its worker stops and keeps no result', async () => {
+    const res = await post({ kind: 'plan', design: { text: UNPLACED }, timeLimitSeconds: 2 });
+    const id = res.body.job.id;
+    await until(id, (j) => j.status === 'running');
+    const cancel = await t.http().post(`/api/jobs/${id}/cancel`).set(as(engineer));
+    expect(cancel.status).toBe(200);
+    expect(cancel.body.job).toMatchObject({ status: 'running', cancelRequested: true });
+    const j = await until(id, ended);
+    expect(j.status).toBe('cancelled');
+    expect(j.result).toBeNull();
+    expect(j.attempts.map((a) => a.outcome)).toEqual(['cancelled']);
+  }, 60_000);
 
   it('plans a design without sets into a file that the checking engine passes', async () => {
     const res = await post({ kind: 'plan', design: { text: UNPLACED, file: 'frontend.fold.yaml' }, timeLimitSeconds: 3 });
