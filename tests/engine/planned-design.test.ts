@@ -25,10 +25,11 @@ function lost(before: string, after: string): string[] {
 
 describe('withPlan', () => {
   const design = loadDesign(example).design!;
+  const cur = { factor: design.folding.factor, units: design.units };
   const sets = { ADD1: ['diff', null, 'acc', 'comp'], MUL1: ['pole', 'kcj', null, 'gain'] };
 
   it('replaces only the lines of folding.sets', () => {
-    const out = withPlan(example, { factor: 4, units: design.units, sets }, design)!;
+    const out = withPlan(example, { factor: 4, units: design.units, sets }, cur)!;
     const before = load(example) as Doc;
     const after = load(out) as Doc;
     expect(after.folding.sets).toEqual(sets);
@@ -41,7 +42,7 @@ describe('withPlan', () => {
   it('writes a new factor and new units in place', () => {
     const units = [...design.units, { id: 'MUL2', kind: 'mul', stages: 2 }];
     const wide = { ADD1: ['diff', null, 'acc', 'comp', null], MUL1: ['pole', 'kcj', null, null, null], MUL2: ['gain', null, null, null, null] };
-    const out = withPlan(example, { factor: 5, units, sets: wide }, design)!;
+    const out = withPlan(example, { factor: 5, units, sets: wide }, cur)!;
     const after = load(out) as Doc;
     expect(after.folding.factor).toBe(5);
     expect(after.units).toEqual(units);
@@ -56,11 +57,11 @@ describe('withPlan', () => {
 
   it('adds sets to a design that has none, keeping what follows folding:', () => {
     const bare = example.replace(/\n {2}sets:\n( {4}.*\n?)+/, '\n');
-    const out = withPlan(bare, { factor: 4, units: design.units, sets }, design)!;
+    const out = withPlan(bare, { factor: 4, units: design.units, sets }, cur)!;
     expect((load(out) as Doc).folding.sets).toEqual(sets);
     expect(lost(bare, out)).toEqual([]);
     const empty = bare.replace('  factor: 4\n', '  factor: 4\n  sets: {}   # to be planned\n');
-    const out2 = withPlan(empty, { factor: 4, units: design.units, sets }, design)!;
+    const out2 = withPlan(empty, { factor: 4, units: design.units, sets }, cur)!;
     expect((load(out2) as Doc).folding.sets).toEqual(sets);
   });
 });
