@@ -1,31 +1,656 @@
-// Method: mixed-integer model of rate-optimal static scheduling (Parhi and Messerschmitt 1989) and modulo
-// scheduling, with binding, retiming and lifetime-analysis registers; written in CPLEX LP format, solved by an injected solver.
-// Convention: placeholder until the model lands; it reports that it did not run.
-import type { PlanProblem } from './problem';
-import type { MilpSolver, PlanMetrics, PlanObjective } from './types';
+// Method: mixed-integer model in the style of the integer-programming formulations of rate-optimal static
+// scheduling (Parhi and Messerschmitt 1989) and of modulo scheduling: binding x[v,u,t], integer retiming, time-indexed lifetimes.
+// Convention: written in CPLEX LP format for an injected solver; lexicographic objective by weights; decoded plans are re-scored by the engine.
+import { IN, OP, OUT, setsFromAssignment, designWithSets, type Arc, type PlanProblem } from './problem';
+
+const mod = (a: number, n: number) => ((a % n) + n) % n;
+import { compareMetrics, evaluateDesign, primary } from './evaluate';
+import type { MilpSolution, MilpSolver, PlanMetrics, PlanObjective } from './types';
 
 export interface ExactOptions {
   objective: PlanObjective;
   solver: MilpSolver;
   timeLimitSeconds: number;
+  /** Best plan known (the heuristic's): sets the lifetime horizon, and is kept when the model does no better. */
   incumbent: PlanMetrics | null;
   incumbentSets: Record<string, (string | null)[]> | null;
   now: () => number;
   deadline: number;
   signal?: { aborted: boolean };
+  /** Most re-solves after a decoded plan scores worse in the engine than in the model; default 12. */
+  maxCuts?: number;
 }
 
 export interface ExactResult {
   sets: Record<string, (string | null)[]> | null;
   metrics: PlanMetrics | null;
-  /** Proven lower bound on the primary objective. */
+  /** Proven lower bound on the primary objective (null when the model gives none). */
   bound: number | null;
   provenOptimal: boolean;
+  /** The model proved that no plan exists. */
   infeasible: boolean;
   method: string;
   notes: string[];
 }
 
-export async function exactPlan(_p: PlanProblem, _o: ExactOptions): Promise<ExactResult> {
-  return { sets: null, metrics: null, bound: null, provenOptimal: false, infeasible: false, method: 'exact: not available', notes: ['the exact model is not built yet'] };
+export const EXACT_METHOD = 'exact: mixed-integer model';
+
+/** A linear row under construction: coefficients by column name. */
+class Row {
+  readonly terms = new Map<string, number>();
+  constant = 0;
+  add(name: string, c: number): this {
+    if (c !== 0) this.terms.set(name, (this.terms.get(name) ?? 0) + c);
+    return this;
+  }
+  addRow(other: Row, factor = 1): this {
+    for (const [k, v] of other.terms) this.add(k, v * factor);
+    this.constant += other.constant * factor;
+    return this;
+  }
+}
+
+/** The model, as text plus what decoding needs. */
+export interface ExactModel {
+  lp: string;
+  /** Column name of y[o,k,τ] (start of operation o on unit k at absolute cycle τ). */
+  x: (o: number, k: number, t: number) => string;
+  /** Start columns of each operation. */
+  starts: { k: number; t: number; name: string }[][];
+  /** Weight of the primary objective in the weighted sum (its value is floor(objective / weight)). */
+  primaryWeight: number;
+  /** Lifetime horizon used (cycles). */
+  horizon: number;
+  columns: number;
+  rows: number;
+}
+
+function terms(row: Map<string, number>): string {
+  const parts: string[] = [];
+  let first = true;
+  for (const [name, c] of row) {
+    if (c === 0) continue;
+    const sign = c < 0 ? '-' : first ? '' : '+';
+    const mag = Math.abs(c);
+    parts.push(`${sign ? sign + ' ' : ''}${mag === 1 ? '' : mag + ' '}${name}`);
+    first = false;
+  }
+  // LP files keep lines short; a row may continue over several lines
+  const lines: string[] = [];
+  for (let i = 0; i < parts.length; i += 12) lines.push(parts.slice(i, i + 12).join(' '));
+  return lines.join('\n   ') || '0 zero';
+}
+
+/**
+ * Builds the model (docs/planning.md, "The exact model"), time-indexed: y[o,k,τ] = 1 when
+ * operation o starts on unit k at absolute cycle τ = slot + N * r (its slot is τ mod N, its
+ * retiming floor(τ / N); inputs sit at 0). Windows of τ come from the edge constraints and the
+ * lifetime bound `maxLifetime` (the horizon). `cuts` exclude (slot, stages) assignments.
+ */
+export function buildExactModel(
+  p: PlanProblem,
+  objective: PlanObjective,
+  maxLifetime: number,
+  maxRegisters: number | null,
+  cuts: { slot: Int32Array; stages: Int32Array }[] = [],
+  feasibilityOnly = false,
+): ExactModel {
+  const N = p.N;
+  const n = p.ops.length;
+  const rows: string[] = [];
+  const binaries = new Set<string>();
+  const generals = new Set<string>();
+  const continuous = new Set<string>();
+  const bounds: string[] = [];
+  let rowCount = 0;
+  const emit = (name: string, row: Row, sense: '<=' | '>=' | '=', rhs: number) => {
+    if (row.terms.size === 0) return;
+    rows.push(` ${name}: ${terms(row.terms)} ${sense} ${rhs - row.constant}`);
+    rowCount++;
+  };
+  let maxStages = 0;
+  let minStagesAll = Infinity;
+  for (const s of p.unitStages) {
+    maxStages = Math.max(maxStages, s);
+    minStagesAll = Math.min(minStagesAll, s);
+  }
+  const kindMin = new Map<string, number>();
+  const kindMax = new Map<string, number>();
+  for (const [kind, list] of p.kindUnits) {
+    kindMin.set(kind, Math.min(...list.map((k) => p.unitStages[k])));
+    kindMax.set(kind, Math.max(...list.map((k) => p.unitStages[k])));
+  }
+  const S = p.scheduleNodes;
+  const unitsOf = (o: number) => (p.pinUnit[o] >= 0 ? [p.pinUnit[o]] : (p.kindUnits.get(p.opKind[o]) ?? []));
+  const pMin = (a: number) => (a < n ? (p.pinUnit[a] >= 0 ? p.unitStages[p.pinUnit[a]] : kindMin.get(p.opKind[a])!) : 0);
+  const pMax = (a: number) => (a < n ? (p.pinUnit[a] >= 0 ? p.unitStages[p.pinUnit[a]] : kindMax.get(p.opKind[a])!) : 0);
+  const isTapArc = (arc: Arc) => p.role[p.edgeTo[arc.edge]] === OUT && p.boundarySlot[p.edgeTo[arc.edge]] < 0;
+  const isHeldArc = (arc: Arc) => p.role[p.edgeFrom[arc.edge]] === IN && p.boundarySlot[p.edgeFrom[arc.edge]] < 0;
+
+  // ---- windows of T by difference constraints (Bellman-Ford from the inputs' node, T = 0)
+  // difference graph: T_b - T_a <= w is an arc a -> b of weight w
+  const dFrom: number[] = [];
+  const dTo: number[] = [];
+  const dW: number[] = [];
+  const le = (a: number, b: number, w: number) => {
+    dFrom.push(a);
+    dTo.push(b);
+    dW.push(w);
+  };
+  for (const arc of p.arcs) {
+    const cmin = arc.base + (arc.stages ? pMin(arc.a) : 0);
+    le(arc.b, arc.a, -cmin); // T_b - T_a >= cmin
+    if (isTapArc(arc)) continue;
+    // its folded delay T_b - T_a - c (held inputs: less T_b mod N) is at most the lifetime bound
+    const cmax = arc.base + (arc.stages ? pMax(arc.a) : 0);
+    le(arc.a, arc.b, maxLifetime + cmax + (isHeldArc(arc) ? N - 1 : 0));
+  }
+  const anchor = p.inNode;
+  const boundsFrom = (): { lo: Float64Array; hi: Float64Array } => {
+    const relax = (reverse: boolean): Float64Array => {
+      const dist = new Float64Array(S).fill(Infinity);
+      dist[anchor] = 0;
+      for (let pass = 0; pass < S + 1; pass++) {
+        let changed = false;
+        for (let i = 0; i < dFrom.length; i++) {
+          const [a, b] = reverse ? [dTo[i], dFrom[i]] : [dFrom[i], dTo[i]];
+          if (dist[a] + dW[i] < dist[b]) {
+            dist[b] = dist[a] + dW[i];
+            changed = true;
+          }
+        }
+        if (!changed) break;
+      }
+      return dist;
+    };
+    const hi = relax(false);
+    const lo = relax(true).map((d) => -d);
+    return { lo, hi };
+  };
+  let { lo, hi } = boundsFrom();
+  // nodes not tied to the inputs from both sides: a whole-iteration shift changes nothing, so the
+  // first of each such group is tied to partitions 0..N-1 of iteration 0
+  for (let guard = 0; guard < S; guard++) {
+    let loose = -1;
+    for (let o = 0; o < n; o++) if (!Number.isFinite(lo[o]) && !Number.isFinite(hi[o])) { loose = o; break; }
+    if (loose < 0) break;
+    le(anchor, loose, N - 1);
+    le(loose, anchor, 0);
+    ({ lo, hi } = boundsFrom());
+  }
+  // one side open (only lower bounds, e.g. towards taps): no later start than one turn past what its predecessors allow helps
+  for (let guard = 0; guard < 3; guard++) {
+    for (let x = 0; x < S; x++) {
+      if (x === anchor) continue;
+      if (Number.isFinite(lo[x]) && !Number.isFinite(hi[x])) {
+        let h = lo[x];
+        for (const arc of p.arcs) if (arc.b === x && Number.isFinite(hi[arc.a])) h = Math.max(h, hi[arc.a] + arc.base + (arc.stages ? pMax(arc.a) : 0));
+        hi[x] = h + N - 1;
+      }
+      if (!Number.isFinite(lo[x]) && Number.isFinite(hi[x])) lo[x] = hi[x] - maxLifetime - N;
+    }
+  }
+  for (let x = 0; x < S; x++) {
+    if (!Number.isFinite(lo[x]) || !Number.isFinite(hi[x])) { lo[x] = 0; hi[x] = N - 1 + maxLifetime; }
+    lo[x] = Math.ceil(lo[x]);
+    hi[x] = Math.floor(hi[x]);
+  }
+  const empty = [...Array(S).keys()].some((x) => lo[x] > hi[x]);
+
+  // ---- start-time binaries
+  const y = (o: number, k: number, t: number) => `y${o}_${k}_${t < 0 ? 'm' + -t : t}`;
+  const starts: { k: number; t: number; name: string }[][] = [];
+  for (let o = 0; o < n; o++) {
+    const list: { k: number; t: number; name: string }[] = [];
+    for (const k of unitsOf(o)) {
+      for (let t = lo[o]; t <= hi[o]; t++) {
+        if (p.pinUnit[o] >= 0 && mod(t, N) !== p.pinSlot[o]) continue;
+        const name = y(o, k, t);
+        binaries.add(name);
+        list.push({ k, t, name });
+      }
+    }
+    starts.push(list);
+    const assign = new Row();
+    for (const s of list) assign.add(s.name, 1);
+    if (list.length === 0) assign.add('nowhere', 1); // no start fits the window: the model is infeasible
+    emit(`assign${o}`, assign, '=', 1);
+  }
+  if (empty || starts.some((l) => l.length === 0)) {
+    bounds.push(' 0 <= nowhere <= 0');
+    continuous.add('nowhere');
+  }
+  // one operation per unit and partition
+  const cell = new Map<string, Row>();
+  for (let o = 0; o < n; o++) {
+    for (const s of starts[o]) {
+      const key = `${s.k}_${mod(s.t, N)}`;
+      if (!cell.has(key)) cell.set(key, new Row());
+      cell.get(key)!.add(s.name, 1);
+    }
+  }
+  for (const [key, row] of cell) if (row.terms.size > 1) emit(`cap${key}`, row, '<=', 1);
+
+  // outputs' node: T = N * r_out, r_out by indicator binaries (latency free), or 0 (fixed: it is the inputs' node)
+  const outVals: number[] = [];
+  const ro = (j: number) => `ro${j < 0 ? 'm' + -j : j}`;
+  const freeOut = p.outNode !== p.inNode && p.hasOutputs;
+  if (freeOut) {
+    const jlo = Math.ceil(lo[p.outNode] / N);
+    const jhi = Math.max(jlo, Math.floor(hi[p.outNode] / N));
+    const one = new Row();
+    for (let j = jlo; j <= jhi; j++) {
+      outVals.push(j);
+      binaries.add(ro(j));
+      one.add(ro(j), 1);
+    }
+    emit('outone', one, '=', 1);
+  }
+  /** T of a schedule node as a row. */
+  const timeRow = (x: number): Row => {
+    const r = new Row();
+    if (x < n) for (const s of starts[x]) r.add(s.name, s.t);
+    else if (x === p.outNode && freeOut) for (const j of outVals) r.add(ro(j), N * j);
+    return r;
+  };
+  const stageRow = (x: number): Row => {
+    const r = new Row();
+    if (x < n) for (const s of starts[x]) r.add(s.name, p.unitStages[s.k]);
+    return r;
+  };
+  const slotRow = (x: number): Row => {
+    const r = new Row();
+    if (x < n) for (const s of starts[x]) r.add(s.name, mod(s.t, N));
+    return r;
+  };
+  // every edge constraint T_b >= T_a + base + P_a
+  p.arcs.forEach((arc, i) => {
+    const row = new Row().addRow(timeRow(arc.b)).addRow(timeRow(arc.a), -1);
+    if (arc.stages) row.addRow(stageRow(arc.a), -1);
+    if (row.terms.size === 0) return;
+    emit(`prec${i}`, row, '>=', arc.base);
+  });
+
+  if (feasibilityOnly) {
+    const lp = ['\\ Pleat folding plan: feasibility only (docs/planning.md)', 'Minimize', ' obj: 0 zero', 'Subject To', ...rows, ' fz: zero >= 0', 'Bounds', ...bounds, ' 0 <= zero <= 0', 'Binaries', ...chunk([...binaries]), 'End', ''].join('\n');
+    return { lp, x: y, primaryWeight: 1, horizon: 0, columns: binaries.size, rows: rowCount, starts };
+  }
+
+  // ---- the check retimes only when some folded delay is negative (docs/engine.md): z = 1 exactly then
+  const z = 'zneed';
+  binaries.add(z);
+  const negs: string[] = [];
+  const isTapEdge = (e: number) => p.role[p.edgeTo[e]] === OUT && p.boundarySlot[p.edgeTo[e]] < 0;
+  const isHeldEdge = (e: number) => p.role[p.edgeFrom[e]] === IN && p.boundarySlot[p.edgeFrom[e]] < 0;
+  const slotOfNode = (v: number): Row => {
+    if (p.role[v] === OP) return slotRow(p.opOf[v]);
+    const r = new Row();
+    r.constant = Math.max(0, p.boundarySlot[v]);
+    return r;
+  };
+  for (let e = 0; e < p.edgeFrom.length; e++) {
+    if (isTapEdge(e) || isHeldEdge(e)) continue;
+    const u = p.edgeFrom[e];
+    const v = p.edgeTo[e];
+    const w = p.edgeDelays[e];
+    const f = new Row().addRow(slotOfNode(v)).addRow(slotOfNode(u), -1);
+    if (p.role[u] === OP) f.addRow(stageRow(p.opOf[u]), -1);
+    f.constant += N * w;
+    const lowest = N * w - (p.role[u] === OP ? maxStages + N - 1 : Math.max(0, p.boundarySlot[u])) + (p.role[v] === OP ? 0 : Math.max(0, p.boundarySlot[v]));
+    const highest = N * w + N - 1;
+    if (lowest >= 0) continue;
+    if (f.terms.size === 0) {
+      if (f.constant < 0) negs.push('one');
+      continue;
+    }
+    emit(`nz${e}`, new Row().addRow(f).add(z, -lowest), '>=', 0); // z = 0 -> not negative
+    const q = `q${e}`;
+    binaries.add(q);
+    negs.push(q);
+    emit(`nq${e}`, new Row().addRow(f).add(q, highest + 1), '<=', highest); // q = 1 -> negative
+  }
+  if (negs.includes('one')) bounds.push(` 1 <= ${z} <= 1`);
+  else if (negs.length) {
+    const some = new Row().add(z, -1);
+    for (const q of negs) some.add(q, 1);
+    emit('zsome', some, '>=', 0);
+  } else bounds.push(` 0 <= ${z} <= 0`);
+  // z = 0 -> every operation in iteration 0 (r = 0), and r(outputs) = 0
+  for (let o = 0; o < n; o++) {
+    const out = new Row();
+    for (const s of starts[o]) if (s.t < 0 || s.t >= N) out.add(s.name, 1);
+    if (out.terms.size) emit(`zr${o}`, out.add(z, -1), '<=', 0);
+  }
+  if (freeOut) {
+    const out = new Row();
+    for (const j of outVals) if (j !== 0) out.add(ro(j), 1);
+    if (out.terms.size) emit('zout', out.add(z, -1), '<=', 0);
+  }
+
+  // ---- lifetimes: alive[c] >= a[c] + b[c] - 1 with a[c] = [c > tIn], b[c] >= [c <= end] per out-edge
+  const regs = 'regs';
+  generals.add(regs);
+  const liveRows: Row[] = Array.from({ length: N }, () => new Row());
+  let varCount = 0;
+  let cells = 0;
+  /** [c <= end] for the read of edge e at its consumer: end = T_V + N w (slotted output: N r_out + slot + N w). */
+  const endIndicator = (e: number, c: number): Row => {
+    const v = p.edgeTo[e];
+    const w = p.edgeDelays[e];
+    const r = new Row();
+    if (p.role[v] === OP) {
+      for (const s of starts[p.opOf[v]]) if (s.t + N * w >= c) r.add(s.name, 1);
+    } else if (freeOut) {
+      for (const j of outVals) if (N * j + Math.max(0, p.boundarySlot[v]) + N * w >= c) r.add(ro(j), 1);
+    } else if (Math.max(0, p.boundarySlot[v]) + N * w >= c) r.constant = 1;
+    return r;
+  };
+  const endRange = (e: number): number => {
+    const v = p.edgeTo[e];
+    const w = p.edgeDelays[e];
+    if (p.role[v] === OP) return hi[p.opOf[v]] + N * w;
+    return (freeOut ? N * Math.max(...outVals) : 0) + Math.max(0, p.boundarySlot[v]) + N * w;
+  };
+  const lifetime = (aAt: (c: number) => Row, c0: number, ends: number[]) => {
+    const id = varCount++;
+    let c1 = c0;
+    for (const e of ends) c1 = Math.max(c1, endRange(e));
+    for (let c = c0 + 1; c <= c1; c++) {
+      const a = aAt(c);
+      if (a.terms.size === 0 && a.constant <= 0) continue;
+      const b = `lb${id}_${c - c0}`;
+      const al = `lv${id}_${c - c0}`;
+      continuous.add(b);
+      continuous.add(al);
+      bounds.push(` 0 <= ${b} <= 1`, ` 0 <= ${al} <= 1`);
+      let any = false;
+      ends.forEach((e, j) => {
+        const ind = endIndicator(e, c);
+        if (ind.terms.size === 0 && ind.constant <= 0) return;
+        any = true;
+        emit(`le${id}_${c - c0}_${j}`, new Row().add(b, 1).addRow(ind, -1), '>=', 0);
+      });
+      if (!any) continue;
+      emit(`al${id}_${c - c0}`, new Row().add(al, 1).addRow(a, -1).add(b, -1), '>=', -1);
+      liveRows[mod(c, N)].add(al, 1);
+      cells++;
+    }
+  };
+  const outEdges: number[][] = p.nodeIds.map(() => []);
+  for (let e = 0; e < p.edgeFrom.length; e++) if (!isTapEdge(e)) outEdges[p.edgeFrom[e]].push(e);
+  for (let u = 0; u < p.nodeIds.length; u++) {
+    if (p.role[u] === OUT || outEdges[u].length === 0) continue;
+    if (p.role[u] === OP) {
+      const o = p.opOf[u];
+      const list = starts[o];
+      let c0 = Infinity;
+      for (const s of list) c0 = Math.min(c0, s.t + p.unitStages[s.k]);
+      // a[c] = [T_U + P_U < c], exact in the start binaries
+      lifetime((c) => {
+        const r = new Row();
+        for (const s of list) if (s.t + p.unitStages[s.k] < c) r.add(s.name, 1);
+        return r;
+      }, c0, outEdges[u]);
+    } else if (p.boundarySlot[u] >= 0) {
+      const sI = p.boundarySlot[u];
+      lifetime((c) => {
+        const r = new Row();
+        r.constant = c > sI ? 1 : 0;
+        return r;
+      }, sI, outEdges[u]);
+    } else {
+      // held input: one variable per edge, from the consumer's slot to T_V + N w
+      for (const e of outEdges[u]) {
+        const v = p.edgeTo[e];
+        if (p.role[v] !== OP) continue;
+        const list = starts[p.opOf[v]];
+        lifetime((c) => {
+          const r = new Row();
+          for (const s of list) if (mod(s.t, N) < c) r.add(s.name, 1);
+          return r;
+        }, 0, [e]);
+      }
+    }
+  }
+  liveRows.forEach((row, t) => emit(`live${t}`, new Row().add(regs, 1).addRow(row, -1), '>=', 0));
+  bounds.push(` 0 <= ${regs} <= ${maxRegisters ?? 1_000_000}`);
+
+  // ---- multiplexer proxy: distinct producers (unit, or input node) per consumer unit and operand port
+  const muxTerms: string[] = [];
+  const onUnit = (o: number, k: number): Row => {
+    const row = new Row();
+    for (const s of starts[o]) if (s.k === k) row.add(s.name, 1);
+    return row;
+  };
+  const seen = new Set<string>();
+  const yVar = (name: string) => {
+    if (!seen.has(name)) {
+      seen.add(name);
+      continuous.add(name);
+      bounds.push(` 0 <= ${name} <= 1`);
+      muxTerms.push(name);
+    }
+    return name;
+  };
+  for (let e = 0; e < p.edgeFrom.length; e++) {
+    const u = p.edgeFrom[e];
+    const v = p.edgeTo[e];
+    if (p.role[v] !== OP) continue;
+    const ov = p.opOf[v];
+    const port = p.edgePort[e];
+    for (const k of unitsOf(ov)) {
+      if (p.role[u] === OP) {
+        for (const k2 of unitsOf(p.opOf[u])) {
+          const m = yVar(`m${k}_${port}_u${k2}`);
+          emit(`mu${e}_${k}_${k2}`, new Row().add(m, 1).addRow(onUnit(ov, k), -1).addRow(onUnit(p.opOf[u], k2), -1), '>=', -1);
+        }
+      } else {
+        const m = yVar(`m${k}_${port}_i${u}`);
+        emit(`mi${e}_${k}`, new Row().add(m, 1).addRow(onUnit(ov, k), -1), '>=', 0);
+      }
+    }
+  }
+  const muxMax = muxTerms.length;
+
+  // ---- latency r(out) - r(in) = r_out, shifted to be nonnegative
+  const lat = new Row();
+  let latRange = 0;
+  if (freeOut && p.hasInputs) {
+    const jlo = Math.min(...outVals);
+    latRange = Math.max(...outVals) - jlo;
+    for (const j of outVals) lat.add(ro(j), j - jlo);
+  }
+
+  cuts.forEach((cut, j) => {
+    const row = new Row();
+    for (let o = 0; o < n; o++) for (const s of starts[o]) if (mod(s.t, N) === cut.slot[o] && p.unitStages[s.k] === cut.stages[o]) row.add(s.name, 1);
+    emit(`cut${j}`, row, '<=', n - 1);
+  });
+
+  // ---- lexicographic weights: each level's weight exceeds the whole range of the levels below
+  const regMax = maxRegisters ?? Math.ceil(cells / N) + 1;
+  const obj = new Row();
+  let primaryWeight: number;
+  if (objective === 'registers') {
+    const wMux = latRange + 1;
+    primaryWeight = wMux * (muxMax + 1);
+    obj.add(regs, primaryWeight).addRow(lat, 1);
+    for (const m of muxTerms) obj.add(m, wMux);
+  } else if (objective === 'muxes') {
+    const wReg = latRange + 1;
+    primaryWeight = wReg * (regMax + 1);
+    for (const m of muxTerms) obj.add(m, primaryWeight);
+    obj.add(regs, wReg).addRow(lat, 1);
+  } else {
+    const wReg = muxMax + 1;
+    primaryWeight = wReg * (regMax + 1);
+    obj.addRow(lat, primaryWeight).add(regs, wReg);
+    for (const m of muxTerms) obj.add(m, 1);
+  }
+  if (obj.terms.size === 0) obj.add(regs, 1);
+  void minStagesAll;
+
+  const lp = [
+    '\\ Pleat folding plan: binding, start times (partition + N * retiming) and lifetime registers (docs/planning.md)',
+    'Minimize',
+    ` obj: ${terms(obj.terms)}`,
+    'Subject To',
+    ...rows,
+    'Bounds',
+    ...bounds,
+    'Binaries',
+    ...chunk([...binaries]),
+    'Generals',
+    ...chunk([...generals]),
+    'End',
+    '',
+  ].join('\n');
+  return { lp, x: y, primaryWeight, horizon: maxLifetime, columns: binaries.size + generals.size + continuous.size, rows: rowCount, starts };
+}
+
+function chunk(names: string[]): string[] {
+  const out: string[] = [];
+  for (let i = 0; i < names.length; i += 16) out.push(' ' + names.slice(i, i + 16).join(' '));
+  return out;
+}
+
+/** Decodes the binding and partitions of a solution; null when some operation has no place. */
+export function decodeAssignment(p: PlanProblem, model: ExactModel, values: Record<string, number>): { unitOf: Int32Array; slotOf: Int32Array } | null {
+  const n = p.ops.length;
+  const unitOf = new Int32Array(n).fill(-1);
+  const slotOf = new Int32Array(n).fill(-1);
+  for (let o = 0; o < n; o++) {
+    let bestV = 0.5;
+    for (const s of model.starts[o]) {
+      const v = values[s.name] ?? 0;
+      if (v > bestV) {
+        bestV = v;
+        unitOf[o] = s.k;
+        slotOf[o] = mod(s.t, p.N);
+      }
+    }
+    if (unitOf[o] < 0) return null;
+  }
+  return { unitOf, slotOf };
+}
+
+/**
+ * Solves the model, decodes the plan and scores it with the engine. When the engine's own
+ * retiming needs more registers than the model found for those partitions, the (slot, stages)
+ * assignment is cut off and the model solved again (within the time limit), keeping the best
+ * plan the engine scored; the model's bound stays a lower bound on every plan not yet cut off.
+ */
+export async function exactPlan(p: PlanProblem, o: ExactOptions): Promise<ExactResult> {
+  const notes: string[] = [];
+  const N = p.N;
+  const objective = o.objective;
+  const incumbentRegs = o.incumbent ? o.incumbent.registers : null;
+  const cuts: { slot: Int32Array; stages: Int32Array }[] = [];
+  let best: { sets: Record<string, (string | null)[]>; metrics: PlanMetrics } | null = null;
+  if (o.incumbent && o.incumbentSets) best = { sets: o.incumbentSets, metrics: o.incumbent };
+  let modelBound: number | null = null;
+  let solvedOptimal = false;
+  const maxCuts = o.maxCuts ?? 12;
+  const solverName = o.solver.name ?? 'injected solver';
+  let incumbentRegs2 = incumbentRegs;
+  if (incumbentRegs === null) {
+    // No plan known: ask first whether any exists (no lifetimes, so no horizon to limit the proof).
+    // windows wide enough for the shortest-path solution of any feasible placement's constraints
+    let widest = 0;
+    for (const arc of p.arcs) widest = Math.max(widest, Math.abs(arc.base));
+    let stagesMax = 0;
+    for (const x of p.unitStages) stagesMax = Math.max(stagesMax, x);
+    const model = buildExactModel(p, objective, N + p.scheduleNodes * (widest + stagesMax + 1), null, [], true);
+    try {
+      const sol = await o.solver.solve(model.lp, { timeLimitSeconds: Math.max(0.1, (o.deadline - o.now()) / 1000) });
+      if (sol.status === 'infeasible') {
+        notes.push('the exact model proves that no placement admits a retiming');
+        return { sets: null, metrics: null, bound: null, provenOptimal: false, infeasible: true, method: `${EXACT_METHOD} (${solverName})`, notes };
+      }
+      const decoded = Object.keys(sol.values).length ? decodeAssignment(p, model, sol.values) : null;
+      if (decoded) {
+        const sets = setsFromAssignment(p, decoded.unitOf, decoded.slotOf);
+        const ev = evaluateDesign(designWithSets(p.design, N, p.units, sets));
+        if (ev.feasible && ev.metrics) {
+          best = { sets, metrics: ev.metrics };
+          incumbentRegs2 = ev.metrics.registers;
+        }
+      }
+    } catch (err) {
+      notes.push(`the solver failed: ${err instanceof Error ? err.message : String(err)}`);
+    }
+    if (incumbentRegs2 === null) return { sets: null, metrics: null, bound: null, provenOptimal: false, infeasible: false, method: `${EXACT_METHOD} (${solverName})`, notes };
+  }
+  // horizon: with the registers objective no plan as good as the incumbent (K registers) has a
+  // lifetime above K * N, since one variable of lifetime L alone keeps ceil(L / N) registers busy
+  const horizonRegs = incumbentRegs2!;
+  const maxLifetime2 = Math.max(1, objective === 'registers' ? horizonRegs : horizonRegs + 2) * N;
+  const maxRegisters2 = objective !== 'registers' ? horizonRegs + 2 : null;
+  for (let round = 0; round <= maxCuts; round++) {
+    if (o.signal?.aborted) break;
+    const left = (o.deadline - o.now()) / 1000;
+    if (left <= 0.05) {
+      notes.push('the exact model ran out of time');
+      break;
+    }
+    const model = buildExactModel(p, objective, maxLifetime2, maxRegisters2, cuts);
+    if (round === 0) notes.push(`exact model: ${model.columns} columns, ${model.rows} rows, lifetime horizon ${model.horizon} cycles`);
+    let sol: MilpSolution;
+    try {
+      sol = await o.solver.solve(model.lp, { timeLimitSeconds: Math.max(0.1, left) });
+    } catch (err) {
+      notes.push(`the solver failed: ${err instanceof Error ? err.message : String(err)}`);
+      break;
+    }
+    if (sol.status === 'infeasible') {
+      // round 0: cannot be, the incumbent is a plan within the horizon; later: every class left is cut off
+      if (round === 0) notes.push('the exact model found no plan within the horizon set by the known plan');
+      else solvedOptimal = true;
+      break;
+    }
+    if (sol.status === 'error') {
+      notes.push(`the solver reported an error${sol.message ? `: ${sol.message}` : ''}`);
+      break;
+    }
+    const fromBound = sol.bound !== null ? Math.floor(sol.bound / model.primaryWeight + 1e-6) : null;
+    const objValue = sol.objective !== null ? Math.floor(sol.objective / model.primaryWeight + 1e-6) : null;
+    const decoded = Object.keys(sol.values).length ? decodeAssignment(p, model, sol.values) : null;
+    if (!decoded) {
+      notes.push(`the solver stopped (${sol.status}) without a plan`);
+      if (objective === 'registers' && fromBound !== null) modelBound = fromBound;
+      break;
+    }
+    const sets = setsFromAssignment(p, decoded.unitOf, decoded.slotOf);
+    const ev = evaluateDesign(designWithSets(p.design, N, p.units, sets));
+    if (!ev.feasible || !ev.metrics) {
+      // cannot happen: every edge constraint of the model is the engine's feasibility condition
+      notes.push('a decoded plan failed the engine check; it is cut off');
+    } else if (!best || compareMetrics(ev.metrics, best.metrics, objective) < 0) {
+      best = { sets, metrics: ev.metrics };
+    }
+    const optimalSolve = sol.status === 'optimal';
+    if (objective === 'registers') {
+      const b = optimalSolve ? objValue : fromBound;
+      if (b !== null) modelBound = b;
+    }
+    if (!optimalSolve) {
+      notes.push(`the solver stopped at its time limit (${sol.status})`);
+      break;
+    }
+    // proven when the engine agrees with the model on the primary objective
+    if (objective !== 'registers' || (best && objValue !== null && best.metrics.registers <= objValue)) {
+      solvedOptimal = objective === 'registers';
+      break;
+    }
+    const stages = new Int32Array(p.ops.length);
+    for (let q = 0; q < p.ops.length; q++) stages[q] = p.unitStages[decoded.unitOf[q]];
+    cuts.push({ slot: decoded.slotOf, stages });
+    notes.push(`the engine's retiming needs ${ev.metrics?.registers} registers where the model found ${objValue}; that assignment is cut off and the model solved again`);
+  }
+  const method = `${EXACT_METHOD} (${solverName})`;
+  let bound = objective === 'registers' ? modelBound : null;
+  if (bound !== null && best) bound = Math.min(bound, best.metrics.registers);
+  if (bound !== null && incumbentRegs !== null) bound = Math.min(bound, incumbentRegs);
+  const provenOptimal = !!best && objective === 'registers' && (solvedOptimal || (bound !== null && primary(best.metrics, objective) <= bound));
+  return { sets: best?.sets ?? null, metrics: best?.metrics ?? null, bound, provenOptimal, infeasible: false, method, notes };
 }

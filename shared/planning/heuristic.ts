@@ -34,12 +34,15 @@ export interface HeuristicResult {
   assignment: Assignment | null;
   /** Lifetime minimum of the schedule's own retiming (a proxy of the engine's figure). */
   proxyRegisters: number | null;
-  /** Real metrics of the returned assignment (engine), when found. */
+  /** Real metrics of the returned assignment (engine); null on large designs, which the caller scores once. */
   metrics: PlanMetrics | null;
   reason?: string;
   method: string;
   notes: string[];
 }
+
+/** Restarts of the scheduler on small designs (each followed by the engine-scored swaps). */
+export const RESTARTS = 12;
 
 export const HEURISTIC_METHOD =
   'heuristic: iterative modulo scheduling (Rau 1994) at II = N, register-pressure moves on the lifetime chart, then swaps scored by the engine';
@@ -772,6 +775,11 @@ export function heuristicPlan(p: PlanProblem, options: HeuristicOptions): Heuris
   pressureMoves(p, adj, sched, options.objective, options.deadline, now);
   const proxy = scheduleRegisters(p, sched);
   let assignment: Assignment = { unitOf: sched.unitOf, slotOf: sched.slotOf };
+  const small = n <= (options.maxEngineSearchOps ?? 300);
+  if (!small) {
+    // Large designs: the caller scores the plan once with the engine (plan.ts); no search by engine runs here.
+    return { assignment, proxyRegisters: proxy, metrics: null, method: HEURISTIC_METHOD, notes };
+  }
   const design: Design = designWithSets(p.design, p.N, p.units, setsFromAssignment(p, assignment.unitOf, assignment.slotOf));
   const ev = evaluateDesign(design);
   if (!ev.feasible || !ev.metrics) {
@@ -779,12 +787,35 @@ export function heuristicPlan(p: PlanProblem, options: HeuristicOptions): Heuris
     return { assignment: null, proxyRegisters: proxy, metrics: null, method: HEURISTIC_METHOD, notes, reason: `internal: the schedule failed the engine's check (${ev.reason})` };
   }
   let metrics = ev.metrics;
-  if (n <= (options.maxEngineSearchOps ?? 300) && now() < options.deadline && !options.signal?.aborted) {
+  let evaluations = 0;
+  if (now() < options.deadline && !options.signal?.aborted) {
     options.onProgress?.({ phase: 'swaps scored by the engine' });
     const r = engineSearch(p, assignment, metrics, options.objective, options.deadline, now, options.signal);
     assignment = r.assignment;
     metrics = r.metrics;
-    notes.push(`${r.evaluations} swaps and moves scored by the engine`);
+    evaluations += r.evaluations;
   }
+  // Restarts: other tie-breaks of the modulo scheduler, each improved the same way, the best kept;
+  // at most RESTARTS, and only while half of the time is left.
+  const half = now() + (options.deadline - now()) / 2;
+  let restarts = 0;
+  for (let i = 0; i < RESTARTS && now() < half && !options.signal?.aborted; i++) {
+    const rnd = random((options.seed ?? 1) * 31 + 1000 + i);
+    const H = h.H.map((x) => x + rnd() * (1 + (i % 4)));
+    const again = moduloSchedule(p, adj, H, 20 * p.scheduleNodes + 100, rnd);
+    if (!again) continue;
+    restarts++;
+    pressureMoves(p, adj, again, options.objective, half, now);
+    const a2: Assignment = { unitOf: again.unitOf, slotOf: again.slotOf };
+    const ev2 = evaluateDesign(designWithSets(p.design, p.N, p.units, setsFromAssignment(p, a2.unitOf, a2.slotOf)));
+    if (!ev2.feasible || !ev2.metrics) continue;
+    const r = engineSearch(p, a2, ev2.metrics, options.objective, half, now, options.signal);
+    evaluations += r.evaluations + 1;
+    if (compareMetrics(r.metrics, metrics, options.objective) < 0) {
+      assignment = r.assignment;
+      metrics = r.metrics;
+    }
+  }
+  notes.push(`${evaluations} swaps and moves scored by the engine, ${restarts} restart(s)`);
   return { assignment, proxyRegisters: proxy, metrics, method: HEURISTIC_METHOD, notes };
 }

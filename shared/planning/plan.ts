@@ -5,7 +5,7 @@ import type { Design } from '../types';
 import { buildProblem, setsFromAssignment, designWithSets } from './problem';
 import { planBounds } from './bounds';
 import { heuristicPlan } from './heuristic';
-import { compareMetrics, evaluateDesign, primary } from './evaluate';
+import { compareMetrics, evaluateDesign, primary, type Evaluation } from './evaluate';
 import { exactPlan } from './exact';
 import type { PlanMetrics, PlanOptions, PlanResult } from './types';
 
@@ -67,8 +67,15 @@ export async function planDesign(design: Design, options: PlanOptions): Promise<
     onProgress: options.onProgress,
   });
   notes.push(...h.notes);
-  if (h.assignment && h.metrics) {
-    best = { sets: setsFromAssignment(p, h.assignment.unitOf, h.assignment.slotOf), metrics: h.metrics, method: h.method };
+  let scored: Evaluation | null = null;
+  if (h.assignment) {
+    const sets = setsFromAssignment(p, h.assignment.unitOf, h.assignment.slotOf);
+    let metrics = h.metrics;
+    if (!metrics) {
+      scored = evaluateDesign(designWithSets(design, options.factor, options.units, sets));
+      metrics = scored.metrics;
+    }
+    if (metrics) best = { sets, metrics, method: h.method };
   }
 
   if (options.solver && p.ops.length <= (options.exactMaxOperations ?? EXACT_MAX_OPERATIONS) && !options.signal?.aborted) {
@@ -129,7 +136,7 @@ export async function planDesign(design: Design, options: PlanOptions): Promise<
   }
 
   // The plan as `pleat check` will see it, once more (cheap next to the search).
-  const final = evaluateDesign(designWithSets(design, options.factor, options.units, best.sets));
+  const final = scored && best.metrics === scored.metrics ? scored : evaluateDesign(designWithSets(design, options.factor, options.units, best.sets));
   if (!final.feasible || !final.metrics) throw new Error('internal: the chosen plan failed the engine check');
   const metrics = final.metrics;
   const key = objective === 'registers' ? 'registers' : objective === 'muxes' ? 'muxInputs' : 'latencyAdded';

@@ -27,6 +27,8 @@ export interface MilpSolution {
 
 /** Reads a model in CPLEX LP format and solves it (the CLI wraps the `highs` npm package). */
 export interface MilpSolver {
+  /** Shown in the method, e.g. 'HiGHS'. */
+  name?: string;
   solve(lp: string, options: { timeLimitSeconds: number }): Promise<MilpSolution>;
 }
 
