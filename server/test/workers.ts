@@ -9,7 +9,7 @@ const ROOT = fileURLToPath(new URL('../..', import.meta.url));
 
 /** Fast queue settings for tests: the queue notices a lost worker a few seconds after a job's budget. */
 export const TEST_JOB_SETTINGS: Config['jobs'] = {
-  queueSchema: '', graceSeconds: 4, superviseSeconds: 1, pollSeconds: 0.5, retries: 1, holdMs: 0,
+  queueSchema: '', graceSeconds: 8, superviseSeconds: 1, pollSeconds: 0.5, retries: 1, holdMs: 0,
 };
 
 export interface WorkerProcess {

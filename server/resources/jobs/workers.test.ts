@@ -40,7 +40,7 @@ async function worker(holdMs = 0): Promise<WorkerProcess> {
   return w;
 }
 
-async function start(timeLimitSeconds = 2): Promise<number> {
+async function start(timeLimitSeconds = 1): Promise<number> {
   const res = await t.http().post(`/api/projects/${project.slug}/jobs`).set('Cookie', cookieFor(t.ctx, engineer))
     .send({ kind: 'plan', design: { text: UNPLACED, file: 'frontend.fold.yaml' }, timeLimitSeconds });
   expect(res.status, res.text).toBe(201);
@@ -69,7 +69,7 @@ describe('jobs in worker processes', () => {
     // Each worker holds a job a moment before planning it, so both are busy at once.
     const [a, b] = await Promise.all([worker(400), worker(400)]);
     const ids = [];
-    for (let i = 0; i < 6; i++) ids.push(await start());
+    for (let i = 0; i < 4; i++) ids.push(await start());
     const jobs = await Promise.all(ids.map((id) => until(id, ended)));
     for (const j of jobs) {
       expect(j.status, j.error ?? '').toBe('done');
@@ -116,7 +116,7 @@ describe('jobs in worker processes', () => {
 
   it('does not let a worker that comes back late complete a job a later attempt took', async () => {
     // The slow worker holds the job well past its expiry (budget 1 s + grace), then plans and tries to finish.
-    const slow = await worker((1 + TEST_JOB_SETTINGS.graceSeconds) * 4000);
+    const slow = await worker((1 + TEST_JOB_SETTINGS.graceSeconds) * 1000 + 8000);
     const id = await start(1);
     await until(id, (j) => j.attempts.length === 1);
     const fast = await worker(0);
