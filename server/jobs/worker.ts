@@ -49,7 +49,12 @@ export async function startWorker(config: Config, db: Db, planner: Planner, log:
       await new Promise((r) => setTimeout(r, config.jobs.holdMs));
     }
 
-    let cancelled = false;
+    // A cancel that came while the job waited for this worker is honoured before any work.
+    let cancelled = await cancelRequested(q, jobId);
+    if (cancelled) {
+      const won = await finishAttempt(q, jobId, claim.attempt, { status: 'cancelled' });
+      return won ? 'done' : 'superseded';
+    }
     const deadline = Date.now() + (budgetSeconds(claim.kind, claim.params) + config.jobs.graceSeconds / 2) * 1000;
     // A getter: HiGHS reads it from inside a synchronous solve, where only the clock can move.
     const signal = { get aborted() { return cancelled || Date.now() > deadline; } };
