@@ -5,6 +5,7 @@
 import express, { Router, type NextFunction, type Request, type Response } from 'express';
 import { QueryTypes } from 'sequelize';
 import type { JobKind, JobObjective, JobParams } from '../../../shared/api';
+import { nameOfInvalidDesign } from '../../../shared/load';
 import type { AppContext } from '../../context';
 import type { Project } from '../../db/models';
 import { projectAccess } from '../../http/access';
@@ -98,7 +99,7 @@ export function jobRoutes(ctx: AppContext): Router {
     } else {
       if (Buffer.byteLength(body.design.text) > ctx.config.maxDesignBytes) throw new HttpError(413, 'too-large', 'The design is larger than the format allows (16 MiB).');
       const file = (body.design.file ?? 'design.fold.yaml').split(/[\\/]/).pop()!.slice(0, 255);
-      const name = /^name:\s*["']?([^"'#\r\n]+?)["']?\s*(#.*)?$/m.exec(body.design.text)?.[1]?.trim() ?? null;
+      const name = nameOfInvalidDesign(body.design.text);
       source = { runId: null, file, name, text: body.design.text };
     }
     const id = await insertJob(q, { projectId: project.id, kind: body.kind, runId: source.runId, file: source.file, name: source.name, text: source.text, params, userId: user.id });
