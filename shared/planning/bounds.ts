@@ -82,10 +82,11 @@ export function planBounds(p: PlanProblem): PlanBounds {
         const e = p.arcs[k].edge;
         return p.nodeIds[p.edgeFrom[e]];
       });
+      const along = names.length ? `the path ${listed(names.reverse())}` : 'a path';
       reasons.push(
         p.latency === 'fixed'
-          ? `with fixed latency the path ${listed(names.reverse())} from the inputs to the outputs needs more cycles than N = ${N} leaves (or the slots of the inputs and outputs forbid it); set folding.latency to free or raise N`
-          : `the constraints along ${listed(names.reverse())} cannot all hold at N = ${N}`,
+          ? `with fixed latency ${along} from the inputs to the outputs needs more cycles than N = ${N} leaves (or the slots of the inputs and outputs forbid it); set folding.latency to free or raise N`
+          : `the constraints along ${along.replace(/^the path /, '').replace(/^a path$/, 'a loop')} cannot all hold at N = ${N}`,
       );
     }
   }
@@ -95,11 +96,13 @@ export function planBounds(p: PlanProblem): PlanBounds {
     let f = Math.max(N, fBound);
     if (cycleShort || factorShort) {
       // smallest N past the bounds whose constraint graph has no positive cycle
-      for (let tries = 0; tries < 256; tries++, f++) {
+      let found = false;
+      for (let tries = 0; tries < 256 && !found; tries++, f++) {
         const q = buildProblem(p.design, f, p.units);
-        if (f >= fBound && !('cycle' in heights(q, minimumStages(q)))) break;
+        if (f >= fBound && !('cycle' in heights(q, minimumStages(q)))) found = true;
       }
-      suggestion.factor = f;
+      // no larger N helps (e.g. fixed latency with input and output slots that leave no room): no factor to suggest
+      if (found) suggestion.factor = f - 1;
     }
     if (short) {
       // more units at this N, or the N that fits the given units

@@ -121,7 +121,37 @@ export function buildExactModel(
     kindMax.set(kind, Math.max(...list.map((k) => p.unitStages[k])));
   }
   const S = p.scheduleNodes;
-  const unitsOf = (o: number) => (p.pinUnit[o] >= 0 ? [p.pinUnit[o]] : (p.kindUnits.get(p.opKind[o]) ?? []));
+  // Symmetry: units of one kind with the same stages and no pins are interchangeable (every metric
+  // is unchanged when they are relabelled), so label them by the first operation they run: the
+  // i-th unpinned operation of the kind may only use the first i + 1 of them.
+  const usable: number[][] = [];
+  {
+    const rank = new Map<string, number>();
+    const pinnedUnits = new Set<number>();
+    for (let o = 0; o < n; o++) if (p.pinUnit[o] >= 0) pinnedUnits.add(p.pinUnit[o]);
+    for (let o = 0; o < n; o++) {
+      if (p.pinUnit[o] >= 0) {
+        usable.push([p.pinUnit[o]]);
+        continue;
+      }
+      const kind = p.opKind[o];
+      const i = rank.get(kind) ?? 0;
+      rank.set(kind, i + 1);
+      const list: number[] = [];
+      const seenPerStages = new Map<number, number>();
+      for (const k of p.kindUnits.get(kind) ?? []) {
+        if (pinnedUnits.has(k)) {
+          list.push(k);
+          continue;
+        }
+        const j = seenPerStages.get(p.unitStages[k]) ?? 0;
+        seenPerStages.set(p.unitStages[k], j + 1);
+        if (j <= i) list.push(k);
+      }
+      usable.push(list);
+    }
+  }
+  const unitsOf = (o: number) => usable[o];
   const pMin = (a: number) => (a < n ? (p.pinUnit[a] >= 0 ? p.unitStages[p.pinUnit[a]] : kindMin.get(p.opKind[a])!) : 0);
   const pMax = (a: number) => (a < n ? (p.pinUnit[a] >= 0 ? p.unitStages[p.pinUnit[a]] : kindMax.get(p.opKind[a])!) : 0);
   const isTapArc = (arc: Arc) => p.role[p.edgeTo[arc.edge]] === OUT && p.boundarySlot[p.edgeTo[arc.edge]] < 0;
@@ -194,6 +224,52 @@ export function buildExactModel(
     if (!Number.isFinite(lo[x]) || !Number.isFinite(hi[x])) { lo[x] = 0; hi[x] = N - 1 + maxLifetime; }
     lo[x] = Math.ceil(lo[x]);
     hi[x] = Math.floor(hi[x]);
+  }
+  // Tighter: along any simple path the folded delays are lifetimes of distinct producers, whose sum
+  // is at most sum_t live(t) <= N * registers <= maxLifetime (the horizon is set that way), so
+  // T_v - T_anchor <= maxLifetime + the path's largest constants (taken >= 0), and the same backwards.
+  {
+    const upFrom: number[] = [];
+    const upTo: number[] = [];
+    const upW: number[] = [];
+    for (const arc of p.arcs) {
+      if (isTapArc(arc)) continue;
+      const cmax = arc.base + (arc.stages ? pMax(arc.a) : 0) + (isHeldArc(arc) ? N - 1 : 0);
+      upFrom.push(arc.a);
+      upTo.push(arc.b);
+      upW.push(Math.max(0, cmax));
+    }
+    for (let i = dFrom.length - 1; i >= 0 && i >= dFrom.length - 2 * S; i--) {
+      // the anchoring arcs of loose groups (added last), as they are
+      if (dFrom[i] === anchor || dTo[i] === anchor) {
+        upFrom.push(dFrom[i]);
+        upTo.push(dTo[i]);
+        upW.push(Math.max(0, dW[i]));
+      }
+    }
+    const sp = (reverse: boolean): Float64Array => {
+      const dist = new Float64Array(S).fill(Infinity);
+      dist[anchor] = 0;
+      for (let pass = 0; pass < S + 1; pass++) {
+        let changed = false;
+        for (let i = 0; i < upFrom.length; i++) {
+          const [a, b] = reverse ? [upTo[i], upFrom[i]] : [upFrom[i], upTo[i]];
+          if (dist[a] + upW[i] < dist[b]) {
+            dist[b] = dist[a] + upW[i];
+            changed = true;
+          }
+        }
+        if (!changed) break;
+      }
+      return dist;
+    };
+    const ahead = sp(false);
+    const behind = sp(true);
+    for (let x = 0; x < S; x++) {
+      if (x === anchor) continue;
+      if (Number.isFinite(ahead[x])) hi[x] = Math.min(hi[x], Math.floor(maxLifetime + ahead[x]));
+      if (Number.isFinite(behind[x])) lo[x] = Math.max(lo[x], Math.ceil(-(maxLifetime + behind[x])));
+    }
   }
   const empty = [...Array(S).keys()].some((x) => lo[x] > hi[x]);
 
@@ -351,8 +427,28 @@ export function buildExactModel(
     if (p.role[v] === OP) return hi[p.opOf[v]] + N * w;
     return (freeOut ? N * Math.max(...outVals) : 0) + Math.max(0, p.boundarySlot[v]) + N * w;
   };
-  const lifetime = (aAt: (c: number) => Row, c0: number, ends: number[]) => {
+  // Aggregate: the sum over partitions of live(t) is the sum of the lifetimes, so N * regs >= sum of
+  // lengths, each length >= end - tIn per out-edge. Implied by the cycle rows at integer points, it
+  // tightens the relaxation a great deal (a fractional start smears a[c] and b[c] but not this).
+  const totalLength = new Row();
+  const endTime = (e: number): Row => {
+    const v = p.edgeTo[e];
+    const r = new Row();
+    if (p.role[v] === OP) r.addRow(timeRow(p.opOf[v]));
+    else if (freeOut) for (const j of outVals) r.add(ro(j), N * j);
+    r.constant += (p.role[v] === OP ? 0 : Math.max(0, p.boundarySlot[v])) + N * p.edgeDelays[e];
+    return r;
+  };
+  const lengthRows = (id: number, tIn: Row, ends: number[]) => {
+    const len = `ln${id}`;
+    continuous.add(len);
+    bounds.push(` 0 <= ${len} <= ${maxLifetime + N}`);
+    ends.forEach((e, j) => emit(`lg${id}_${j}`, new Row().add(len, 1).addRow(endTime(e), -1).addRow(tIn), '>=', 0));
+    totalLength.add(len, 1);
+  };
+  const lifetime = (aAt: (c: number) => Row, c0: number, ends: number[], tIn?: Row) => {
     const id = varCount++;
+    if (tIn) lengthRows(id, tIn, ends);
     let c1 = c0;
     for (const e of ends) c1 = Math.max(c1, endRange(e));
     for (let c = c0 + 1; c <= c1; c++) {
@@ -390,14 +486,14 @@ export function buildExactModel(
         const r = new Row();
         for (const s of list) if (s.t + p.unitStages[s.k] < c) r.add(s.name, 1);
         return r;
-      }, c0, outEdges[u]);
+      }, c0, outEdges[u], new Row().addRow(timeRow(o)).addRow(stageRow(o)));
     } else if (p.boundarySlot[u] >= 0) {
       const sI = p.boundarySlot[u];
       lifetime((c) => {
         const r = new Row();
         r.constant = c > sI ? 1 : 0;
         return r;
-      }, sI, outEdges[u]);
+      }, sI, outEdges[u], Object.assign(new Row(), { constant: sI }));
     } else {
       // held input: one variable per edge, from the consumer's slot to T_V + N w
       for (const e of outEdges[u]) {
@@ -408,11 +504,12 @@ export function buildExactModel(
           const r = new Row();
           for (const s of list) if (mod(s.t, N) < c) r.add(s.name, 1);
           return r;
-        }, 0, [e]);
+        }, 0, [e], slotRow(p.opOf[v]));
       }
     }
   }
   liveRows.forEach((row, t) => emit(`live${t}`, new Row().add(regs, 1).addRow(row, -1), '>=', 0));
+  if (totalLength.terms.size) emit('sumlen', new Row().add(regs, N).addRow(totalLength, -1), '>=', 0);
   bounds.push(` 0 <= ${regs} <= ${maxRegisters ?? 1_000_000}`);
 
   // ---- multiplexer proxy: distinct producers (unit, or input node) per consumer unit and operand port

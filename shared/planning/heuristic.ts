@@ -135,11 +135,15 @@ export function heights(p: PlanProblem, stages: Int32Array, adj: Adjacency = adj
 function cycleFrom(p: PlanProblem, via: Int32Array, start: number): number[] {
   // walk the predecessor arcs S times to land on the cycle, then collect it
   let x = start;
-  for (let i = 0; i < p.scheduleNodes; i++) x = p.arcs[via[x]].b;
+  for (let i = 0; i < p.scheduleNodes; i++) {
+    if (via[x] < 0) return []; // the chain ends at a sink: no cycle to name, the caller still knows there is one
+    x = p.arcs[via[x]].b;
+  }
   const arcs: number[] = [];
   let y = x;
   do {
     const k = via[y];
+    if (k < 0) break;
     arcs.push(k);
     y = p.arcs[k].b;
   } while (y !== x && arcs.length <= p.scheduleNodes);

@@ -10,7 +10,7 @@ import { exactPlan } from './exact';
 import type { PlanMetrics, PlanOptions, PlanResult } from './types';
 
 /** Largest design (operations) given to the exact model by default; measured in docs/planning.md. */
-export const EXACT_MAX_OPERATIONS = 120;
+export const EXACT_MAX_OPERATIONS = 40;
 
 export function gapPercent(value: number, bound: number): number {
   if (value <= bound) return 0;
@@ -127,7 +127,9 @@ export async function planDesign(design: Design, options: PlanOptions): Promise<
       bound: null,
       gapPercent: null,
       reasons: [
-        `no plan was found (${h.reason ?? 'search exhausted'}); the bounds do not rule one out, so this is not a proof: try a larger N, more units, more time, or the exact model`,
+        options.signal?.aborted
+          ? 'cancelled before a plan was found (not a proof that none exists)'
+          : `no plan was found (${h.reason ?? 'search exhausted'}); the bounds do not rule one out, so this is not a proof: try a larger N, more units, more time, or the exact model`,
       ],
       suggestion: { factor: options.factor + 1 },
       seconds: seconds(),

@@ -122,3 +122,49 @@ describe('sweep', () => {
     }
   }, 300_000);
 });
+
+describe('fixed latency and cancelling', () => {
+  // An invented two-operation path: input -> adder (2 stages) -> output, both boundary slots at 0.
+  const path = (latency: 'free' | 'fixed'): Design => ({
+    format: 'pleat/1',
+    name: 'tight-path',
+    kinds: {},
+    units: [{ id: 'A', kind: 'add', stages: 2 }],
+    nodes: [
+      { id: 'x', kind: 'input', slot: 0 },
+      { id: 'p', kind: 'add' },
+      { id: 'q', kind: 'add' },
+      { id: 'y', kind: 'output', slot: 0 },
+    ],
+    edges: [
+      { from: 'x', to: 'p', delays: 0 },
+      { from: 'p', to: 'q', delays: 0 },
+      { from: 'q', to: 'y', delays: 0 },
+    ],
+    folding: { factor: 2, sets: {}, latency },
+  });
+
+  it('fixed latency: a path from input to output longer than the slots allow is infeasible, with the reason', async () => {
+    // common practice, no source: with r(inputs) = r(outputs), the 4 stages of the path must fit
+    // between input slot 0 and output slot 0 of the same iteration, which no N allows
+    const plan = await planDesign(path('fixed'), { factor: 2, units: path('fixed').units, objective: 'registers', timeLimitSeconds: 5 });
+    expect(plan.status).toBe('infeasible');
+    expect(plan.reasons.join(' ')).toContain('fixed latency');
+    expect(plan.suggestion?.factor).toBeUndefined();
+  });
+
+  it('free latency: the same path gets a plan that adds latency', async () => {
+    const d = path('free');
+    const plan = await planDesign(d, { factor: 2, units: d.units, objective: 'registers', timeLimitSeconds: 5 });
+    expect(plan.status).not.toBe('infeasible');
+    expect(planProblems(d, plan)).toEqual([]);
+    expect(plan.objective!.latencyAdded).toBeGreaterThan(0);
+  });
+
+  it('a cancelled plan says so instead of claiming that no plan exists', async () => {
+    const { design } = loadDesign(readFileSync(examples + 'channelizer-taps.fold.yaml', 'utf8'));
+    const plan = await planDesign(bare(design!), { factor: design!.folding.factor, units: design!.units, objective: 'registers', timeLimitSeconds: 600, signal: { aborted: true } });
+    expect(plan.status).toBe('infeasible');
+    expect(plan.reasons.join(' ')).toContain('cancelled');
+  });
+});
