@@ -12,7 +12,7 @@ import { QueryTypes } from 'sequelize';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { JobResult } from '../../shared/api';
 import { startWorkerProcess, type WorkerProcess } from '../../server/test/workers';
-import { ensureChromium, ensureWebBuild, openBrowser, screenshot, signIn, type Session } from './browser';
+import { auditPage, ensureChromium, ensureWebBuild, openBrowser, screenshot, signIn, type Session } from './browser';
 import { demoAccount, demoProject } from './demo';
 import { ROOT, startWebServer, type WebServer } from './server';
 
@@ -71,6 +71,7 @@ describe('plan a design from try a design', () => {
     expect([...placed].sort((a, b) => a.node.localeCompare(b.node))).toEqual([...stored].sort((a, b) => a.node.localeCompare(b.node)));
     await page.getByRole('button', { name: 'Download the planned design' }).waitFor();
     await screenshot(page, 'job-plan');
+    expect(await auditPage(page)).toEqual([]);
     expect(s.errors).toEqual([]);
   }, 180_000);
 
@@ -93,6 +94,7 @@ describe('plan a design from try a design', () => {
     expect(await rows.count()).toBe(3);
     expect(await rows.locator('td:first-child').allTextContents()).toEqual(['2', '3', '4']);
     await screenshot(page, 'job-sweep');
+    expect(await auditPage(page)).toEqual([]);
     expect(s.errors).toEqual([]);
   }, 180_000);
 });
