@@ -45,11 +45,11 @@ export default function JobPage() {
     <div>
       <PageHeader
         eyebrow={
-          job.design.runId ? (
-            <Link to={to.run(project.slug, job.design.runId, job.design.name)} className="hover:underline">← run {job.design.runId}</Link>
+          <span className="flex flex-wrap gap-4"><Link to={to.jobs(project.slug)} className="hover:underline">← plans</Link>{job.design.runId ? (
+            <Link to={to.run(project.slug, job.design.runId, job.design.name)} className="hover:underline">run {job.design.runId}</Link>
           ) : (
-            <Link to={to.tryDesign(project.slug)} className="hover:underline">← try a design</Link>
-          )
+            <Link to={to.tryDesign(project.slug)} className="hover:underline">try a design</Link>
+          )}</span>
         }
         title={<span className="inline-flex flex-wrap items-center gap-3">{what} of {job.design.name ?? job.design.file}<JobStatusChip status={job.status} /></span>}
       >

@@ -72,6 +72,10 @@ describe('plan a design from try a design', () => {
     await page.getByRole('button', { name: 'Download the planned design' }).waitFor();
     await screenshot(page, 'job-plan');
     expect(await auditPage(page)).toEqual([]);
+    // The project's list of plans has it, for every member.
+    await page.getByRole('navigation', { name: 'Project' }).getByRole('link', { name: 'Plans' }).click();
+    await page.getByTestId('job-list').getByRole('link', { name: `Plan #${id}` }).waitFor();
+    expect(await auditPage(page)).toEqual([]);
     expect(s.errors).toEqual([]);
   }, 180_000);
 
