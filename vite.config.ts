@@ -9,7 +9,7 @@ export default defineConfig({
   build: { outDir: 'dist/web', emptyOutDir: true },
   server: { proxy: { '/api': `http://127.0.0.1:${serverPort}` } },
   test: {
-    include: ['tests/**/*.test.ts', 'server/**/*.test.ts', 'shared/**/*.test.ts', 'cli/**/*.test.ts'],
+    include: ['tests/**/*.test.ts', 'server/**/*.test.ts', 'shared/**/*.test.ts', 'cli/**/*.test.ts', 'solvers/**/*.test.ts'],
     testTimeout: 60_000,
     hookTimeout: 120_000,
     // Two cores on CI: keep parallelism modest so process-level tests do not starve.

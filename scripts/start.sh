@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # `npm start`: the whole set-up a fresh clone needs, then the server with the demo.
 #   dependencies -> private PostgreSQL (scripts/pg.sh) -> fake SMTP server (mail lands in
-#   .data/mail/) -> build -> migrations -> demo seed -> API + web app on 127.0.0.1:$PLEAT_PORT.
+#   .data/mail/) -> build -> migrations -> demo seed -> API + web app on 127.0.0.1:$PLEAT_PORT,
+#   and one worker process for plan and sweep jobs.
 # Running it again reuses the database and the seed (nothing is duplicated).
 set -euo pipefail
 cd "$(dirname "$0")/.."
@@ -45,6 +46,9 @@ node dist/server/main.js seed
 PLEAT_MIGRATE=0 node dist/server/main.js serve &
 SERVER=$!
 PIDS+=("$SERVER")
+# One worker for plan and sweep jobs beside the server; more may run anywhere against the same database.
+PLEAT_MIGRATE=0 node dist/server/main.js worker >.data/worker.log 2>&1 &
+PIDS+=("$!")
 for _ in $(seq 1 100); do
   port_busy "$PLEAT_PORT" && break
   kill -0 "$SERVER" 2>/dev/null || { echo "pleat: the server did not start" >&2; exit 1; }
@@ -62,6 +66,7 @@ cat <<EOF
     viewer@example.com     viewer: reads
 
   Mail sent by the server: .data/mail/*.eml, or http://127.0.0.1:$PLEAT_PORT/api/dev/mail
+  Plan and sweep jobs run in one worker process (log: .data/worker.log)
   Stop with Ctrl-C.
 
 EOF

@@ -41,6 +41,23 @@ export interface Config {
   outageRetrySeconds: number;
   /** How often the clean-up of server/maintenance.ts runs; 0 turns it off. */
   maintenanceMs: number;
+  jobs: JobSettings;
+}
+
+/** The plan and sweep jobs (docs/server.md, section Jobs). */
+export interface JobSettings {
+  /** PostgreSQL schema of pg-boss's own tables. */
+  queueSchema: string;
+  /** Seconds a job may run past its own time limit before the queue counts its worker as lost. */
+  graceSeconds: number;
+  /** How often a worker's supervisor looks for jobs of lost workers (pg-boss maintenance), seconds. */
+  superviseSeconds: number;
+  /** How often an idle worker asks for work, seconds. */
+  pollSeconds: number;
+  /** How many more times a job whose worker was lost is tried. */
+  retries: number;
+  /** Tests only: a worker waits this long after taking its first job, so a test can kill it mid-job. */
+  holdMs: number;
 }
 
 const MiB = 1024 * 1024;
@@ -76,6 +93,11 @@ function numbers(env: NodeJS.ProcessEnv) {
     PLEAT_UPLOAD_QUOTA: num({ default: 10_000 }),
     PLEAT_OUTAGE_RETRY_S: num({ default: 5 }),
     PLEAT_MAINTENANCE_MIN: num({ default: 10 }),
+    PLEAT_JOB_GRACE_S: num({ default: 60 }),
+    PLEAT_QUEUE_SUPERVISE_S: num({ default: 30 }),
+    PLEAT_QUEUE_POLL_S: num({ default: 2 }),
+    PLEAT_JOB_RETRIES: num({ default: 1 }),
+    PLEAT_TEST_JOB_HOLD_MS: num({ default: 0 }),
   }, {
     reporter: ({ errors }) => {
       const bad = Object.entries(errors).map(([name, e]) => `${name}: ${e?.message ?? 'invalid'}`);
@@ -139,6 +161,14 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env, overrides: Part
     upload: { perMinute: n.PLEAT_UPLOAD_LIMIT, perDay: n.PLEAT_UPLOAD_QUOTA },
     outageRetrySeconds: n.PLEAT_OUTAGE_RETRY_S,
     maintenanceMs: n.PLEAT_MAINTENANCE_MIN * 60_000,
+    jobs: {
+      queueSchema: env.PLEAT_QUEUE_SCHEMA || (env.PLEAT_DB_SCHEMA ? `${env.PLEAT_DB_SCHEMA}_queue` : 'pleat_queue'),
+      graceSeconds: n.PLEAT_JOB_GRACE_S,
+      superviseSeconds: n.PLEAT_QUEUE_SUPERVISE_S,
+      pollSeconds: n.PLEAT_QUEUE_POLL_S,
+      retries: n.PLEAT_JOB_RETRIES,
+      holdMs: mode === 'test' ? n.PLEAT_TEST_JOB_HOLD_MS : 0,
+    },
     ...overrides,
   };
 }

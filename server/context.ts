@@ -3,6 +3,7 @@ import type { Config } from './config';
 import type { Db } from './db/index';
 import type { AnalyzePool } from './analyzePool';
 import type { OutageMonitor } from './http/outage';
+import type { JobQueue } from './jobs/queue';
 import type { Mailer } from './mail/mailer';
 
 export interface AppContext {
@@ -14,4 +15,6 @@ export interface AppContext {
   analyzer?: AnalyzePool;
   /** Notices the database going away and coming back (server/http/outage.ts). */
   outage?: OutageMonitor;
+  /** The plan and sweep job queue (started on first use). */
+  queue: JobQueue;
 }

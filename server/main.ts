@@ -3,6 +3,7 @@
 //   migrate  apply pending migrations and exit
 //   seed     load the demo (accounts, project, history from the real engine); idempotent
 //   mail     run the fake SMTP server that writes every message to .data/mail/
+//   worker   take plan and sweep jobs from the PostgreSQL queue and run them (docs/server.md, Jobs)
 import { createServer } from 'node:http';
 import { join } from 'node:path';
 import { createApp } from './app';
@@ -11,6 +12,7 @@ import type { AppContext } from './context';
 import { connectDb } from './db/index';
 import { migrate } from './db/migrate';
 import { startFakeSmtp } from './mail/fakeSmtp';
+import { createJobQueue } from './jobs/queue';
 import { createMailer } from './mail/mailer';
 import { startMaintenance } from './maintenance';
 
@@ -33,7 +35,7 @@ async function main(command: string): Promise<void> {
   } catch (err) {
     throw new Error(`cannot reach PostgreSQL at ${config.databaseUrl.replace(/:[^:@/]*@/, ':***@')} (${(err as Error).message}); start it with \`bash scripts/pg.sh\``);
   }
-  if (command === 'migrate' || (command === 'serve' && process.env.PLEAT_MIGRATE !== '0')) {
+  if (command === 'migrate' || ((command === 'serve' || command === 'worker') && process.env.PLEAT_MIGRATE !== '0')) {
     const applied = await migrate(db.sequelize);
     if (applied.length) log(`applied migrations ${applied.join(', ')}`);
     if (command === 'migrate') {
@@ -42,17 +44,28 @@ async function main(command: string): Promise<void> {
       return;
     }
   }
+  if (command === 'worker') {
+    const { loadPlanner } = await import('./jobs/planner');
+    const { startWorker } = await import('./jobs/worker');
+    const worker = await startWorker(config, db, await loadPlanner(), log);
+    const stop = () => void worker.stop().then(() => db.close()).then(() => process.exit(0), () => process.exit(1));
+    process.once('SIGINT', stop);
+    process.once('SIGTERM', stop);
+    return;
+  }
   const mail = createMailer(config.smtp, log);
-  const ctx: AppContext = { config, db, mail, log };
+  const queue = createJobQueue(config, log);
+  const ctx: AppContext = { config, db, mail, log, queue };
   if (command === 'seed') {
     const { seedDemo } = await import('./seed/seed');
     await seedDemo(ctx, log);
     await mail.settled();
     mail.close();
+    await queue.close();
     await db.close();
     return;
   }
-  if (command !== 'serve') throw new Error(`unknown command '${command}' (serve, migrate, seed, mail)`);
+  if (command !== 'serve') throw new Error(`unknown command '${command}' (serve, migrate, seed, mail, worker)`);
   const server = createServer(createApp(ctx));
   await new Promise<void>((resolve, reject) => {
     server.once('error', reject);
@@ -69,6 +82,7 @@ async function main(command: string): Promise<void> {
       await mail.settled();
       mail.close();
       await ctx.analyzer?.close();
+      await queue.close();
       await db.close();
       process.exit(0);
     });

@@ -19,6 +19,8 @@ const TokensPage = lazy(() => import('./pages/TokensPage'));
 const MembersPage = lazy(() => import('./pages/MembersPage'));
 const UsersPage = lazy(() => import('./pages/UsersPage'));
 const TryDesignPage = lazy(() => import('./pages/TryDesignPage'));
+const JobPage = lazy(() => import('./pages/JobPage'));
+const JobsPage = lazy(() => import('./pages/JobsPage'));
 const NotFoundPage = lazy(() => import('./pages/NotFoundPage'));
 
 const page = (node: ReactNode) => <Suspense fallback={<Loading label="Loading the page…" />}>{node}</Suspense>;
@@ -42,6 +44,8 @@ export const router = createBrowserRouter([
           { index: true, element: page(<BranchesPage />) },
           { path: 'branches/*', element: page(<BranchPage />) },
           { path: 'runs/:id', element: page(<RunPage />) },
+          { path: 'jobs', element: page(<JobsPage />) },
+          { path: 'jobs/:id', element: page(<JobPage />) },
           { path: 'rules', element: page(<RulesPage />) },
           { path: 'tokens', element: page(<TokensPage />) },
           { path: 'members', element: page(<MembersPage />) },

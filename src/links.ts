@@ -16,6 +16,8 @@ export const to = {
   rules: (slug: string) => `/projects/${seg(slug)}/rules`,
   tokens: (slug: string) => `/projects/${seg(slug)}/tokens`,
   members: (slug: string) => `/projects/${seg(slug)}/members`,
+  jobs: (slug: string) => `/projects/${seg(slug)}/jobs`,
+  job: (slug: string, id: number) => `/projects/${seg(slug)}/jobs/${id}`,
   tryDesign: (project?: string | null) => (project ? `/try?project=${seg(project)}` : '/try'),
   users: () => '/admin/users',
 };

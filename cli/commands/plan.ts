@@ -69,8 +69,8 @@ export async function runPlan(paths: string[], opts: PlanCliOptions, ctx: CliCon
 
   const [{ loadPlanner }, { highsSolver }, { writeBack, WriteBackError }] = await Promise.all([
     import('../plan/engine'),
-    import('../solver/highs'),
-    import('../plan/writeBack'),
+    import('../../solvers/highs'),
+    import('../../shared/design/writeBack'),
   ]);
   const planner = await loadPlanner();
   const solver = highsSolver();

@@ -69,7 +69,7 @@ export async function runSweep(file: string, opts: SweepCliOptions, ctx: CliCont
     }
   }
   const progress = process.stderr.isTTY ? (line: string) => process.stderr.write(`\r\x1b[2K${errColor.dim(line)}`) : null;
-  const [{ loadPlanner }, { highsSolver }] = await Promise.all([import('../plan/engine'), import('../solver/highs')]);
+  const [{ loadPlanner }, { highsSolver }] = await Promise.all([import('../plan/engine'), import('../../solvers/highs')]);
   const planner = await loadPlanner();
   const rows = await planner.sweepDesign(design, {
     factors: opts.factors,

@@ -1,7 +1,7 @@
 // What `pleat check --upload`, `pleat upload` and the team-rules fetch of `pleat check` share:
 // where the server is (config, PLEAT_SERVER_URL / PLEAT_PROJECT), the token (PLEAT_TOKEN only),
 // keeping the report on disk, and one clear line per outcome. The token is never printed.
-import { mkdirSync, writeFileSync, existsSync } from 'node:fs';
+import { mkdirSync, writeFileSync, existsSync, readFileSync, statSync } from 'node:fs';
 import path from 'node:path';
 import { checkUploadReport } from '../../shared/report/reportSchema';
 import { checkRules } from '../../shared/report/rules';
@@ -176,6 +176,29 @@ export interface AfterCheck {
 }
 
 /** `check --upload`: keep the JSON report on disk, then send it. True when the server has the run. */
+/** Largest design file whose text rides along with an upload. */
+const SOURCE_MAX_BYTES = 1024 * 1024;
+
+/**
+ * Each design's file text travels with the upload as designs[].source (docs/server.md), so that
+ * the server can plan a run's design; larger files and files that cannot be read are left out.
+ * The report kept on disk stays without them.
+ */
+export function withSources(report: Report, root: string): Report {
+  return {
+    ...report,
+    designs: report.designs.map((d) => {
+      try {
+        const abs = path.resolve(root, d.file);
+        if (statSync(abs).size > SOURCE_MAX_BYTES) return d;
+        return { ...d, source: readFileSync(abs, 'utf8') };
+      } catch {
+        return d;
+      }
+    }),
+  };
+}
+
 export async function uploadAfterCheck(a: AfterCheck): Promise<boolean> {
   let kept: string | null = a.jsonOutput ? path.resolve(a.cwd, a.jsonOutput) : path.join(a.root, KEPT_REPORT);
   if (!a.jsonOutput) {
@@ -187,13 +210,14 @@ export async function uploadAfterCheck(a: AfterCheck): Promise<boolean> {
       kept = null;
     }
   }
-  const problem = uploadProblem(a.report);
+  const body = withSources(a.report, a.root);
+  const problem = uploadProblem(body);
   if (problem) {
     a.say(`pleat: upload failed (not sent): ${problem}`);
     if (kept) a.say(`pleat: the report is kept in ${shown(a.cwd, kept)}`);
     return false;
   }
-  return sendReport(JSON.stringify(a.report), a.target, a.policy, { say: a.say, quiet: a.quiet, version: a.version, keptAs: kept ? shown(a.cwd, kept) : null });
+  return sendReport(JSON.stringify(body), a.target, a.policy, { say: a.say, quiet: a.quiet, version: a.version, keptAs: kept ? shown(a.cwd, kept) : null });
 }
 
 function shown(cwd: string, file: string): string {

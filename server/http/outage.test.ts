@@ -7,6 +7,7 @@ import { createServer, connect, type AddressInfo, type Socket } from 'node:net';
 import supertest from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createApp } from '../app';
+import { createJobQueue } from '../jobs/queue';
 import { loadConfig } from '../config';
 import type { AppContext } from '../context';
 import { connectDb, type Db } from '../db/index';
@@ -39,13 +40,15 @@ beforeAll(async () => {
   url.port = String((proxy.address() as AddressInfo).port);
   db = connectDb({ url: url.toString(), schema: testDb.schema, pool: 4 });
   const config = loadConfig({ PLEAT_ENV: 'test', PLEAT_JWT_SECRET: 'x'.repeat(32), PLEAT_SMTP_HOST: 'none', PLEAT_UPLOAD_LIMIT: '100000' });
-  ctx = { config, db, mail: createMailer(null, () => {}), log: (m) => logs.push(m) };
+  const log = (m: string) => logs.push(m);
+  ctx = { config, db, mail: createMailer(null, () => {}), log, queue: createJobQueue(config, log) };
   ctx.outage = (await import('./outage')).outageMonitor(db.sequelize, ctx.log, { probeMs: 100 });
   http = createHttpServer(createApp(ctx));
   await new Promise<void>((r) => http.listen(0, '127.0.0.1', r));
 });
 afterAll(async () => {
   ctx?.outage?.stop();
+  await ctx?.queue.close();
   http?.closeAllConnections();
   await new Promise((r) => http?.close(r));
   await db?.close();

@@ -5,7 +5,7 @@ import { readFileSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Test } from 'supertest';
 import { ingestRun } from './runs/ingest';
-import { addMember, cookieFor, makeCiToken, makeProject, makeInvitation, makeMember, makeReport, makeUser, makeWorld, randomCommit, type World } from '../test/factories';
+import { addMember, cookieFor, makeCiToken, makeProject, makeInvitation, makeJob, makeMember, makeReport, makeUser, makeWorld, randomCommit, type World } from '../test/factories';
 import { startTestServer, type TestServer } from '../test/server';
 
 const WHO = ['admin', 'lead', 'engineer', 'viewer', 'outsider', 'anonymous', 'ciOwn', 'ciOther'] as const;
@@ -113,6 +113,17 @@ const CASES: Case[] = [
     path: (p, w) => `/api/projects/${slug(p, w)}/branches/main/watch`, expect: row('200 200 200 403 404 401 403 403') },
   // The outsider leads another project, so may try designs; a viewer may not.
   { route: 'POST /api/analyze', method: 'post', path: () => '/api/analyze', design: true, expect: row('200 200 200 403 200 401 403 403') },
+  // Jobs: engineers and above start and cancel; every member sees them (docs/server.md, Jobs).
+  { route: 'POST /api/projects/:slug/jobs', method: 'post', path: (p, w) => `/api/projects/${slug(p, w)}/jobs`,
+    body: () => ({ kind: 'plan', design: { text: design.toString('utf8'), file: 'sensor-frontend.fold.yaml' }, timeLimitSeconds: 1 }),
+    expect: row('201 201 201 403 404 401 403 403') },
+  { route: 'GET /api/projects/:slug/jobs', method: 'get', path: (p, w) => `/api/projects/${slug(p, w)}/jobs`, expect: row('200 200 200 200 404 401 403 403') },
+  { route: 'GET /api/jobs/:id', method: 'get',
+    prepare: async (t, w) => ({ id: await makeJob(t.ctx, w.project, w.engineer) }),
+    path: (p) => `/api/jobs/${p.id}`, expect: row('200 200 200 200 404 401 403 403') },
+  { route: 'POST /api/jobs/:id/cancel', method: 'post',
+    prepare: async (t, w) => ({ id: await makeJob(t.ctx, w.project, w.engineer) }),
+    path: (p) => `/api/jobs/${p.id}/cancel`, expect: row('200 200 200 403 404 401 403 403') },
   // The sent-mail viewer exists only in development; under test it is absent for everyone.
   { route: 'GET /api/dev/mail', method: 'get', path: () => '/api/dev/mail', expect: row('404 404 404 404 404 404 404 404') },
   { route: 'GET /api/no-such-route', method: 'get', path: () => '/api/no-such-route', expect: row('404 404 404 404 404 404 404 404') },

@@ -169,7 +169,8 @@ export async function seedDemo(ctx: AppContext, log: (msg: string) => void = () 
     const cacheKey = `${key}\u0000${text}`;
     let d = cache.get(cacheKey);
     if (!d) {
-      d = checkDesignText(text, `hw/${FILES[key]}`, TEAM_RULES, REPO_RULES).design;
+      // The design's text travels with the run (designs[].source), so the run page can plan it.
+      d = { ...checkDesignText(text, `hw/${FILES[key]}`, TEAM_RULES, REPO_RULES).design, source: text } as DesignReport;
       cache.set(cacheKey, d);
     }
     return d;

@@ -24,7 +24,7 @@ async function reachable(db: Db): Promise<boolean> {
 /** Drops schemas left by test processes that died before their cleanup. */
 async function dropStaleSchemas(admin: Db): Promise<void> {
   const rows = await admin.sequelize.query<{ nspname: string }>(
-    "SELECT nspname FROM pg_namespace WHERE nspname ~ '^t_[0-9]+_[0-9a-f]+$'", { type: QueryTypes.SELECT },
+    "SELECT nspname FROM pg_namespace WHERE nspname ~ '^t_[0-9]+_[0-9a-f]+(_queue)?$'", { type: QueryTypes.SELECT },
   );
   for (const { nspname } of rows) {
     const pid = Number(nspname.split('_')[1]);
@@ -36,6 +36,8 @@ async function dropStaleSchemas(admin: Db): Promise<void> {
 
 export interface TestDb extends Db {
   schema: string;
+  /** The schema of this file's job queue (pg-boss's tables), made by the queue on first use. */
+  queueSchema: string;
   /** Empties every table (between groups of tests in one file). */
   truncate(): Promise<void>;
   /** Drops the schema and closes the connections. */
@@ -59,6 +61,7 @@ export async function createTestDb(): Promise<TestDb> {
   return {
     ...db,
     schema,
+    queueSchema: `${schema}_queue`,
     async truncate() {
       const tables = await db.sequelize.query<{ tablename: string }>(
         "SELECT tablename FROM pg_tables WHERE schemaname = current_schema() AND tablename <> 'pleat_migrations'",
@@ -68,6 +71,7 @@ export async function createTestDb(): Promise<TestDb> {
     },
     async drop() {
       await db.close();
+      await admin.sequelize.query(`DROP SCHEMA IF EXISTS "${schema}_queue" CASCADE`);
       await admin.sequelize.query(`DROP SCHEMA IF EXISTS "${schema}" CASCADE`);
       await admin.close();
     },

@@ -4,6 +4,7 @@ import bcrypt from 'bcryptjs';
 import type { DesignReport, Report, Status } from '../../shared/types';
 import type { AppContext } from '../context';
 import type { Invitation, Project, Role, User } from '../db/models';
+import { insertJob } from '../jobs/store';
 import { CI_TOKEN_PREFIX, SESSION_COOKIE, hashSecret, newSecret, signSession } from '../http/auth';
 
 let seq = 0;
@@ -132,6 +133,14 @@ export function makeReport(o: { branch?: string; commit?: string; baseBranch?: s
     rules: {},
     designs,
   };
+}
+
+/** A queued plan job of the project (in our tables only: no worker will take it). */
+export async function makeJob(ctx: AppContext, project: Project, user: User, o: { text?: string; kind?: 'plan' | 'sweep' } = {}): Promise<number> {
+  return insertJob(ctx.db.sequelize, {
+    projectId: project.id, kind: o.kind ?? 'plan', runId: null, file: 'made.fold.yaml', name: 'made',
+    text: o.text ?? 'format: pleat/1\nname: made\n', params: { objective: 'registers', timeLimitSeconds: 1 }, userId: user.id,
+  });
 }
 
 export function randomCommit(): string {

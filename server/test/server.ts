@@ -7,8 +7,9 @@ import { createApp } from '../app';
 import { loadConfig, type Config } from '../config';
 import type { AppContext } from '../context';
 import { startFakeSmtp, type FakeSmtp } from '../mail/fakeSmtp';
+import { createJobQueue } from '../jobs/queue';
 import { createMailer } from '../mail/mailer';
-import { createTestDb, type TestDb } from './db';
+import { createTestDb, TEST_DATABASE_URL, type TestDb } from './db';
 
 export interface TestServer {
   ctx: AppContext;
@@ -26,6 +27,8 @@ export async function startTestServer(opts: { mail?: boolean; config?: Partial<C
   const smtp = opts.mail ? await startFakeSmtp() : null;
   const config = loadConfig({
     PLEAT_ENV: 'test',
+    PLEAT_DATABASE_URL: TEST_DATABASE_URL,
+    PLEAT_QUEUE_SCHEMA: db.queueSchema,
     PLEAT_JWT_SECRET: 'test-secret-not-used-anywhere-else',
     PLEAT_BCRYPT_ROUNDS: '4',
     PLEAT_LOGIN_LIMIT: '1000',
@@ -36,7 +39,9 @@ export async function startTestServer(opts: { mail?: boolean; config?: Partial<C
   }, opts.config);
   const logs: string[] = [];
   const mail = createMailer(config.smtp, (m) => logs.push(m));
-  const ctx: AppContext = { config, db, mail, log: (m) => logs.push(m) };
+  const log = (m: string) => logs.push(m);
+  const queue = createJobQueue(config, log);
+  const ctx: AppContext = { config, db, mail, log, queue };
   const app = createApp(ctx);
   // One listening server for the whole file: supertest would otherwise start one per request.
   const server = createServer(app);
@@ -50,6 +55,7 @@ export async function startTestServer(opts: { mail?: boolean; config?: Partial<C
       await mail.settled();
       mail.close();
       await ctx.analyzer?.close();
+      await queue.close();
       await smtp?.close();
       await db.drop();
     },

@@ -190,3 +190,100 @@ export interface AnalyzeResult {
   design: DesignReport;
   rules: EffectiveRules;
 }
+
+// ---------------------------------------------------------------- plan and sweep jobs (docs/server.md, Jobs)
+
+export type JobKind = 'plan' | 'sweep';
+export type JobStatus = 'queued' | 'running' | 'done' | 'failed' | 'cancelled';
+export type JobObjective = 'registers' | 'muxes' | 'latency';
+
+/** What was asked. Plan: factor and units default to the design's. Sweep: factors and units. */
+export interface JobParams {
+  objective: JobObjective;
+  timeLimitSeconds: number;
+  factor?: number;
+  /** Units per kind (plan: made or dropped per kind; sweep: fixed counts, or 'auto'). */
+  units?: Record<string, number> | 'auto';
+  factors?: number[];
+}
+
+export interface JobUnit { id: string; kind: string; stages: number }
+
+export interface JobPlanMetrics { registers: number; muxInputs: number; latencyAdded: number }
+
+/** A plan as the engine returned it (shared/planning/types.ts, PlanResult). */
+export interface JobPlan {
+  status: 'optimal' | 'feasible' | 'infeasible';
+  method: string;
+  factor: number;
+  units: JobUnit[];
+  sets: Record<string, (string | null)[]>;
+  objective: JobPlanMetrics | null;
+  bound: Partial<JobPlanMetrics> | null;
+  gapPercent: number | null;
+  pins: string[];
+  reasons: string[];
+  suggestion: { factor?: number; units?: Record<string, number> } | null;
+  seconds: number;
+  notes?: string[];
+}
+
+/** The design's own plan, where it had one: what the new plan is compared with. */
+export interface CurrentPlan {
+  factor: number;
+  units: JobUnit[];
+  sets: Record<string, (string | null)[]>;
+  /** Measured by the same engine; null when the design's own sets are partial or do not fold. */
+  objective: JobPlanMetrics | null;
+}
+
+export interface JobSweepRow {
+  factor: number;
+  units: Record<string, number>;
+  plan: JobPlan;
+  utilization: number | null;
+  samplePeriodNs: number | null;
+  pareto: boolean;
+}
+
+export type JobResult =
+  | { kind: 'plan'; plan: JobPlan; current: CurrentPlan | null; plannedText: string | null }
+  | { kind: 'sweep'; rows: JobSweepRow[] };
+
+export interface JobProgress {
+  phase: string;
+  done?: number;
+  total?: number;
+  at: string;
+}
+
+export interface JobAttempt {
+  attempt: number;
+  worker: string;
+  outcome: 'running' | 'done' | 'failed' | 'cancelled' | 'lost';
+  message: string | null;
+  startedAt: string;
+  endedAt: string | null;
+}
+
+/** A job in a list: everything but the design text and the result. */
+export interface JobSummary {
+  id: number;
+  project: { slug: string; name: string };
+  kind: JobKind;
+  status: JobStatus;
+  design: { file: string; name: string | null; runId: number | null };
+  params: JobParams;
+  progress: JobProgress | null;
+  error: string | null;
+  cancelRequested: boolean;
+  createdBy: { id: number; name: string } | null;
+  createdAt: string;
+  startedAt: string | null;
+  finishedAt: string | null;
+}
+
+export interface JobDetail extends JobSummary {
+  attempts: JobAttempt[];
+  result: JobResult | null;
+}

@@ -4,6 +4,10 @@
 
 import type {
   AnalyzeResult,
+  JobDetail,
+  JobKind,
+  JobObjective,
+  JobSummary,
   ApiErrorBody,
   BranchList,
   CiToken,
@@ -209,5 +213,22 @@ export const api = {
     if (project) form.append('project', project);
     return request<AnalyzeResult>('/api/analyze', { method: 'POST', body: form });
   },
+
+  // plan and sweep jobs (server/resources/jobs/routes.ts)
+  startJob: (slug: string, body: StartJob) => request<{ job: JobSummary }>(`/api/projects/${seg(slug)}/jobs`, { method: 'POST', body }),
+  jobs: (slug: string, signal?: AbortSignal) => request<{ jobs: JobSummary[] }>(`/api/projects/${seg(slug)}/jobs`, { signal }),
+  job: (id: number, signal?: AbortSignal) => request<{ job: JobDetail }>(`/api/jobs/${id}`, { signal }),
+  cancelJob: (id: number) => request<{ job: JobDetail }>(`/api/jobs/${id}/cancel`, { method: 'POST' }),
 };
+
+/** What starts a job: the design from a stored run (by design name) or as text, and the settings. */
+export interface StartJob {
+  kind: JobKind;
+  design: { runId: number; name: string } | { text: string; file?: string };
+  objective?: JobObjective;
+  timeLimitSeconds?: number;
+  factor?: number;
+  units?: Record<string, number> | 'auto';
+  factors?: number[];
+}
 

@@ -1,7 +1,7 @@
 // One hook per query and per mutation. Query keys live here only, so a mutation knows exactly
 // which cached answers it makes stale.
 import { keepPreviousData, useInfiniteQuery, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
-import { api } from './client';
+import { api, type StartJob } from './client';
 import type { Me, Role, Rules } from './types';
 
 export const keys = {
@@ -18,6 +18,8 @@ export const keys = {
   invitations: (slug: string) => ['invitations', slug] as const,
   invitation: (token: string) => ['invitation', token] as const,
   users: ['users'] as const,
+  jobs: (slug: string) => ['jobs', slug] as const,
+  job: (id: number) => ['job', id] as const,
 };
 
 // ---------------------------------------------------------------- session
@@ -226,5 +228,42 @@ export function useUpdateUser() {
 export function useAnalyze() {
   return useMutation({
     mutationFn: (v: { file: Blob; fileName: string; project?: string | null }) => api.analyze(v.file, v.fileName, v.project),
+  });
+}
+
+// ---------------------------------------------------------------- plan and sweep jobs
+
+const jobEnded = (status: string | undefined) => status === 'done' || status === 'failed' || status === 'cancelled';
+
+export function useStartJob(slug: string) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (v: StartJob) => api.startJob(slug, v),
+    onSuccess: () => qc.invalidateQueries({ queryKey: keys.jobs(slug) }),
+  });
+}
+
+export function useJobs(slug: string) {
+  return useQuery({
+    queryKey: keys.jobs(slug),
+    queryFn: ({ signal }) => api.jobs(slug, signal),
+    refetchInterval: (q) => (q.state.data?.jobs.some((j) => !jobEnded(j.status)) ? 2000 : false),
+  });
+}
+
+/** One job; asked again every second until it has ended (progress comes from its worker). */
+export function useJob(id: number) {
+  return useQuery({
+    queryKey: keys.job(id),
+    queryFn: ({ signal }) => api.job(id, signal),
+    refetchInterval: (q) => (jobEnded(q.state.data?.job.status) ? false : 1000),
+  });
+}
+
+export function useCancelJob(id: number) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: () => api.cancelJob(id),
+    onSuccess: (data) => qc.setQueryData(keys.job(id), data),
   });
 }

@@ -22,6 +22,8 @@ export const can = {
   editRules: (r: ProjectRole | null) => atLeast(r, 'lead'),
   manageTokens: (r: ProjectRole | null) => atLeast(r, 'lead'),
   manageMembers: (r: ProjectRole | null) => atLeast(r, 'lead'),
+  /** Plans and sweeps: engineers and above start and cancel them (server/resources/jobs/policy.ts). */
+  startJob: (r: ProjectRole | null) => atLeast(r, 'engineer'),
   /** Trying a design: admins, and engineers or leads of at least one project. */
   tryDesign: (me: Me | undefined) => !!me && (me.user.isAdmin || me.memberships.some((m) => m.role === 'lead' || m.role === 'engineer')),
   manageUsers: (me: Me | undefined) => !!me?.user.isAdmin,

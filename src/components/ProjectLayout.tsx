@@ -31,6 +31,9 @@ export function ProjectLayout() {
           <NavLink end to={to.project(slug)} className={({ isActive }) => tab({ isActive: isActive || /\/(branches|runs)\//.test(pathname) })}>
             Branches
           </NavLink>
+          <NavLink to={to.jobs(slug)} className={tab}>
+            Plans
+          </NavLink>
           <NavLink to={to.rules(slug)} className={tab}>
             Rules
           </NavLink>

@@ -2,6 +2,8 @@ import { Link, useParams, useSearchParams } from 'react-router-dom';
 import { useRun } from '../api/hooks';
 import { ComparisonPanel } from '../components/ComparisonPanel';
 import { DesignReportView } from '../components/DesignReportView';
+import { PlanActions } from '../components/PlanActions';
+import { can } from '../api/roles';
 import { useProjectContext } from '../components/ProjectLayout';
 import { PageHeader, Panel } from '../components/Panel';
 import { StatusBadge, StatusIcon } from '../components/StatusBadge';
@@ -108,6 +110,14 @@ export default function RunPage() {
             </ul>
           </nav>
           <div className="min-w-0">
+            {selected && can.startJob(project.role) && (
+              <Panel id="run-plan" title="Plan this design" className="mb-6"
+                subtitle={(selected as { source?: string }).source ? 'The planner finds folding sets for this design as the run uploaded it.' : 'This run was uploaded without the text of its designs, so it cannot be planned here.'}>
+                {(selected as { source?: string }).source && selected.name ? (
+                  <PlanActions slug={project.slug} design={{ runId: run.id, name: selected.name }} factor={selected.factor ?? null} />
+                ) : null}
+              </Panel>
+            )}
             {selected && (
               <DesignReportView
                 key={`${selected.file}-${index}`}

@@ -5,6 +5,7 @@ import { useAnalyze, useMe, useProjects } from '../api/hooks';
 import { atLeast, can } from '../api/roles';
 import type { Diagnostic } from '../../shared/types';
 import { FormError } from '../components/AuthFrame';
+import { PlanActions } from '../components/PlanActions';
 import { DesignReportView } from '../components/DesignReportView';
 import { DiagnosticsList } from '../components/DiagnosticsList';
 import { Forbidden } from '../components/Forbidden';
@@ -162,6 +163,17 @@ function TryDesign() {
                     : 'The file is not a valid design; the findings below point at its lines.'}
               </span>
             </div>
+            <Panel
+              id="try-plan"
+              title="Plan this design"
+              subtitle={project ? `The planner finds folding sets for it; the job is kept with ${eligible.find((p) => p.slug === project)?.name ?? project}.` : 'Plans are kept with a project: choose one above to plan this file.'}
+            >
+              {project ? (
+                <PlanActions slug={project} design={{ text: file.text, file: file.name }} factor={result.design.factor ?? null} />
+              ) : (
+                <p className="text-sm text-ink-600">Choose the project whose team rules apply; its engineers and leads can then follow the plan.</p>
+              )}
+            </Panel>
             {diagnostics.some((d) => d.line !== null) || result.design.status === 'error' ? (
               <div ref={sourceRef} className="scroll-mt-20">
                 <Panel

@@ -8,8 +8,9 @@ import { createApp } from '../../server/app';
 import { loadConfig } from '../../server/config';
 import type { AppContext } from '../../server/context';
 import type { Project } from '../../server/db/models';
+import { createJobQueue } from '../../server/jobs/queue';
 import { createMailer } from '../../server/mail/mailer';
-import { createTestDb, type TestDb } from '../../server/test/db';
+import { createTestDb, TEST_DATABASE_URL, type TestDb } from '../../server/test/db';
 import { makeCiToken, makeProject } from '../../server/test/factories';
 import type { Rules } from '../../shared/types';
 import { pleat, type RunResult } from '../cli/helpers';
@@ -31,6 +32,8 @@ export async function startLiveServer(): Promise<LiveServer> {
   const db = await createTestDb();
   const config = loadConfig({
     PLEAT_ENV: 'test',
+    PLEAT_DATABASE_URL: TEST_DATABASE_URL,
+    PLEAT_QUEUE_SCHEMA: db.queueSchema,
     PLEAT_JWT_SECRET: 'test-secret-not-used-anywhere-else',
     PLEAT_BCRYPT_ROUNDS: '4',
     PLEAT_PUBLIC_URL: 'http://pleat.test',
@@ -38,7 +41,9 @@ export async function startLiveServer(): Promise<LiveServer> {
   });
   const logs: string[] = [];
   const mail = createMailer(config.smtp, (m) => logs.push(m));
-  const ctx: AppContext = { config, db, mail, log: (m) => logs.push(m) };
+  const log = (m: string) => logs.push(m);
+  const queue = createJobQueue(config, log);
+  const ctx: AppContext = { config, db, mail, log, queue };
   const app = createApp(ctx);
   let failing = 0;
   const requests: string[] = [];
@@ -68,6 +73,7 @@ export async function startLiveServer(): Promise<LiveServer> {
       await new Promise<void>((resolve) => server.close(() => resolve()));
       await mail.settled();
       mail.close();
+      await queue.close();
       await db.drop();
     },
   };

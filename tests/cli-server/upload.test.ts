@@ -5,6 +5,7 @@ import { execFileSync } from 'node:child_process';
 import { existsSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
+import { QueryTypes } from 'sequelize';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import {
   cleanupTemps, ensureBuilt, passingDesign, projectWithToken, randomCommit, run, runsOf, startLiveServer, tempDir, write, type LiveServer,
@@ -41,6 +42,11 @@ describe('check --upload', () => {
     const rows = await runsOf(s.db, commit);
     expect(rows).toHaveLength(1);
     expect(rows[0]).toMatchObject({ branch: 'main', verdict: 'pass' });
+    // The design's text rides along, so the run page can plan it (docs/server.md, Jobs).
+    const [stored] = await s.db.sequelize.query<{ source: string }>(
+      `SELECT report->'designs'->0->>'source' AS source FROM runs WHERE commit = $1`, { bind: [commit], type: QueryTypes.SELECT },
+    );
+    expect(stored!.source).toBe(readFileSync(path.join(repo, 'hw/smooth.fold.yaml'), 'utf8'));
 
     // CI runs the job again on the same commit.
     const again = await run(['check', '--upload'], repo, env(commit));
@@ -48,9 +54,10 @@ describe('check --upload', () => {
     expect(again.stderr).toMatch(/already stored as run \d+/);
     expect(await runsOf(s.db, commit)).toHaveLength(1);
 
-    // The report stays on disk, with the facts that were sent.
+    // The report stays on disk, with the facts that were sent (and without the design texts).
     const kept = JSON.parse(readFileSync(path.join(repo, '.pleat/report.json'), 'utf8'));
     expect(kept.git).toEqual({ branch: 'main', commit });
+    expect(kept.designs[0].source).toBeUndefined();
     expect(existsSync(path.join(repo, '.pleat/.gitignore'))).toBe(true);
     for (const r of [first, again]) expect(r.stdout + r.stderr).not.toContain(token);
   });

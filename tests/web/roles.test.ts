@@ -67,6 +67,8 @@ describe.each(Object.keys(MAY) as DemoRole[])('signed in as the demo %s', (role)
     await page.locator('tr[data-branch="main"]').getByRole('link', { name: /Latest run of main/ }).click();
     await page.getByTestId('design-report').waitFor();
     expect(await page.getByRole('heading', { level: 1 }).textContent()).toMatch(/^Run of [0-9a-f]{8}/);
+    // Plans and sweeps are started by engineers and above, the roles that try designs.
+    expect(await page.getByRole('button', { name: 'Plan this design' }).count()).toBe(may.tryDesign ? 1 : 0);
   });
 
   it('is offered only the tabs, links and buttons of its role', async () => {
@@ -115,6 +117,8 @@ describe.each(Object.keys(MAY) as DemoRole[])('signed in as the demo %s', (role)
     expect(await statusOf(s, 'GET', `/api/projects/${slug}/rules`)).toBe(200);
     if (!may.rules) expect(await statusOf(s, 'PUT', `/api/projects/${slug}/rules`, { rules: { max_registers: 1 } })).toBe(403);
     if (!may.watch) expect(await statusOf(s, 'PUT', `/api/projects/${slug}/branches/main/watch`)).toBe(403);
+    // An empty job request: refused for its role (403) before its body is read, else for its body (400).
+    expect(await statusOf(s, 'POST', `/api/projects/${slug}/jobs`, {})).toBe(may.tryDesign ? 400 : 403);
     expect(s.errors).toEqual([]);
   });
 

@@ -8,9 +8,10 @@ import { fileURLToPath } from 'node:url';
 import { createApp } from '../../server/app';
 import { loadConfig } from '../../server/config';
 import type { AppContext } from '../../server/context';
+import { createJobQueue } from '../../server/jobs/queue';
 import { createMailer } from '../../server/mail/mailer';
 import { startFakeSmtp, type FakeSmtp } from '../../server/mail/fakeSmtp';
-import { createTestDb, type TestDb } from '../../server/test/db';
+import { createTestDb, TEST_DATABASE_URL, type TestDb } from '../../server/test/db';
 
 export interface WebServer {
   url: string;
@@ -31,6 +32,8 @@ export async function startWebServer(o: { seed?: boolean } = {}): Promise<WebSer
   const port = (server.address() as AddressInfo).port;
   const config = loadConfig({
     PLEAT_ENV: 'test',
+    PLEAT_DATABASE_URL: TEST_DATABASE_URL,
+    PLEAT_QUEUE_SCHEMA: db.queueSchema,
     PLEAT_ROOT: ROOT,
     PLEAT_JWT_SECRET: 'browser-test-secret',
     PLEAT_BCRYPT_ROUNDS: '4',
@@ -44,7 +47,8 @@ export async function startWebServer(o: { seed?: boolean } = {}): Promise<WebSer
   const logs: string[] = [];
   const log = (m: string) => logs.push(m);
   const mail = createMailer(config.smtp, log);
-  const ctx: AppContext = { config, db, mail, log };
+  const queue = createJobQueue(config, log);
+  const ctx: AppContext = { config, db, mail, log, queue };
   server.on('request', createApp(ctx));
   if (o.seed !== false) {
     const { seedDemo } = await import('../../server/seed/seed');
@@ -61,6 +65,7 @@ export async function startWebServer(o: { seed?: boolean } = {}): Promise<WebSer
       await new Promise<void>((resolve) => server.close(() => resolve()));
       await mail.settled();
       mail.close();
+      await queue.close();
       await smtp.close();
       await db.drop();
     },

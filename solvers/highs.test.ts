@@ -1,7 +1,7 @@
 // The HiGHS adaptor against problems whose answers this file computes itself by enumerating
 // every integer point (an independent brute-force reference, no solver involved).
 import { describe, expect, it } from 'vitest';
-import { seededRandom } from '../../shared/hardware/arith';
+import { seededRandom } from '../shared/hardware/arith';
 import { highsSolver } from './highs';
 
 interface SmallMilp {

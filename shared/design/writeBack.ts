@@ -3,7 +3,7 @@
 // lines are replaced, so every other byte of the file (comments, spacing, key order) is kept.
 // Printing the whole document again would reformat lines the plan does not touch.
 import { isCollection, isMap, isPair, isScalar, isSeq, parseDocument, type Document, type Node, type Pair, type YAMLMap } from 'yaml';
-import type { Unit } from '../../shared/types';
+import type { Unit } from '../types';
 
 export interface PlanEdit {
   sets: Record<string, (string | null)[]>;

@@ -5,7 +5,7 @@
 import { readFileSync } from 'node:fs';
 import { createRequire } from 'node:module';
 import type { Highs, Model } from 'highs';
-import type { MilpSolution, MilpSolver } from '../plan/api';
+import type { MilpSolution, MilpSolver } from '../shared/planning/types';
 
 let runtime: Promise<Highs> | null = null;
 
