@@ -210,7 +210,7 @@ function SweepResultView({ rows }: { rows: JobSweepRow[] }) {
         </figcaption>
         <div className="h-64" aria-hidden="true">
           <ResponsiveContainer width="100%" height="100%">
-            <ScatterChart margin={{ top: 8, right: 16, bottom: 8, left: -8 }}>
+            <ScatterChart accessibilityLayer={false} margin={{ top: 8, right: 16, bottom: 8, left: -8 }}>
               <CartesianGrid stroke="#e9ebf4" />
               <XAxis type="number" dataKey="x" tick={axis} name={byPeriod ? 'sample period' : 'N'} unit={byPeriod ? ' ns' : ''} />
               <YAxis type="number" dataKey="registers" tick={axis} allowDecimals={false} name="registers" />
