@@ -1,7 +1,8 @@
 // The JSON shapes of the server's API: the server's presenters build them (server/http/present.ts
 // `send` checks each response against its type) and the web report reads them (src/api/types.ts
 // re-exports this module). Types only. Times travel as ISO 8601 strings.
-import type { DesignReport, EffectiveRules, Report, Rules, Status } from '../types';
+import type { DesignReport, EffectiveRules, Report, Rules, Status, Unit } from '../types';
+import type { PlanMetrics, PlanResult, SweepRow } from '../planning/types';
 
 /** The body of every error response. */
 export interface ApiErrorBody {
@@ -207,26 +208,13 @@ export interface JobParams {
   factors?: number[];
 }
 
-export interface JobUnit { id: string; kind: string; stages: number }
+/** The planner's own result types: the API sends them as the engine returns them. */
+export type JobUnit = Unit;
 
-export interface JobPlanMetrics { registers: number; muxInputs: number; latencyAdded: number }
+export type JobPlanMetrics = PlanMetrics;
 
-/** A plan as the engine returned it (shared/planning/types.ts, PlanResult). */
-export interface JobPlan {
-  status: 'optimal' | 'feasible' | 'infeasible';
-  method: string;
-  factor: number;
-  units: JobUnit[];
-  sets: Record<string, (string | null)[]>;
-  objective: JobPlanMetrics | null;
-  bound: Partial<JobPlanMetrics> | null;
-  gapPercent: number | null;
-  pins: string[];
-  reasons: string[];
-  suggestion: { factor?: number; units?: Record<string, number> } | null;
-  seconds: number;
-  notes?: string[];
-}
+/** A plan as the engine returned it (shared/planning/types.ts). */
+export type JobPlan = PlanResult;
 
 /** The design's own plan, where it had one: what the new plan is compared with. */
 export interface CurrentPlan {
@@ -237,14 +225,7 @@ export interface CurrentPlan {
   objective: JobPlanMetrics | null;
 }
 
-export interface JobSweepRow {
-  factor: number;
-  units: Record<string, number>;
-  plan: JobPlan;
-  utilization: number | null;
-  samplePeriodNs: number | null;
-  pareto: boolean;
-}
+export type JobSweepRow = SweepRow;
 
 export type JobResult =
   | { kind: 'plan'; plan: JobPlan; current: CurrentPlan | null; plannedText: string | null }

@@ -11,7 +11,7 @@ import { ROOT } from './server';
 export const CHROMIUM = process.env.PLEAT_CHROMIUM ?? '/usr/bin/chromium';
 export const SCREENSHOTS = join(ROOT, 'test-artifacts', 'screenshots');
 
-/** Flags that keep Chromium quiet and self-contained in a container (stack.md). */
+/** Flags that keep Chromium quiet and self-contained in a container (the closed network of this machine; see docs/web.md, browser tests). */
 const ARGS = [
   '--headless',
   '--no-sandbox',
