@@ -60,7 +60,7 @@ export function planBounds(p: PlanProblem): PlanBounds {
       reasons.push(
         units === 0
           ? `no unit executes kind \`${kind}\` (${count(ops, 'operation')}); add at least ${count(Math.ceil(ops / N), 'unit')} of that kind`
-          : `kind \`${kind}\` has ${count(ops, 'operation')} but ${units === 1 ? withArticle(`\`${kind}\``, kind) + ' unit' : `${units} \`${kind}\` units`} x N = ${N} give only ${count(units * N, 'slot')}; it needs at least ${count(Math.ceil(ops / N), 'unit')} at this N`,
+          : `kind \`${kind}\` has ${count(ops, 'operation')} but ${units === 1 ? withArticle(`\`${kind}\``, kind) + ' unit' : `${units} \`${kind}\` units`} x N = ${N} ${units === 1 ? 'gives' : 'give'} only ${count(units * N, 'slot')}; it needs at least ${count(Math.ceil(ops / N), 'unit')} at this N`,
       );
     }
   }
