@@ -40,6 +40,9 @@ describe('retention of branch runs', () => {
     const set = await t.http().patch(`/api/projects/${p.slug}`).set('Cookie', cookieFor(t.ctx, lead)).send({ branchRunDays: 30 });
     expect(set.status).toBe(200);
     expect(set.body.project.branchRunDays).toBe(30);
+    // Read back through the project's own route (docs/server.md): the stored value, not a default.
+    const got = await t.http().get(`/api/projects/${p.slug}`).set('Cookie', cookieFor(t.ctx, lead));
+    expect(got.body.project.branchRunDays).toBe(30);
     const bad = await t.http().patch(`/api/projects/${p.slug}`).set('Cookie', cookieFor(t.ctx, lead)).send({ branchRunDays: 0 });
     expect(bad.status).toBe(400);
 

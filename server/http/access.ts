@@ -37,7 +37,8 @@ export async function projectAccess(ctx: AppContext, req: Request, where: { slug
   const row = rows[0];
   const project = row ? Project.build({
     id: row.id as number, slug: row.slug as string, name: row.name as string, baseBranch: row.base_branch as string,
-    regressionTolerance: row.regression_tolerance as number, createdAt: row.created_at as Date, updatedAt: row.updated_at as Date,
+    regressionTolerance: row.regression_tolerance as number, branchRunDays: (row.branch_run_days as number | null) ?? null,
+    createdAt: row.created_at as Date, updatedAt: row.updated_at as Date,
   }, { isNewRecord: false }) : null;
   if (actor.kind === 'ci') {
     if (!project || project.id !== actor.token.projectId) {

@@ -78,6 +78,8 @@ export interface Project {
   name: string;
   baseBranch: string;
   regressionTolerance: number;
+  /** Days runs of branches other than the base are kept; null: kept for as long as the project. */
+  branchRunDays: number | null;
   role: ProjectRole | null;
   createdAt: string;
 }

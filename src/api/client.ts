@@ -152,8 +152,9 @@ export const api = {
   project: (slug: string, signal?: AbortSignal) => request<{ project: Project }>(`/api/projects/${seg(slug)}`, { signal }),
   createProject: (body: { slug: string; name: string; baseBranch?: string }) =>
     request<{ project: Project }>('/api/projects', { method: 'POST', body }),
-  updateProject: (slug: string, body: { name?: string; baseBranch?: string; regressionTolerance?: number }) =>
+  updateProject: (slug: string, body: { name?: string; baseBranch?: string; regressionTolerance?: number; branchRunDays?: number | null }) =>
     request<{ project: Project }>(`/api/projects/${seg(slug)}`, { method: 'PATCH', body }),
+  deleteProject: (slug: string, confirm: string) => request<void>(`/api/projects/${seg(slug)}`, { method: 'DELETE', body: { confirm } }),
   branches: (slug: string, signal?: AbortSignal) => request<BranchList>(`/api/projects/${seg(slug)}/branches`, { signal }),
   runs: (slug: string, branch: string, o: { cursor?: string | null; limit?: number; design?: string | null } = {}, signal?: AbortSignal) =>
     request<RunPage>(`/api/projects/${seg(slug)}/branches/${seg(branch)}/runs`, {

@@ -66,10 +66,18 @@ export function useCreateProject() {
   });
 }
 
+export function useDeleteProject() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (v: { slug: string; confirm: string }) => api.deleteProject(v.slug, v.confirm),
+    onSuccess: () => qc.invalidateQueries({ queryKey: keys.projects }),
+  });
+}
+
 export function useUpdateProject(slug: string) {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: (v: { name?: string; baseBranch?: string; regressionTolerance?: number }) => api.updateProject(slug, v),
+    mutationFn: (v: { name?: string; baseBranch?: string; regressionTolerance?: number; branchRunDays?: number | null }) => api.updateProject(slug, v),
     onSuccess: () => {
       void qc.invalidateQueries({ queryKey: keys.project(slug) });
       void qc.invalidateQueries({ queryKey: keys.projects });

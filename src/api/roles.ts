@@ -28,6 +28,7 @@ export const can = {
   tryDesign: (me: Me | undefined) => !!me && (me.user.isAdmin || me.memberships.some((m) => m.role === 'lead' || m.role === 'engineer')),
   manageUsers: (me: Me | undefined) => !!me?.user.isAdmin,
   createProject: (me: Me | undefined) => !!me?.user.isAdmin,
+  deleteProject: (me: Me | undefined) => !!me?.user.isAdmin,
 };
 
 export const roleLabel: Record<ProjectRole, string> = {

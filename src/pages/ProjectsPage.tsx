@@ -1,7 +1,7 @@
 import { useState, type FormEvent } from 'react';
 import { Link } from 'react-router-dom';
 import { ApiError, errorMessage } from '../api/client';
-import { useBranches, useCreateProject, useMe, useProjects } from '../api/hooks';
+import { useBranches, useCreateProject, useDeleteProject, useMe, useProjects } from '../api/hooks';
 import type { Project } from '../api/types';
 import { StatusBadge } from '../components/StatusBadge';
 import { ago } from '../components/format';
@@ -39,6 +39,7 @@ export default function ProjectsPage() {
         }
       </QueryState>
       {can.createProject(me.data) && <NewProject />}
+      {can.deleteProject(me.data) && projects.data && projects.data.projects.length > 0 && <DeleteProject projects={projects.data.projects} />}
     </div>
   );
 }
@@ -153,6 +154,39 @@ function NewProject() {
         <FormError error={create.error ? createError(create.error) : null} />
         {create.isSuccess && <p role="status" className="text-sm text-pass-700">Project {create.data.project.name} created. Add its members from the project's Members tab.</p>}
       </div>
+    </section>
+  );
+}
+
+/** An admin deletes a project and all its runs by typing its slug: a deletion cannot be undone. */
+function DeleteProject({ projects }: { projects: Project[] }) {
+  const remove = useDeleteProject();
+  const [typed, setTyped] = useState('');
+  const [done, setDone] = useState<string | null>(null);
+  const target = projects.find((p) => p.slug === typed.trim()) ?? null;
+  const submit = (e: FormEvent) => {
+    e.preventDefault();
+    if (!target) return;
+    const slug = target.slug;
+    remove.mutate({ slug, confirm: slug }, { onSuccess: () => (setDone(slug), setTyped('')) });
+  };
+  return (
+    <section aria-labelledby="delete-project" className="mt-6 max-w-3xl rounded-xl border border-fail-100 bg-white p-5">
+      <h2 id="delete-project" className="font-bold">
+        Delete a project <span className="text-sm font-normal text-ink-600">(admins)</span>
+      </h2>
+      <p className="mt-1 text-sm text-ink-600">Deletes the project with every run, rule, token and plan it holds. Type its slug to confirm; this cannot be undone.</p>
+      <form onSubmit={submit} className="mt-4 flex flex-wrap items-end gap-3" noValidate>
+        <label className="grid gap-1 text-sm font-medium">
+          Slug of the project to delete
+          <input className={inputClass} value={typed} onChange={(e) => (setTyped(e.target.value), setDone(null))} autoComplete="off" />
+        </label>
+        <button type="submit" className={buttonClass.accent} disabled={!target || remove.isPending}>
+          {target ? `Delete ${target.name} and its runs` : 'Delete the project'}
+        </button>
+      </form>
+      {done && <p role="status" className="mt-3 text-sm font-medium text-pass-700">Deleted {done}.</p>}
+      <FormError error={remove.error ? errorMessage(remove.error) : null} />
     </section>
   );
 }

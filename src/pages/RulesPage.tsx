@@ -5,6 +5,7 @@ import { can } from '../api/roles';
 import type { NegativeDelayPolicy, RuleName, Rules } from '../../shared/types';
 import type { RuleChange, TeamRules } from '../api/types';
 import { FormError } from '../components/AuthFrame';
+import { RetentionPanel } from '../components/RetentionPanel';
 import { useProjectContext } from '../components/ProjectLayout';
 import { ColumnHeads, PageHeader, Panel, buttonClass, inputClass, tableClass, ScrollRegion } from '../components/Panel';
 import { ruleLabel } from '../components/ViolationsList';
@@ -128,6 +129,9 @@ export default function RulesPage() {
         <Panel id="rule-history" title="Changes" subtitle="Every change to the team rules, with who made it and when">
           <History slug={project.slug} />
         </Panel>
+      </div>
+      <div className="mt-6">
+        <RetentionPanel project={project} mayEdit={mayEdit} />
       </div>
     </div>
   );

@@ -74,13 +74,60 @@ describe('the team rules form', () => {
   });
 });
 
+describe('keeping runs (retention of non-base branches)', () => {
+  it('a lead sets the days the server keeps runs of other branches; nonsense is refused before saving', async () => {
+    const { page } = s;
+    const a = demoAccount('lead');
+    await signIn(page, web.url, a.email, a.password);
+    await page.goto(`${web.url}/projects/${slug}/rules`);
+    const field = page.getByLabel('Keep runs of other branches for (days)');
+    await field.waitFor();
+    const save = page.locator('#retention').getByRole('button', { name: 'Save' });
+    await field.fill('0');
+    expect(await save.isDisabled()).toBe(true);
+    await field.fill('30');
+    await save.click();
+    await page.locator('#retention').getByRole('status').filter({ hasText: 'Saved' }).waitFor();
+    const days = await page.evaluate(async (slug) => (await (await fetch(`/api/projects/${slug}`)).json()).project.branchRunDays, slug);
+    expect(days).toBe(30);
+    expect(s.errors).toEqual([]);
+  });
+});
+
+describe('deleting a project', () => {
+  it('an admin deletes a project only after typing its slug, and it is gone', async () => {
+    const { page } = s;
+    const a = demoAccount('admin');
+    await signIn(page, web.url, a.email, a.password);
+    await page.goto(`${web.url}/`);
+    const created = await page.evaluate(async () => {
+      const r = await fetch('/api/projects', { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ slug: 'scratch-probe', name: 'Scratch probe' }) });
+      return r.status;
+    });
+    expect(created).toBe(201);
+    await page.reload();
+    const field = page.getByLabel('Slug of the project to delete');
+    await field.waitFor();
+    const button = page.locator('form').filter({ has: field }).getByRole('button');
+    await field.fill('scratch-prob');
+    expect(await button.isDisabled()).toBe(true);
+    await field.fill('scratch-probe');
+    await button.click();
+    await page.getByRole('status').filter({ hasText: 'Deleted scratch-probe' }).waitFor();
+    const slugs = await page.evaluate(async () => (await (await fetch('/api/projects')).json()).projects.map((p: { slug: string }) => p.slug));
+    expect(slugs).not.toContain('scratch-probe');
+    expect(slugs).toContain(slug);
+    expect(s.errors).toEqual([]);
+  });
+});
+
 describe('a new project', () => {
   it('has a slug pattern the browser can compile, and says in words what a slug is, also when the server refuses one', async () => {
     const { page } = s;
     const a = demoAccount('admin');
     await signIn(page, web.url, a.email, a.password);
     await page.goto(`${web.url}/`);
-    const input = page.getByLabel('Slug');
+    const input = page.getByLabel('Slug', { exact: true });
     await input.waitFor();
     // HTML compiles `pattern` as ^(?:pattern)$ with the v flag; an invalid one is ignored (HTML standard).
     const compiles = await input.evaluate((el) => {
