@@ -251,7 +251,15 @@ export interface DesignReport extends Partial<Analysis> {
 export interface Report {
   format: 'pleat-report/1';
   tool: { name: 'pleat'; version: string };
-  git: { branch: string | null; commit: string | null; baseBranch?: string | null; baseCommit?: string | null };
+  /** Where the run comes from. `message` (first line) and `author` (name) of the commit are optional: older CLIs omit them. */
+  git: {
+    branch: string | null;
+    commit: string | null;
+    baseBranch?: string | null;
+    baseCommit?: string | null;
+    message?: string | null;
+    author?: string | null;
+  };
   verdict: Status;
   rules: EffectiveRules;
   designs: DesignReport[];

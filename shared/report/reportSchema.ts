@@ -48,7 +48,14 @@ export const uploadReportSchema = {
     git: {
       type: 'object',
       required: ['branch', 'commit'],
-      properties: { branch, commit, baseBranch: nullable(branch), baseCommit: nullable(commit) },
+      properties: {
+        branch,
+        commit,
+        baseBranch: nullable(branch),
+        baseCommit: nullable(commit),
+        message: nullable({ type: 'string', maxLength: 500 }),
+        author: nullable({ type: 'string', maxLength: 200 }),
+      },
     },
     verdict: { enum: ['pass', 'fail', 'error'] },
     rules: { type: 'object' },
