@@ -189,6 +189,17 @@ export interface Invitation {
   createdAt: string;
 }
 
+/** GET /api/projects/:slug/watches: the branches the caller watches. */
+export interface WatchList {
+  branches: string[];
+}
+
+/** PUT or DELETE of a branch's watch: the state after the call. */
+export interface WatchState {
+  branch: string;
+  watching: boolean;
+}
+
 export interface AnalyzeResult {
   design: DesignReport;
   rules: EffectiveRules;

@@ -22,6 +22,7 @@ import type {
   RunPage,
   Rules,
   TeamRules,
+  WatchState,
 } from './types';
 
 export class ApiError extends Error {
@@ -203,9 +204,9 @@ export const api = {
 
   // watches
   watch: (slug: string, branch: string) =>
-    request<{ branch: string; watching: boolean }>(`/api/projects/${seg(slug)}/branches/${seg(branch)}/watch`, { method: 'PUT' }),
+    request<WatchState>(`/api/projects/${seg(slug)}/branches/${seg(branch)}/watch`, { method: 'PUT' }),
   unwatch: (slug: string, branch: string) =>
-    request<{ branch: string; watching: boolean }>(`/api/projects/${seg(slug)}/branches/${seg(branch)}/watch`, { method: 'DELETE' }),
+    request<WatchState>(`/api/projects/${seg(slug)}/branches/${seg(branch)}/watch`, { method: 'DELETE' }),
 
   // try a design: the file goes as multipart field `design`; `project` applies that project's team rules
   analyze: (file: Blob, fileName: string, project?: string | null) => {

@@ -6,7 +6,8 @@ import { QueryTypes } from 'sequelize';
 import type { AppContext } from '../../context';
 import { clearSessionCookie, requireUser, setSessionCookie } from '../../http/auth';
 import { HttpError } from '../../http/errors';
-import { normalEmail, publicUser } from '../../http/present';
+import { normalEmail, publicUser, send } from '../../http/present';
+import type { Me } from '../../../shared/report/api';
 import { PgRateLimitStore } from '../../http/rateLimitStore';
 import { checker } from '../../http/validate';
 import { canSignIn } from './policy';
@@ -49,7 +50,7 @@ export function authRoutes(ctx: AppContext): Router {
     const ok = await bcrypt.compare(body.password, user?.passwordHash ?? DUMMY_HASH);
     if (!ok || !canSignIn(user)) throw new HttpError(401, 'bad-credentials', 'Wrong e-mail or password, or the account is deactivated.');
     setSessionCookie(ctx, res, user);
-    res.json({ user: publicUser(user), memberships: await memberships(user.id) });
+    send<Me>(res, { user: publicUser(user), memberships: await memberships(user.id) });
   });
 
   router.post('/api/auth/logout', async (req, res) => {
@@ -68,7 +69,7 @@ export function authRoutes(ctx: AppContext): Router {
 
   router.get('/api/auth/me', async (req, res) => {
     const user = requireUser(req);
-    res.json({ user: publicUser(user), memberships: await memberships(user.id) });
+    send<Me>(res, { user: publicUser(user), memberships: await memberships(user.id) });
   });
 
   return router;

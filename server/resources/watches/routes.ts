@@ -5,6 +5,8 @@ import type { AppContext } from '../../context';
 import { projectAccess } from '../../http/access';
 import { requireUser } from '../../http/auth';
 import { allow, badRequest } from '../../http/errors';
+import { send } from '../../http/present';
+import type { WatchList, WatchState } from '../../../shared/report/api';
 import { branchNameProblem } from '../../../shared/report/reportSchema';
 import { canWatch } from './policy';
 
@@ -28,21 +30,21 @@ export function watchRoutes(ctx: AppContext): Router {
   router.get('/api/projects/:slug/watches', async (req, res) => {
     const { project, user } = await access(req);
     const rows = await Watch.findAll({ where: { projectId: project.id, userId: user.id }, order: [['branch', 'ASC']] });
-    res.json({ branches: rows.map((w) => w.branch) });
+    send<WatchList>(res, { branches: rows.map((w) => w.branch) });
   });
 
   router.put('/api/projects/:slug/branches/:branch/watch', async (req, res) => {
     const { project, user } = await access(req);
     const branch = branchParam(req.params.branch);
     const [, created] = await Watch.findOrCreate({ where: { projectId: project.id, userId: user.id, branch }, defaults: { projectId: project.id, userId: user.id, branch } });
-    res.status(created ? 201 : 200).json({ branch, watching: true });
+    send<WatchState>(res.status(created ? 201 : 200), { branch, watching: true });
   });
 
   router.delete('/api/projects/:slug/branches/:branch/watch', async (req, res) => {
     const { project, user } = await access(req);
     const branch = branchParam(req.params.branch);
     await Watch.destroy({ where: { projectId: project.id, userId: user.id, branch } });
-    res.json({ branch, watching: false });
+    send<WatchState>(res, { branch, watching: false });
   });
 
   return router;
