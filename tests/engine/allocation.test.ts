@@ -6,7 +6,8 @@ import { analyze } from '../../shared/analysis/analyze';
 import { allocateRegisters, METHOD_FORWARD_BACKWARD, rankedAllocation } from '../../shared/analysis/allocation';
 import { liveCounts } from '../../shared/analysis/registers';
 import type { Lifetime } from '../../shared/types';
-import { allocationProblems, expectedRows, randomDesign } from './helpers';
+import { randomDesign } from '../support/randomDesign';
+import { allocationProblems, expectedRows } from '../oracles/lifetimes';
 
 const charts = fc
   .record({

@@ -3,7 +3,7 @@
 import { describe, expect, it } from 'vitest';
 import { analyze } from '../../shared/analysis/analyze';
 import { decimalToRational } from '../../shared/fraction';
-import { makeDesign } from './helpers';
+import { makeDesign } from '../support/designs';
 
 describe('analyze', () => {
   const design = makeDesign({

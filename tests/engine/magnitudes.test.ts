@@ -8,7 +8,8 @@ import { controlTables, MAX_HARDWARE_CELLS } from '../../shared/hardware/control
 import { loadDesign } from '../../shared/design/load';
 import { MAX_DELAYS, MAX_STAGES } from '../../shared/design/schema';
 import type { Lifetime } from '../../shared/types';
-import { allocationProblems, expectedRows, makeDesign } from './helpers';
+import { makeDesign } from '../support/designs';
+import { allocationProblems, expectedRows } from '../oracles/lifetimes';
 
 function plan(stages: number, delays: number): string {
   return `format: pleat/1
@@ -73,7 +74,7 @@ describe('time does not grow with stage counts', () => {
       ['g', P, 2],
     ]);
     expect(a.allocation).not.toBeNull();
-    // Independent check (tests/engine/helpers.ts): every live instance sits in a register
+    // Independent check (tests/oracles/lifetimes.ts): every live instance sits in a register
     // during its whole lifetime, and no register holds two.
     expect(allocationProblems(a.allocation!, a.lifetimes!.variables)).toEqual([]);
   });

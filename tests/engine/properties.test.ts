@@ -6,7 +6,9 @@ import fc from 'fast-check';
 import findCircuits from 'elementary-circuits-directed-graph';
 import { analyze } from '../../shared/analysis/analyze';
 import type { Analysis, Design } from '../../shared/types';
-import { allocationProblems, expectedRows, randomDesign, refold, type TestLifetime } from './helpers';
+import { refold } from '../support/designs';
+import { randomDesign } from '../support/randomDesign';
+import { allocationProblems, expectedRows, type TestLifetime } from '../oracles/lifetimes';
 
 const seeds = fc.integer({ min: 1, max: 2 ** 31 - 1 });
 

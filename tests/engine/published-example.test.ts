@@ -3,7 +3,7 @@
 import { describe, expect, it } from 'vitest';
 import { analyze } from '../../shared/analysis/analyze';
 import { parhiIirFolded, PUBLISHED_FOLDED_DELAYS } from '../fixtures/published/parhi-iir-folded';
-import { allocationProblems, type TestLifetime } from './helpers';
+import { allocationProblems, type TestLifetime } from '../oracles/lifetimes';
 
 describe('Parhi (1999) ch. 6: folded IIR section, N = 4', () => {
   const design = parhiIirFolded();

@@ -4,20 +4,8 @@ import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import { analyze } from '../../shared/analysis/analyze';
 import { liveCounts } from '../../shared/analysis/registers';
-import { makeDesign } from './helpers';
-
-/** live(t) by the definition: count every iteration l with tIn + lN < t <= tOut + lN. */
-function liveByDefinition(N: number, vars: { tIn: number; tOut: number }[]): number[] {
-  const live = new Array<number>(N).fill(0);
-  for (const v of vars) {
-    for (let t = 0; t < N; t++) {
-      for (let l = -Math.ceil((v.tOut + 1) / N) - 1; l <= Math.ceil(t / N) + 1; l++) {
-        if (v.tIn + l * N < t && t <= v.tOut + l * N) live[t]++;
-      }
-    }
-  }
-  return live;
-}
+import { makeDesign } from '../support/designs';
+import { liveByDefinition } from '../oracles/lifetimes';
 
 describe('lifetime analysis', () => {
   it('the difference-array live counts equal a direct count over iterations', () => {

@@ -2,7 +2,7 @@
 // (r(U) - r(V) <= floor(D_F / N)), including the conflict report when no retiming exists.
 import { describe, expect, it } from 'vitest';
 import { analyze } from '../../shared/analysis/analyze';
-import { makeDesign } from './helpers';
+import { makeDesign } from '../support/designs';
 
 describe('retiming for folding', () => {
   it('a loop with too few delays for its pipeline stages cannot be retimed and asks for N >= stages/delays', () => {

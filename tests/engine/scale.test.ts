@@ -3,7 +3,7 @@
 import { describe, expect, it } from 'vitest';
 import { analyze } from '../../shared/analysis/analyze';
 import type { DfgNode } from '../../shared/types';
-import { cascadeDesign, makeDesign } from './helpers';
+import { cascadeDesign, makeDesign } from '../support/designs';
 
 /** One loop through `n` adders with a single delay, N = 4, positions in loop order. */
 function ring(n: number) {

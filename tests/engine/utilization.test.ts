@@ -1,7 +1,7 @@
 // Hardware utilization efficiency: the share of a unit's operation slots that do useful work.
 import { describe, expect, it } from 'vitest';
 import { analyze } from '../../shared/analysis/analyze';
-import { makeDesign } from './helpers';
+import { makeDesign } from '../support/designs';
 
 /** y = a + b + c on one two-input adder: s1 = a + b, s2 = s1 + c. */
 function threeOperandSum(factor: number, set: (string | null)[]) {

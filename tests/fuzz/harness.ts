@@ -6,7 +6,7 @@ import { seededRandom } from '../../shared/hardware/arith';
 import { loadDesign } from '../../shared/design/load';
 import { analyze } from '../../shared/analysis/analyze';
 import { withControl } from '../../shared/hardware/control';
-import { randomDesign } from '../engine/helpers';
+import { randomDesign } from '../support/randomDesign';
 import type { Design } from '../../shared/types';
 
 /** The text of a design as a user writes it (format pleat/1 field names). */

@@ -2,64 +2,21 @@
 // assignment written in this test and scored by the engine's own analyze, and a published folding.
 import { beforeAll, describe, expect, it } from 'vitest';
 import { analyze } from '../../shared/analysis/analyze';
-import { randomDesign } from '../engine/helpers';
+import { randomDesign } from '../support/randomDesign';
+import { exhaustiveMinimum } from '../oracles/exhaustivePlan';
 import { planDesign } from '../../shared/planning/plan';
 import type { MilpSolver } from '../../shared/planning/types';
 import type { Design } from '../../shared/types';
 import { parhiIirFolded } from '../fixtures/published/parhi-iir-folded';
-import { highsSolver } from './highsSolver';
-import { planProblems } from './checks';
+import { highsSolver } from '../../solvers/highs';
+import { planProblems } from '../oracles/planChecks';
 
 let solver: MilpSolver;
 beforeAll(async () => {
-  solver = await highsSolver(); // the real `highs` npm package (WebAssembly)
+  solver = highsSolver(); // the one adapter of the real `highs` npm package (WebAssembly), as pleat plan uses
 });
 
 const bare = (d: Design): Design => ({ ...d, folding: { ...d.folding, sets: {} } });
-const isOp = (kind: string) => kind !== 'input' && kind !== 'output';
-
-/**
- * Every assignment of the operations to (unit of their kind, partition), no cell used twice,
- * scored by analyze: the fewest registers (lifetime-analysis minimum) over the feasible ones,
- * Infinity when none is feasible. null when there are more than `limit` assignments.
- */
-function exhaustiveMinimum(d: Design, limit: number): { registers: number; count: number } | null {
-  const N = d.folding.factor;
-  const ops = d.nodes.filter((n) => isOp(n.kind));
-  const cells = ops.map((op) => d.units.filter((u) => u.kind === op.kind).flatMap((u) => Array.from({ length: N }, (_, t) => [u.id, t] as const)));
-  let total = 1;
-  for (const c of cells) {
-    total *= c.length;
-    if (total > limit * 50) return null;
-  }
-  const used = new Set<string>();
-  const choice: (readonly [string, number])[] = [];
-  let best = Infinity;
-  let count = 0;
-  const visit = (i: number): boolean => {
-    if (i === ops.length) {
-      if (++count > limit) return false;
-      const sets: Record<string, (string | null)[]> = Object.fromEntries(d.units.map((u) => [u.id, new Array<string | null>(N).fill(null)]));
-      choice.forEach(([u, t], k) => (sets[u][t] = ops[k].id));
-      const a = analyze({ ...d, folding: { ...d.folding, sets } }, { maxAllocationCells: 0 });
-      if (a.retiming.feasible && a.registers) best = Math.min(best, a.registers.minimum);
-      return true;
-    }
-    for (const c of cells[i]) {
-      const key = `${c[0]}@${c[1]}`;
-      if (used.has(key)) continue;
-      used.add(key);
-      choice.push(c);
-      const go = visit(i + 1);
-      choice.pop();
-      used.delete(key);
-      if (!go) return false;
-    }
-    return true;
-  };
-  if (!visit(0)) return null;
-  return { registers: best, count };
-}
 
 describe('exact search against exhaustive enumeration (independent brute force in this test)', () => {
   it('matches the fewest registers on small random designs (<= 6 operations, N <= 4)', async () => {

@@ -8,9 +8,9 @@ import { loadDesign } from '../../shared/design/load';
 import { analyze } from '../../shared/analysis/analyze';
 import { planDesign } from '../../shared/planning/plan';
 import { sweepDesign } from '../../shared/planning/sweep';
-import { randomDesign } from '../engine/helpers';
+import { randomDesign } from '../support/randomDesign';
 import type { Design } from '../../shared/types';
-import { planProblems } from './checks';
+import { planProblems } from '../oracles/planChecks';
 import { generateDesign } from '../../scripts/gen-design.mjs';
 
 const examples = fileURLToPath(new URL('../../examples/', import.meta.url));

@@ -12,7 +12,7 @@ import { controlTables } from '../../shared/hardware/control';
 import { resolveArithmetic } from '../../shared/hardware/reference';
 import { generateRtl, generateTestbench, parallelDesign, testVectors, type RtlBundle } from '../../shared/hardware/rtl';
 import type { ControlTables, Design } from '../../shared/types';
-import { randomDesign } from '../sim/randomDesign';
+import { randomDesignFile as randomDesign } from '../support/randomDesign';
 
 const ROOT = path.resolve(__dirname, '../..');
 const EXAMPLES = path.join(ROOT, 'examples');

@@ -11,7 +11,7 @@ import { analyze } from '../../shared/analysis/analyze';
 import { controlTables } from '../../shared/hardware/control';
 import { simulateDesign } from '../../shared/hardware/foldedSim';
 import type { Analysis, ControlTables, Design } from '../../shared/types';
-import { randomDesign } from './randomDesign';
+import { randomDesignFile as randomDesign } from '../support/randomDesign';
 
 const EXAMPLES = path.resolve(__dirname, '../../examples');
 
