@@ -7,7 +7,7 @@ import { detectBuild } from '../ci/index';
 import { findConfig, loadConfig, type PleatConfig } from '../config';
 import { CliError, type CliContext, type RegisterCommand } from '../context';
 import { diagnosticLine } from '../format/common';
-import { requireGit, sendReport, serverSettings, uploadProblem, uploadTarget } from '../upload/index';
+import { requireGit, sendReport, serverSettings, uploadProblem, uploadTarget, withSources } from '../upload/index';
 import type { Report } from '../../shared/types';
 
 interface UploadOptions {
@@ -78,7 +78,12 @@ export async function runUpload(file: string, opts: UploadOptions, ctx: CliConte
   const problem = uploadProblem(report);
   if (problem) throw new CliError(`${file}: ${problem}; nothing was uploaded`);
 
-  const ok = await sendReport(needsLookup ? JSON.stringify(report) : text, target, server.policy, {
+  // The design files ride along as check --upload sends them (so the web can plan a run's design),
+  // read from where check found them: report paths are relative to the config's folder, else cwd.
+  const root = config ? config.dir : cwd;
+  const body = withSources(report, root);
+  const attached = body.designs.some((d, i) => d !== report.designs[i]);
+  const ok = await sendReport(attached || needsLookup ? JSON.stringify(body) : text, target, server.policy, {
     say,
     quiet: !!opts.quiet,
     version: ctx.version,

@@ -126,6 +126,11 @@ describe('pleat upload REPORT.json', () => {
     expect(rows).toHaveLength(1);
     expect(rows[0]!.branch).toBe('release/1');
     expect(readFileSync(out, 'utf8')).toBe(before); // the file is sent, not changed
+    // The design's text goes with it as with check --upload, read from where check found it.
+    const [stored] = await s.db.sequelize.query<{ source: string }>(
+      `SELECT report->'designs'->0->>'source' AS source FROM runs WHERE commit = $1`, { bind: [commit], type: QueryTypes.SELECT },
+    );
+    expect(stored!.source).toBe(readFileSync(path.join(repo, 'hw/smooth.fold.yaml'), 'utf8'));
   });
 
   it('fills a missing branch and commit from the environment', async () => {
