@@ -239,7 +239,55 @@ export interface ValidateOptions {
 /** Most operation ids named in a plan-incomplete message. */
 const UNPLACED_NAMES_SHOWN = 8;
 
+/** What the semantic checks share: the document's parts and the tables the first checks build. */
+interface Scope {
+  doc: Record<string, unknown>;
+  out: Collector;
+  units: unknown[];
+  unitsOk: boolean;
+  nodes: unknown[];
+  edges: unknown[];
+  folding: Record<string, unknown> | null;
+  factor: number | null;
+  sets: Record<string, unknown> | null;
+  allowUnplaced: boolean;
+  /** Ids of units and nodes: value >= 0 a node index, < 0 -(unit index) - 1. */
+  owner: Map<string, number>;
+  unitIndex: Map<string, number>;
+  unitKinds: Set<string>;
+  nN: number;
+  /** INPUT / OUTPUT / OPERATION / BAD per node. */
+  nodeClass: Int8Array;
+  /** 1 for a node whose id is taken by an earlier unit or node, or is not a string: checked only as its id's first use. */
+  shadowed: Uint8Array;
+  /** Node ids for "did you mean" hints, gathered only when a name is unknown. */
+  nodeIds: () => string[];
+}
+
+/** Edges as flat arrays: endpoints (-1 when unknown), delays (-1 when not a valid count), degrees. */
+interface EdgeTable {
+  nE: number;
+  eFrom: Int32Array;
+  eTo: Int32Array;
+  eDelays: Float64Array;
+  outDeg: Int32Array;
+  inDeg: Int32Array;
+}
+
+/** The semantic rules of format pleat/1, one named check after another. */
 function semanticChecks(doc: Record<string, unknown>, out: Collector, options: ValidateOptions): void {
+  const s = documentScope(doc, out, options);
+  idChecks(s);
+  nodeChecks(s);
+  const e = edgeChecks(s);
+  foldingSetChecks(s);
+  arityChecks(s, e.inDeg);
+  zeroDelayLoops(s.nodes, s.nN, e.nE, e.eFrom, e.eTo, e.eDelays, out);
+  reachability(s.nodes, s.nodeClass, s.shadowed, s.nN, e.nE, e.eFrom, e.eTo, e.outDeg, out);
+}
+
+/** The parts of the document the checks read, and the folding factor that applies. */
+function documentScope(doc: Record<string, unknown>, out: Collector, options: ValidateOptions): Scope {
   const unitsOk = Array.isArray(doc.units);
   const units: unknown[] = unitsOk ? (doc.units as unknown[]) : [];
   const nodes: unknown[] = Array.isArray(doc.nodes) ? (doc.nodes as unknown[]) : [];
@@ -255,10 +303,40 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector, options: V
   const sets = folding && isObj(folding.sets) ? folding.sets : folding && folding.sets !== undefined ? null : {};
   const allowUnplaced = options.unplaced === 'allow';
 
-  // ids: units and nodes share one name space. Value >= 0: node index; < 0: -(unit index) - 1.
   const owner = new Map<string, number>();
-  const unitIndex = new Map<string, number>();
-  const unitKinds = new Set<string>();
+  const nN = nodes.length;
+  let idList: string[] | null = null;
+  const nodeIds = (): string[] => {
+    if (!idList) {
+      idList = [];
+      for (const [id, v] of owner) if (v >= 0) idList.push(id);
+    }
+    return idList;
+  };
+  return {
+    doc,
+    out,
+    units,
+    unitsOk,
+    nodes,
+    edges,
+    folding,
+    factor,
+    sets,
+    allowUnplaced,
+    owner,
+    unitIndex: new Map(),
+    unitKinds: new Set(),
+    nN,
+    nodeClass: new Int8Array(nN),
+    shadowed: new Uint8Array(nN),
+    nodeIds,
+  };
+}
+
+/** Unit ids: unique among units and nodes (units and nodes share one name space). */
+function idChecks(s: Scope): void {
+  const { units, out, owner, unitIndex, unitKinds } = s;
   for (let i = 0; i < units.length; i++) {
     const u = units[i];
     if (!isObj(u)) continue;
@@ -273,12 +351,11 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector, options: V
     owner.set(id, -i - 1);
     unitIndex.set(id, i);
   }
+}
 
-  const nN = nodes.length;
-  const nodeClass = new Int8Array(nN); // INPUT / OUTPUT / OPERATION / BAD
-  // 1 for a node whose id is taken by an earlier unit or node, or is not a string: checked only as its id's first use
-  const shadowed = new Uint8Array(nN);
-  const nodeIndex = owner; // one map for both: node ids map to indexes >= 0
+/** Nodes: duplicate ids, kinds no unit has, slots on operations or past the folding factor. */
+function nodeChecks(s: Scope): void {
+  const { nodes, out, owner, unitsOk, unitKinds, factor, nN, nodeClass, shadowed } = s;
   for (let i = 0; i < nN; i++) {
     const n = nodes[i];
     if (!isObj(n)) {
@@ -317,18 +394,12 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector, options: V
       }
     }
   }
+}
 
-  // node ids for "did you mean" hints, gathered only when a name is unknown
-  let idList: string[] | null = null;
-  const nodeIds = (): string[] => {
-    if (!idList) {
-      idList = [];
-      for (const [id, v] of owner) if (v >= 0) idList.push(id);
-    }
-    return idList;
-  };
-
-  // edges, as flat arrays: endpoints (-1 when unknown) and delays (-1 when not a valid count)
+/** Edges: endpoints that exist, no edge out of an output or into an input; the flat edge table. */
+function edgeChecks(s: Scope): EdgeTable {
+  const { edges, out, nN, nodeClass, unitIndex, nodeIds } = s;
+  const nodeIndex = s.owner;
   const nE = edges.length;
   const eFrom = new Int32Array(nE).fill(-1);
   const eTo = new Int32Array(nE).fill(-1);
@@ -362,7 +433,13 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector, options: V
     if (eFrom[i] >= 0) outDeg[eFrom[i]]++;
   }
 
-  // folding sets
+  return { nE, eFrom, eTo, eDelays, outDeg, inDeg };
+}
+
+/** Folding sets: keyed by units, naming operations of their kind once each; idle units; the plan complete. */
+function foldingSetChecks(s: Scope): void {
+  const { doc, out, sets, units, nodes, factor, folding, unitIndex, unitKinds, nodeClass, shadowed, unitsOk, allowUnplaced, nodeIds, nN } = s;
+  const nodeIndex = s.owner;
   const placedSet = new Int32Array(nN).fill(-1);
   const placedPos = new Int32Array(nN);
   const setKeys: string[] = [];
@@ -455,8 +532,11 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector, options: V
       out.add('plan-incomplete', what, folding ? ['folding'] : Array.isArray(doc.nodes) ? ['nodes'] : []);
     }
   }
+}
 
-  // arithmetic against the number of operands, where that is decidable
+/** Arithmetic against the number of operands, where that is decidable. */
+function arityChecks(s: Scope, inDeg: Int32Array): void {
+  const { nodes, out, nN, nodeClass, shadowed } = s;
   for (let i = 0; i < nN; i++) {
     if (nodeClass[i] !== OPERATION) continue;
     if (shadowed[i]) continue; // a duplicate: duplicate-id says it
@@ -476,9 +556,6 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector, options: V
       out.add('op-arity', `node \`${name}\` (${op}) has no inputs; connect at least one edge into it`, ['nodes', i, at]);
     }
   }
-
-  zeroDelayLoops(nodes, nN, nE, eFrom, eTo, eDelays, out);
-  reachability(nodes, nodeClass, shadowed, nN, nE, eFrom, eTo, outDeg, out);
 }
 
 /** Index of the node with this id, or undefined (unit ids live in the same map with negative values). */
