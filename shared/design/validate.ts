@@ -1,12 +1,13 @@
 // Method: JSON Schema validation (ajv, draft-07) plus the semantic rules of format pleat/1; zero-delay
 // loops by Tarjan's strongly connected components (shared/graphAlgorithms.ts). Convention: diagnostics carry `path`, no position.
 import { Ajv, type ErrorObject, type ValidateFunction } from 'ajv';
-import type { Design, DfgNode, Diagnostic, Edge, NodeOp, Unit } from '../types';
+import type { Design, DfgNode, Diagnostic, Edge, FixedPointDefaults, NodeOp, Unit } from '../types';
 import { designSchema, MAX_FACTOR } from './schema';
 import { diag, formatPath, showValue, typeWord, type DiagnosticCode } from './diagnostics';
 import { stronglyConnected } from '../graphAlgorithms';
 import { closest } from '../didYouMean';
 import { nodeOp } from './operations';
+import { FORMAT_PATTERN, parseNumberFormat } from './numberFormat';
 
 /** At most this many diagnostics of one code are listed; the last one says how many more there are. */
 export const MAX_PER_CODE = 100;
@@ -199,6 +200,7 @@ function valueRule(e: ErrorObject, p: Record<string, unknown>, value: unknown): 
     case 'enum':
       return `${v} is not one of ${(p.allowedValues as unknown[]).map((x) => String(x)).join(', ')}`;
     case 'pattern':
+      if (p.pattern === FORMAT_PATTERN) return `${v} is not a format in Q notation: write Qm.n (signed: m integer bits, n fraction bits and a sign bit) or UQm.n (unsigned), e.g. Q3.12`;
       return `${v} may only contain letters, digits, '.', '_' and '-'`;
     case 'minLength':
       return 'must not be empty';
@@ -282,6 +284,7 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector, options: V
   const e = edgeChecks(s);
   foldingSetChecks(s);
   arityChecks(s, e.inDeg);
+  numberFormatChecks(s);
   zeroDelayLoops(s.nodes, s.nN, e.nE, e.eFrom, e.eTo, e.eDelays, out);
   reachability(s.nodes, s.nodeClass, s.shadowed, s.nN, e.nE, e.eFrom, e.eTo, e.outDeg, out);
 }
@@ -558,6 +561,26 @@ function arityChecks(s: Scope, inDeg: Int32Array): void {
   }
 }
 
+/** Fixed-point formats: Q notation within 1..64 bits; inputs take no rounding or overflow mode. */
+function numberFormatChecks(s: Scope): void {
+  const { doc, nodes, out, nN, nodeClass } = s;
+  const check = (v: unknown, path: Path): void => {
+    if (typeof v !== 'string' || !new RegExp(FORMAT_PATTERN).test(v)) return; // the schema says it
+    const f = parseNumberFormat(v);
+    if (typeof f === 'string') out.add('number-format', f, path);
+  };
+  if (isObj(doc.fixed_point)) check(doc.fixed_point.format, ['fixed_point', 'format']);
+  for (let i = 0; i < nN; i++) {
+    const n = nodes[i];
+    if (!isObj(n)) continue;
+    check(n.format, ['nodes', i, 'format']);
+    if (nodeClass[i] !== INPUT) continue;
+    for (const k of ['rounding', 'overflow']) {
+      if (has(n, k)) out.add('rounding-on-input', `input \`${label(n.id)}\` takes its samples as they come; \`${k}\` applies to operations and outputs only`, ['nodes', i, k]);
+    }
+  }
+}
+
 /** Index of the node with this id, or undefined (unit ids live in the same map with negative values). */
 function nodeAt(owner: Map<string, number>, id: string): number | undefined {
   const v = owner.get(id);
@@ -760,6 +783,9 @@ function normalise(doc: Record<string, unknown>, options: ValidateOptions): Desi
     if (n.slot !== undefined) node.slot = n.slot as number;
     if (n.coefficient !== undefined) node.coefficient = n.coefficient as number;
     if (n.op !== undefined) node.op = n.op as NodeOp;
+    if (n.format !== undefined) node.format = n.format as string;
+    if (n.rounding !== undefined) node.rounding = n.rounding as DfgNode['rounding'];
+    if (n.overflow !== undefined) node.overflow = n.overflow as DfgNode['overflow'];
     return node;
   });
   const rawEdges = doc.edges as Record<string, unknown>[];
@@ -791,6 +817,7 @@ function normalise(doc: Record<string, unknown>, options: ValidateOptions): Desi
   };
   if (typeof doc.description === 'string') design.description = doc.description;
   if (typeof doc.clock_ns === 'number') design.clockNs = doc.clock_ns;
+  if (isObj(doc.fixed_point)) design.fixedPoint = { ...(doc.fixed_point as FixedPointDefaults) };
   return design;
 }
 
