@@ -36,6 +36,18 @@ export interface DfgNode {
    */
   coefficientText?: string;
   op?: NodeOp;
+  /** Fixed-point format in Q notation (`Q3.12`, `UQ1.15`); the design's default when absent (docs/format.md). */
+  format?: string;
+  /** How the node's result drops fraction bits, and what it does past its format's range. */
+  rounding?: 'truncate' | 'round-half-up' | 'convergent';
+  overflow?: 'wrap' | 'saturate';
+}
+
+/** The design's defaults for number formats (`fixed_point:` of the file). */
+export interface FixedPointDefaults {
+  format?: string;
+  rounding?: 'truncate' | 'round-half-up' | 'convergent';
+  overflow?: 'wrap' | 'saturate';
 }
 
 export interface Edge {
@@ -64,6 +76,8 @@ export interface Design {
   nodes: DfgNode[];
   edges: Edge[];
   folding: Folding;
+  /** Defaults of the number formats; absent: every signal Q(W-1).0 with W = --width, truncate, wrap. */
+  fixedPoint?: FixedPointDefaults;
 }
 
 export interface LoadResult {
@@ -219,6 +233,18 @@ export interface Rules {
 }
 
 export type RuleName = keyof Rules;
+
+/**
+ * Rules that `pleat simulate` gates on (docs/rtl.md, "Fixed point"); `pleat check` does not
+ * simulate, so they are accepted in every rules mapping but judged by simulate alone.
+ */
+export interface SimulationRules {
+  /** Most fixed-point overflows a run may have. */
+  max_overflows?: number;
+  /** Lowest signal-to-quantisation-noise ratio of any output of a fixed-point run, in dB. */
+  min_sqnr_db?: number;
+}
+export type SimulationRuleName = keyof SimulationRules;
 export type RuleSource = 'team' | 'repository' | 'default';
 
 /** The rules in force for one check, each with where it came from. */

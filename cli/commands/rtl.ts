@@ -116,6 +116,10 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   const { control } = built;
   if (!control) throw infeasible(loaded, built);
   const graph = resolveArithmetic(loaded.design).graph!;
+  const { formatPlan } = await import('../../shared/hardware/formats');
+  if (formatPlan(loaded.design, opts.width).declared) {
+    throw new CliError(`${loaded.file} names number formats (fixed_point, format, rounding or overflow); pleat rtl writes the W-bit integer datapath only so far: \`pleat simulate --arithmetic fixed\` runs the formats`);
+  }
   const generator = `pleat ${ctx.version}`;
   const bundle = rtl.generateRtl(loaded.design, control, { width: opts.width, coefFrac: opts.coefFrac, generator });
   const vectors = rtl.testVectors(loaded.design, graph, control, { iterations: opts.iterations, seed: opts.seed, fixed: bundle.fixed });

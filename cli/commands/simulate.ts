@@ -6,7 +6,8 @@ import { InvalidArgumentError, Option, type Command } from 'commander';
 import { colorLevel, makeChalk } from '../color';
 import { CliError, type CliContext, type RegisterCommand } from '../context';
 import { diagnosticLine } from '../format/common';
-import type { Analysis, Design, Diagnostic } from '../../shared/types';
+import type { Analysis, Design, Diagnostic, SimulationRuleName, SimulationRules } from '../../shared/types';
+import type { SimulationReport } from '../../shared/hardware/foldedSim';
 import type { FoldedDatapath } from '../../shared/analysis/analyze';
 import { decodeDesignBytes, formatBytes } from '../../shared/design/encoding';
 import { escapeControls, escapeControlsDeep } from '../format/escape';
@@ -105,6 +106,15 @@ interface SimulateOptions {
   output?: string;
   tables?: boolean;
   color: boolean;
+  maxOverflows?: number;
+  minSqnrDb?: number;
+}
+
+/** A number in dB for --min-sqnr-db. */
+function dbOption(value: string): number {
+  const n = Number(value);
+  if (value.trim() === '' || !Number.isFinite(n) || n < -1000 || n > 1000) throw new InvalidArgumentError(`expected a number of dB from -1000 to 1000, got "${value}"`);
+  return n;
 }
 
 export const register: RegisterCommand = (program: Command, ctx: CliContext) => {
@@ -120,6 +130,8 @@ export const register: RegisterCommand = (program: Command, ctx: CliContext) => 
     .option('-t, --tables', 'also print the control tables (multiplexers, registers, outputs)')
     .addOption(new Option('-f, --format <format>', 'output format').choices(['text', 'json']).default('text'))
     .option('-o, --output <file>', 'also write the JSON result to FILE')
+    .option('--max-overflows <n>', 'fail (exit 1) past n fixed-point overflows (rule max_overflows)', intOption(0, 2_147_483_647))
+    .option('--min-sqnr-db <dB>', 'fail (exit 1) when an output of a fixed run has a lower SQNR (rule min_sqnr_db)', dbOption)
     .option('--no-color', 'never colour the output')
     .action(async (file: string, opts: SimulateOptions) => {
       process.exitCode = await runSimulate(file, opts, ctx);
@@ -141,12 +153,14 @@ export async function runSimulate(file: string, opts: SimulateOptions, ctx: CliC
     fixed: { width: opts.width, coefFrac: opts.coefFrac },
   });
   if (!report) throw new CliError(diagnostics.map((d) => d.message).join('; '));
+  const gates = await simulationGates(opts, report);
 
   const json = {
     format: 'pleat-simulation/1',
     tool: { name: 'pleat', version: ctx.version },
     file: loaded.file,
     simulation: report,
+    gates,
     control,
   };
   if (opts.output) {
@@ -160,7 +174,7 @@ export async function runSimulate(file: string, opts: SimulateOptions, ctx: CliC
   }
   if (opts.format === 'json') {
     process.stdout.write(`${JSON.stringify(json, null, 2)}\n`);
-    return report.match ? 0 : 1;
+    return report.match && gates.every((g) => g.passed) ? 0 : 1;
   }
 
   // Ids and the path come from the file: escaped before colours are added (cli/format/escape.ts).
@@ -185,7 +199,77 @@ export async function runSimulate(file: string, opts: SimulateOptions, ctx: CliC
     const m = r.firstMismatch;
     out.push(`  first mismatch: output ${m.output}, sample ${m.sample} (iteration ${m.iteration}, cycle ${m.cycle}): expected ${m.expected}, got ${m.actual}`);
   }
+  out.push(...fixedPointLines(r, color));
+  for (const g of gates) out.push(`  ${g.passed ? color.green('rule') : color.red('RULE FAILED')} ${g.rule}: ${g.message}`);
   if (opts.tables) for (const line of controlText(control)) out.push(`  ${escapeControls(line)}`);
   process.stdout.write(`${out.join('\n')}\n`);
-  return r.match ? 0 : 1;
+  return r.match && gates.every((g) => g.passed) ? 0 : 1;
+}
+
+interface Gate {
+  rule: SimulationRuleName;
+  source: 'option' | 'repository';
+  limit: number;
+  actual: number | null;
+  passed: boolean;
+  message: string;
+}
+
+/** The rules max_overflows and min_sqnr_db: from the options, else from the rules of pleat.config.yaml. */
+async function simulationGates(opts: SimulateOptions, r: SimulationReport): Promise<Gate[]> {
+  let fromConfig: SimulationRules = {};
+  const { findConfig, loadConfig } = await import('../config');
+  const file = findConfig(process.cwd());
+  if (file) {
+    const loaded = await loadConfig(file);
+    if (loaded.config) fromConfig = loaded.config.rules as SimulationRules;
+  }
+  const gates: Gate[] = [];
+  const maxOv = opts.maxOverflows ?? fromConfig.max_overflows;
+  if (maxOv !== undefined) {
+    const n = r.fixedPoint.overflowCount;
+    const what = r.fixedPoint.overflowKind === 'fixed-overflow' ? 'fixed-point overflows' : 'exact values outside their format';
+    gates.push({ rule: 'max_overflows', source: opts.maxOverflows !== undefined ? 'option' : 'repository', limit: maxOv, actual: n, passed: n <= maxOv, message: `${n} ${what}, at most ${maxOv} allowed` });
+  }
+  const minDb = opts.minSqnrDb ?? fromConfig.min_sqnr_db;
+  if (minDb !== undefined) {
+    const source = opts.minSqnrDb !== undefined ? 'option' : 'repository';
+    if (!r.fixedPoint.accuracy) {
+      gates.push({ rule: 'min_sqnr_db', source, limit: minDb, actual: null, passed: false, message: 'needs --arithmetic fixed: an exact run has no quantisation noise to measure' });
+    } else {
+      // An output without error (null) has infinite SQNR.
+      const worst = r.fixedPoint.accuracy.reduce<{ node: string; db: number } | null>((w, a) => (a.sqnrDb !== null && (!w || a.sqnrDb < w.db) ? { node: a.node, db: a.sqnrDb } : w), null);
+      const passed = worst === null || worst.db >= minDb;
+      gates.push({ rule: 'min_sqnr_db', source, limit: minDb, actual: worst ? round2(worst.db) : null, passed, message: worst ? `lowest SQNR ${round2(worst.db)} dB (output ${worst.node}), at least ${minDb} dB required` : `no output has quantisation error, at least ${minDb} dB required` });
+    }
+  }
+  return gates;
+}
+
+const round2 = (x: number) => Math.round(x * 100) / 100;
+
+/** The fixed-point findings in lines: formats, bit growth, overflows, accuracy against the exact model. */
+function fixedPointLines(r: SimulationReport, color: ReturnType<typeof makeChalk>): string[] {
+  const fp = r.fixedPoint;
+  const out: string[] = [];
+  const narrow = fp.growth.signals.filter((x) => x.tooNarrow);
+  const how = fp.growth.method === 'impulse-response' ? 'impulse responses' : fp.growth.method === 'interval' ? 'interval arithmetic' : 'no bound';
+  out.push(`  number formats: ${fp.declared ? 'as the file gives them' : `none in the file: every signal Q${(r.fixed?.width ?? 16) - 1}.0 (the data width), truncate, wrap`}`);
+  if (fp.growth.method === 'none') out.push(`  ${color.yellow('bit growth')}: no worst-case bound (${fp.growth.reason})`);
+  else if (narrow.length === 0) out.push(`  bit growth (${how}): every signal's worst case fits its format`);
+  else {
+    const shown = narrow.slice(0, 6).map((x) => `${x.node} needs ${Number.isFinite(x.neededInt) ? `${x.format.startsWith('U') ? 'UQ' : 'Q'}${x.neededInt}.${x.format.split('.')[1]}` : 'a signed format'} (has ${x.format})`);
+    out.push(`  ${color.yellow('bit growth')} (${how}): ${narrow.length} signal${narrow.length === 1 ? '' : 's'} can exceed ${narrow.length === 1 ? 'its' : 'their'} format: ${shown.join(', ')}${narrow.length > 6 ? ', ...' : ''}`);
+  }
+  if (fp.overflowCount === 0) out.push(`  overflows: none${fp.overflowKind === 'exact-out-of-range' ? ' (no exact value left its format)' : ''}`);
+  else {
+    const first = fp.overflows[0];
+    const what = fp.overflowKind === 'fixed-overflow' ? 'fixed-point overflows' : 'exact values outside their format (a fixed-point datapath would overflow there)';
+    const at = first.firstCycle !== null ? `cycle ${first.firstCycle}, iteration ${first.firstIteration}` : `iteration ${first.firstIteration}`;
+    out.push(`  ${color.yellow('overflow')}: ${fp.overflowCount} ${what} at ${fp.overflows.length} node${fp.overflows.length === 1 ? '' : 's'}; first at ${first.node} (${first.format}), ${at}`);
+  }
+  for (const a of fp.accuracy ?? []) {
+    out.push(`  ${a.node} against the exact model: max error ${a.maxError.toPrecision(4)} (${a.maxErrorLsb.toPrecision(3)} LSB of ${a.format}), SQNR ${a.sqnrDb === null ? 'infinite (no error)' : `${a.sqnrDb.toFixed(1)} dB`} over ${a.samples} samples`);
+  }
+  return out;
 }

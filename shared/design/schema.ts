@@ -2,6 +2,7 @@
 // Convention: structure only; cross-references (ids, sets, loops) are checked in shared/design/validate.ts.
 
 import { NODE_OPS } from './operations';
+import { FORMAT_PATTERN, OVERFLOW_MODES, ROUNDING_MODES } from './numberFormat';
 
 /** Largest integer accepted for counts such as delays, stages, ports and slots (32-bit signed). */
 export const MAX_INT = 2_147_483_647;
@@ -37,6 +38,10 @@ const count = (description: string, min = 0, max = MAX_INT) => ({
   maximum: max,
   description,
 });
+
+const numberFormat = (description: string) => ({ type: 'string', pattern: FORMAT_PATTERN, description });
+const rounding = { type: 'string', enum: [...ROUNDING_MODES], description: 'How a result drops fraction bits: truncate (toward minus infinity), round-half-up, convergent (half to even).' };
+const overflow = { type: 'string', enum: [...OVERFLOW_MODES], description: 'What a result past its format does: wrap (two\'s complement) or saturate.' };
 
 const id = (description: string) => ({
   type: 'string',
@@ -75,6 +80,16 @@ export const designSchema = {
       minimum: MIN_CLOCK_NS,
       maximum: MAX_CLOCK_NS,
       description: 'Clock period of the folded hardware in nanoseconds; gives the sample period and rate.',
+    },
+    fixed_point: {
+      type: 'object',
+      additionalProperties: false,
+      description: 'Defaults of the number formats of simulation and RTL; without it every signal is Q(W-1).0 (W = --width), truncate, wrap.',
+      properties: {
+        format: numberFormat('Default format of every signal in Q notation: Qm.n signed (m integer bits, n fraction bits, and a sign bit), UQm.n unsigned.'),
+        rounding,
+        overflow,
+      },
     },
     kinds: {
       type: 'object',
@@ -131,6 +146,9 @@ export const designSchema = {
             description:
               'Arithmetic for simulation: add, sub (first port minus the others), mul, gain (input times coefficient), neg, pass. Default: derived from the kind.',
           },
+          format: numberFormat('Fixed-point format of this signal in Q notation (Q3.12, UQ1.15); default: fixed_point.format.'),
+          rounding,
+          overflow,
         },
       },
     },

@@ -1,12 +1,13 @@
 // Method: JSON Schema validation (ajv, draft-07) plus the semantic rules of format pleat/1; zero-delay
 // loops by Tarjan's strongly connected components (shared/graphAlgorithms.ts). Convention: diagnostics carry `path`, no position.
 import { Ajv, type ErrorObject, type ValidateFunction } from 'ajv';
-import type { Design, DfgNode, Diagnostic, Edge, NodeOp, Unit } from '../types';
+import type { Design, DfgNode, Diagnostic, Edge, FixedPointDefaults, NodeOp, Unit } from '../types';
 import { designSchema, MAX_FACTOR } from './schema';
 import { diag, formatPath, showValue, typeWord, type DiagnosticCode } from './diagnostics';
 import { stronglyConnected } from '../graphAlgorithms';
 import { closest } from '../didYouMean';
 import { nodeOp } from './operations';
+import { FORMAT_PATTERN, parseNumberFormat } from './numberFormat';
 
 /** At most this many diagnostics of one code are listed; the last one says how many more there are. */
 export const MAX_PER_CODE = 100;
@@ -199,6 +200,7 @@ function valueRule(e: ErrorObject, p: Record<string, unknown>, value: unknown): 
     case 'enum':
       return `${v} is not one of ${(p.allowedValues as unknown[]).map((x) => String(x)).join(', ')}`;
     case 'pattern':
+      if (p.pattern === FORMAT_PATTERN) return `${v} is not a format in Q notation: write Qm.n (signed: m integer bits, n fraction bits and a sign bit) or UQm.n (unsigned), e.g. Q3.12`;
       return `${v} may only contain letters, digits, '.', '_' and '-'`;
     case 'minLength':
       return 'must not be empty';
@@ -239,7 +241,56 @@ export interface ValidateOptions {
 /** Most operation ids named in a plan-incomplete message. */
 const UNPLACED_NAMES_SHOWN = 8;
 
+/** What the semantic checks share: the document's parts and the tables the first checks build. */
+interface Scope {
+  doc: Record<string, unknown>;
+  out: Collector;
+  units: unknown[];
+  unitsOk: boolean;
+  nodes: unknown[];
+  edges: unknown[];
+  folding: Record<string, unknown> | null;
+  factor: number | null;
+  sets: Record<string, unknown> | null;
+  allowUnplaced: boolean;
+  /** Ids of units and nodes: value >= 0 a node index, < 0 -(unit index) - 1. */
+  owner: Map<string, number>;
+  unitIndex: Map<string, number>;
+  unitKinds: Set<string>;
+  nN: number;
+  /** INPUT / OUTPUT / OPERATION / BAD per node. */
+  nodeClass: Int8Array;
+  /** 1 for a node whose id is taken by an earlier unit or node, or is not a string: checked only as its id's first use. */
+  shadowed: Uint8Array;
+  /** Node ids for "did you mean" hints, gathered only when a name is unknown. */
+  nodeIds: () => string[];
+}
+
+/** Edges as flat arrays: endpoints (-1 when unknown), delays (-1 when not a valid count), degrees. */
+interface EdgeTable {
+  nE: number;
+  eFrom: Int32Array;
+  eTo: Int32Array;
+  eDelays: Float64Array;
+  outDeg: Int32Array;
+  inDeg: Int32Array;
+}
+
+/** The semantic rules of format pleat/1, one named check after another. */
 function semanticChecks(doc: Record<string, unknown>, out: Collector, options: ValidateOptions): void {
+  const s = documentScope(doc, out, options);
+  idChecks(s);
+  nodeChecks(s);
+  const e = edgeChecks(s);
+  foldingSetChecks(s);
+  arityChecks(s, e.inDeg);
+  numberFormatChecks(s);
+  zeroDelayLoops(s.nodes, s.nN, e.nE, e.eFrom, e.eTo, e.eDelays, out);
+  reachability(s.nodes, s.nodeClass, s.shadowed, s.nN, e.nE, e.eFrom, e.eTo, e.outDeg, out);
+}
+
+/** The parts of the document the checks read, and the folding factor that applies. */
+function documentScope(doc: Record<string, unknown>, out: Collector, options: ValidateOptions): Scope {
   const unitsOk = Array.isArray(doc.units);
   const units: unknown[] = unitsOk ? (doc.units as unknown[]) : [];
   const nodes: unknown[] = Array.isArray(doc.nodes) ? (doc.nodes as unknown[]) : [];
@@ -255,10 +306,40 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector, options: V
   const sets = folding && isObj(folding.sets) ? folding.sets : folding && folding.sets !== undefined ? null : {};
   const allowUnplaced = options.unplaced === 'allow';
 
-  // ids: units and nodes share one name space. Value >= 0: node index; < 0: -(unit index) - 1.
   const owner = new Map<string, number>();
-  const unitIndex = new Map<string, number>();
-  const unitKinds = new Set<string>();
+  const nN = nodes.length;
+  let idList: string[] | null = null;
+  const nodeIds = (): string[] => {
+    if (!idList) {
+      idList = [];
+      for (const [id, v] of owner) if (v >= 0) idList.push(id);
+    }
+    return idList;
+  };
+  return {
+    doc,
+    out,
+    units,
+    unitsOk,
+    nodes,
+    edges,
+    folding,
+    factor,
+    sets,
+    allowUnplaced,
+    owner,
+    unitIndex: new Map(),
+    unitKinds: new Set(),
+    nN,
+    nodeClass: new Int8Array(nN),
+    shadowed: new Uint8Array(nN),
+    nodeIds,
+  };
+}
+
+/** Unit ids: unique among units and nodes (units and nodes share one name space). */
+function idChecks(s: Scope): void {
+  const { units, out, owner, unitIndex, unitKinds } = s;
   for (let i = 0; i < units.length; i++) {
     const u = units[i];
     if (!isObj(u)) continue;
@@ -273,12 +354,11 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector, options: V
     owner.set(id, -i - 1);
     unitIndex.set(id, i);
   }
+}
 
-  const nN = nodes.length;
-  const nodeClass = new Int8Array(nN); // INPUT / OUTPUT / OPERATION / BAD
-  // 1 for a node whose id is taken by an earlier unit or node, or is not a string: checked only as its id's first use
-  const shadowed = new Uint8Array(nN);
-  const nodeIndex = owner; // one map for both: node ids map to indexes >= 0
+/** Nodes: duplicate ids, kinds no unit has, slots on operations or past the folding factor. */
+function nodeChecks(s: Scope): void {
+  const { nodes, out, owner, unitsOk, unitKinds, factor, nN, nodeClass, shadowed } = s;
   for (let i = 0; i < nN; i++) {
     const n = nodes[i];
     if (!isObj(n)) {
@@ -317,18 +397,12 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector, options: V
       }
     }
   }
+}
 
-  // node ids for "did you mean" hints, gathered only when a name is unknown
-  let idList: string[] | null = null;
-  const nodeIds = (): string[] => {
-    if (!idList) {
-      idList = [];
-      for (const [id, v] of owner) if (v >= 0) idList.push(id);
-    }
-    return idList;
-  };
-
-  // edges, as flat arrays: endpoints (-1 when unknown) and delays (-1 when not a valid count)
+/** Edges: endpoints that exist, no edge out of an output or into an input; the flat edge table. */
+function edgeChecks(s: Scope): EdgeTable {
+  const { edges, out, nN, nodeClass, unitIndex, nodeIds } = s;
+  const nodeIndex = s.owner;
   const nE = edges.length;
   const eFrom = new Int32Array(nE).fill(-1);
   const eTo = new Int32Array(nE).fill(-1);
@@ -362,7 +436,13 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector, options: V
     if (eFrom[i] >= 0) outDeg[eFrom[i]]++;
   }
 
-  // folding sets
+  return { nE, eFrom, eTo, eDelays, outDeg, inDeg };
+}
+
+/** Folding sets: keyed by units, naming operations of their kind once each; idle units; the plan complete. */
+function foldingSetChecks(s: Scope): void {
+  const { doc, out, sets, units, nodes, factor, folding, unitIndex, unitKinds, nodeClass, shadowed, unitsOk, allowUnplaced, nodeIds, nN } = s;
+  const nodeIndex = s.owner;
   const placedSet = new Int32Array(nN).fill(-1);
   const placedPos = new Int32Array(nN);
   const setKeys: string[] = [];
@@ -455,8 +535,11 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector, options: V
       out.add('plan-incomplete', what, folding ? ['folding'] : Array.isArray(doc.nodes) ? ['nodes'] : []);
     }
   }
+}
 
-  // arithmetic against the number of operands, where that is decidable
+/** Arithmetic against the number of operands, where that is decidable. */
+function arityChecks(s: Scope, inDeg: Int32Array): void {
+  const { nodes, out, nN, nodeClass, shadowed } = s;
   for (let i = 0; i < nN; i++) {
     if (nodeClass[i] !== OPERATION) continue;
     if (shadowed[i]) continue; // a duplicate: duplicate-id says it
@@ -476,9 +559,26 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector, options: V
       out.add('op-arity', `node \`${name}\` (${op}) has no inputs; connect at least one edge into it`, ['nodes', i, at]);
     }
   }
+}
 
-  zeroDelayLoops(nodes, nN, nE, eFrom, eTo, eDelays, out);
-  reachability(nodes, nodeClass, shadowed, nN, nE, eFrom, eTo, outDeg, out);
+/** Fixed-point formats: Q notation within 1..64 bits; inputs take no rounding or overflow mode. */
+function numberFormatChecks(s: Scope): void {
+  const { doc, nodes, out, nN, nodeClass } = s;
+  const check = (v: unknown, path: Path): void => {
+    if (typeof v !== 'string' || !new RegExp(FORMAT_PATTERN).test(v)) return; // the schema says it
+    const f = parseNumberFormat(v);
+    if (typeof f === 'string') out.add('number-format', f, path);
+  };
+  if (isObj(doc.fixed_point)) check(doc.fixed_point.format, ['fixed_point', 'format']);
+  for (let i = 0; i < nN; i++) {
+    const n = nodes[i];
+    if (!isObj(n)) continue;
+    check(n.format, ['nodes', i, 'format']);
+    if (nodeClass[i] !== INPUT) continue;
+    for (const k of ['rounding', 'overflow']) {
+      if (has(n, k)) out.add('rounding-on-input', `input \`${label(n.id)}\` takes its samples as they come; \`${k}\` applies to operations and outputs only`, ['nodes', i, k]);
+    }
+  }
 }
 
 /** Index of the node with this id, or undefined (unit ids live in the same map with negative values). */
@@ -683,6 +783,9 @@ function normalise(doc: Record<string, unknown>, options: ValidateOptions): Desi
     if (n.slot !== undefined) node.slot = n.slot as number;
     if (n.coefficient !== undefined) node.coefficient = n.coefficient as number;
     if (n.op !== undefined) node.op = n.op as NodeOp;
+    if (n.format !== undefined) node.format = n.format as string;
+    if (n.rounding !== undefined) node.rounding = n.rounding as DfgNode['rounding'];
+    if (n.overflow !== undefined) node.overflow = n.overflow as DfgNode['overflow'];
     return node;
   });
   const rawEdges = doc.edges as Record<string, unknown>[];
@@ -714,6 +817,7 @@ function normalise(doc: Record<string, unknown>, options: ValidateOptions): Desi
   };
   if (typeof doc.description === 'string') design.description = doc.description;
   if (typeof doc.clock_ns === 'number') design.clockNs = doc.clock_ns;
+  if (isObj(doc.fixed_point)) design.fixedPoint = { ...(doc.fixed_point as FixedPointDefaults) };
   return design;
 }
 

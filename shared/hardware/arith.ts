@@ -18,6 +18,20 @@ export interface Arithmetic<T> {
   format(a: T): string;
   /** A JSON-safe rendering (string for big values). */
   toJson(a: T): string | number;
+  /**
+   * A number system with per-signal formats evaluates a whole node at once (its operands are in
+   * their producers' formats, its result in its own): `at` is the iteration or cycle, for the
+   * overflow record. Without it, applyOp composes the operations above.
+   */
+  node?(id: string, op: NodeOp, operands: T[], coefficient: Coefficient | null, at: number): T;
+  /** The value an output port shows of its producer's value (requantised to the output's format). */
+  output?(id: string, value: T, at: number): T;
+}
+
+/** One node evaluated in a number system: its own hook when it has one, else applyOp. */
+export function evalNode<T>(ar: Arithmetic<T>, id: string, op: NodeOp, operands: T[], coefficient: Coefficient | null, at: number): T {
+  if (operands.length === 0) return ar.zero;
+  return ar.node ? ar.node(id, op, operands, coefficient, at) : applyOp(ar, op, operands, coefficient);
 }
 
 /**

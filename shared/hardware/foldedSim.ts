@@ -3,16 +3,20 @@
 // Convention: cycle 0 is the first cycle after reset, in partition 0; registers load at the end of a cycle.
 import {
   exactArithmetic,
-  fixedArithmetic,
   decimalBits,
   randomStreams,
-  applyOp,
+  evalNode,
   DEFAULT_FIXED,
   type Arithmetic,
   type FixedFormat,
 } from './arith';
 import { controlTables } from './control';
-import { evaluateReference, resolveArithmetic } from './reference';
+import { evaluateReference, resolveArithmetic, type ResolvedGraph } from './reference';
+import { formatPlan, type FormatPlan } from './formats';
+import { formatArithmetic } from './formatArithmetic';
+import { bitGrowth, type BitGrowth } from './range';
+import { formatName, rawRange } from '../design/numberFormat';
+import type { Decimal } from './arith';
 import type { Analysis, ControlTables, Design, Diagnostic, SignalSource } from '../types';
 
 /** A value, or null where the hardware would carry garbage (an input outside its valid cycle, an idle unit). */
@@ -135,7 +139,7 @@ export function runFolded<T>(control: ControlTables, ar: Arithmetic<T>, inputs: 
           }
           operands.push(v);
         }
-        result = ok ? applyOp(ar, slot.op, operands, slot.coefficientText ?? slot.coefficient) : null;
+        result = ok ? evalNode(ar, slot.node, slot.op, operands, slot.coefficientText ?? slot.coefficient, cycle) : null;
       }
       if (u.stages === 0) unitOut[i] = result;
       else pipes[i][cycle % u.stages] = result;
@@ -143,7 +147,8 @@ export function runFolded<T>(control: ControlTables, ar: Arithmetic<T>, inputs: 
     // End of the cycle: output ports and registers load together.
     for (const o of control.outputs) {
       if (o.cycle % N !== t || iteration < o.validAfterIterations) continue;
-      strobes[o.node].push({ cycle: cycle + 1, value: read(o.source) });
+      const v = read(o.source);
+      strobes[o.node].push({ cycle: cycle + 1, value: v !== null && ar.output && o.mode !== 'none' ? ar.output(o.node, v, cycle) : v });
     }
     // Every load reads the values of this cycle before any register changes.
     const loads = loadsAt[t];
@@ -208,6 +213,45 @@ export interface SimulationReport {
   firstMismatch: Mismatch | null;
   allocationSource: ControlTables['allocationSource'];
   note?: string;
+  /** Number formats: overflows, and in fixed runs the error against the exact model. */
+  fixedPoint: FixedPointReport;
+}
+
+/** Overflows of one node in a run. */
+export interface NodeOverflow {
+  node: string;
+  format: string;
+  count: number;
+  /** Iteration of the unfolded graph of the first. */
+  firstIteration: number;
+  /** Cycle of the folded datapath of the first (fixed runs). */
+  firstCycle: number | null;
+}
+
+/** The fixed-point datapath against the exact model, per output. */
+export interface OutputAccuracy {
+  node: string;
+  format: string;
+  samples: number;
+  /** Largest |fixed - exact|, as a number and in LSBs of the output's format. */
+  maxError: number;
+  maxErrorLsb: number;
+  /** Signal-to-quantisation-noise ratio 10 log10(sum exact^2 / sum error^2); null when the error is zero. */
+  sqnrDb: number | null;
+}
+
+export interface FixedPointReport {
+  /** Whether the design names formats (else every signal is Q(W-1).0, truncate, wrap). */
+  declared: boolean;
+  /**
+   * exact runs: exact values outside their signal's format (what a fixed-point datapath would
+   * overflow on); fixed runs: results that overflowed (wrapped or saturated).
+   */
+  overflowKind: 'exact-out-of-range' | 'fixed-overflow';
+  overflowCount: number;
+  overflows: NodeOverflow[];
+  accuracy: OutputAccuracy[] | null;
+  growth: BitGrowth;
 }
 
 export interface SimulationResult {
@@ -247,17 +291,46 @@ export function simulateDesign(design: Design, analysis: Analysis, opts: Simulat
       ],
     };
   }
-  if (opts.arithmetic === 'fixed') return { report: compare(design, graph, control, fixedArithmetic(opts.fixed ?? DEFAULT_FIXED), opts), diagnostics: [] };
-  return { report: compare(design, graph, control, exactArithmetic(), opts), diagnostics: [] };
+  const fixed = opts.fixed ?? DEFAULT_FIXED;
+  const plan = formatPlan(design, fixed.width);
+  if (opts.arithmetic === 'fixed') {
+    return { report: compare(design, graph, control, () => formatArithmetic(design, graph, plan, fixed), opts, plan), diagnostics: [] };
+  }
+  return { report: compare(design, graph, control, exactArithmetic, opts, plan), diagnostics: [] };
+}
+
+/** Raw input samples: over each input's format when the design names formats, else as before. */
+export function inputStreams(design: Design, plan: FormatPlan, iterations: number, seed: number, legacyBits: number): Record<string, bigint[]> {
+  const ids = design.nodes.filter((n) => n.kind === 'input').map((n) => n.id);
+  if (!plan.declared) return randomStreams(ids, iterations, seed, legacyBits);
+  // One stream per input, from one generator in file order, as randomStreams does.
+  const raw = randomStreams(ids, iterations, seed, 32);
+  const out: Record<string, bigint[]> = {};
+  design.nodes.forEach((n, i) => {
+    if (n.kind !== 'input') return;
+    const f = plan.signals[i].format;
+    const { min, max } = rawRange(f);
+    const span = max - min + 1n;
+    // 32 random bits, reduced into the range (uniform enough for test vectors; wide formats get 32 bits).
+    out[n.id] = raw[n.id].map((v) => (span > 1n << 32n ? v : min + (BigInt.asUintN(32, v) % span)));
+  });
+  return out;
+}
+
+/** A raw integer of a format with `frac` fraction bits as the exact decimal it stands for. */
+function rawToDecimal(v: bigint, frac: number): Decimal {
+  return { m: v * 5n ** BigInt(frac), e: frac };
 }
 
 function compare<T>(
   design: Design,
-  graph: NonNullable<ReturnType<typeof resolveArithmetic>['graph']>,
+  graph: ResolvedGraph,
   control: ControlTables,
-  ar: Arithmetic<T>,
+  makeAr: () => Arithmetic<T>,
   opts: SimulationOptions,
+  plan: FormatPlan,
 ): SimulationReport {
+  const ar = makeAr();
   const N = control.factor;
   const K = opts.iterations ?? DEFAULT_ITERATIONS;
   const seed = opts.seed ?? DEFAULT_SEED;
@@ -265,15 +338,37 @@ function compare<T>(
   const wait = control.outputs.reduce((m, o) => Math.max(m, Math.max(0, o.lag)), 0);
   const H = K + wait;
   const inputIds = design.nodes.filter((n) => n.kind === 'input').map((n) => n.id);
-  const raw = randomStreams(inputIds, H, seed, inputBits(opts));
+  const raw = inputStreams(design, plan, H, seed, inputBits(opts));
   const streams: Record<string, T[]> = {};
-  for (const id of inputIds) streams[id] = raw[id].map((v) => ar.fromInt(v));
+  const inFrac = (id: string) => plan.signals[graph.index.get(id)!].format.frac;
+  for (const id of inputIds) {
+    // Exact runs of a design with formats take each sample as the number its format says.
+    streams[id] = ar.name === 'exact' && plan.declared ? (raw[id].map((v) => rawToDecimal(v, inFrac(id))) as T[]) : raw[id].map((v) => ar.fromInt(v));
+  }
 
   let refIterations = H;
   for (const o of control.outputs) refIterations = Math.max(refIterations, o.firstSample + K);
   const maxBits = opts.maxBits ?? 4096;
   const guard = ar.name === 'exact' ? (v: T) => decimalBits(v as never) > maxBits : undefined;
-  const ref = evaluateReference(design, graph, ar, streams, refIterations, guard);
+  // Exact runs: every exact value outside its signal's format is what fixed point would overflow on.
+  const outOfRange = new Map<number, { count: number; first: number }>();
+  const limits = plan.signals.map((sf) => {
+    const { min, max } = rawRange(sf.format);
+    return { min: rawToDecimal(min, sf.format.frac), max: rawToDecimal(max, sf.format.frac) };
+  });
+  const observe =
+    ar.name === 'exact'
+      ? (v: number, it: number, value: T) => {
+          if (graph.nodes[v].kind === 'input') return;
+          const x = value as unknown as Decimal;
+          if (decimalLess(x, limits[v].min) || decimalLess(limits[v].max, x)) {
+            const o = outOfRange.get(v);
+            if (o) o.count++;
+            else outOfRange.set(v, { count: 1, first: it });
+          }
+        }
+      : undefined;
+  const ref = evaluateReference(design, graph, ar, streams, refIterations, guard, observe);
 
   // Samples per output that the reference covers.
   let Keff = K;
@@ -286,7 +381,8 @@ function compare<T>(
   let lastEvent = -1;
   for (const o of control.outputs) lastEvent = Math.max(lastEvent, N * (Math.max(0, o.lag) + Keff - 1) + o.cycle);
   const cycles = Keff === 0 ? 0 : lastEvent + 1;
-  const run = runFolded(control, ar, streams, cycles);
+  const foldedAr = makeAr();
+  const run = runFolded(control, foldedAr, streams, cycles);
 
   let samplesCompared = 0;
   let firstMismatch: Mismatch | null = null;
@@ -322,10 +418,11 @@ function compare<T>(
       samplesCompared: Keff,
     });
   }
+  const fixedPoint = fixedPointReport(design, graph, control, plan, ar, foldedAr, ref.outputs as unknown as Record<string, bigint[]>, raw, outOfRange, Keff, refIterations);
   return {
     design: design.name,
     arithmetic: ar.name,
-    fixed: ar.name === 'fixed' ? (opts.fixed ?? DEFAULT_FIXED) : null,
+    fixed: ar.name === 'fixed' ? { ...(opts.fixed ?? DEFAULT_FIXED), width: plan.container } : null,
     seed,
     factor: N,
     latencyAdded: control.latencyAdded,
@@ -339,5 +436,89 @@ function compare<T>(
     firstMismatch,
     allocationSource: control.allocationSource,
     ...(note ? { note } : {}),
+    fixedPoint,
+  };
+}
+
+/** The nearest double of an exact decimal, however long its digits. */
+function decimalNumber(d: Decimal): number {
+  return Number.parseFloat(`${d.m}e-${d.e}`);
+}
+
+function decimalLess(a: Decimal, b: Decimal): boolean {
+  const e = Math.max(a.e, b.e);
+  return a.m * 10n ** BigInt(e - a.e) < b.m * 10n ** BigInt(e - b.e);
+}
+
+/**
+ * Overflows of the run, and for fixed runs the outputs against the exact model driven by the
+ * same samples (each raw input read as the number its format stands for).
+ */
+function fixedPointReport<T>(
+  design: Design,
+  graph: ResolvedGraph,
+  control: ControlTables,
+  plan: FormatPlan,
+  ar: Arithmetic<T>,
+  foldedAr: Arithmetic<T>,
+  refOutputs: Record<string, bigint[]>,
+  raw: Record<string, bigint[]>,
+  outOfRange: Map<number, { count: number; first: number }>,
+  K: number,
+  refIterations: number,
+): FixedPointReport {
+  const growth = bitGrowth(design, graph, plan);
+  const fmtOf = (id: string) => plan.signals[graph.index.get(id)!].format;
+  const overflows: NodeOverflow[] = [];
+  let accuracy: OutputAccuracy[] | null = null;
+  if (ar.name === 'exact') {
+    for (const [v, o] of [...outOfRange].sort((a, b) => a[1].first - b[1].first || a[0] - b[0])) {
+      overflows.push({ node: graph.nodes[v].id, format: formatName(plan.signals[v].format), count: o.count, firstIteration: o.first, firstCycle: null });
+    }
+  } else {
+    const refOv = (ar as unknown as { overflows: Map<string, { count: number; first: number }> }).overflows;
+    const foldOv = (foldedAr as unknown as { overflows: Map<string, { count: number; first: number }> }).overflows;
+    for (const [id, o] of [...refOv].sort((a, b) => a[1].first - b[1].first)) {
+      overflows.push({ node: id, format: formatName(fmtOf(id)), count: o.count, firstIteration: o.first, firstCycle: foldOv.get(id)?.first ?? null });
+    }
+    // The exact model on the same samples, each read as the number its format stands for.
+    const ex = exactArithmetic();
+    const streams: Record<string, Decimal[]> = {};
+    for (const [id, s] of Object.entries(raw)) streams[id] = s.map((v) => rawToDecimal(v, fmtOf(id).frac));
+    const exact = evaluateReference(design, graph, ex, streams, refIterations, (v) => decimalBits(v) > 4096);
+    accuracy = [];
+    for (const o of control.outputs) {
+      const f = fmtOf(o.node);
+      const n = Math.min(K, exact.completed - o.firstSample);
+      let sig = 0;
+      let err = 0;
+      let maxError = 0;
+      for (let k = 0; k < n; k++) {
+        const i = o.firstSample + k;
+        const y = exact.outputs[o.node][i];
+        const q = rawToDecimal(refOutputs[o.node][i], f.frac);
+        const yv = decimalNumber(y);
+        const e = Math.abs(decimalNumber(ex.sub(q, y)));
+        sig += yv * yv;
+        err += e * e;
+        maxError = Math.max(maxError, e);
+      }
+      accuracy.push({
+        node: o.node,
+        format: formatName(f),
+        samples: Math.max(0, n),
+        maxError,
+        maxErrorLsb: maxError * 2 ** f.frac,
+        sqnrDb: err === 0 ? null : 10 * Math.log10(sig / err),
+      });
+    }
+  }
+  return {
+    declared: plan.declared,
+    overflowKind: ar.name === 'exact' ? 'exact-out-of-range' : 'fixed-overflow',
+    overflowCount: overflows.reduce((a, o) => a + o.count, 0),
+    overflows,
+    accuracy,
+    growth,
   };
 }

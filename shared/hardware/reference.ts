@@ -1,6 +1,6 @@
 // Direct evaluation of the unfolded DFG, iteration by iteration (the synchronous data-flow
 // reading of a DFG). Convention: zero initial state: every value before iteration 0 is zero.
-import { applyOp, type Arithmetic, type Coefficient } from './arith';
+import { evalNode, type Arithmetic, type Coefficient } from './arith';
 import { bucket, stronglyConnected } from '../graphAlgorithms';
 import { NODE_OPS, nodeOp, UNARY_OPS } from '../design/operations';
 import type { Design, Diagnostic, NodeOp } from '../types';
@@ -146,6 +146,8 @@ export function evaluateReference<T>(
   inputs: Record<string, T[]>,
   iterations: number,
   tooBig?: (value: T) => boolean,
+  /** Sees every node's value of every iteration (node index of design.nodes). */
+  observe?: (node: number, iteration: number, value: T) => void,
 ): ReferenceRun<T> {
   const n = graph.nodes.length;
   const hist: T[][] = graph.nodes.map(() => new Array<T>(iterations));
@@ -164,8 +166,8 @@ export function evaluateReference<T>(
           const back = it - design.edges[ei].delays;
           operandBuf.push(back >= 0 ? hist[src[ei]][back] : ar.zero);
         }
-        if (node.kind === 'output') value = operandBuf.length ? operandBuf[0] : ar.zero;
-        else value = applyOp(ar, node.op!, operandBuf, node.coefficient);
+        if (node.kind === 'output') value = operandBuf.length ? (ar.output ? ar.output(node.id, operandBuf[0], it) : operandBuf[0]) : ar.zero;
+        else value = evalNode(ar, node.id, node.op!, operandBuf, node.coefficient, it);
       }
       if (tooBig && tooBig(value)) {
         const outputs: Record<string, T[]> = {};
@@ -173,6 +175,7 @@ export function evaluateReference<T>(
         return { outputs, completed: it, stoppedAt: { node: node.id, iteration: it } };
       }
       hist[v][it] = value;
+      if (observe) observe(v, it, value);
     }
   }
   const outputs: Record<string, T[]> = {};

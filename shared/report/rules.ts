@@ -9,6 +9,7 @@ import type {
   RuleName,
   RuleSource,
   Rules,
+  SimulationRuleName,
   Violation,
 } from '../types';
 import { closest } from '../didYouMean';
@@ -30,7 +31,7 @@ export const MAX_REGISTERS_RULE = 2_147_483_647;
 export const RULES_SCHEMA: {
   type: 'object';
   additionalProperties: false;
-  properties: Record<RuleName, RuleSchema>;
+  properties: Record<RuleName | SimulationRuleName, RuleSchema>;
 } = {
   type: 'object',
   additionalProperties: false,
@@ -39,10 +40,17 @@ export const RULES_SCHEMA: {
     min_utilization: { type: 'number', minimum: 0, maximum: 1, description: 'a share of the available slots' },
     min_unit_utilization: { type: 'number', minimum: 0, maximum: 1, description: 'a share of the available slots' },
     max_registers: { type: 'integer', minimum: 0, maximum: MAX_REGISTERS_RULE },
+    // Gates of `pleat simulate` (docs/rtl.md, "Fixed point"): a check does not simulate.
+    max_overflows: { type: 'integer', minimum: 0, maximum: MAX_REGISTERS_RULE, description: 'fixed-point overflows in a pleat simulate run' },
+    min_sqnr_db: { type: 'number', minimum: -1000, maximum: 1000, description: 'dB, of every output in a pleat simulate --arithmetic fixed run' },
   },
 };
 
-export const RULE_NAMES = Object.keys(RULES_SCHEMA.properties) as readonly RuleName[];
+/** The rules of `pleat check` (merged as team floor and repository rules, applied to the analysis). */
+export const RULE_NAMES = ['negative_delays', 'min_utilization', 'min_unit_utilization', 'max_registers'] as const satisfies readonly RuleName[];
+/** The rules `pleat simulate` gates on. */
+export const SIMULATION_RULE_NAMES = ['max_overflows', 'min_sqnr_db'] as const satisfies readonly SimulationRuleName[];
+const ALL_RULE_NAMES: readonly string[] = Object.keys(RULES_SCHEMA.properties);
 
 function accepts(spec: RuleSchema, value: unknown): boolean {
   if ('enum' in spec) return typeof value === 'string' && spec.enum.includes(value);
@@ -90,12 +98,12 @@ export function checkRules(raw: unknown, basePath: (string | number)[] = ['rules
   }
   for (const [key, value] of Object.entries(raw as Record<string, unknown>)) {
     const path = [...basePath, key];
-    const spec = Object.hasOwn(RULES_SCHEMA.properties, key) ? RULES_SCHEMA.properties[key as RuleName] : undefined;
+    const spec = Object.hasOwn(RULES_SCHEMA.properties, key) ? RULES_SCHEMA.properties[key as RuleName | SimulationRuleName] : undefined;
     if (!spec) {
-      const near = closest(key, RULE_NAMES);
+      const near = closest(key, ALL_RULE_NAMES);
       problems.push({
         path,
-        message: `unknown rule "${key}"${near ? `; did you mean "${near}"?` : ''} (known: ${RULE_NAMES.join(', ')})`,
+        message: `unknown rule "${key}"${near ? `; did you mean "${near}"?` : ''} (known: ${ALL_RULE_NAMES.join(', ')})`,
       });
     } else if (accepts(spec, value)) {
       (rules as Record<string, unknown>)[key] = value;
@@ -144,6 +152,7 @@ export function mergeRules(team: Rules | null | undefined, repository: Rules | n
   pick('min_utilization', (a, b) => a > b);
   pick('min_unit_utilization', (a, b) => a > b);
   pick('max_registers', (a, b) => a < b);
+
   return { effective, notes };
 }
 

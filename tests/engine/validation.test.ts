@@ -14,6 +14,10 @@ import { buildProblem } from '../../shared/planning/problem';
 import { decodeDesignBytes } from '../../shared/design/encoding';
 import { designSchema } from '../../shared/design/schema';
 import type { Diagnostic } from '../../shared/types';
+import { locate } from '../../shared/design/positions';
+import { resolveArithmetic } from '../../shared/hardware/reference';
+import { formatPlan } from '../../shared/hardware/formats';
+import { bitGrowth } from '../../shared/hardware/range';
 
 const fixtures = fileURLToPath(new URL('../fixtures/invalid/', import.meta.url));
 const docsFile = fileURLToPath(new URL('../../docs/diagnostics.md', import.meta.url));
@@ -343,6 +347,34 @@ describe('problems found while reading the text', () => {
   it('internal-error: text that is not a string comes back as a diagnostic', () => {
     const r = loadDesign(42 as unknown as string);
     expect(brief(r.diagnostics)).toEqual(['internal-error@1:1']);
+  });
+});
+
+describe('number formats', () => {
+  it('number-format: Q notation wider than 64 bits is an error at the format', () => {
+    const r = loadDesign(VALID.replace('  - { id: acc, kind: add, time: 1.5 }', '  - { id: acc, kind: add, time: 1.5, format: Q40.40 }'));
+    expect(brief(r.diagnostics)).toEqual(['number-format@15:46']);
+    expect(r.diagnostics[0].message).toMatch(/81 bits wide; formats have at most 64 bits/);
+  });
+
+  it('rounding-on-input: an input takes no rounding mode', () => {
+    const r = loadDesign(VALID.replace('  - { id: mic, kind: input }', '  - { id: mic, kind: input, format: Q0.15, overflow: saturate }'));
+    expect(brief(r.diagnostics)).toEqual(['rounding-on-input@12:54']);
+  });
+
+  it('format-too-narrow: bit growth past a format is a warning at the node', () => {
+    // acc = step + acc[n-1] has a pole at 1: its response never dies away, so no bound, no warning.
+    const leaky = VALID.replace('  - { from: acc, to: acc, delays: 1, port: 1 }', '  - { from: acc, to: err2, delays: 1 }\n  - { from: err2, to: acc, port: 1 }').replace(
+      '  - { id: level, kind: output, slot: 3 }',
+      '  - { id: err2, kind: mul, coefficient: 0.5 }\n  - { id: level, kind: output, slot: 3 }',
+    ).replace('MAC: [~, step]', 'MAC: [err2, step]');
+    const text = leaky.replace('units:', 'fixed_point: { format: Q0.15 }\nunits:');
+    const { design, diagnostics } = loadDesign(text);
+    expect(diagnostics).toEqual([]);
+    const growth = bitGrowth(design!, resolveArithmetic(design!).graph!, formatPlan(design!, 16));
+    const placed = locate(text, growth.diagnostics);
+    expect(brief(placed).every((b) => b.startsWith('format-too-narrow@'))).toBe(true);
+    expect(placed.map((d) => d.message.split('`')[1])).toContain('err');
   });
 });
 

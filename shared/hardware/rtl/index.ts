@@ -1,0 +1,78 @@
+// Verilog-2001 text of a folded datapath from its control tables (Parhi, ch. 6: folding
+// transformation), plus a self-checking testbench. Convention: W-bit two's complement, synchronous
+// active-high reset, cycle 0 = the first cycle after the last reset edge, partition 0.
+// One module per step: interface (names), coefficients, counters, units, registers, outputs, top;
+// testbench and parallel are the two companions of `pleat rtl`.
+import { DEFAULT_FIXED } from '../arith';
+import type { ControlTables, Design } from '../../types';
+import { coefficientLocals, coefficientParams } from './coefficients';
+import { counterBlocks } from './counters';
+import { interfaceNames } from './interface';
+import { inputTimings, outputRegisters } from './outputs';
+import { registerFile } from './registers';
+import { byPartition, counterTiming, SignalReader } from './signals';
+import { topModuleText } from './top';
+import type { RtlBundle, RtlOptions } from './types';
+import { combinationalLoops, loopWarnings, unitInstances } from './units';
+
+export { verilogIdent } from './names';
+export type { PortTiming, RtlBundle, RtlOptions, RtlRename } from './types';
+export { generateTestbench, testVectors, type TestVectors } from './testbench';
+export { parallelDesign } from './parallel';
+
+/**
+ * Generates the folded datapath as Verilog-2001: a top module with clk, rst, one W-bit signed
+ * port per input and output node (named by the node ids) and a valid strobe per output; a
+ * partition counter; the multiplexers and registers of the control tables; one behavioural
+ * module per unit.
+ */
+export function generateRtl(design: Design, control: ControlTables, opts: RtlOptions = {}): RtlBundle {
+  const W = opts.width ?? DEFAULT_FIXED.width;
+  const F = opts.coefFrac ?? DEFAULT_FIXED.coefFrac;
+  const N = control.factor;
+  const generator = opts.generator ?? 'pleat';
+
+  const n = interfaceNames(design, control, opts);
+  const coef = coefficientParams(n.activeUnits, n.names, F);
+  const timing = counterTiming(control);
+  const read = new SignalReader(n);
+  // 0-stage units that feed each other's operands directly form a loop through multiplexers:
+  // never active in one cycle (the partitions differ), but a loop in the netlist all the same.
+  const looped = combinationalLoops(n.activeUnits, control);
+  const warnings = loopWarnings(looped);
+
+  const body = counterBlocks(N, n.part, n.iter, timing);
+  const { unitBlocks, unitFiles } = unitInstances(control, n, looped, coef, read, byPartition(n.part, timing.pconst), {
+    designName: design.name,
+    generator,
+    W,
+    F,
+  });
+  const regBlocks = registerFile(control, n, timing, read);
+  const outputs = outputRegisters(control, n, timing, read);
+  const ports = [...inputTimings(control, n), ...outputs.ports];
+  const topText = topModuleText(design, control, n, read, {
+    W,
+    F,
+    CW: coef.CW,
+    generator,
+    ports,
+    locals: coefficientLocals(coef, F),
+    body,
+    regBlocks,
+    unitBlocks,
+    outBlocks: outputs.outBlocks,
+  });
+  return {
+    top: n.top,
+    files: [{ name: `${n.top}.v`, text: topText }, ...unitFiles],
+    ports,
+    renamed: n.renamed,
+    testbench: n.tbName,
+    coefficients: coef.coefficients,
+    fixed: { width: W, coefFrac: F },
+    coefWidth: coef.CW,
+    factor: N,
+    warnings,
+  };
+}
