@@ -72,8 +72,12 @@ export async function loadConfig(file: string): Promise<ConfigResult> {
   try {
     // Aliases are refused: a config has no use for them and they are the usual expansion bomb.
     // Loaded here rather than at start-up, so commands without a config do not pay for it.
-    const { loadAll } = await import('js-yaml');
-    const docs = loadAll(text, { maxAliases: 0 });
+    const { CORE_SCHEMA, loadAll } = await import('js-yaml');
+    const alias = text.includes('*') ? await firstAlias(text) : null;
+    if (alias) {
+      return { config: null, diagnostics: [{ severity: 'error', code: 'config-syntax', message: 'the config file is not valid YAML: aliases are not allowed in a config file', line: alias[0], column: alias[1] }] };
+    }
+    const docs = loadAll(text, null, { schema: CORE_SCHEMA });
     if (docs.length > 1) {
       return { config: null, diagnostics: [await positioned(text, { severity: 'error', code: 'config-syntax', message: 'the config file holds more than one YAML document; keep one', path: [] })] };
     }
@@ -170,6 +174,12 @@ export async function loadConfig(file: string): Promise<ConfigResult> {
 
 function fail(code: string, message: string): ConfigResult {
   return { config: null, diagnostics: [{ severity: 'error', code, message, line: null, column: null }] };
+}
+
+/** Line and column of the first YAML alias (`*name`) in the text; null when there is none. */
+async function firstAlias(text: string): Promise<[number, number] | null> {
+  const { firstAliasPosition } = await import('../shared/design/positions');
+  return firstAliasPosition(text);
 }
 
 async function positioned(text: string, p: Problem): Promise<Diagnostic> {

@@ -4,6 +4,8 @@ import { lstatSync, readdirSync, realpathSync, statSync } from 'node:fs';
 import path from 'node:path';
 
 export const DESIGN_SUFFIX = '.fold.yaml';
+/** Designs written as JSON, usually by scripts (docs/format.md). */
+export const JSON_DESIGN_SUFFIX = '.fold.json';
 /** Folders never searched: dependency trees and version-control internals. */
 export const IGNORED = ['**/node_modules/**', '**/.git/**'];
 const IGNORED_NAMES = new Set(['node_modules', '.git']);
@@ -119,7 +121,7 @@ function lastSegmentMatcher(pattern: string): (name: string) => boolean {
     const rx = new RegExp(`^${re}$`);
     return (name) => rx.test(name);
   } catch {
-    return (name) => name.endsWith(DESIGN_SUFFIX);
+    return (name) => name.endsWith(DESIGN_SUFFIX) || name.endsWith(JSON_DESIGN_SUFFIX);
   }
 }
 
@@ -163,8 +165,8 @@ export async function expandPaths(paths: string[], cwd: string): Promise<Expansi
     else if (kind === 'unreadable') continue;
     else if (kind === 'dir') {
       const before = unreadable.length;
-      const found = await globIn([`**/*${DESIGN_SUFFIX}`], abs, unreadable);
-      if (found.length === 0 && unreadable.length === before) problems.push(`no *${DESIGN_SUFFIX} files in folder ${p}`);
+      const found = await globIn(['**/*.fold.{yaml,json}'], abs, unreadable);
+      if (found.length === 0 && unreadable.length === before) problems.push(`no *${DESIGN_SUFFIX} or *${JSON_DESIGN_SUFFIX} files in folder ${p}`);
       files.push(...found);
     } else if (GLOB_CHARS.test(p)) {
       const before = unreadable.length;

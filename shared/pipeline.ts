@@ -3,7 +3,7 @@
 // analyse -> control tables -> rules -> report with every finding placed at a line and column.
 // docs/architecture.md draws it; each stage lives in its folder (design/, analysis/, hardware/, report/).
 import type { Analysis, ControlTables, Design, Diagnostic, DesignReport, EffectiveRules, LoadResult, Violation } from './types';
-import { loadDesign, nameOfInvalidDesign, type Limits } from './design/load';
+import { loadDesign, nameOfInvalidDesign, syntaxOfFile, type Limits } from './design/load';
 import { locate } from './design/positions';
 import { analyzeDatapath, type AnalyzeOptions, type FoldedDatapath } from './analysis/analyze';
 import { DEFAULT_MAX_CONTROL_CELLS, withControl } from './hardware/control';
@@ -42,7 +42,8 @@ const NO_RULES: EffectiveRules = mergeRules(null, null).effective;
 export function runDesignText(text: string, file: string, options: PipelineOptions = {}): DesignRun {
   let loaded: LoadResult;
   try {
-    loaded = loadDesign(text, options.limits ? { limits: options.limits } : undefined);
+    // `*.fold.json` is JSON only; any other name is YAML, which takes JSON text too (docs/format.md).
+    loaded = loadDesign(text, { syntax: syntaxOfFile(file), ...(options.limits ? { limits: options.limits } : {}) });
   } catch (e) {
     return failed(file, nameOfInvalid(text), e);
   }

@@ -137,6 +137,12 @@ export interface RetimingResult {
    * retimed, values are empty and the datapath is the one as written. Absent otherwise.
    */
   applied?: false;
+  /**
+   * false when a search for the fewest registers ran out of its work budget, so the retiming
+   * reported is not proven to need the fewest registers (the method sentence says so too).
+   * Absent when every search finished: its optimum is exact.
+   */
+  registersProven?: false;
 }
 
 export interface Utilization {

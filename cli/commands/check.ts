@@ -160,11 +160,12 @@ export async function runCheck(paths: string[], opts: CheckOptions, ctx: CliCont
 
   const format = opts.format;
   if (opts.output) {
-    const body = (await formatterFor(format))(report, { ...fctx, color: undefined });
     const out = path.resolve(cwd, opts.output);
     try {
       mkdirSync(path.dirname(out), { recursive: true });
-      writeFileSync(out, body);
+      // JSON goes out as a stream of chunks: no single string as long as the report.
+      if (format === 'json') (await import('../format/json')).writeJsonFile(report, out);
+      else writeFileSync(out, (await formatterFor(format))(report, { ...fctx, color: undefined }));
     } catch (e) {
       throw new CliError(`cannot write the report to ${opts.output}: ${(e as Error).message}`);
     }
@@ -172,6 +173,8 @@ export async function runCheck(paths: string[], opts: CheckOptions, ctx: CliCont
     process.stdout.write(formatText(report, { ...fctx, color }));
   } else if (format === 'text') {
     process.stdout.write(formatText(report, { ...fctx, color }));
+  } else if (format === 'json') {
+    (await import('../format/json')).writeJson(report, (chunk) => process.stdout.write(chunk));
   } else {
     process.stdout.write((await formatterFor(format))(report, fctx));
   }

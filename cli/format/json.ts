@@ -1,13 +1,121 @@
 // The machine-readable report (format pleat-report/1), as documented in docs/cli.md.
+// Large reports are written as a stream of pieces: JSON.stringify of the whole report would build
+// one string as long as the report (tens of MB at 100,000 edges, and past V8's string limit,
+// `Invalid string length`, for the largest designs), held in memory beside the report itself.
+import { closeSync, openSync, writeSync } from 'node:fs';
 import type { Report } from '../../shared/types';
 import type { FormatContext } from './common';
 import { escapeJsonText } from './escape';
 
 /** Reports up to this size are indented for people who open them; larger ones stay compact. */
 const INDENT_BELOW_CHARS = 1_000_000;
+/** Pieces are gathered up to this many characters before they are handed to the sink. */
+const CHUNK_CHARS = 1 << 20;
+/** Arrays and objects with more members than this are walked member by member; smaller ones go to JSON.stringify whole. */
+const WALK_ABOVE = 256;
+/** Members of a long list stringified in one call. */
+const SLICE = 512;
+/** Levels from the top that are always walked (report, designs, one design, its analysis). */
+const WALK_DEPTH = 4;
 
+function isWalked(value: unknown, depth: number): value is object {
+  if (value === null || typeof value !== 'object') return false;
+  if (typeof (value as { toJSON?: unknown }).toJSON === 'function') return false;
+  if (depth < WALK_DEPTH) return true;
+  if (Array.isArray(value)) return value.length > WALK_ABOVE;
+  let n = 0;
+  for (const _ in value) if (++n > WALK_ABOVE) return true;
+  return false;
+}
+
+/**
+ * Writes JSON.stringify(value) to `emit` in pieces, with JSON.stringify's own rules for the
+ * members (undefined, functions and symbols left out of objects, null in arrays), so the text
+ * is the same as the one-string form.
+ */
+function stream(value: unknown, emit: (piece: string) => void, depth: number): void {
+  if (!isWalked(value, depth)) {
+    emit(JSON.stringify(value) ?? 'null');
+    return;
+  }
+  if (Array.isArray(value)) {
+    if (depth >= WALK_DEPTH) {
+      // A long list deep in the report (edges, lifetimes): JSON.stringify of slices, one call per SLICE members.
+      emit('[');
+      for (let i = 0; i < value.length; i += SLICE) {
+        const part = JSON.stringify(value.slice(i, i + SLICE));
+        emit(i === 0 ? part.slice(1, -1) : `,${part.slice(1, -1)}`);
+      }
+      emit(']');
+      return;
+    }
+    emit('[');
+    for (let i = 0; i < value.length; i++) {
+      if (i > 0) emit(',');
+      const v = value[i];
+      if (v === undefined || typeof v === 'function' || typeof v === 'symbol') emit('null');
+      else stream(v, emit, depth + 1);
+    }
+    emit(']');
+    return;
+  }
+  emit('{');
+  let first = true;
+  const obj = value as Record<string, unknown>;
+  for (const k in obj) {
+    if (!Object.prototype.hasOwnProperty.call(obj, k)) continue;
+    const v = obj[k];
+    if (v === undefined || typeof v === 'function' || typeof v === 'symbol') continue;
+    emit(first ? `${JSON.stringify(k)}:` : `,${JSON.stringify(k)}:`);
+    first = false;
+    stream(v, emit, depth + 1);
+  }
+  emit('}');
+}
+
+/**
+ * Writes the report to `sink` in chunks of about a megabyte. A report that stays under
+ * INDENT_BELOW_CHARS is written indented, in one piece, as people open small reports.
+ */
+export function writeJson(report: Report, sink: (chunk: string) => void): void {
+  let parts: string[] = [];
+  let size = 0;
+  let streaming = false;
+  const emit = (piece: string) => {
+    parts.push(piece);
+    size += piece.length;
+    if (size >= (streaming ? CHUNK_CHARS : INDENT_BELOW_CHARS)) {
+      streaming = true;
+      // Same data; only characters JSON.stringify leaves raw (U+2028, bidi controls...) become \u escapes.
+      sink(escapeJsonText(parts.join('')));
+      parts = [];
+      size = 0;
+    }
+  };
+  stream(report, emit, 0);
+  if (!streaming) {
+    sink(`${escapeJsonText(JSON.stringify(report, null, 2))}\n`);
+    return;
+  }
+  parts.push('\n');
+  sink(escapeJsonText(parts.join('')));
+}
+
+/** The report as one string (small reports, tests, the copy kept beside an upload). */
 export function formatJson(report: Report, _ctx: FormatContext = {}): string {
-  const compact = JSON.stringify(report);
-  // Same data; only characters JSON.stringify leaves raw (U+2028, bidi controls...) become \u escapes.
-  return `${escapeJsonText(compact.length < INDENT_BELOW_CHARS ? JSON.stringify(report, null, 2) : compact)}\n`;
+  const chunks: string[] = [];
+  writeJson(report, (c) => chunks.push(c));
+  return chunks.join('');
+}
+
+/** Writes the report to a file, chunk by chunk. Throws what the file system throws. */
+export function writeJsonFile(report: Report, file: string): void {
+  const fd = openSync(file, 'w');
+  try {
+    writeJson(report, (c) => {
+      writeSync(fd, c);
+    });
+  } finally {
+    closeSync(fd);
+  }
 }

@@ -1,14 +1,20 @@
-// Method: fewest-register retiming as the LP dual of a min-cost flow, with fan-out mirror nodes (Leiserson & Saxe 1991); successive shortest paths.
-// Convention: objective = sum of retimed folded delays (or per-node maxima to within N-1); integer arithmetic; null past a work budget.
+// Method: fewest-register retiming as the LP dual of a min-cost flow, with fan-out mirror nodes (Leiserson & Saxe 1991); primal-dual (Dijkstra on reduced costs, then a maximum flow on the arcs of reduced cost 0).
+// Convention: objective = sum of retimed folded delays (or per-node maxima to within N-1); integer arithmetic; exact, or null past a work budget.
 import type { ConstraintGraph } from './constraints';
 import { INPUT, NO_SLOT, type IndexedGraph } from './graph';
 
-/** Largest design (edges) on which the engine searches for the fewest-register retiming. */
-export const MAX_MIN_REGISTER_EDGES = 20_000;
-/** Largest design (edges) on which the fan-out objective is tried too (it needs more augmentations). */
-export const MAX_FANOUT_EDGES = 5_000;
-/** Arc scans and heap steps one search may spend before it gives up. */
-export const MIN_REGISTER_WORK_BUDGET = 20_000_000;
+/** Largest design (edges) on which the engine searches for the fewest-register retiming: every design the loader takes. */
+export const MAX_MIN_REGISTER_EDGES = 1_000_000;
+/** Largest design (edges) on which the fan-out objective is tried too. */
+export const MAX_FANOUT_EDGES = 1_000_000;
+/**
+ * Arc scans and heap steps one search may spend before it gives up: a fixed part plus a
+ * multiple of the arcs, far above what the primal-dual needs on the designs measured (a few
+ * tens of scans per arc), so that only a pathological design stops it.
+ */
+export function minRegisterWorkBudget(arcs: number): number {
+  return 50_000_000 + 2_000 * arcs;
+}
 
 export type RegisterObjective = 'edges' | 'fanout';
 
@@ -21,7 +27,7 @@ export interface MinRegisterOptions {
    * (Leiserson & Saxe's mirror node per multi-fanout node), per edge for held inputs.
    */
   objective?: RegisterObjective;
-  /** Work budget (arc scans + heap steps); default MIN_REGISTER_WORK_BUDGET. */
+  /** Work budget (arc scans + heap steps); default minRegisterWorkBudget of the arcs. */
   budget?: number;
 }
 
@@ -117,7 +123,7 @@ export function minRegisterRetiming(
       init.push(m);
     }
   }
-  const sol = minCostPotentials(coef.length, tails, heads, costs, coef, Float64Array.from(init), options.budget);
+  const sol = minCostPotentials(coef.length, tails, heads, costs, coef, Float64Array.from(init), options.budget ?? minRegisterWorkBudget(tails.length));
   if (!sol) return null;
   let value = 0;
   for (let v = 0; v < coef.length; v++) value += coef[v] * sol.values[v];
@@ -136,7 +142,7 @@ export function minCostPotentials(
   costs: readonly number[],
   coef: readonly number[],
   start: Float64Array,
-  budget: number = MIN_REGISTER_WORK_BUDGET,
+  budget: number = minRegisterWorkBudget(tails.length),
 ): { values: Float64Array; work: number } | null {
   const m = tails.length;
   const excess = new Float64Array(n);
@@ -161,14 +167,35 @@ export function minCostPotentials(
   const dist = new Float64Array(n);
   const seen = new Int32Array(n); // search number that last labelled v
   const done = new Int32Array(n);
-  const parent = new Int32Array(n);
   const settled = new Int32Array(n);
   const heap = new BinaryHeap(n);
+  // Max-flow on the arcs of reduced cost 0: BFS levels, current arcs, the path of the search.
+  const level = new Int32Array(n);
+  const queue = new Int32Array(n);
+  const current = new Int32Array(n);
+  const pathNode = new Int32Array(n + 1);
+  const pathArc = new Int32Array(n + 1);
   let work = 0;
   let remaining = 0;
   for (let v = 0; v < n; v++) if (excess[v] > 0) remaining += excess[v];
   let round = 0;
 
+  /** The other end of residual arc a leaving u, or -1 when a is not admissible (reduced cost 0, room left). */
+  const admissible = (u: number, a: number): number => {
+    const k = a >> 1;
+    if ((a & 1) === 0) {
+      const v = heads[k];
+      return costs[k] - r[u] + r[v] === 0 ? v : -1;
+    }
+    if (flow[k] <= 0) return -1;
+    const v = tails[k];
+    return -costs[k] - r[u] + r[v] === 0 ? v : -1;
+  };
+
+  // Primal-dual: one Dijkstra raises the potentials to the distance of the nearest deficit, then
+  // a maximum flow on the arcs of reduced cost 0 ships everything those shortest paths can carry.
+  // Each round raises that distance, so there are as many rounds as distinct distances (few:
+  // the costs are small integers), not one per unit of flow as with single shortest paths.
   while (remaining > 0) {
     round++;
     heap.clear();
@@ -176,7 +203,6 @@ export function minCostPotentials(
       if (excess[v] > 0) {
         dist[v] = 0;
         seen[v] = round;
-        parent[v] = -1;
         heap.push(v, 0);
       }
     }
@@ -210,7 +236,6 @@ export function minCostPotentials(
         const dv = du + reduced;
         if (seen[v] !== round || dv < dist[v]) {
           dist[v] = dv;
-          parent[v] = a;
           if (seen[v] !== round) {
             seen[v] = round;
             heap.push(v, dv);
@@ -220,41 +245,96 @@ export function minCostPotentials(
       work += adjStart[u + 1] - adjStart[u];
       if (work > budget) return null;
     }
-    if (target < 0) return null;
+    if (target < 0) return null; // a deficit no excess reaches: the LP is unbounded
     // Raise the settled variables so that every arc of the shortest paths has reduced cost 0.
     const D = dist[target];
     for (let i = 0; i < settledCount; i++) {
       const v = settled[i];
       r[v] += D - dist[v];
     }
-    // Ship along the path back to its excess variable.
-    let amount = -excess[target];
-    let source = target;
-    while (parent[source] >= 0) {
-      const a = parent[source];
-      const k = a >> 1;
-      if (a & 1) {
-        if (flow[k] < amount) amount = flow[k];
-        source = heads[k];
-      } else source = tails[k];
-    }
-    if (excess[source] < amount) amount = excess[source];
-    for (let v = target; parent[v] >= 0; ) {
-      const a = parent[v];
-      const k = a >> 1;
-      if (a & 1) {
-        flow[k] -= amount;
-        v = heads[k];
-      } else {
-        flow[k] += amount;
-        v = tails[k];
+    work += settledCount;
+
+    // Maximum flow from the excesses to the deficits over admissible arcs (Dinic's phases).
+    for (;;) {
+      level.fill(-1);
+      let qh = 0;
+      let qt = 0;
+      for (let v = 0; v < n; v++) {
+        if (excess[v] > 0) {
+          level[v] = 0;
+          queue[qt++] = v;
+        }
+      }
+      let reached = false;
+      while (qh < qt) {
+        const u = queue[qh++];
+        if (excess[u] < 0) {
+          reached = true;
+          continue; // a deficit ends a path
+        }
+        for (let i = adjStart[u], end = adjStart[u + 1]; i < end; i++) {
+          const v = admissible(u, adj[i]);
+          if (v >= 0 && level[v] < 0) {
+            level[v] = level[u] + 1;
+            queue[qt++] = v;
+          }
+        }
+        work += adjStart[u + 1] - adjStart[u];
+      }
+      work += n;
+      if (work > budget) return null;
+      if (!reached) break;
+      for (let v = 0; v < n; v++) current[v] = adjStart[v];
+      // Blocking flow: from each excess, depth-first along level + 1, without recursion.
+      for (let s = 0; s < n && remaining > 0; s++) {
+        while (excess[s] > 0 && level[s] === 0) {
+          let depth = 0;
+          pathNode[0] = s;
+          let found = false;
+          while (depth >= 0) {
+            const u = pathNode[depth];
+            if (excess[u] < 0 && depth > 0) {
+              found = true;
+              break;
+            }
+            let advanced = false;
+            for (let end = adjStart[u + 1]; current[u] < end; current[u]++) {
+              work++;
+              const a = adj[current[u]];
+              const v = admissible(u, a);
+              if (v >= 0 && level[v] === level[u] + 1) {
+                pathArc[depth] = a;
+                pathNode[++depth] = v;
+                advanced = true;
+                break;
+              }
+            }
+            if (advanced) continue;
+            // dead end: no path to a deficit through u in this phase
+            level[u] = -1;
+            depth--;
+            if (depth >= 0) current[pathNode[depth]]++;
+          }
+          if (work > budget) return null;
+          if (!found) break;
+          const t = pathNode[depth];
+          let amount = Math.min(excess[s], -excess[t]);
+          for (let d = 0; d < depth; d++) {
+            const a = pathArc[d];
+            if (a & 1 && flow[a >> 1] < amount) amount = flow[a >> 1];
+          }
+          for (let d = 0; d < depth; d++) {
+            const a = pathArc[d];
+            if (a & 1) flow[a >> 1] -= amount;
+            else flow[a >> 1] += amount;
+          }
+          excess[s] -= amount;
+          excess[t] += amount;
+          remaining -= amount;
+          work += depth;
+        }
       }
     }
-    excess[source] -= amount;
-    excess[target] += amount;
-    remaining -= amount;
-    work += settledCount;
-    if (work > budget) return null;
   }
   return { values: r, work };
 }

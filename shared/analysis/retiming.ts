@@ -54,9 +54,11 @@ export function retime(
   const shortest = Float64Array.from(sp.dist as Float64Array);
   const spMethod = vars.hasInputs ? METHOD_SHORTEST_PATHS : METHOD_SHORTEST_PATHS_NO_INPUTS;
   if (options.minimiseRegisters === false) return feasibleOutcome(g, vars, shortest, spMethod);
-  const choice = chooseRetiming(g, folded, cg, shortest, options.maxEdges ?? MAX_MIN_REGISTER_EDGES);
+  const choice = chooseRetiming(g, folded, cg, shortest, options.maxEdges ?? MAX_MIN_REGISTER_EDGES, options.budget);
   const method = choice.objective ? minRegisterMethod(choice.objective, vars.hasInputs) : spMethod;
-  return feasibleOutcome(g, vars, choice.values, `${method}; ${choice.why}`);
+  const outcome = feasibleOutcome(g, vars, choice.values, `${method}; ${choice.why}`);
+  if (choice.proven === false) outcome.result.registersProven = false;
+  return outcome;
 }
 
 export interface RetimeOptions {
@@ -64,6 +66,8 @@ export interface RetimeOptions {
   minimiseRegisters?: boolean;
   /** Largest design (edges) searched for fewer registers; default MAX_MIN_REGISTER_EDGES. */
   maxEdges?: number;
+  /** Work budget of each fewest-register search (minRegisterRetiming); default grows with the design. */
+  budget?: number;
 }
 
 /** Method sentence of a fewest-register retiming; starts with 'minimum-cost flow'. */
@@ -99,7 +103,8 @@ function chooseRetiming(
   cg: ConstraintGraph,
   shortest: Float64Array,
   maxEdges: number,
-): { values: Float64Array; objective?: RegisterObjective; why: string } {
+  budget?: number,
+): { values: Float64Array; objective?: RegisterObjective; why: string; proven?: boolean } {
   const { vars } = cg;
   if (g.edgeCount > maxEdges) {
     return {
@@ -117,41 +122,52 @@ function chooseRetiming(
   };
   const base = score(shortest) as Candidate;
   const twoBoundaries = vars.hasInputs && vars.hasOutputs && vars.inputVar !== vars.outputVar;
-  const runs: (number | undefined)[] = [twoBoundaries ? base.latency : undefined];
-  if (twoBoundaries) runs.push(undefined); // free latency: may add latency when that saves registers
   let best = base;
   let tried = 0;
+  let outOfBudget = 0;
   const objectives: RegisterObjective[] = g.edgeCount <= MAX_FANOUT_EDGES ? ['edges', 'fanout'] : ['edges'];
+  const consider = (objective: RegisterObjective, values: Float64Array) => {
+    tried++;
+    const c = score(values);
+    if (c) c.objective = objective;
+    // The fan-out objective may trade per-edge registers for fewer live ones: never above the
+    // shortest-path solution's per-edge count, so neither count gets worse.
+    if (c && c.perEdge <= base.perEdge && better(c, best)) best = c;
+  };
   for (const objective of objectives) {
-    for (const maxLatency of runs) {
-      const sol = minRegisterRetiming(g, cg, folded, shortest, { maxLatency, objective });
-      if (!sol) continue;
-      tried++;
-      const c = score(sol.values);
-      if (c) c.objective = objective;
-      // The fan-out objective may trade per-edge registers for fewer live ones: never above the
-      // shortest-path solution's per-edge count, so neither count gets worse.
-      if (c && c.perEdge <= base.perEdge && better(c, best)) best = c;
-    }
+    // Free latency first (it may add latency when that saves registers); when its optimum adds
+    // no more latency than the shortest paths, it is also the optimum under that cap.
+    const free = minRegisterRetiming(g, cg, folded, shortest, { objective, budget });
+    if (!free) outOfBudget++;
+    else consider(objective, free.values);
+    if (!twoBoundaries) continue;
+    if (free && free.values[vars.outputVar] - free.values[vars.inputVar] <= base.latency) continue;
+    const capped = minRegisterRetiming(g, cg, folded, shortest, { maxLatency: base.latency, objective, budget });
+    if (!capped) outOfBudget++;
+    else consider(objective, capped.values);
   }
+  const unproven = outOfBudget > 0 ? `; not proven to be the fewest registers: ${outOfBudget} of the searches ran out of their work budget` : '';
   if (tried === 0) {
     return {
       values: shortest,
-      why: 'the search for fewer registers ran out of its work budget, so the shortest-path solution is kept',
+      proven: false,
+      why: 'the search for fewer registers ran out of its work budget, so the shortest-path solution is kept and the fewest registers are not proven',
     };
   }
   if (best === base) {
     return {
       values: shortest,
-      why: `the fewest-register retiming (minimum-cost flow) needs no fewer registers (lifetime minimum ${base.minimum}), so the shortest-path solution is kept`,
+      proven: !unproven,
+      why: `the fewest-register retiming (minimum-cost flow) needs no fewer registers (lifetime minimum ${base.minimum}), so the shortest-path solution is kept${unproven}`,
     };
   }
   return {
     values: best.values,
     objective: best.objective,
+    proven: !unproven,
     why: `chosen over the shortest-path solution because it needs ${best.minimum} registers by lifetime analysis against ${base.minimum}${
       twoBoundaries ? `, with ${best.latency} iteration(s) of latency added against ${base.latency}` : ''
-    } and ${best.perEdge} per-edge registers against ${base.perEdge}`,
+    } and ${best.perEdge} per-edge registers against ${base.perEdge}${unproven}`,
   };
 }
 

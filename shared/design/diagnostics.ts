@@ -34,7 +34,8 @@ export const CODES = {
   'too-many-edges': { severity: E, rule: 'The design has more edges than the limit (1,000,000 by default).' },
   // reading the YAML
   'yaml-syntax': { severity: E, rule: 'The text is not well-formed YAML (one document, no duplicate keys, no tabs for indentation).' },
-  'empty-file': { severity: E, rule: 'The file holds no YAML document.' },
+  'json-syntax': { severity: E, rule: 'A design file named *.fold.json is not well-formed JSON (RFC 8259).' },
+  'empty-file': { severity: E, rule: 'The file holds no YAML document (or, for *.fold.json, no JSON value).' },
   // JSON Schema (shared/design/schema.ts)
   'unsupported-format': { severity: E, rule: 'The `format` field must be `pleat/1`.' },
   'schema-type': { severity: E, rule: 'A field has the wrong type (string, number, integer, list, mapping).' },

@@ -4,7 +4,7 @@
 // of the report is walked once for what JSON allows but PostgreSQL's jsonb and integer columns do
 // not: a NUL character, a lone UTF-16 surrogate, nesting deeper than any report has, integers
 // beyond the 32-bit columns. docs/server.md lists the limits.
-import { Ajv, type ErrorObject } from 'ajv';
+import { Ajv, type ErrorObject, type ValidateFunction } from 'ajv';
 import type { Report } from '../types';
 
 /** PostgreSQL's `integer`: counts the server files in integer columns stay at or below this. */
@@ -91,8 +91,16 @@ export interface ReportProblem {
   message: string;
 }
 
-const ajv = new Ajv({ allErrors: true, strict: false, verbose: true });
-const validateSchema = ajv.compile(uploadReportSchema);
+// Compiled on first use: `pleat check` loads this module for --upload, and compiling costs
+// more than a whole check of a small design.
+let compiled: ValidateFunction | null = null;
+function validateSchema(data: unknown): boolean {
+  compiled ??= new Ajv({ allErrors: true, strict: false, verbose: true }).compile(uploadReportSchema);
+  const ok = compiled(data);
+  validateSchema.errors = compiled.errors;
+  return ok;
+}
+validateSchema.errors = null as ValidateFunction['errors'];
 
 const LONE_SURROGATE = /[\uD800-\uDBFF](?![\uDC00-\uDFFF])|(?<![\uD800-\uDBFF])[\uDC00-\uDFFF]/;
 

@@ -1,6 +1,8 @@
 // Exit codes of the built CLI as a process. The contract is the exit-code table of the project's
 // CLI specification (docs/cli.md): 0 pass, 1 a rule broken, 2 invalid input (wins over 1).
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import path from 'node:path';
+import { load as loadYaml } from 'js-yaml';
 import { cleanupTemps, ensureBuilt, failingDesign, invalidDesign, passingDesign, pleat, tempDir, write } from './helpers';
 
 const STACK = /\n\s+at .+\(.+:\d+:\d+\)|\bat file:\/\/|node:internal/;
@@ -78,6 +80,25 @@ describe('pleat check exit codes', () => {
     expect(r.exitCode).toBe(2);
     expect(r.stderr).toContain('pleat: no such file or folder: nowhere.fold.yaml');
     expect(r.stderr).not.toMatch(STACK);
+  });
+
+  it('finds *.fold.json designs in a folder beside *.fold.yaml, and places JSON syntax errors (docs/format.md)', async () => {
+    const d = tempDir();
+    write(d, 'hw/a.fold.yaml', passingDesign('from-yaml'));
+    const r0 = await pleat(['check', path.join(d, 'hw/a.fold.yaml'), '--format', 'json'], { cwd: d });
+    const data = JSON.parse(r0.stdout) as { designs: { name: string }[] };
+    expect(data.designs[0].name).toBe('from-yaml');
+    // The same design written as JSON (by js-yaml's reading of the YAML, an independent parser).
+    write(d, 'hw/b.fold.json', JSON.stringify({ ...(loadYaml(passingDesign('from-json')) as object) }, null, 2));
+    const r = await pleat(['check', 'hw', '--format', 'json'], { cwd: d });
+    expect(r.exitCode).toBe(0);
+    expect((JSON.parse(r.stdout) as { designs: { name: string }[] }).designs.map((x) => x.name).sort()).toEqual(['from-json', 'from-yaml']);
+    // RFC 8259 has no trailing commas: the error is at the closing brace of line 3.
+    write(d, 'hw/c.fold.json', '{\n  "format": "pleat/1",\n}\n');
+    const bad = await pleat(['check', 'hw'], { cwd: d });
+    expect(bad.exitCode).toBe(2);
+    expect(bad.stdout + bad.stderr).toMatch(/c\.fold\.json:3:1\b.*json-syntax/);
+    expect(bad.stderr).not.toMatch(STACK);
   });
 
   it('exits 2 when there is nothing to check', async () => {

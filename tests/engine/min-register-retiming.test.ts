@@ -95,6 +95,21 @@ describe('fewest-register retiming (min-cost flow)', () => {
     expect(checked).toBeGreaterThan(200);
   });
 
+  it('says when the fewest registers are not proven (a search out of its work budget)', () => {
+    for (let seed = 1; seed < 400; seed++) {
+      const d = randomDesign(seed, { maxOps: 10 });
+      const a = analyze(d);
+      if (!a.retiming.needed || !a.retiming.feasible) continue;
+      expect(a.retiming.registersProven).toBeUndefined();
+      const g = buildGraph(d);
+      const starved = retime(g, foldedDelays(g), d.folding.latency ?? 'free', { budget: 1 });
+      expect(starved.result.registersProven).toBe(false);
+      expect(starved.result.method).toMatch(/not proven/);
+      return;
+    }
+    throw new Error('no random design needed retiming');
+  });
+
   it('keeps the shortest-path solution above the size bound and says so', () => {
     // The first random design that needs retiming, searched with a size bound of 1 edge.
     for (let seed = 1; seed < 400; seed++) {

@@ -18,6 +18,7 @@ import { locate } from '../../shared/design/positions';
 import { resolveArithmetic } from '../../shared/hardware/reference';
 import { formatPlan } from '../../shared/hardware/formats';
 import { bitGrowth } from '../../shared/hardware/range';
+import { load as loadYamlIndependently } from 'js-yaml';
 
 const fixtures = fileURLToPath(new URL('../fixtures/invalid/', import.meta.url));
 const docsFile = fileURLToPath(new URL('../../docs/diagnostics.md', import.meta.url));
@@ -282,6 +283,20 @@ describe('problems found while reading the text', () => {
     expect(brief(loadDesign('').diagnostics)).toEqual(['empty-file@1:1']);
   });
 
+  // JSON syntax by RFC 8259 (the JSON standard): where the text stops being JSON.
+  it('json-syntax: a trailing comma in a *.fold.json design, at the closing brace', () => {
+    const text = '{\n  "format": "pleat/1",\n  "name": "tally",\n}\n';
+    expect(brief(loadDesign(text, { syntax: 'json' }).diagnostics)).toEqual(['json-syntax@4:1']);
+    expect(loadDesign(text, { syntax: 'json' }).diagnostics[0].message).toMatch(/expected a property name in double quotes, found `}`/);
+    // cut short: at the end of the text
+    expect(brief(loadDesign('{ "format": "pleat/1",\n  "nodes": [ { "id": "x"', { syntax: 'json' }).diagnostics)).toEqual(['json-syntax@2:25']);
+    // a single-quoted string is YAML, not JSON
+    expect(brief(loadDesign("{ 'format': 'pleat/1' }", { syntax: 'json' }).diagnostics)).toEqual(['json-syntax@1:3']);
+    expect(brief(loadDesign('  \n', { syntax: 'json' }).diagnostics)).toEqual(['empty-file@1:1']);
+    // the same text in a .fold.yaml file is read as YAML, which has no quarrel with it
+    expect(loadDesign("{ 'format': 'pleat/1' }").diagnostics.map((d) => d.code)).not.toContain('json-syntax');
+  });
+
   it('schema-type: a document that is not a mapping', () => {
     expect(brief(loadDesign('- format\n- pleat/1\n').diagnostics)).toEqual(['schema-type@1:1']);
   });
@@ -375,6 +390,33 @@ describe('number formats', () => {
     const placed = locate(text, growth.diagnostics);
     expect(brief(placed).every((b) => b.startsWith('format-too-narrow@'))).toBe(true);
     expect(placed.map((d) => d.message.split('`')[1])).toContain('err');
+  });
+});
+
+describe('designs written as JSON (docs/format.md)', () => {
+  const exampleText = readFileSync(fileURLToPath(new URL('../../examples/sensor-frontend.fold.yaml', import.meta.url)), 'utf8');
+  // The same data written out by JSON.stringify (RFC 8259 text), read back by the engine.
+  const data = loadYamlIndependently(exampleText);
+  const jsonText = `${JSON.stringify(data, null, 2)}\n`;
+
+  it('loads the same design from JSON text as from the YAML it was written from', () => {
+    const fromYaml = loadDesign(exampleText);
+    const fromJson = loadDesign(jsonText, { syntax: 'json' });
+    expect(fromJson.diagnostics).toEqual(fromYaml.diagnostics);
+    expect(fromJson.design).toEqual(fromYaml.design);
+    // a .fold.yaml file whose text is JSON takes the same path
+    expect(loadDesign(jsonText).design).toEqual(fromYaml.design);
+  });
+
+  it('places findings at their line and column in the JSON text', () => {
+    const broken = jsonText.replace('"kind": "output"', '"kind": "outptu"');
+    const lines = broken.split('\n');
+    const line = lines.findIndex((l) => l.includes('"outptu"')) + 1;
+    const column = lines[line - 1].indexOf('"outptu"') + 1;
+    const r = loadDesign(broken, { syntax: 'json' });
+    expect(r.design).toBeNull();
+    expect(r.diagnostics.map((d) => `${d.code}@${d.line}:${d.column}`)).toContain(`kind-without-unit@${line}:${column}`);
+    brief(r.diagnostics);
   });
 });
 
