@@ -129,7 +129,7 @@ export async function runPlan(paths: string[], opts: PlanCliOptions, ctx: CliCon
       continue;
     }
     // Never write a plan that `pleat check` would reject.
-    const problem = await checkPlanned(text);
+    const problem = await checkPlanned(text, plan);
     if (problem) {
       entry.status = 'error';
       entry.problem = `internal error: the plan was not written, because ${problem}; please report it`;

@@ -3,7 +3,7 @@
 // problems come back as diagnostics with file, line and column, as `pleat check` gives them.
 import { readFileSync, statSync } from 'node:fs';
 import path from 'node:path';
-import type { Design, Diagnostic } from '../../shared/types';
+import type { Design, Diagnostic, Unit } from '../../shared/types';
 
 export interface ReadDesign {
   abs: string;
@@ -48,13 +48,21 @@ export async function readForPlanning(abs: string, factor: number | undefined): 
   return out;
 }
 
-/** What `pleat check` would say of a complete design text: null when it loads, has a feasible retiming, and no error. */
-export async function checkPlanned(text: string): Promise<string | null> {
-  const [{ loadDesign }, { analyze }] = await Promise.all([import('../../shared/design/load'), import('../../shared/analysis/analyze')]);
+/**
+ * What `pleat check` would say of a planned design text: null when it loads without error and
+ * reads back as exactly the planned factor, units and sets. The planner scored that very design
+ * with the engine (a feasible retiming, the metrics it reports), so the text is not analysed again.
+ */
+export async function checkPlanned(text: string, plan: { factor: number; units: Unit[]; sets: Record<string, (string | null)[]> }): Promise<string | null> {
+  const { loadDesign } = await import('../../shared/design/load');
   const loaded = loadDesign(text);
   const errors = loaded.diagnostics.filter((d) => d.severity === 'error');
   if (!loaded.design || errors.length) return `the planned file does not load (${errors[0]?.code ?? 'unknown'}: ${errors[0]?.message ?? ''})`;
-  const a = analyze(loaded.design);
-  if (!a.retiming.feasible || !a.registers) return 'the planned file has no retiming that makes every folded delay nonnegative';
+  const d = loaded.design;
+  if (d.folding.factor !== plan.factor) return `the planned file reads back with factor ${d.folding.factor}, not ${plan.factor}`;
+  const units = (list: Unit[]) => JSON.stringify(list.map((u) => [u.id, u.kind, u.stages]));
+  if (units(d.units) !== units(plan.units)) return 'the planned file reads back with other units than planned';
+  const sets = (s: Record<string, (string | null)[]>) => JSON.stringify(Object.keys(s).sort().map((k) => [k, s[k].map((x) => x ?? null)]));
+  if (sets(d.folding.sets) !== sets(plan.sets)) return 'the planned file reads back with other folding sets than planned';
   return null;
 }

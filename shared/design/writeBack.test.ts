@@ -3,7 +3,7 @@
 // outside the edited ranges must be byte for byte the original.
 import { describe, expect, it } from 'vitest';
 import { load as yamlLoad } from 'js-yaml';
-import { writeBack, WriteBackError, yamlId, type WriteBackResult } from './writeBack';
+import { topLevelWindow, writeBack, WriteBackError, yamlId, type WriteBackResult } from './writeBack';
 
 /** Lines of the original that the result must still hold unchanged, in order (outside the replaced ranges). */
 function keptLines(original: string, result: WriteBackResult): { before: string[]; after: string[] } {
@@ -141,5 +141,48 @@ describe('writeBack', () => {
     // YAML 1.2 core schema (open standard): these plain scalars are a number, a boolean, null.
     for (const id of ['12', '1.5', 'true', 'null', 'No', 'a b']) expect(yamlLoad(`[${yamlId(id)}]`)).toEqual([id]);
     expect(yamlId('acc_1')).toBe('acc_1');
+  });
+});
+
+describe('writeBack of large files: only the entries it edits are parsed', () => {
+  const sets = { MUL1: ['m', null], ADD1: [null, 'a'] };
+  const units = [
+    { id: 'ADD1', kind: 'add', stages: 0 },
+    { id: 'MUL1', kind: 'mul', stages: 1 },
+    { id: 'MUL2', kind: 'mul', stages: 1 },
+  ];
+  it('gives byte for byte the result of parsing the whole file', () => {
+    const variants = [
+      DESIGN,
+      DESIGN.replace(/\n/g, '\r\n'),
+      DESIGN.replace('# trailing comment after the plan\n', ''),
+      DESIGN.replace('# trailing comment after the plan\n', 'description: >\n  folded last\n  folding: not a key\n'),
+      DESIGN.replace(/folding:[\s\S]*?(?=# trailing)/, 'folding: { factor: 2, sets: {} }  # flow\n'),
+    ];
+    for (const text of variants) {
+      for (const edit of [{ sets }, { sets, factor: 3 }, { sets, units }]) {
+        const whole = writeBack(text, edit, { window: false });
+        const cut = writeBack(text, edit);
+        expect(cut).toEqual(whole);
+        // js-yaml, independent of the yaml package: the whole result reads back as planned
+        expect((yamlLoad(cut.text) as { folding: { sets: unknown } }).folding.sets).toEqual(sets);
+      }
+    }
+  });
+
+  it('cuts at column-0 keys only, and gives up where the top level is not plain', () => {
+    const w = topLevelWindow(DESIGN, ['units', 'folding']);
+    expect(w?.text.startsWith('units:\n')).toBe(true);
+    expect(w?.text).toContain('\nfolding:\n');
+    expect(w?.text).not.toContain('nodes:');
+    // YAML 1.2 (open standard): these top levels are not cut by lines safely
+    expect(topLevelWindow(`%YAML 1.2\n---\n${DESIGN}`, ['folding'])).toBeNull();
+    expect(topLevelWindow(DESIGN.replace('folding:', 'folding: &f'), ['folding'])).toBeNull();
+    expect(topLevelWindow(`${DESIGN}folding:\n  factor: 3\n`, ['folding'])).toBeNull();
+    expect(topLevelWindow(DESIGN.replace('nodes:', '"nodes":'), ['folding'])).toBeNull();
+    expect(topLevelWindow(DESIGN.slice(0, DESIGN.indexOf('folding:')), ['folding'])).toBeNull();
+    // and the write-back still works there, through the whole file
+    const anchored = DESIGN.replace('  latency: free', '  latency: &lat free');
+    expect((yamlLoad(writeBack(anchored, { sets }).text) as { folding: { sets: unknown } }).folding.sets).toEqual(sets);
   });
 });

@@ -3,6 +3,7 @@
 // lines are replaced, so every other byte of the file (comments, spacing, key order) is kept.
 // Printing the whole document again would reformat lines the plan does not touch.
 import { isCollection, isMap, isPair, isScalar, isSeq, parseDocument, type Document, type Node, type Pair, type YAMLMap } from 'yaml';
+import { load as loadYaml } from 'js-yaml';
 import type { Unit } from '../types';
 
 export interface PlanEdit {
@@ -31,10 +32,91 @@ interface Splice {
   what: WriteBackResult['edited'][number]['what'];
 }
 
-export function writeBack(original: string, edit: PlanEdit): WriteBackResult {
-  const eol = original.includes('\r\n') ? '\r\n' : '\n';
+/**
+ * `window: false` parses the whole file with the Document API; by default only the top-level
+ * entries the edit touches (`folding`, and `units` when given) are parsed, cut out of the text
+ * at their column-0 key lines, and the rest of the file is never parsed: on a design of 100,000
+ * edges the Document API of the whole file costs over ten seconds and a gigabyte. Files whose
+ * top level cannot be cut safely (directives, document markers, tabs, anything at column 0 that
+ * is not a `key:` line or a comment, anchors or aliases in the cut entries) take the whole-file path.
+ */
+export function writeBack(original: string, edit: PlanEdit, options: { window?: boolean } = {}): WriteBackResult {
+  const keys = edit.units ? ['units', 'folding'] : ['folding'];
+  const win = options.window === false ? null : topLevelWindow(original, keys);
+  if (win) {
+    // The design has been loaded (and its keys checked) before it is planned; the yaml package's
+    // duplicate-key check is quadratic in a mapping's keys (thousands of units in large designs).
+    const doc = parseDocument(win.text, { keepSourceTokens: false, uniqueKeys: false });
+    if (doc.errors.length === 0 && isMap(doc.contents) && !doc.contents.flow) {
+      const splices = planSplices(win.text, doc, edit).map((s) => ({ ...s, start: win.toOriginal(s.start, s.end > s.start ? 'start' : 'end'), end: win.toOriginal(s.end, 'end') }));
+      return apply(original, splices, edit, eolOf(original), keys);
+    }
+  }
   const doc = parseDocument(original, { keepSourceTokens: false });
   if (doc.errors.length > 0) throw new WriteBackError(`the file is not valid YAML: ${doc.errors[0].message.split('\n')[0]}`);
+  return apply(original, planSplices(original, doc, edit), edit, eolOf(original), null);
+}
+
+const eolOf = (text: string) => (text.includes('\r\n') ? '\r\n' : '\n');
+
+/** A plain top-level key at column 0: `name:` followed by a space, a comment or the line's end. */
+const TOP_KEY = /^([A-Za-z_][A-Za-z0-9_.-]*)[ ]*:(?=[ \t\r\n]|$)/;
+
+interface Window {
+  /** The chosen top-level entries, in file order, each from its key line to the next key line. */
+  text: string;
+  /** Position in `text` to position in the original, as the start or the end of a range. */
+  toOriginal: (pos: number, side: 'start' | 'end') => number;
+}
+
+/**
+ * The text of the given top-level entries of a block-mapping document, or null when the top
+ * level cannot be cut by lines with certainty or a key is missing or repeated (the caller then
+ * parses the whole file, which also reports what is wrong).
+ */
+export function topLevelWindow(text: string, keys: string[]): Window | null {
+  if (text.charCodeAt(0) === 0xfeff) return null;
+  const starts: { key: string; at: number }[] = [];
+  for (let at = 0; at < text.length; ) {
+    const nl = text.indexOf('\n', at);
+    const end = nl < 0 ? text.length : nl + 1;
+    const c = text[at];
+    if (c !== ' ' && c !== '#' && c !== '\n' && c !== '\r') {
+      const m = TOP_KEY.exec(text.slice(at, Math.min(end, at + 200)));
+      if (!m) return null; // a directive, a document marker, a tab, a flow or quoted key, a sequence item
+      starts.push({ key: m[1], at });
+    }
+    at = end;
+  }
+  if (starts.length === 0) return null;
+  const segments: { from: number; to: number; at: number }[] = [];
+  let sub = '';
+  for (const key of keys) if (starts.filter((s) => s.key === key).length !== 1) return null;
+  starts.forEach((s, i) => {
+    if (!keys.includes(s.key)) return;
+    const to = i + 1 < starts.length ? starts[i + 1].at : text.length;
+    segments.push({ from: s.at, to, at: sub.length });
+    sub += text.slice(s.at, to);
+  });
+  // anchors or aliases could tie a cut entry to the rest of the file
+  if (/[&*]/.test(sub.replace(/#[^\n]*/g, ''))) return null;
+  if (sub.length && !sub.endsWith('\n') && segments[segments.length - 1].to !== text.length) return null;
+  return {
+    text: sub,
+    toOriginal: (pos, side) => {
+      // a start belongs to the entry it begins in, an end to the entry it closes
+      for (const g of segments) {
+        const len = g.to - g.from;
+        if (side === 'start' ? pos >= g.at && pos < g.at + len : pos > g.at && pos <= g.at + len) return g.from + (pos - g.at);
+      }
+      return pos === 0 ? segments[0].from : segments[segments.length - 1].to;
+    },
+  };
+}
+
+/** The splices of the edit, in positions of `original` (the text `doc` was parsed from). */
+function planSplices(original: string, doc: Document, edit: PlanEdit): Splice[] {
+  const eol = eolOf(original);
   const root = doc.contents;
   if (!isMap(root) || root.flow) throw new WriteBackError('the design is not a block mapping at the top level; write the plan with --out instead');
 
@@ -100,7 +182,7 @@ export function writeBack(original: string, edit: PlanEdit): WriteBackResult {
     }
   }
 
-  return apply(original, splices, edit, eol);
+  return splices;
 }
 
 // ---------------------------------------------------------------- rendering
@@ -292,7 +374,8 @@ function lineOf(text: string, pos: number): number {
   return n;
 }
 
-function apply(original: string, splices: Splice[], edit: PlanEdit, eol: string): WriteBackResult {
+/** Applies the splices; the result is read back (the windowed entries when `keys` is given, else the whole file). */
+function apply(original: string, splices: Splice[], edit: PlanEdit, eol: string, keys: string[] | null): WriteBackResult {
   splices.sort((a, b) => a.start - b.start);
   for (let i = 1; i < splices.length; i++) {
     if (splices[i].start < splices[i - 1].end) throw new WriteBackError('the edits overlap; write the plan with --out instead');
@@ -312,10 +395,15 @@ function apply(original: string, splices: Splice[], edit: PlanEdit, eol: string)
   }
   out += original.slice(at);
 
-  // Read the result back: the plan must be exactly what the file now says.
-  const back = parseDocument(out);
-  if (back.errors.length > 0) throw new WriteBackError(`the rewritten file would not be valid YAML (${back.errors[0].message.split('\n')[0]}); write the plan with --out instead`);
-  const js = back.toJS() as { folding?: { factor?: number; sets?: unknown }; units?: unknown } | null;
+  // Read the result back with the reader `pleat check` uses (js-yaml): the plan must be exactly
+  // what the file now says (only the windowed entries when the edit was windowed).
+  const win = keys ? topLevelWindow(out, keys) : null;
+  let js: { folding?: { factor?: number; sets?: unknown }; units?: unknown } | null;
+  try {
+    js = loadYaml(win ? win.text : out) as typeof js;
+  } catch (e) {
+    throw new WriteBackError(`the rewritten file would not be valid YAML (${(e as Error).message.split('\n')[0]}); write the plan with --out instead`);
+  }
   const setsNow = js?.folding?.sets ?? {};
   if (JSON.stringify(setsNow) !== JSON.stringify(edit.sets)) throw new WriteBackError('the rewritten sets would not read back as planned; write the plan with --out instead');
   if (edit.factor !== undefined && js?.folding?.factor !== edit.factor) throw new WriteBackError('the rewritten factor would not read back as planned');

@@ -105,44 +105,121 @@ function nextKey(N: number, t: number, key: string): string {
 }
 
 /**
+ * The live instances of every partition as numbers `variable * stride + age - minAge`, ascending
+ * (the order of liveInstances); `stride` leaves room for age + 1, so the instance one iteration
+ * later never collides with the next variable's.
+ */
+interface LiveNumbers {
+  live: Float64Array[];
+  stride: number;
+  minAge: number;
+}
+
+function liveNumbers(N: number, vars: Variable[]): LiveNumbers {
+  let minAge = Infinity;
+  let maxAge = -Infinity;
+  for (const v of vars) {
+    if (v.tOut <= v.tIn) continue;
+    minAge = Math.min(minAge, Math.ceil((v.tIn - (N - 1) + 1) / N));
+    maxAge = Math.max(maxAge, floorDiv(v.tOut, N));
+  }
+  if (!Number.isFinite(minAge)) minAge = maxAge = 0;
+  const stride = maxAge - minAge + 2;
+  const live: Float64Array[] = [];
+  for (let t = 0; t < N; t++) {
+    let count = 0;
+    for (const v of vars) if (v.tOut > v.tIn) count += Math.max(0, floorDiv(v.tOut - t, N) - Math.ceil((v.tIn - t + 1) / N) + 1);
+    const here = new Float64Array(count);
+    let at = 0;
+    vars.forEach((v, i) => {
+      if (v.tOut <= v.tIn) return;
+      const lo = Math.ceil((v.tIn - t + 1) / N);
+      const hi = floorDiv(v.tOut - t, N);
+      for (let a = lo; a <= hi; a++) here[at++] = i * stride + a - minAge;
+    });
+    live.push(here);
+  }
+  return { live, stride, minAge };
+}
+
+/** Pleat's own allocation on numbered instances: per partition the instances (ascending) and their registers. */
+interface NumberedPlacement {
+  keys: Float64Array[];
+  regs: Int32Array[];
+  registers: number;
+}
+
+/**
  * Pleat's own allocation, used when the analysis has none it can read: the live instances of
  * each partition in the fewest registers (the lifetime minimum), each instance kept in its
- * register while it lives; instances move only where the partitions wrap around.
+ * register while it lives; instances move only where the partitions wrap around. Both lists are
+ * ascending, so the register an instance had in the partition before is found by a merge.
  */
-function ownPlacement(N: number, live: string[][]): { placement: Placement; registers: number } {
+function numberedPlacement(N: number, ln: LiveNumbers): NumberedPlacement {
+  const { live } = ln;
   const registers = live.reduce((m, l) => Math.max(m, l.length), 0);
-  const place = (t: number, keep: Map<string, number>): Map<string, number> => {
-    const m = new Map<string, number>();
-    const used = new Set<number>();
-    const fresh: string[] = [];
-    for (const k of live[t]) {
-      const r = keep.get(k);
-      if (r !== undefined && !used.has(r)) {
-        m.set(k, r);
-        used.add(r);
-      } else fresh.push(k);
-    }
-    let next = 0;
-    for (const k of fresh) {
-      while (used.has(next)) next++;
-      m.set(k, next);
-      used.add(next);
-    }
-    return m;
-  };
-  let placement: Placement = [];
-  let carry = new Map<string, number>();
+  const used = new Int32Array(registers);
+  let stamp = 0;
+  const keys: Float64Array[] = live;
+  let regs: Int32Array[] = [];
+  let carryKeys: ArrayLike<number> = new Float64Array(0);
+  let carryRegs: ArrayLike<number> = new Int32Array(0);
   // Two passes: the second starts partition 0 from where the first left the last partition.
   for (let pass = 0; pass < 2; pass++) {
-    placement = [];
+    regs = [];
     for (let t = 0; t < N; t++) {
-      const m = place(t, carry);
-      placement.push(m);
-      carry = new Map<string, number>();
-      for (const [k, r] of m) carry.set(nextKey(N, t, k), r);
+      const here = live[t];
+      const r = new Int32Array(here.length).fill(-1);
+      stamp++;
+      let j = 0;
+      for (let i = 0; i < here.length; i++) {
+        const k = here[i];
+        while (j < carryKeys.length && carryKeys[j] < k) j++;
+        if (j < carryKeys.length && carryKeys[j] === k && used[carryRegs[j]] !== stamp) {
+          r[i] = carryRegs[j];
+          used[r[i]] = stamp;
+        }
+      }
+      let next = 0;
+      for (let i = 0; i < here.length; i++) {
+        if (r[i] >= 0) continue;
+        while (used[next] === stamp) next++;
+        r[i] = next;
+        used[next] = stamp;
+      }
+      regs.push(r);
+      // the instance at partition t + 1, or after the last partition one iteration older at partition 0
+      carryKeys = t < N - 1 ? here : here.map((k) => k + 1);
+      carryRegs = r;
     }
   }
-  return { placement, registers };
+  return { keys, regs, registers };
+}
+
+/** The register of a numbered instance in partition t (binary search), or -1. */
+function registerOf(p: NumberedPlacement, t: number, key: number): number {
+  const ks = p.keys[t];
+  let lo = 0;
+  let hi = ks.length - 1;
+  while (lo <= hi) {
+    const mid = (lo + hi) >> 1;
+    if (ks[mid] === key) return p.regs[t][mid];
+    if (ks[mid] < key) lo = mid + 1;
+    else hi = mid - 1;
+  }
+  return -1;
+}
+
+/** The same allocation keyed as the tables key instances (`index:age`). */
+function ownPlacement(N: number, vars: Variable[]): { placement: Placement; registers: number } {
+  const ln = liveNumbers(N, vars);
+  const np = numberedPlacement(N, ln);
+  const placement: Placement = np.keys.map((ks, t) => {
+    const m = new Map<string, number>();
+    ks.forEach((k, i) => m.set(instanceKey(Math.floor(k / ln.stride), (k % ln.stride) + ln.minAge), np.regs[t][i]));
+    return m;
+  });
+  return { placement, registers: np.registers };
 }
 
 /**
@@ -291,21 +368,22 @@ interface ChosenPlacement {
 }
 
 /** Step 3: the analysis's allocation when it holds exactly the live instances, else Pleat's own. */
-function choosePlacement(analysis: Analysis, N: number, live: string[][], vars: Variable[]): ChosenPlacement {
-  const fromAnalysis = analysis.allocation ? analysisPlacement(analysis.allocation, N, live, vars) : 'the analysis has no allocation table';
+function choosePlacement(analysis: Analysis, N: number, vars: Variable[]): ChosenPlacement {
+  const fromAnalysis = analysis.allocation ? analysisPlacement(analysis.allocation, N, liveInstances(N, vars), vars) : 'the analysis has no allocation table';
   if (typeof fromAnalysis !== 'string') {
     return { placement: fromAnalysis, registers: analysis.allocation!.registers, allocationSource: 'analysis' };
   }
-  const { placement, registers } = ownPlacement(N, live);
+  const { placement, registers } = ownPlacement(N, vars);
   const allocationNote = `registers placed by Pleat's control tables (${fromAnalysis}${analysis.allocationOmitted ? `: ${analysis.allocationOmitted}` : ''})`;
   return { placement, registers, allocationSource: 'control', allocationNote };
 }
 
 /** Step 4: the route of every edge, the signal its consumer reads in its partition. */
-function edgeRouter(design: Design, dp: Datapath, v: Variables, placement: Placement): (e: number) => EdgeRoute {
+function edgeRouter(design: Design, dp: Datapath, v: Variables, placement: Placement): (e: number, named?: boolean) => EdgeRoute {
   const { g, N, folded } = dp;
   const { vars, byName, heldVarOfEdge, signalOf } = v;
-  return (e: number): EdgeRoute => {
+  // named = false: the source only (countMuxInputs), without the variable's name
+  return (e: number, named = true): EdgeRoute => {
     const u = g.edgeFrom[e];
     const d = folded[e];
     if (Number.isNaN(d)) return { source: null, variable: null };
@@ -317,7 +395,7 @@ function edgeRouter(design: Design, dp: Datapath, v: Variables, placement: Place
     const key = instanceKey(vi, floorDiv(at, N));
     const reg = placement[mod(at, N)].get(key);
     if (reg === undefined) throw new Error(`allocation has no register holding ${displayKey(vars, key, mod(at, N), N)} in partition ${mod(at, N)}`);
-    return { source: { kind: 'register', register: reg }, variable: displayKey(vars, key, mod(at, N), N) };
+    return { source: { kind: 'register', register: reg }, variable: named ? displayKey(vars, key, mod(at, N), N) : null };
   };
 }
 
@@ -465,8 +543,7 @@ export function controlTables(design: Design, analysis: Analysis, datapath: Fold
   if (typeof dp === 'string') return { control: null, reason: dp };
   const { g, N } = dp;
   const variables = lifetimeVariablesOf(analysis, dp);
-  const live = liveInstances(N, variables.vars);
-  const { placement, registers, allocationSource, allocationNote } = choosePlacement(analysis, N, live, variables.vars);
+  const { placement, registers, allocationSource, allocationNote } = choosePlacement(analysis, N, variables.vars);
   const route = edgeRouter(design, dp, variables, placement);
 
   // Operand edges of each operation, in port order.
@@ -491,6 +568,70 @@ export function controlTables(design: Design, analysis: Analysis, datapath: Fold
       outputs: outputControls(dp, operands, route, variables.signalOf),
     },
   };
+}
+
+/**
+ * The sum over unit operand ports of the distinct sources of their multiplexers, as the tables of
+ * controlTables count them (`sources.length`), by the same steps (datapath, variables, placement,
+ * routes) but without building the tables, and with no cell limit; null when there is no feasible
+ * datapath. The planner scores every plan by it (shared/planning/evaluate.ts).
+ */
+export function countMuxInputs(design: Design, analysis: Analysis, datapath: FoldedDatapath | null = null): number | null {
+  const dp = checkedDatapath(design, analysis, datapath);
+  if (typeof dp === 'string') return null;
+  const { g, N, folded } = dp;
+  const variables = lifetimeVariablesOf(analysis, dp);
+  // The source of an operand edge as a number: a register (>= 0), a unit's result or an input (< 0).
+  let sourceOf: (e: number) => number;
+  const units = g.unitIds.length;
+  const direct = (u: number) => (g.role[u] === INPUT ? -1 - units - u : -1 - g.unitOf[u]);
+  const chosen = analysis.allocation ? choosePlacement(analysis, N, variables.vars) : null;
+  if (chosen && chosen.allocationSource === 'analysis') {
+    const route = edgeRouter(design, dp, variables, chosen.placement);
+    sourceOf = (e) => {
+      if (folded[e] === 0) return direct(g.edgeFrom[e]);
+      const s = route(e, false).source!;
+      return s.kind === 'register' ? s.register : direct(g.edgeFrom[e]);
+    };
+  } else {
+    // Pleat's own placement, on numbered instances (the tables' ownPlacement is this one, keyed by strings)
+    const ln = liveNumbers(N, variables.vars);
+    const np = numberedPlacement(N, ln);
+    const { vars, byName, heldVarOfEdge } = variables;
+    sourceOf = (e) => {
+      const u = g.edgeFrom[e];
+      const d = folded[e];
+      if (d === 0) return direct(u);
+      const vi = byName.get(g.role[u] === INPUT && g.slot[u] === NO_SLOT ? heldVarOfEdge.get(e)! : g.nodeIds[u]);
+      if (vi === undefined) throw new Error(`no lifetime variable for edge ${design.edges[e].from} -> ${design.edges[e].to}`);
+      const at = vars[vi].tIn + d;
+      const reg = registerOf(np, mod(at, N), vi * ln.stride + floorDiv(at, N) - ln.minAge);
+      if (reg < 0) throw new Error(`allocation has no register for edge ${design.edges[e].from} -> ${design.edges[e].to} in partition ${mod(at, N)}`);
+      return reg;
+    };
+  }
+  const incoming: number[][] = design.nodes.map(() => []);
+  for (let e = 0; e < g.edgeCount; e++) incoming[g.edgeTo[e]].push(e);
+  let total = 0;
+  const keys = new Set<number>();
+  for (const unit of design.units) {
+    const set = design.folding.sets[unit.id] ?? [];
+    const ops: number[][] = [];
+    let ports = 0;
+    for (let t = 0; t < N; t++) {
+      const id = set[t];
+      if (id === null || id === undefined) continue;
+      const list = operandOrder(design, incoming[g.nodeIndex.get(id)!]);
+      ops.push(list);
+      ports = Math.max(ports, list.length);
+    }
+    for (let p = 0; p < ports; p++) {
+      keys.clear();
+      for (const list of ops) if (p < list.length) keys.add(sourceOf(list[p]));
+      total += keys.size;
+    }
+  }
+  return total;
 }
 
 /**

@@ -6,7 +6,7 @@ import type { Design } from '../types';
 import { buildGraph } from '../analysis/graph';
 import { factorLowerBound, loopStructure } from '../analysis/iterationBound';
 import { OP, buildProblem, operationsPerKind, type PlanProblem } from './problem';
-import { heights, minimumStages } from './heuristic';
+import { heights, minimumHeights, minimumStages } from './heuristic';
 
 export interface PlanBounds {
   /** Smallest N any folding onto these kinds of units allows (fewest stages per kind). */
@@ -76,7 +76,7 @@ export function planBounds(p: PlanProblem): PlanBounds {
   // constraint cycles that remain at this N: fixed latency between inputs and outputs, pins
   let cycleShort = false;
   if (!factorShort && hasAllKinds) {
-    const h = heights(p, minimumStages(p));
+    const h = minimumHeights(p);
     if ('cycle' in h) {
       cycleShort = true;
       const names = h.cycle.map((k) => {

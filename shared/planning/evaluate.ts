@@ -2,8 +2,8 @@
 // `check` chooses and the lifetime-analysis minimum, the control tables (shared/hardware/control.ts) for mux inputs.
 // Convention: muxInputs = sum over unit operand ports of the distinct sources of that port's table.
 import type { Analysis, Design } from '../types';
-import { analyze } from '../analysis/analyze';
-import { controlTables } from '../hardware/control';
+import { analyzeDatapath, type FoldedDatapath } from '../analysis/analyze';
+import { countMuxInputs } from '../hardware/control';
 import type { PlanMetrics, PlanObjective } from './types';
 
 export interface Evaluation {
@@ -14,13 +14,13 @@ export interface Evaluation {
   reason?: string;
 }
 
-/** Multiplexer inputs of a feasible analysis, counted on the control tables. */
-export function muxInputs(design: Design, analysis: Analysis): number {
-  const { control } = controlTables(design, analysis);
-  if (!control) return 0;
-  let total = 0;
-  for (const m of control.muxes) total += m.sources.length;
-  return total;
+/**
+ * Multiplexer inputs of a feasible analysis, counted as the control tables count them
+ * (shared/hardware/control.ts, countMuxInputs: the tables' own steps without building them, and
+ * without the cell limit up to which `pleat simulate` and `pleat rtl` build the tables).
+ */
+export function muxInputs(design: Design, analysis: Analysis, datapath: FoldedDatapath | null = null): number {
+  return countMuxInputs(design, analysis, datapath) ?? 0;
 }
 
 /**
@@ -29,14 +29,14 @@ export function muxInputs(design: Design, analysis: Analysis): number {
  */
 export function evaluateDesign(design: Design, options: { mux?: boolean } = {}): Evaluation {
   // The allocation table is only needed by the control tables; without them, skip it.
-  const analysis = analyze(design, options.mux === false ? { maxAllocationCells: 0 } : {});
+  const { analysis, datapath } = analyzeDatapath(design, options.mux === false ? { maxAllocationCells: 0 } : {});
   if (!analysis.retiming.feasible || !analysis.registers) {
     const why = analysis.retiming.conflict?.suggestions[0] ?? 'no retiming makes every folded delay nonnegative';
     return { feasible: false, metrics: null, analysis, reason: why };
   }
   const metrics: PlanMetrics = {
     registers: analysis.registers.minimum,
-    muxInputs: options.mux === false ? NaN : muxInputs(design, analysis),
+    muxInputs: options.mux === false ? NaN : muxInputs(design, analysis, datapath),
     latencyAdded: analysis.retiming.latencyAdded,
   };
   return { feasible: true, metrics, analysis };

@@ -132,6 +132,18 @@ export function heights(p: PlanProblem, stages: Int32Array, adj: Adjacency = adj
   return { H };
 }
 
+const heightsCache = new WeakMap<PlanProblem, { H: Float64Array } | { cycle: number[] }>();
+
+/** heights() with each operation's fewest stages, computed once per problem (the bounds and the heuristic both need it). */
+export function minimumHeights(p: PlanProblem, adj?: Adjacency): { H: Float64Array } | { cycle: number[] } {
+  let h = heightsCache.get(p);
+  if (!h) {
+    h = heights(p, minimumStages(p), adj ?? adjacency(p));
+    heightsCache.set(p, h);
+  }
+  return h;
+}
+
 function cycleFrom(p: PlanProblem, via: Int32Array, start: number): number[] {
   // walk the predecessor arcs S times to land on the cycle, then collect it
   let x = start;
@@ -419,11 +431,20 @@ class FastChart {
 }
 
 /**
+ * Tries of register-pressure moves per schedule node, summed over the passes: the work budget of
+ * the moves (each try costs O(degree x N)). On the generated banks the moves gain 0.1 % of the
+ * registers at 10,000 operations and nothing at 67,000 while costing as much as the analysis, so
+ * they stop at this budget rather than run four full passes (docs/planning.md).
+ */
+export const PRESSURE_TRIES_PER_NODE = 6;
+
+/**
  * Register-pressure moves: each schedule node in turn goes to the time within its window (every
  * constraint kept) that lowers the chart's maximum, then the sum of lifetimes (then, for the
  * latency objective, latency first). Boundary nodes move by whole iterations. Local updates only.
+ * At most `PRESSURE_TRIES_PER_NODE` x nodes + 20,000 tries; true when that budget ran out.
  */
-function pressureMoves(p: PlanProblem, adj: Adjacency, s: ScheduleTimes, objective: PlanObjective, deadline: number, now: () => number): void {
+function pressureMoves(p: PlanProblem, adj: Adjacency, s: ScheduleTimes, objective: PlanObjective, deadline: number, now: () => number): boolean {
   const N = p.N;
   const n = p.ops.length;
   const S = p.scheduleNodes;
@@ -431,6 +452,35 @@ function pressureMoves(p: PlanProblem, adj: Adjacency, s: ScheduleTimes, objecti
   const { T, unitOf } = s;
   const occupant = new Int32Array(U * N).fill(-1);
   for (let o = 0; o < n; o++) occupant[unitOf[o] * N + mod(T[o], N)] = o;
+  // free, unreserved cells per (kind, partition), so a move finds a unit without scanning the kind
+  const kindOf = new Map<string, number>();
+  const unitKind = new Int32Array(U);
+  for (const [kind, list] of p.kindUnits) {
+    kindOf.set(kind, kindOf.size);
+    for (const k of list) unitKind[k] = kindOf.get(kind)!;
+  }
+  const freeCells: number[][] = Array.from({ length: kindOf.size * N }, () => []);
+  const freePos = new Int32Array(U * N).fill(-1);
+  const release = (k: number, r: number) => {
+    const cell = k * N + r;
+    if (freePos[cell] >= 0 || isReserved(p, k, r)) return;
+    const list = freeCells[unitKind[k] * N + r];
+    freePos[cell] = list.length;
+    list.push(k);
+  };
+  const take = (k: number, r: number) => {
+    const cell = k * N + r;
+    const at = freePos[cell];
+    if (at < 0) return;
+    const list = freeCells[unitKind[k] * N + r];
+    const last = list.pop()!;
+    if (last !== k) {
+      list[at] = last;
+      freePos[last * N + r] = at;
+    }
+    freePos[cell] = -1;
+  };
+  for (let k = 0; k < U; k++) for (let r = 0; r < N; r++) if (occupant[k * N + r] < 0) release(k, r);
   // variables touched by a node's move: its own DFG node, the producers feeding it, held-input edges into it
   const nodeOfSched = (x: number): number[] => {
     if (x < n) return [p.ops[x]];
@@ -478,12 +528,14 @@ function pressureMoves(p: PlanProblem, adj: Adjacency, s: ScheduleTimes, objecti
     return [...vars];
   };
 
+  let tries = PRESSURE_TRIES_PER_NODE * S + 20_000;
   for (let pass = 0; pass < 4; pass++) {
     let improved = false;
     // later nodes first on even passes (pushes producers towards their consumers), earlier first on odd ones
     const order = Array.from({ length: S }, (_, i) => i).sort((a, b) => (pass % 2 === 0 ? T[b] - T[a] : T[a] - T[b]));
     for (const x of order) {
-      if (now() > deadline) return;
+      if (now() > deadline) return false;
+      if (tries <= 0) return true;
       let lo = -Infinity;
       let hi = Infinity;
       for (let q = adj.inStart[x]; q < adj.inStart[x + 1]; q++) {
@@ -503,6 +555,7 @@ function pressureMoves(p: PlanProblem, adj: Adjacency, s: ScheduleTimes, objecti
       const first = step === N ? lo + mod(T[x] - lo, N) : lo;
       for (let t = first; t <= hi && candidates.length < 4 * N; t += step) if (t !== T[x]) candidates.push(t);
       if (!candidates.length) continue;
+      tries -= candidates.length;
       const vars = affected(x);
       const before = score();
       const t0 = T[x];
@@ -514,16 +567,16 @@ function pressureMoves(p: PlanProblem, adj: Adjacency, s: ScheduleTimes, objecti
           // a free unit of the same kind and stages at the new partition (its own unit first)
           const r = mod(t, N);
           k = -1;
-          if (occupant[u0 * N + r] < 0) k = u0;
+          if (freePos[u0 * N + r] >= 0) k = u0;
           else {
-            for (const c of p.kindUnits.get(p.opKind[x])!) {
-              if (occupant[c * N + r] < 0 && p.unitStages[c] === p.unitStages[u0] && !isReserved(p, c, r)) {
+            for (const c of freeCells[unitKind[u0] * N + r]) {
+              if (p.unitStages[c] === p.unitStages[u0]) {
                 k = c;
                 break;
               }
             }
           }
-          if (k < 0 || isReserved(p, k, r)) continue;
+          if (k < 0) continue;
         }
         T[x] = t;
         if (x < n) unitOf[x] = k;
@@ -537,7 +590,9 @@ function pressureMoves(p: PlanProblem, adj: Adjacency, s: ScheduleTimes, objecti
       if (best) {
         if (x < n) {
           occupant[u0 * N + mod(t0, N)] = -1;
+          release(u0, mod(t0, N));
           occupant[best.k * N + mod(best.t, N)] = x;
+          take(best.k, mod(best.t, N));
           unitOf[x] = best.k;
           s.slotOf[x] = mod(best.t, N);
         }
@@ -548,6 +603,7 @@ function pressureMoves(p: PlanProblem, adj: Adjacency, s: ScheduleTimes, objecti
     }
     if (!improved) break;
   }
+  return false;
 }
 
 const reservedCache = new WeakMap<PlanProblem, Int32Array>();
@@ -750,8 +806,7 @@ export function heuristicPlan(p: PlanProblem, options: HeuristicOptions): Heuris
   const n = p.ops.length;
   const now = options.now;
   const adj = adjacency(p);
-  const minStages = minimumStages(p);
-  const h = heights(p, minStages, adj);
+  const h = minimumHeights(p, adj);
   if ('cycle' in h) {
     return { assignment: null, proxyRegisters: null, metrics: null, method: HEURISTIC_METHOD, notes, reason: 'a loop has more pipeline stages than its delays leave room for at this N' };
   }
@@ -776,7 +831,7 @@ export function heuristicPlan(p: PlanProblem, options: HeuristicOptions): Heuris
     return { assignment: null, proxyRegisters: null, metrics: null, method: HEURISTIC_METHOD, notes, reason: 'iterative modulo scheduling found no schedule within its budget' };
   }
   options.onProgress?.({ phase: 'register-pressure moves' });
-  pressureMoves(p, adj, sched, options.objective, options.deadline, now);
+  if (pressureMoves(p, adj, sched, options.objective, options.deadline, now)) notes.push('the register-pressure moves stopped at their work budget');
   const proxy = scheduleRegisters(p, sched);
   let assignment: Assignment = { unitOf: sched.unitOf, slotOf: sched.slotOf };
   const small = n <= (options.maxEngineSearchOps ?? 300);

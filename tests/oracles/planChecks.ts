@@ -1,6 +1,7 @@
 // What every plan must satisfy, checked by the engine's own validation and analysis (the checks
 // `pleat check` makes), restated here so that the planner cannot grade itself.
 import { analyze } from '../../shared/analysis/analyze';
+import { controlTables } from '../../shared/hardware/control';
 import { validateDesign } from '../../shared/design/validate';
 import { designDocument } from '../../shared/planning/problem';
 import type { PlanResult } from '../../shared/planning/types';
@@ -28,6 +29,15 @@ export function planProblems(design: Design, plan: PlanResult, pins: Record<stri
   }
   if (plan.objective && a.registers && plan.objective.registers !== a.registers.minimum) {
     out.push(`reported ${plan.objective.registers} registers, the check finds ${a.registers.minimum}`);
+  }
+  if (plan.objective && plan.objective.latencyAdded !== a.retiming.latencyAdded) {
+    out.push(`reported latency +${plan.objective.latencyAdded}, the check finds +${a.retiming.latencyAdded}`);
+  }
+  // the control tables the check's datapath gets (pleat simulate --tables, pleat rtl), counted here
+  const control = controlTables(v.design ?? planned, a).control;
+  if (plan.objective && control) {
+    const mux = control.muxes.reduce((s, m) => s + m.sources.length, 0);
+    if (plan.objective.muxInputs !== mux) out.push(`reported ${plan.objective.muxInputs} multiplexer inputs, the control tables have ${mux}`);
   }
   for (const [unit, list] of Object.entries(pins)) {
     list.forEach((id, t) => {
