@@ -1,6 +1,6 @@
 // The fewest-register retiming at scale against HiGHS (the `highs` npm package, an LP/MIP solver
 // independent of the engine): the optimum of the linear program of docs/engine.md ('edges'
-// objective, free latency) written out from the design alone (helpers.ts, constraintsOf), against
+// objective, free latency) written out from the design alone (tests/oracles/retimingConstraints.ts), against
 // the engine's min-cost flow on the same design. Difference constraints are totally unimodular,
 // so the LP optimum is the integer optimum the flow must reach.
 import { describe, expect, it } from 'vitest';
@@ -12,8 +12,9 @@ import { highsSolver } from '../../solvers/highs';
 import { loadDesign } from '../../shared/design/load';
 import type { Design } from '../../shared/types';
 import { generateDesign } from '../../scripts/gen-design.mjs';
-import { constraintsOf, randomDesign } from './helpers';
-import { transposedFir } from './fir';
+import { randomDesign } from '../support/randomDesign';
+import { constraintsOf } from '../oracles/retimingConstraints';
+import { transposedFir } from '../support/fir';
 
 /** CPLEX-LP text: min sum over folded edges of r(V) - r(U), subject to r(U) - r(V) <= bound, variables free. */
 function lpText(design: Design): string {

@@ -10,7 +10,7 @@ import { analyzeDatapath } from '../../shared/analysis/analyze';
 import { loadDesign } from '../../shared/design/load';
 import { controlTables, countMuxInputs } from '../../shared/hardware/control';
 import type { Design } from '../../shared/types';
-import { randomDesign } from '../engine/helpers';
+import { randomDesign } from '../support/randomDesign';
 import { generateDesign } from '../../scripts/gen-design.mjs';
 
 const examples = fileURLToPath(new URL('../../examples/', import.meta.url));

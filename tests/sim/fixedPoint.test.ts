@@ -14,7 +14,7 @@ import { bitGrowth } from '../../shared/hardware/range';
 import { simulateDesign } from '../../shared/hardware/foldedSim';
 import { analyze } from '../../shared/analysis/analyze';
 import type { Design } from '../../shared/types';
-import { randomDesign } from './randomDesign';
+import { randomDesignFile as randomDesign } from '../support/randomDesign';
 
 const FIXTURES = path.join(__dirname, 'fixtures');
 
