@@ -1,8 +1,8 @@
 // GitHub Actions workflow commands: one annotation per problem, so a pull request shows each
 // one on its line. Escaping follows GitHub's toolkit: in data % CR LF, in properties also : and ,.
-import { countStatuses } from '../../shared/report/report';
 import type { Report } from '../../shared/types';
-import { plural, type FormatContext } from './common';
+import type { FormatContext } from './common';
+import { gateLine } from './text';
 import { escapeControls, escapeControlsDeep } from './escape';
 
 export function escapeData(s: string): string {
@@ -37,7 +37,6 @@ export function formatGithub(raw: Report, ctx: FormatContext = {}): string {
       lines.push(command('error', { file, line: v.line, col: v.column, title: `pleat rule ${v.rule} (${v.source})` }, `${d.name ?? d.file}: ${v.message}`));
     }
   }
-  const c = countStatuses(report.designs);
-  lines.push(command('notice', { title: `pleat ${report.verdict}` }, `${plural(report.designs.length, 'design')} checked: ${c.pass} pass, ${c.fail} fail, ${c.error} error`));
+  lines.push(command('notice', { title: `pleat ${report.verdict}` }, gateLine(report)));
   return `${lines.join('\n')}\n`;
 }
