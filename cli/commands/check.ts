@@ -18,8 +18,8 @@ import { buildReport, designReport, exitCodeOf } from '../../shared/report/repor
 import type { Diagnostic, DesignReport, EffectiveRules, Report } from '../../shared/types';
 import type { DesignRun } from '../../shared/pipeline';
 
-export type ReportFormat = 'text' | 'json' | 'junit' | 'github';
-const FORMATS: ReportFormat[] = ['text', 'json', 'junit', 'github'];
+export type ReportFormat = 'text' | 'json' | 'junit' | 'github' | 'markdown' | 'sarif' | 'gitlab';
+const FORMATS: ReportFormat[] = ['text', 'json', 'junit', 'github', 'markdown', 'sarif', 'gitlab'];
 
 export interface CheckOptions {
   format: ReportFormat;
@@ -156,6 +156,12 @@ export async function runCheck(paths: string[], opts: CheckOptions, ctx: CliCont
       return rel === '' ? f : rel.split(path.sep).join('/');
     },
     annotationFile: (f) => (wtRoot ? path.relative(wtRoot, path.resolve(root, f)).split(path.sep).join('/') : f),
+    repositoryFile: (f) => {
+      if (!wtRoot) return f.startsWith('../') || path.isAbsolute(f) ? null : f;
+      const rel = path.relative(wtRoot, path.resolve(root, f));
+      return rel.startsWith('..') || path.isAbsolute(rel) ? null : rel.split(path.sep).join('/');
+    },
+    absoluteFile: (f) => path.resolve(root, f),
   };
 
   const format = opts.format;
@@ -199,6 +205,12 @@ async function formatterFor(format: ReportFormat): Promise<Formatter> {
       return (await import('../format/junit')).formatJunit;
     case 'github':
       return (await import('../format/github')).formatGithub;
+    case 'markdown':
+      return (await import('../format/markdown')).formatMarkdown;
+    case 'sarif':
+      return (await import('../format/sarif')).formatSarif;
+    case 'gitlab':
+      return (await import('../format/gitlab')).formatGitlab;
     default:
       return formatText;
   }

@@ -8,6 +8,13 @@ export interface FormatContext {
   displayFile?: (file: string) => string;
   /** How a report path is named in GitHub annotations (relative to the work tree root). */
   annotationFile?: (file: string) => string;
+  /**
+   * A report path relative to the repository's work tree (forward slashes), or null when the
+   * file lies outside it (SARIF, code quality, Markdown say so instead of writing `../`).
+   */
+  repositoryFile?: (file: string) => string | null;
+  /** The absolute path of a report path, to name a file outside the work tree. */
+  absoluteFile?: (file: string) => string;
   color?: ChalkInstance;
   /** Only failures and errors. */
   quiet?: boolean;
