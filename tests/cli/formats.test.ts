@@ -132,6 +132,20 @@ describe('--format junit', () => {
     expect(suites[2].errorTexts[0]).toContain('c-invalid.fold.yaml:9:13: error unknown-node');
   });
 
+  it('a rule that could not be checked is skipped with the reason; a failure carries the fixes', async () => {
+    const d = tempDir();
+    write(d, 'pleat.config.yaml', 'designs: ["*.fold.yaml"]\nrules:\n  max_registers: 64\n');
+    write(d, 'b-fail.fold.yaml', failingDesign());
+    const r = await pleat(['check', '--format', 'junit'], { cwd: d });
+    expect(r.exitCode).toBe(1);
+    const x = parseXml(r.stdout);
+    const s = x.suites![0];
+    // validity, negative_delays (broken), max_registers (no feasible datapath: no register count).
+    expect([s.cases, s.failures, s.errors, s.skipped]).toEqual([3, 1, 0, 1]);
+    expect(r.stdout).toMatch(/<testcase name="rule max_registers = 64 \(repository\)"[^>]*>\s*<skipped message="max_registers not checked: no feasible folded datapath exists/);
+    expect(s.failureTexts[0]).toMatch(/\nfix: Raise the folding factor to 3/);
+  });
+
   it('escapes markup characters in messages', async () => {
     const d = tempDir();
     write(d, 'odd.fold.yaml', invalidDesign().replace('{ from: ghost, to: y }', '{ from: "a<b&\\"c\\"]]>", to: y }'));
@@ -154,7 +168,9 @@ describe('--format github', () => {
     for (const line of lines) expect(line).toMatch(COMMAND);
     expect(lines).toContain('::error file=c-invalid.fold.yaml,line=9,col=13,title=pleat unknown-node::edges[0].from names node `ghost`, which does not exist');
     // The violation points at the edge with the negative folded delay (m -> a, line 13).
-    expect(lines.some((l) => l.startsWith('::error file=b-fail.fold.yaml,line=13,col=5,title=pleat rule negative_delays (default)::smoke-fail: '))).toBe(true);
+    const broken = lines.find((l) => l.startsWith('::error file=b-fail.fold.yaml,line=13,col=5,title=pleat rule negative_delays (default)::smoke-fail: '))!;
+    // The fix goes with the annotation, on lines of its own (LF escaped as %0A).
+    expect(broken).toMatch(/%0Afix: Raise the folding factor to 3/);
     expect(lines.at(-1)).toBe('::notice title=pleat error::gate invalid: 1 design invalid (smoke-invalid); smoke-fail breaks negative_delays; 1 of 3 designs fold');
   });
 
