@@ -1,5 +1,6 @@
 // Small helpers shared by the report formatters.
 import type { ChalkInstance } from 'chalk';
+import type { BaselineOutcome } from '../../shared/report/baseline';
 import type { Diagnostic, Report } from '../../shared/types';
 import { escapeControls } from './escape';
 
@@ -16,6 +17,8 @@ export interface FormatContext {
   /** The absolute path of a report path, to name a file outside the work tree. */
   absoluteFile?: (file: string) => string;
   color?: ChalkInstance;
+  /** `check --baseline`: the file and which broken rules it accepts. */
+  baseline?: { file: string; outcome: BaselineOutcome };
   /** Only failures and errors. */
   quiet?: boolean;
   /** Milliseconds spent on each design, by report path. */

@@ -3,6 +3,8 @@
 // closing `gate ...` line. The line shapes are stable for scripts (docs/cli.md, "Text").
 // Long lists are cut ("... and N more") so a design of thousands of nodes stays readable.
 import { Chalk, type ChalkInstance } from 'chalk';
+import type { BaselineOutcome } from '../../shared/report/baseline';
+import { designFindings, type Finding } from '../../shared/report/findings';
 import { countStatuses } from '../../shared/report/report';
 import type { DesignReport, EdgeResult, Report, RuleName, Violation } from '../../shared/types';
 import { diagnosticLine, fraction, pct, plural, type FormatContext } from './common';
@@ -38,9 +40,10 @@ export function formatText(raw: Report, ctx: FormatContext = {}): string {
   const display = ctx.displayFile ?? ((f: string) => f);
   const show = (f: string) => escapeControls(display(f));
   const blocks: string[][] = [];
+  const baselinedKeys = new Set((ctx.baseline?.outcome.baselined ?? []).map(findingKey));
   for (const d of report.designs) {
     if (ctx.quiet && d.status === 'pass') continue;
-    blocks.push(designLines(d, report, c, show(d.file), !!ctx.quiet));
+    blocks.push(designLines(d, report, c, show(d.file), !!ctx.quiet, baselinedKeys));
   }
   const lines: string[] = [];
   for (const b of blocks) {
@@ -50,16 +53,23 @@ export function formatText(raw: Report, ctx: FormatContext = {}): string {
   if (!ctx.quiet || report.verdict !== 'pass') {
     if (lines.length > 0) lines.push('');
     if (!ctx.quiet) lines.push(c.dim(`rules in force: ${rulesLine(report)}`));
-    lines.push(gateLine(report, c));
+    lines.push(gateLine(report, c, ctx.baseline));
   }
   return lines.length ? `${lines.join('\n')}\n` : '';
 }
 
 /** `gate holds|broken|invalid: ...`: the verdict of the whole check, naming who broke what. */
-export function gateLine(report: Report, c: ChalkInstance = NO_COLOR): string {
+export function gateLine(report: Report, c: ChalkInstance = NO_COLOR, baseline?: { file: string; outcome: BaselineOutcome }): string {
   const counts = countStatuses(report.designs);
   const total = report.designs.length;
-  const folds = `${counts.pass} of ${plural(total, 'design')} fold${counts.pass === 1 && total === 1 ? 's' : ''}`;
+  const folds = `${counts.pass} of ${plural(total, 'design')} fold${total === 1 ? 's' : ''}`;
+  if (baseline && report.verdict !== 'error') {
+    const o = baseline.outcome;
+    const tally = `${plural(o.baselined.length, 'broken rule')} baselined, ${o.fresh.length} new, ${o.worse.length} worse (${baseline.file})`;
+    const bad = [...o.fresh.map((f) => `${f.design ?? f.file} breaks ${f.rule}${f.subject ? ` (${f.subject})` : ''}`), ...o.worse.map((w) => `${w.finding.design ?? w.finding.file} breaks ${w.finding.rule} worse than baselined (${String(w.was.actual)} -> ${String(w.finding.actual)})`)];
+    if (bad.length === 0) return `${c.green.bold('gate holds')}: ${folds}; ${tally}`;
+    return `${c.red.bold('gate broken')}: ${named(bad)}; ${folds}; ${tally}`;
+  }
   if (report.verdict === 'pass') return `${c.green.bold('gate holds')}: ${folds}`;
   const parts: string[] = [];
   const invalid = report.designs.filter((d) => d.status === 'error');
@@ -67,7 +77,12 @@ export function gateLine(report: Report, c: ChalkInstance = NO_COLOR): string {
   const failing = report.designs.filter((d) => d.status === 'fail');
   if (failing.length) parts.push(named(failing.map((d) => `${d.name ?? d.file} breaks ${brokenRules(d.violations).join(',')}`)));
   const head = report.verdict === 'error' ? c.bgRed.white.bold('gate invalid') : c.red.bold('gate broken');
-  return `${head}: ${parts.join('; ')}; ${folds}`;
+  const tail = baseline ? `; ${plural(baseline.outcome.baselined.length, 'broken rule')} baselined (${baseline.file})` : '';
+  return `${head}: ${parts.join('; ')}; ${folds}${tail}`;
+}
+
+function findingKey(f: Finding): string {
+  return JSON.stringify([f.design, f.ruleId, f.subject, f.line, f.message]);
 }
 
 function named(items: string[]): string {
@@ -112,17 +127,20 @@ function at(file: string, line: number | null | undefined, column: number | null
   return line ? `${file}:${line}:${column ?? 1}` : file;
 }
 
-function designLines(d: DesignReport, report: Report, c: ChalkInstance, file: string, quiet: boolean): string[] {
+function designLines(d: DesignReport, report: Report, c: ChalkInstance, file: string, quiet: boolean, baselined: Set<string>): string[] {
   const out: string[] = [headLine(d, c)];
   out.push(`${label('file', c)}${file}`);
   if (d.status !== 'error' && d.factor != null) out.push(`${label('figures', c)}${figures(d, c)}`);
 
   // Failures first: the broken rules, the loop that blocks retiming and its fixes, the errors.
   const violations = d.violations ?? [];
-  for (const v of violations.slice(0, MAX_VIOLATIONS)) {
+  // designFindings lists the violations first, in their order; a baselined one says so.
+  const findings = baselined.size ? designFindings(d) : [];
+  violations.slice(0, MAX_VIOLATIONS).forEach((v, i) => {
     const place = v.line ? ` at ${at(file, v.line, v.column)}` : '';
-    out.push(`${label('broken', c, c.red)}${v.rule}=${v.limit} (${v.source})${place}: ${v.message}`);
-  }
+    const accepted = baselined.size > 0 && baselined.has(findingKey(findings[i]));
+    out.push(`${accepted ? label('baselined', c, c.yellow) : label('broken', c, c.red)}${v.rule}=${v.limit} (${v.source})${place}: ${v.message}`);
+  });
   if (violations.length > MAX_VIOLATIONS) out.push(`${label('broken', c, c.red)}... and ${violations.length - MAX_VIOLATIONS} more violations`);
 
   const r = d.status !== 'error' ? d.retiming : null;
