@@ -9,3 +9,4 @@ export { register as upload } from './upload';
 export { register as plan } from './plan';
 export { register as sweep } from './sweep';
 export { register as baseline } from './baseline';
+export { register as diff } from './diff';

@@ -8,6 +8,8 @@ export interface ServerTarget {
   project: string;
   /** The project's CI token. Sent in the Authorization header, never printed. */
   token: string;
+  /** A person's session cookie (`name=value`), sent instead of the token when set (`pleat diff --against`). */
+  cookie?: string;
 }
 
 export interface RetryPolicy {
@@ -52,6 +54,8 @@ export interface Success {
   status: number;
   body: unknown;
   tries: number;
+  /** The Set-Cookie values of the answer (a login's session). */
+  cookies?: string[];
 }
 
 export interface Failure {
@@ -131,7 +135,7 @@ function retryAfter(header: string | null): number | undefined {
 }
 
 /** One try: an answer (any status) or a failure without one. */
-async function once(method: 'GET' | 'POST', url: string, target: ServerTarget, body: string | undefined, policy: RetryPolicy, hooks: Hooks): Promise<Outcome> {
+async function once(method: 'GET' | 'POST', url: string, target: Pick<ServerTarget, 'token' | 'cookie'>, body: string | undefined, policy: RetryPolicy, hooks: Hooks): Promise<Outcome> {
   const origin = new URL(url).origin;
   let res: Response;
   let text: string;
@@ -139,7 +143,7 @@ async function once(method: 'GET' | 'POST', url: string, target: ServerTarget, b
     res = await fetch(url, {
       method,
       headers: {
-        Authorization: `Bearer ${target.token}`,
+        ...(target.cookie ? { Cookie: target.cookie } : target.token ? { Authorization: `Bearer ${target.token}` } : {}),
         Accept: 'application/json',
         'User-Agent': hooks.userAgent ?? 'pleat',
         ...(body !== undefined ? { 'Content-Type': 'application/json' } : {}),
@@ -168,7 +172,7 @@ async function once(method: 'GET' | 'POST', url: string, target: ServerTarget, b
       // A proxy or another program answered in its place.
       return { ok: false, status: res.status, code: null, message: `HTTP ${res.status} from ${origin}, but the answer is not a Pleat server's (not JSON)`, retryable: false, tries: 1 };
     }
-    return { ok: true, status: res.status, body: json, tries: 1 };
+    return { ok: true, status: res.status, body: json, tries: 1, cookies: res.headers.getSetCookie() };
   }
   const err = (json as { error?: { code?: unknown; message?: unknown } } | null)?.error;
   const code = typeof err?.code === 'string' ? clean(err.code, 60) : null;
@@ -213,4 +217,20 @@ export function uploadReport(target: ServerTarget, reportJson: string, policy: R
 export function fetchTeamRules(target: ServerTarget, policy: RetryPolicy, hooks: Hooks = {}): Promise<Outcome> {
   const url = endpoint(target.url, `api/projects/${encodeURIComponent(target.project)}/rules`);
   return withRetries(() => once('GET', url, target, undefined, policy, hooks), policy, hooks);
+}
+
+/** GET of an API path (`api/...`), with the token or the session of `target`. */
+export function getJson(target: ServerTarget, apiPath: string, policy: RetryPolicy, hooks: Hooks = {}): Promise<Outcome> {
+  const url = endpoint(target.url, apiPath);
+  return withRetries(() => once('GET', url, target, undefined, policy, hooks), policy, hooks);
+}
+
+/** POST /api/auth/login: a person's session cookie (`name=value`) for reading runs, or the failure. */
+export async function login(baseUrl: string, email: string, password: string, policy: RetryPolicy, hooks: Hooks = {}): Promise<{ cookie: string } | Failure> {
+  const url = endpoint(baseUrl, 'api/auth/login');
+  const out = await withRetries(() => once('POST', url, { token: '' }, JSON.stringify({ email, password }), policy, hooks), policy, hooks);
+  if (!out.ok) return out;
+  const cookie = (out.cookies ?? []).map((c) => c.split(';')[0]).find((c) => c.includes('='));
+  if (!cookie) return { ok: false, status: out.status, code: null, message: `HTTP ${out.status} the login answer carries no session`, retryable: false, tries: out.tries };
+  return { cookie };
 }
