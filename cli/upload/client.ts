@@ -1,6 +1,7 @@
-// HTTP client of the Pleat server for CI: upload a report, read the team rules. Node's global
-// fetch with a timeout per try; retries with exponential backoff and jitter on 429, 5xx and
-// network failures only (a 400/401/403/413 will not change by asking again).
+// HTTP client of the Pleat server for CI: upload a report, read the team rules and runs. Node's
+// global fetch with a timeout per try; retries (p-retry) with exponential backoff and jitter on
+// 429, 5xx and network failures only (a 400/401/403/413 will not change by asking again).
+import pRetry from 'p-retry';
 
 export interface ServerTarget {
   /** Base URL of the server, e.g. http://127.0.0.1:4180 (a path prefix is kept). */
@@ -193,17 +194,47 @@ async function once(method: 'GET' | 'POST', url: string, target: Pick<ServerTarg
 
 const defaultSleep = (ms: number) => new Promise<void>((resolve) => setTimeout(resolve, ms));
 
-/** Repeats a request while it fails in a retryable way, up to policy.tries. */
+/** A failed try, as p-retry wants it: an Error that carries the outcome. */
+class TryFailed extends Error {
+  constructor(readonly outcome: Failure) {
+    super(outcome.message);
+  }
+}
+
+/**
+ * Repeats a request while it fails in a retryable way, up to policy.tries, through p-retry.
+ * The wait between tries stays ours (p-retry's own is set to 0): equal jitter, the server's
+ * Retry-After up to the cap, and a sleep the tests can replace; it happens in shouldRetry,
+ * which p-retry calls only when another try is left.
+ */
 async function withRetries(run: () => Promise<Outcome>, policy: RetryPolicy, hooks: Hooks): Promise<Outcome> {
   const sleep = hooks.sleep ?? defaultSleep;
-  for (let attempt = 1; ; attempt++) {
-    const outcome = await run();
-    outcome.tries = attempt;
-    if (outcome.ok || !outcome.retryable || attempt >= policy.tries) return outcome;
-    let delay = backoffDelay(attempt, policy, hooks.random);
-    if (outcome.retryAfterMs !== undefined) delay = Math.max(delay, Math.min(outcome.retryAfterMs, policy.maxDelayMs));
-    hooks.onRetry?.(outcome, delay);
-    await sleep(delay);
+  try {
+    return await pRetry(
+      async (attempt) => {
+        const outcome = await run();
+        outcome.tries = attempt;
+        if (!outcome.ok) throw new TryFailed(outcome);
+        return outcome;
+      },
+      {
+        retries: policy.tries - 1,
+        minTimeout: 0,
+        maxTimeout: 0,
+        shouldRetry: async ({ error, attemptNumber }) => {
+          const failure = (error as TryFailed).outcome;
+          if (!failure?.retryable) return false;
+          let delay = backoffDelay(attemptNumber, policy, hooks.random);
+          if (failure.retryAfterMs !== undefined) delay = Math.max(delay, Math.min(failure.retryAfterMs, policy.maxDelayMs));
+          hooks.onRetry?.(failure, delay);
+          await sleep(delay);
+          return true;
+        },
+      },
+    );
+  } catch (err) {
+    if (err instanceof TryFailed) return err.outcome;
+    throw err;
   }
 }
 
