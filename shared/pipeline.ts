@@ -75,9 +75,12 @@ export function runDesignModel(
   const { violations: raw, warnings } = applyRules(analysis, options.rules ?? NO_RULES);
   const text = options.text;
   const violations = text !== undefined ? placeViolations(text, raw) : raw;
+  // The report points at the edges it names (negative folded delays, the blocking loop); the
+  // analysis itself stays as the later stages use it.
+  const placed = text !== undefined ? placeEdges(text, analysis) : analysis;
   const ruleWarnings = text !== undefined && warnings.some((w) => w.path) ? locate(text, warnings) : warnings;
   const diagnostics = options.diagnostics ?? [];
-  const report = designReport({ file, name: design.name, diagnostics, analysis, violations, ruleWarnings });
+  const report = designReport({ file, name: design.name, diagnostics, analysis: placed, violations, ruleWarnings });
   return { report, design, analysis, datapath, control, diagnostics: [...diagnostics, ...ruleWarnings], violations };
 }
 
@@ -91,6 +94,38 @@ function placeViolations(text: string, violations: Violation[]): Violation[] {
   } catch {
     return violations;
   }
+}
+
+/**
+ * Line and column of the edges a reader is sent to: every edge with a negative folded delay and
+ * every edge of the loop that blocks retiming. Other edges stay unplaced (a design may have
+ * hundreds of thousands; one walk of the text places all the wanted ones at once).
+ */
+function placeEdges(text: string, analysis: Analysis): Analysis {
+  const wanted = new Set<number>();
+  analysis.edges.forEach((e, i) => {
+    if (e.foldedDelay !== null && e.foldedDelay < 0) wanted.add(i);
+  });
+  const loop = analysis.retiming.conflict?.edges ?? [];
+  const loopIndex = loop.map((c) => (c.viaBoundary ? -1 : analysis.edges.findIndex((e) => e.from === c.from && e.to === c.to && e.delays === c.delays)));
+  for (const i of loopIndex) if (i >= 0) wanted.add(i);
+  if (wanted.size === 0) return analysis;
+  const order = [...wanted];
+  const probes: Diagnostic[] = order.map((i) => ({ severity: 'warning', code: 'edge', message: '', line: null, column: null, path: ['edges', i] }));
+  let at: Diagnostic[];
+  try {
+    at = locate(text, probes);
+  } catch {
+    return analysis;
+  }
+  const pos = new Map<number, { line: number | null; column: number | null }>();
+  order.forEach((i, k) => pos.set(i, { line: at[k].line, column: at[k].column }));
+  const edges = analysis.edges.map((e, i) => (pos.has(i) ? { ...e, ...pos.get(i)! } : e));
+  const conflict = analysis.retiming.conflict;
+  const retiming = conflict
+    ? { ...analysis.retiming, conflict: { ...conflict, edges: conflict.edges.map((c, k) => (loopIndex[k] >= 0 ? { ...c, ...pos.get(loopIndex[k])! } : c)) } }
+    : analysis.retiming;
+  return { ...analysis, edges, retiming };
 }
 
 function nameOfInvalid(text: string): string | null {

@@ -96,6 +96,9 @@ export interface EdgeResult {
   foldedDelay: number | null;
   retimedDelays: number;
   retimedFoldedDelay: number | null;
+  /** Where the edge is written (1-based), given to the edges a report points at: negative folded delays and the blocking loop. */
+  line?: number | null;
+  column?: number | null;
 }
 
 /** One edge of a loop that makes retiming impossible, in DFG terms. */
@@ -106,6 +109,9 @@ export interface ConflictEdge {
   foldedDelay: number | null;
   /** True when the step goes through the shared boundary (inputs or outputs tied together). */
   viaBoundary?: boolean;
+  /** Where the edge is written (1-based), once the pipeline placed it; absent for a boundary step. */
+  line?: number | null;
+  column?: number | null;
 }
 
 export interface RetimingConflict {

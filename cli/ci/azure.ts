@@ -3,7 +3,7 @@
 // the source ref is refs/pull/N/merge and BUILD_SOURCEVERSION the merge preview: the branches
 // come from SYSTEM_PULLREQUEST_SOURCEBRANCH / TARGETBRANCH and the head commit from
 // SYSTEM_PULLREQUEST_SOURCECOMMITID when Azure sets it.
-import { context, hexCommit, shortRef, val, type Detector } from './types';
+import { authorName, context, firstLine, hexCommit, shortRef, val, type Detector } from './types';
 
 export const azure: Detector = (env) => {
   if ((val(env, 'TF_BUILD') ?? '').toLowerCase() !== 'true') return null;
@@ -21,5 +21,7 @@ export const azure: Detector = (env) => {
   return context('Azure Pipelines', {
     branch: ref?.startsWith('refs/pull/') ? null : shortRef(ref),
     commit: hexCommit(val(env, 'BUILD_SOURCEVERSION')),
+    message: firstLine(val(env, 'BUILD_SOURCEVERSIONMESSAGE')),
+    author: authorName(val(env, 'BUILD_SOURCEVERSIONAUTHOR')),
   });
 };

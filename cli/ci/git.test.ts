@@ -5,7 +5,7 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { gitHead, mergeBase, remoteDefaultBranch } from './git';
+import { commitFacts, gitHead, mergeBase, remoteDefaultBranch } from './git';
 
 let dir: string;
 const env = { ...process.env, GIT_AUTHOR_NAME: 't', GIT_AUTHOR_EMAIL: 't@example.test', GIT_COMMITTER_NAME: 't', GIT_COMMITTER_EMAIL: 't@example.test', GIT_CONFIG_NOSYSTEM: '1', HOME: tmpdir() };
@@ -76,5 +76,15 @@ describe('git fallback', () => {
     } finally {
       rmSync(outside, { recursive: true, force: true });
     }
+  });
+
+  it('reads the first line of the message and the author name of a commit', () => {
+    // Its author is GIT_AUTHOR_NAME=t (set above); the message is the one given to git commit.
+    writeFileSync(path.join(dir, 'f.txt'), 'five\n');
+    git('add', 'f.txt');
+    git('commit', '-q', '-m', 'Fold the equaliser at N=5', '-m', 'Second paragraph.');
+    const head = git('rev-parse', 'HEAD');
+    expect(commitFacts(dir, head)).toEqual({ message: 'Fold the equaliser at N=5', author: 't' });
+    expect(commitFacts(dir, 'f'.repeat(40))).toEqual({ message: null, author: null });
   });
 });

@@ -2,7 +2,7 @@
 // a branch that points at a detached HEAD, and `git merge-base`. A plain `pleat check` reads the
 // .git folder instead (cli/git.ts) and starts no process.
 import { execFileSync } from 'node:child_process';
-import { hexCommit, shortRef } from './types';
+import { firstLine, hexCommit, shortRef } from './types';
 
 /** Runs git and returns its trimmed output, or null when git fails or is not installed. */
 export type GitRunner = (args: string[], cwd: string) => string | null;
@@ -67,4 +67,13 @@ export function mergeBase(cwd: string, commit: string | null, base: string, git:
     if (mb) return mb;
   }
   return null;
+}
+
+/** First line of the commit's message and its author's name (`git log -1`), or nulls when git does not have the commit. */
+export function commitFacts(cwd: string, commit: string, git: GitRunner = runGit): { message: string | null; author: string | null } {
+  if (commit.startsWith('-')) return { message: null, author: null };
+  const out = git(['log', '-1', '--format=%an%x00%s', commit, '--'], cwd);
+  if (out === null) return { message: null, author: null };
+  const [author, subject] = out.split('\0');
+  return { message: firstLine(subject), author: firstLine(author, 200) };
 }

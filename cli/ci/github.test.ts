@@ -51,4 +51,12 @@ describe('GitHub Actions', () => {
     expect(c).toMatchObject({ branch: 'main', commit: HEAD });
     expect(c!.notes.join(' ')).toMatch(/not JSON/);
   });
+
+  it('takes message and author of a push from the payload, only when it is the pushed commit', () => {
+    // push payload: head_commit { id, message, author { name, email } } (GitHub webhook docs, from memory).
+    const payload = JSON.stringify({ head_commit: { id: HEAD, message: 'Retime the equaliser loop\n\nLonger text.', author: { name: 'Ada Field', email: 'a@example.test' } } });
+    const env = { GITHUB_ACTIONS: 'true', GITHUB_REF: 'refs/heads/main', GITHUB_REF_NAME: 'main', GITHUB_SHA: HEAD, GITHUB_EVENT_PATH: '/ev.json' };
+    expect(github(env, files({ '/ev.json': payload }))).toMatchObject({ message: 'Retime the equaliser loop', author: 'Ada Field' });
+    expect(github({ ...env, GITHUB_SHA: MERGE }, files({ '/ev.json': payload }))).toMatchObject({ message: null, author: null });
+  });
 });

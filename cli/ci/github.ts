@@ -2,11 +2,13 @@
 // (refs/pull/N/merge), or for pull_request_target the base branch's tip: the head commit is read
 // from the event payload (GITHUB_EVENT_PATH). GITHUB_HEAD_REF / GITHUB_BASE_REF name the two
 // branches; GITHUB_REF_NAME is "N/merge" there and is not a branch.
-import { context, firstVal, hexCommit, shortRef, val, type Detector } from './types';
+import { authorName, context, firstLine, firstVal, hexCommit, shortRef, val, type Detector } from './types';
 
 interface Payload {
   pull_request?: { head?: { ref?: unknown; sha?: unknown }; base?: { ref?: unknown } };
   merge_group?: { base_ref?: unknown; head_sha?: unknown };
+  /** Push events: the commit that was pushed last. */
+  head_commit?: { id?: unknown; message?: unknown; author?: { name?: unknown } };
 }
 
 const str = (v: unknown): string | null => (typeof v === 'string' && v.trim() !== '' ? v.trim() : null);
@@ -51,9 +53,15 @@ export const github: Detector = (env, readFile) => {
     notes.push(`GITHUB_REF is ${ref}, not a branch; set PLEAT_BRANCH`);
     return context('GitHub Actions', { commit: hexCommit(val(env, 'GITHUB_SHA')), notes });
   }
+  // A push payload names the pushed commit's message and author; only when it is this commit.
+  const commit = hexCommit(val(env, 'GITHUB_SHA'));
+  const head = payload?.head_commit;
+  const own = !!head && commit !== null && str(head.id)?.toLowerCase() === commit;
   return context('GitHub Actions', {
     branch: firstVal(env, 'GITHUB_REF_NAME') ?? shortRef(ref),
-    commit: hexCommit(val(env, 'GITHUB_SHA')),
+    commit,
+    message: own ? firstLine(str(head?.message)) : null,
+    author: own ? authorName(str(head?.author?.name)) : null,
     // A merge queue builds a temporary branch for its base branch.
     baseBranch: shortRef(str(payload?.merge_group?.base_ref)),
     notes,

@@ -40,4 +40,11 @@ describe('GitLab CI', () => {
     const c = gitlab({ GITLAB_CI: 'true', CI_COMMIT_SHA: HEAD, CI_MERGE_REQUEST_SOURCE_BRANCH_SHA: '', CI_MERGE_REQUEST_SOURCE_BRANCH_NAME: 'x' }, none);
     expect(c!.commit).toBe(HEAD);
   });
+
+  it('takes CI_COMMIT_TITLE and the name of CI_COMMIT_AUTHOR, not those of a merged-results commit', () => {
+    const env = { GITLAB_CI: 'true', CI_COMMIT_BRANCH: 'main', CI_COMMIT_SHA: HEAD, CI_COMMIT_TITLE: 'Fold the tap bank at N=4', CI_COMMIT_AUTHOR: 'Ada Field <a@example.test>' };
+    expect(gitlab(env, none)).toMatchObject({ message: 'Fold the tap bank at N=4', author: 'Ada Field' });
+    const merged = gitlab({ ...env, CI_COMMIT_SHA: MERGE, CI_MERGE_REQUEST_SOURCE_BRANCH_NAME: 'f', CI_MERGE_REQUEST_SOURCE_BRANCH_SHA: HEAD }, none);
+    expect(merged).toMatchObject({ commit: HEAD, message: null, author: null });
+  });
 });

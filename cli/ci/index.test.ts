@@ -81,7 +81,7 @@ describe('detectBuild', () => {
   });
 
   it('puts base fields into the report only when known', () => {
-    expect(reportGit({ vendor: 'x', branch: 'b', commit: A, baseBranch: null, baseCommit: null, notes: [] })).toEqual({ branch: 'b', commit: A });
-    expect(reportGit({ vendor: 'x', branch: 'b', commit: A, baseBranch: 'main', baseCommit: B, notes: [] })).toEqual({ branch: 'b', commit: A, baseBranch: 'main', baseCommit: B });
+    expect(reportGit({ vendor: 'x', branch: 'b', commit: A, baseBranch: null, baseCommit: null, message: null, author: null, notes: [] })).toEqual({ branch: 'b', commit: A });
+    expect(reportGit({ vendor: 'x', branch: 'b', commit: A, baseBranch: 'main', baseCommit: B, message: 'Tune the loop', author: 'Dev', notes: [] })).toEqual({ branch: 'b', commit: A, baseBranch: 'main', baseCommit: B, message: 'Tune the loop', author: 'Dev' });
   });
 });

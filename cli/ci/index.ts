@@ -7,7 +7,7 @@ import { azure } from './azure';
 import { bitbucket } from './bitbucket';
 import { buildkite } from './buildkite';
 import { circleci } from './circleci';
-import { gitHead, mergeBase, remoteDefaultBranch, runGit, type GitRunner } from './git';
+import { commitFacts, gitHead, mergeBase, remoteDefaultBranch, runGit, type GitRunner } from './git';
 import { github } from './github';
 import { gitlab } from './gitlab';
 import { jenkins } from './jenkins';
@@ -51,7 +51,7 @@ export interface DetectOptions {
   readFile?: ReadFile;
   runner?: GitRunner;
   /** Facts already known (a report's own git object): they win over everything else. */
-  known?: { branch?: string | null; commit?: string | null; baseBranch?: string | null; baseCommit?: string | null };
+  known?: { branch?: string | null; commit?: string | null; baseBranch?: string | null; baseCommit?: string | null; message?: string | null; author?: string | null };
 }
 
 export interface Detected {
@@ -73,6 +73,13 @@ export function detectBuild(opts: DetectOptions): Detected {
   ctx.commit = k.commit || over.commit || ctx.commit;
   ctx.baseBranch = k.baseBranch || over.baseBranch || ctx.baseBranch;
   ctx.baseCommit = k.baseCommit || over.baseCommit || ctx.baseCommit;
+  // A hand-set commit is not the one the CI's message describes.
+  if (over.commit && !k.commit) {
+    ctx.message = null;
+    ctx.author = null;
+  }
+  ctx.message = k.message || ctx.message;
+  ctx.author = k.author || ctx.author;
 
   if (ctx.branch === null || ctx.commit === null) {
     if (opts.git === 'process') {
@@ -86,6 +93,13 @@ export function detectBuild(opts: DetectOptions): Detected {
       if (ctx.commit === null || ctx.commit === local.commit) ctx.branch = ctx.branch ?? local.branch;
       ctx.commit = ctx.commit ?? local.commit;
     }
+  }
+
+  // Message and author for uploads: from git when the CI did not say them.
+  if (opts.git === 'process' && ctx.commit !== null && (ctx.message === null || ctx.author === null)) {
+    const facts = commitFacts(opts.cwd, ctx.commit, runner);
+    ctx.message = ctx.message ?? facts.message;
+    ctx.author = ctx.author ?? facts.author;
   }
 
   if (opts.mergeBase && ctx.baseCommit === null && ctx.commit !== null) {
@@ -102,9 +116,11 @@ export function detectBuild(opts: DetectOptions): Detected {
 }
 
 /** The `git` object of a report from a build context; base fields only when known. */
-export function reportGit(ctx: BuildContext): { branch: string | null; commit: string | null; baseBranch?: string; baseCommit?: string } {
-  const git: { branch: string | null; commit: string | null; baseBranch?: string; baseCommit?: string } = { branch: ctx.branch, commit: ctx.commit };
+export function reportGit(ctx: BuildContext): { branch: string | null; commit: string | null; baseBranch?: string; baseCommit?: string; message?: string; author?: string } {
+  const git: { branch: string | null; commit: string | null; baseBranch?: string; baseCommit?: string; message?: string; author?: string } = { branch: ctx.branch, commit: ctx.commit };
   if (ctx.baseBranch) git.baseBranch = ctx.baseBranch;
   if (ctx.baseCommit) git.baseCommit = ctx.baseCommit;
+  if (ctx.message) git.message = ctx.message;
+  if (ctx.author) git.author = ctx.author;
   return git;
 }

@@ -1,7 +1,7 @@
 // Travis CI. In a pull-request build TRAVIS_BRANCH is the TARGET branch and TRAVIS_COMMIT the
 // merge preview; the source is TRAVIS_PULL_REQUEST_BRANCH and its head TRAVIS_PULL_REQUEST_SHA.
 // TRAVIS_PULL_REQUEST is "false" outside pull requests.
-import { context, hexCommit, val, type Detector } from './types';
+import { context, firstLine, hexCommit, val, type Detector } from './types';
 
 export const travis: Detector = (env) => {
   if (val(env, 'TRAVIS') !== 'true') return null;
@@ -16,5 +16,6 @@ export const travis: Detector = (env) => {
   return context('Travis CI', {
     branch: val(env, 'TRAVIS_BRANCH'),
     commit: hexCommit(val(env, 'TRAVIS_COMMIT')),
+    message: firstLine(val(env, 'TRAVIS_COMMIT_MESSAGE')),
   });
 };

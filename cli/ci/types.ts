@@ -12,6 +12,9 @@ export interface BuildContext {
   baseBranch: string | null;
   /** The merge-base with the base branch, when the CI gives it (GitLab) or git computes it. */
   baseCommit: string | null;
+  /** First line of the commit's message and its author's name, when the CI says them (else git is asked on upload). */
+  message: string | null;
+  author: string | null;
   /** Things worth telling the user (a fallback that may be wrong, a payload that could not be read). */
   notes: string[];
 }
@@ -60,6 +63,22 @@ export function context(vendor: string, fields: Partial<Omit<BuildContext, 'vend
     commit: fields.commit ?? null,
     baseBranch: fields.baseBranch ?? null,
     baseCommit: fields.baseCommit ?? null,
+    message: fields.message ?? null,
+    author: fields.author ?? null,
     notes: fields.notes ?? [],
   };
+}
+
+/** The first line of a commit message, trimmed and bounded (the report keeps at most 500 characters); null when empty. */
+export function firstLine(text: string | null | undefined, max = 500): string | null {
+  if (typeof text !== 'string') return null;
+  const line = text.split(/\r?\n/, 1)[0].trim();
+  if (!line) return null;
+  return line.length > max ? `${line.slice(0, max - 3)}...` : line;
+}
+
+/** `Name <mail@host>` -> `Name`; bounded to the report's 200 characters. */
+export function authorName(text: string | null | undefined): string | null {
+  const name = firstLine(typeof text === 'string' ? text.replace(/\s*<[^>]*>\s*$/, '') : null, 200);
+  return name;
 }

@@ -18,8 +18,8 @@ import { buildReport, designReport, exitCodeOf } from '../../shared/report/repor
 import type { Diagnostic, DesignReport, EffectiveRules, Report } from '../../shared/types';
 import type { DesignRun } from '../../shared/pipeline';
 
-export type ReportFormat = 'text' | 'json' | 'junit' | 'github';
-const FORMATS: ReportFormat[] = ['text', 'json', 'junit', 'github'];
+export type ReportFormat = 'text' | 'json' | 'junit' | 'github' | 'markdown' | 'sarif' | 'gitlab';
+const FORMATS: ReportFormat[] = ['text', 'json', 'junit', 'github', 'markdown', 'sarif', 'gitlab'];
 
 export interface CheckOptions {
   format: ReportFormat;
@@ -28,6 +28,8 @@ export interface CheckOptions {
   quiet?: boolean;
   color: boolean;
   upload?: boolean;
+  /** A pleat-baseline/1 file: only broken rules that are new or worse fail. */
+  baseline?: string;
 }
 
 export const register: RegisterCommand = (program: Command, ctx: CliContext) => {
@@ -40,6 +42,7 @@ export const register: RegisterCommand = (program: Command, ctx: CliContext) => 
     .option('-c, --config <file>', 'use this config file instead of looking for pleat.config.yaml')
     .option('-q, --quiet', 'print only failures and errors')
     .option('--no-color', 'never colour the output')
+    .option('--baseline <file>', 'fail only on broken rules that are new or worse than in this baseline file (written by `pleat baseline`)')
     .option('--upload', 'send the report to the Pleat server (token in PLEAT_TOKEN); exit 3 when that fails after retries')
     .action(async (paths: string[], opts: CheckOptions) => {
       process.exitCode = await runCheck(paths, opts, ctx);
@@ -56,13 +59,12 @@ interface Checked {
   ms: number;
 }
 
-export async function runCheck(paths: string[], opts: CheckOptions, ctx: CliContext): Promise<number> {
+export async function checkToReport(paths: string[], opts: Pick<CheckOptions, 'config' | 'quiet' | 'color' | 'upload'>, ctx: CliContext): Promise<CheckRun> {
   const cwd = process.cwd();
   const startedAt = new Date().toISOString();
   // PLEAT_TIMING=1 prints where the time goes (a profiling aid, on standard error).
   const timing = process.env.PLEAT_TIMING ? new Timer() : null;
   const err = (s: string) => process.stderr.write(s);
-  const color = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stdout.isTTY, env: process.env }));
   const errColor = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stderr.isTTY, env: process.env }));
 
   // Config: given, or found by walking up from the working directory.
@@ -156,7 +158,46 @@ export async function runCheck(paths: string[], opts: CheckOptions, ctx: CliCont
       return rel === '' ? f : rel.split(path.sep).join('/');
     },
     annotationFile: (f) => (wtRoot ? path.relative(wtRoot, path.resolve(root, f)).split(path.sep).join('/') : f),
+    repositoryFile: (f) => {
+      if (!wtRoot) return f.startsWith('../') || path.isAbsolute(f) ? null : f;
+      const rel = path.relative(wtRoot, path.resolve(root, f));
+      return rel.startsWith('..') || path.isAbsolute(rel) ? null : rel.split(path.sep).join('/');
+    },
+    absoluteFile: (f) => path.resolve(root, f),
   };
+
+  return { report, fctx, cwd, root, target, server, timing };
+}
+
+/** What a check found, before any output: the report and how its paths are shown. */
+export interface CheckRun {
+  report: Report;
+  fctx: FormatContext;
+  cwd: string;
+  root: string;
+  target: ReturnType<typeof uploadTarget> | null;
+  server: ReturnType<typeof serverSettings>;
+  timing: Timer | null;
+}
+
+export async function runCheck(paths: string[], opts: CheckOptions, ctx: CliContext): Promise<number> {
+  const run = await checkToReport(paths, opts, ctx);
+  const { report, fctx, cwd, root, target, server, timing } = run;
+  const err = (s: string) => process.stderr.write(s);
+  const color = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stdout.isTTY, env: process.env }));
+  const errColor = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stderr.isTTY, env: process.env }));
+
+  // A baseline: only broken rules that are new or worse fail the check.
+  let baselineCode: number | null = null;
+  if (opts.baseline) {
+    const { readBaseline } = await import('./baseline');
+    const baseline = readBaseline(path.resolve(cwd, opts.baseline), opts.baseline);
+    const b = await import('../../shared/report/baseline');
+    const outcome = b.compareWithBaseline(report, baseline);
+    baselineCode = b.exitCodeWithBaseline(report, outcome);
+    fctx.baseline = { file: opts.baseline, outcome };
+    if (!opts.quiet) for (const g of outcome.gone) err(errColor.dim(`pleat: note: baseline entry no longer found: ${g.design} ${g.rule}${g.subject ? ` ${g.subject}` : ''} (fixed? \`pleat baseline\` writes the file anew)\n`));
+  }
 
   const format = opts.format;
   if (opts.output) {
@@ -179,7 +220,7 @@ export async function runCheck(paths: string[], opts: CheckOptions, ctx: CliCont
     process.stdout.write((await formatterFor(format))(report, fctx));
   }
   timing?.lap('terminal output');
-  let code: number = exitCodeOf(report);
+  let code: number = baselineCode ?? exitCodeOf(report);
   if (target) {
     const uploaded = await uploadAfterCheck({
       report, cwd, root, target, policy: server.policy, quiet: !!opts.quiet, version: ctx.version,
@@ -202,6 +243,12 @@ async function formatterFor(format: ReportFormat): Promise<Formatter> {
       return (await import('../format/junit')).formatJunit;
     case 'github':
       return (await import('../format/github')).formatGithub;
+    case 'markdown':
+      return (await import('../format/markdown')).formatMarkdown;
+    case 'sarif':
+      return (await import('../format/sarif')).formatSarif;
+    case 'gitlab':
+      return (await import('../format/gitlab')).formatGitlab;
     default:
       return formatText;
   }

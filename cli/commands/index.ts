@@ -8,3 +8,5 @@ export { register as rtl } from './rtl';
 export { register as upload } from './upload';
 export { register as plan } from './plan';
 export { register as sweep } from './sweep';
+export { register as baseline } from './baseline';
+export { register as diff } from './diff';

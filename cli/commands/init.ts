@@ -3,8 +3,12 @@
 import { existsSync } from 'node:fs';
 import { mkdir, writeFile } from 'node:fs/promises';
 import path from 'node:path';
-import type { Command } from 'commander';
+import { spawnSync } from 'node:child_process';
+import { chmod } from 'node:fs/promises';
+import { Option, type Command } from 'commander';
 import { CONFIG_NAME } from '../config';
+import { gitRoot } from '../git';
+import { CI_TEMPLATES, hookText } from '../init/templates';
 import { CliError, type RegisterCommand } from '../context';
 
 export const STARTER_DESIGN = 'designs/starter.fold.yaml';
@@ -63,11 +67,18 @@ folding:
 export const register: RegisterCommand = (program: Command) => {
   program
     .command('init')
-    .description(`write a starter ${CONFIG_NAME} and an example design (${STARTER_DESIGN}) into the current folder`)
+    .description(`write a starter ${CONFIG_NAME} and an example design (${STARTER_DESIGN}) into the current folder; or a CI job (--ci) or a pre-commit hook (--hook)`)
     .option('--force', 'overwrite those files if they exist')
+    .addOption(new Option('--ci <host>', 'write a ready CI job for this hosted CI system instead').choices(Object.keys(CI_TEMPLATES)))
+    .option('--hook', 'write a git pre-commit hook that checks the staged design files instead')
     .addHelpText('after', '\nThen: `pleat check` verifies the designs; for a design without folding sets, `pleat plan FILE --write` writes them and `pleat sweep FILE --factors 2..16` compares folding factors (docs/cli.md).')
-    .action(async (opts: { force?: boolean }) => {
+    .action(async (opts: { force?: boolean; ci?: string; hook?: boolean }) => {
       const cwd = process.cwd();
+      if (opts.ci || opts.hook) {
+        if (opts.ci) await writeCiJob(opts.ci, cwd, !!opts.force);
+        if (opts.hook) await writeHook(cwd, !!opts.force);
+        return;
+      }
       const targets = [
         { rel: CONFIG_NAME, text: CONFIG_TEXT },
         { rel: STARTER_DESIGN, text: DESIGN_TEXT },
@@ -90,3 +101,37 @@ export const register: RegisterCommand = (program: Command) => {
       process.stdout.write('a design without folding sets: pleat plan FILE --write places its operations (pleat sweep FILE --factors 2..16 compares N)\n');
     });
 };
+
+/** The CI job goes to the repository root (the git work tree), where the CI looks for it. */
+async function writeCiJob(host: string, cwd: string, force: boolean): Promise<void> {
+  const t = CI_TEMPLATES[host];
+  const root = gitRoot(cwd) ?? cwd;
+  const abs = path.join(root, t.file);
+  const shown = path.relative(cwd, abs) || t.file;
+  if (existsSync(abs) && !force) throw new CliError(`${shown} already exists; nothing was written (use --force to overwrite)`);
+  try {
+    await mkdir(path.dirname(abs), { recursive: true });
+    await writeFile(abs, t.text);
+  } catch (e) {
+    throw new CliError(`cannot write ${shown}: ${(e as Error).message}`);
+  }
+  process.stdout.write(`wrote ${shown} (${t.host})\n`);
+  process.stdout.write(`next: keep the project's CI token as ${t.secret}, and set server.url and server.project in ${CONFIG_NAME}\n`);
+}
+
+/** The hook goes where git runs hooks from (core.hooksPath honoured), made executable. */
+async function writeHook(cwd: string, force: boolean): Promise<void> {
+  const r = spawnSync('git', ['rev-parse', '--git-path', 'hooks'], { cwd, encoding: 'utf8' });
+  if (r.error || r.status !== 0) throw new CliError('--hook needs a git repository: run it inside the work tree (git init first)');
+  const abs = path.resolve(cwd, r.stdout.trim(), 'pre-commit');
+  const shown = path.relative(cwd, abs) || abs;
+  if (existsSync(abs) && !force) throw new CliError(`${shown} already exists; nothing was written (use --force to overwrite it, or call pleat from the hook you have)`);
+  try {
+    await mkdir(path.dirname(abs), { recursive: true });
+    await writeFile(abs, hookText(process.execPath, path.resolve(process.argv[1])));
+    await chmod(abs, 0o755);
+  } catch (e) {
+    throw new CliError(`cannot write ${shown}: ${(e as Error).message}`);
+  }
+  process.stdout.write(`wrote ${shown}: each commit checks its staged design files (git commit --no-verify skips it once)\n`);
+}

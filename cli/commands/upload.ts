@@ -60,7 +60,7 @@ export async function runUpload(file: string, opts: UploadOptions, ctx: CliConte
   // The report's own git facts win (they describe what was checked); gaps are filled from the
   // environment as `check --upload` would, and the merge-base is computed for the report's commit.
   const given = (report.git && typeof report.git === 'object' ? report.git : {}) as Partial<Report['git']>;
-  const needsLookup = !given.branch || !given.commit || !given.baseCommit;
+  const needsLookup = !given.branch || !given.commit || !given.baseCommit || !given.message || !given.author;
   if (needsLookup) {
     const build = detectBuild({ cwd, git: 'process', mergeBase: true, known: given });
     if (build.problems.length > 0) throw new CliError(build.problems.join('; '));
@@ -71,6 +71,8 @@ export async function runUpload(file: string, opts: UploadOptions, ctx: CliConte
       commit: c.commit,
       ...(c.baseBranch ? { baseBranch: c.baseBranch } : {}),
       ...(c.baseCommit ? { baseCommit: c.baseCommit } : {}),
+      ...(c.message ? { message: c.message } : {}),
+      ...(c.author ? { author: c.author } : {}),
     };
     if (!opts.quiet) for (const n of c.notes) say(`pleat: note: ${n}`);
   }

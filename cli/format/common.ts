@@ -1,5 +1,6 @@
 // Small helpers shared by the report formatters.
 import type { ChalkInstance } from 'chalk';
+import type { BaselineOutcome } from '../../shared/report/baseline';
 import type { Diagnostic, Report } from '../../shared/types';
 import { escapeControls } from './escape';
 
@@ -8,7 +9,16 @@ export interface FormatContext {
   displayFile?: (file: string) => string;
   /** How a report path is named in GitHub annotations (relative to the work tree root). */
   annotationFile?: (file: string) => string;
+  /**
+   * A report path relative to the repository's work tree (forward slashes), or null when the
+   * file lies outside it (SARIF, code quality, Markdown say so instead of writing `../`).
+   */
+  repositoryFile?: (file: string) => string | null;
+  /** The absolute path of a report path, to name a file outside the work tree. */
+  absoluteFile?: (file: string) => string;
   color?: ChalkInstance;
+  /** `check --baseline`: the file and which broken rules it accepts. */
+  baseline?: { file: string; outcome: BaselineOutcome };
   /** Only failures and errors. */
   quiet?: boolean;
   /** Milliseconds spent on each design, by report path. */

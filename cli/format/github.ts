@@ -1,8 +1,9 @@
 // GitHub Actions workflow commands: one annotation per problem, so a pull request shows each
 // one on its line. Escaping follows GitHub's toolkit: in data % CR LF, in properties also : and ,.
-import { countStatuses } from '../../shared/report/report';
 import type { Report } from '../../shared/types';
-import { plural, type FormatContext } from './common';
+import { designFindings } from '../../shared/report/findings';
+import type { FormatContext } from './common';
+import { gateLine } from './text';
 import { escapeControls, escapeControlsDeep } from './escape';
 
 export function escapeData(s: string): string {
@@ -33,11 +34,15 @@ export function formatGithub(raw: Report, ctx: FormatContext = {}): string {
       if (ctx.quiet && x.severity !== 'error') continue;
       lines.push(command(x.severity, { file, line: x.line, col: x.column, title: `pleat ${x.code}` }, x.message));
     }
-    for (const v of d.violations) {
-      lines.push(command('error', { file, line: v.line, col: v.column, title: `pleat rule ${v.rule} (${v.source})` }, `${d.name ?? d.file}: ${v.message}`));
+    // The annotation carries what would fix it (a message may span lines: %0A).
+    // designFindings lists the violations first, in their order.
+    const findings = designFindings(d);
+    for (const [i, v] of d.violations.entries()) {
+      const f = findings[i];
+      const fixes = f.fixes.map((x) => `\nfix: ${x}`).join('');
+      lines.push(command('error', { file, line: f.line, col: f.column, title: `pleat rule ${v.rule} (${v.source})` }, `${d.name ?? d.file}: ${v.message}${fixes}`));
     }
   }
-  const c = countStatuses(report.designs);
-  lines.push(command('notice', { title: `pleat ${report.verdict}` }, `${plural(report.designs.length, 'design')} checked: ${c.pass} pass, ${c.fail} fail, ${c.error} error`));
+  lines.push(command('notice', { title: `pleat ${report.verdict}` }, gateLine(report)));
   return `${lines.join('\n')}\n`;
 }

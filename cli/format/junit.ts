@@ -1,6 +1,9 @@
 // JUnit XML as CI servers read it (the testsuites/testsuite/testcase layout Jenkins and GitLab
-// accept): one testsuite per design file, one testcase for validity and one per rule in force.
+// accept): one testsuite per design file, one testcase for validity and one per rule in force
+// (a failure with the engine's fixes, or skipped with the reason when it could not be checked).
 import type { DesignReport, Report, RuleName } from '../../shared/types';
+import { designFindings } from '../../shared/report/findings';
+import { RULE_WARNING_CODES } from '../../shared/report/rules';
 import { diagnosticLine, type FormatContext } from './common';
 import { escapeControlsDeep } from './escape';
 
@@ -50,6 +53,7 @@ function casesOf(d: DesignReport, report: Report, ms: number | undefined): Case[
       : null,
     out: warnings.length ? warnings.map((x) => diagnosticLine(d.file, x)).join('\n') : undefined,
   });
+  const findings = designFindings(d);
   for (const [name, rule] of Object.entries(report.rules) as [RuleName, { value: unknown; source: string }][]) {
     if (!rule) continue;
     const title = `rule ${name} = ${String(rule.value)} (${rule.source})`;
@@ -57,12 +61,23 @@ function casesOf(d: DesignReport, report: Report, ms: number | undefined): Case[
       cases.push({ name: title, time: 0, outcome: { kind: 'skipped', type: 'invalid-design', message: 'not checked: the design file is invalid', body: '' } });
       continue;
     }
-    const broken = d.violations.filter((v) => v.rule === name);
+    // A rule that could not be checked is neither a pass nor a failure.
+    const notChecked = d.diagnostics.find((x) => x.code === RULE_WARNING_CODES.notChecked && x.message.startsWith(`${name} `));
+    if (notChecked) {
+      cases.push({ name: title, time: 0, outcome: { kind: 'skipped', type: RULE_WARNING_CODES.notChecked, message: notChecked.message, body: '' } });
+      continue;
+    }
+    const broken = findings.filter((f) => f.rule === name);
     cases.push({
       name: title,
       time: 0,
       outcome: broken.length
-        ? { kind: 'failure', type: name, message: broken[0].message, body: broken.map((v) => (v.line ? `${d.file}:${v.line}:${v.column ?? 1}: ${v.message}` : v.message)).join('\n') }
+        ? {
+            kind: 'failure',
+            type: name,
+            message: broken[0].message,
+            body: broken.map((f) => `${f.line ? `${d.file}:${f.line}:${f.column ?? 1}: ` : ''}${f.message}${f.fixes.map((x) => `\nfix: ${x}`).join('')}`).join('\n'),
+          }
         : null,
     });
   }

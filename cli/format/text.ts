@@ -1,8 +1,12 @@
-// The terminal report: one verdict line per design, then only what needs acting on.
+// The terminal report, in blocks: one per design, led by `design NAME  N=n  VERDICT`, then one
+// labelled line per fact (`  LABEL     ...`), failures first, retiming details after them; a
+// closing `gate ...` line. The line shapes are stable for scripts (docs/cli.md, "Text").
 // Long lists are cut ("... and N more") so a design of thousands of nodes stays readable.
 import { Chalk, type ChalkInstance } from 'chalk';
+import type { BaselineOutcome } from '../../shared/report/baseline';
+import { designFindings, type Finding } from '../../shared/report/findings';
 import { countStatuses } from '../../shared/report/report';
-import type { DesignReport, EdgeResult, Report, Status } from '../../shared/types';
+import type { DesignReport, EdgeResult, Report, RuleName, Violation } from '../../shared/types';
 import { diagnosticLine, fraction, pct, plural, type FormatContext } from './common';
 import { escapeControls, escapeControlsDeep } from './escape';
 
@@ -11,8 +15,23 @@ const MAX_MOVES = 12;
 const MAX_LOOP = 12;
 const MAX_VIOLATIONS = 10;
 const MAX_DIAGNOSTICS = 50;
+const MAX_NAMED = 3;
+/** Width of the label column of a block. */
+const LABEL = 10;
 
 const NO_COLOR = new Chalk({ level: 0 });
+
+/** Per-design verdict words: the plan folds, breaks rules, or the file is invalid. */
+export function verdictWord(d: Pick<DesignReport, 'status' | 'violations'>): string {
+  if (d.status === 'pass') return 'folds';
+  if (d.status === 'fail') return `breaks ${brokenRules(d.violations).join(',')}`;
+  return 'invalid';
+}
+
+/** The rules a design breaks, each once, in the order of its violations. */
+export function brokenRules(violations: Violation[]): RuleName[] {
+  return [...new Set(violations.map((v) => v.rule))];
+}
 
 export function formatText(raw: Report, ctx: FormatContext = {}): string {
   // Ids, names and paths come from files: their control characters must not reach the terminal.
@@ -20,27 +39,54 @@ export function formatText(raw: Report, ctx: FormatContext = {}): string {
   const c = ctx.color ?? NO_COLOR;
   const display = ctx.displayFile ?? ((f: string) => f);
   const show = (f: string) => escapeControls(display(f));
-  const lines: string[] = [];
+  const blocks: string[][] = [];
+  const baselinedKeys = new Set((ctx.baseline?.outcome.baselined ?? []).map(findingKey));
   for (const d of report.designs) {
     if (ctx.quiet && d.status === 'pass') continue;
-    lines.push(...designLines(d, c, show(d.file), !!ctx.quiet));
+    blocks.push(designLines(d, report, c, show(d.file), !!ctx.quiet, baselinedKeys));
   }
-  const counts = countStatuses(report.designs);
+  const lines: string[] = [];
+  for (const b of blocks) {
+    if (lines.length > 0) lines.push('');
+    lines.push(...b);
+  }
   if (!ctx.quiet || report.verdict !== 'pass') {
     if (lines.length > 0) lines.push('');
-    if (!ctx.quiet) lines.push(c.dim(`rules: ${rulesLine(report)}`));
-    const parts = [`${counts.pass} pass`];
-    if (counts.fail) parts.push(c.red(`${counts.fail} fail`));
-    if (counts.error) parts.push(c.red.bold(`${counts.error} error`));
-    lines.push(`${plural(report.designs.length, 'design')} checked: ${parts.join(', ')} -> ${statusWord(report.verdict, c)}`);
+    if (!ctx.quiet) lines.push(c.dim(`rules in force: ${rulesLine(report)}`));
+    lines.push(gateLine(report, c, ctx.baseline));
   }
   return lines.length ? `${lines.join('\n')}\n` : '';
 }
 
-function statusWord(s: Status, c: ChalkInstance): string {
-  if (s === 'pass') return c.green.bold('PASS');
-  if (s === 'fail') return c.red.bold('FAIL');
-  return c.bgRed.white.bold('ERROR');
+/** `gate holds|broken|invalid: ...`: the verdict of the whole check, naming who broke what. */
+export function gateLine(report: Report, c: ChalkInstance = NO_COLOR, baseline?: { file: string; outcome: BaselineOutcome }): string {
+  const counts = countStatuses(report.designs);
+  const total = report.designs.length;
+  const folds = `${counts.pass} of ${plural(total, 'design')} fold${total === 1 ? 's' : ''}`;
+  if (baseline && report.verdict !== 'error') {
+    const o = baseline.outcome;
+    const tally = `${plural(o.baselined.length, 'broken rule')} baselined, ${o.fresh.length} new, ${o.worse.length} worse (${baseline.file})`;
+    const bad = [...o.fresh.map((f) => `${f.design ?? f.file} breaks ${f.rule}${f.subject ? ` (${f.subject})` : ''}`), ...o.worse.map((w) => `${w.finding.design ?? w.finding.file} breaks ${w.finding.rule} worse than baselined (${String(w.was.actual)} -> ${String(w.finding.actual)})`)];
+    if (bad.length === 0) return `${c.green.bold('gate holds')}: ${folds}; ${tally}`;
+    return `${c.red.bold('gate broken')}: ${named(bad)}; ${folds}; ${tally}`;
+  }
+  if (report.verdict === 'pass') return `${c.green.bold('gate holds')}: ${folds}`;
+  const parts: string[] = [];
+  const invalid = report.designs.filter((d) => d.status === 'error');
+  if (invalid.length) parts.push(`${plural(invalid.length, 'design')} invalid (${named(invalid.map((d) => d.name ?? d.file))})`);
+  const failing = report.designs.filter((d) => d.status === 'fail');
+  if (failing.length) parts.push(named(failing.map((d) => `${d.name ?? d.file} breaks ${brokenRules(d.violations).join(',')}`)));
+  const head = report.verdict === 'error' ? c.bgRed.white.bold('gate invalid') : c.red.bold('gate broken');
+  const tail = baseline ? `; ${plural(baseline.outcome.baselined.length, 'broken rule')} baselined (${baseline.file})` : '';
+  return `${head}: ${parts.join('; ')}; ${folds}${tail}`;
+}
+
+function findingKey(f: Finding): string {
+  return JSON.stringify([f.design, f.ruleId, f.subject, f.line, f.message]);
+}
+
+function named(items: string[]): string {
+  return items.length <= MAX_NAMED ? items.join(', ') : `${items.slice(0, MAX_NAMED).join(', ')}, ... and ${items.length - MAX_NAMED} more`;
 }
 
 function rulesLine(report: Report): string {
@@ -51,29 +97,84 @@ function rulesLine(report: Report): string {
   return parts.length ? parts.join(', ') : 'none';
 }
 
-function verdictLine(d: DesignReport, c: ChalkInstance, file: string): string {
-  // PASS and FAIL get one space more than ERROR so the names line up.
-  const pad = d.status === 'error' ? '' : ' ';
-  const head = `${statusWord(d.status, c)}${pad} ${c.bold(d.name ?? '(unnamed)')}  ${c.dim(file)}`;
-  if (d.status === 'error' || d.factor == null) return head;
-  const facts: string[] = [`N=${d.factor}`];
+function label(name: string, c: ChalkInstance, paint?: (s: string) => string): string {
+  const padded = name.padEnd(LABEL);
+  return `  ${paint ? paint(padded) : c.dim(padded)}`;
+}
+
+function headLine(d: DesignReport, c: ChalkInstance): string {
+  const name = c.bold(d.name ?? '(unnamed)');
+  if (d.status === 'error') {
+    const n = d.diagnostics.filter((x) => x.severity === 'error').length;
+    return `design ${name}  N=?  ${c.bgRed.white.bold('invalid')}${n ? `: ${plural(n, 'error')}` : ''}`;
+  }
+  const word = verdictWord(d);
+  return `design ${name}  N=${d.factor ?? '?'}  ${d.status === 'pass' ? c.green.bold(word) : c.red.bold(word)}`;
+}
+
+function figures(d: DesignReport, c: ChalkInstance): string {
+  const facts: string[] = [];
   if (d.utilization) facts.push(`util ${pct(d.utilization.overall)}`);
   facts.push(d.registers ? `regs ${d.registers.minimum}` : 'regs -');
   if (d.iterationBound) facts.push(`bound ${fraction(d.iterationBound.numerator, d.iterationBound.denominator)}`);
   if (d.samplePeriodNs != null) facts.push(`period ${round(d.samplePeriodNs)} ns`);
   if (d.retiming?.needed && d.retiming.feasible && d.retiming.applied !== false) facts.push(c.yellow('retimed'));
-  return `${head}  ${facts.join('  ')}`;
+  return facts.join('  ');
 }
 
-function designLines(d: DesignReport, c: ChalkInstance, file: string, quiet: boolean): string[] {
-  const out: string[] = [verdictLine(d, c, file)];
-  const ind = '    ';
+/** `file:line:col` of a place in the design, or the file alone. */
+function at(file: string, line: number | null | undefined, column: number | null | undefined): string {
+  return line ? `${file}:${line}:${column ?? 1}` : file;
+}
 
-  if (d.status !== 'error' && d.edges && d.retiming) {
+function designLines(d: DesignReport, report: Report, c: ChalkInstance, file: string, quiet: boolean, baselined: Set<string>): string[] {
+  const out: string[] = [headLine(d, c)];
+  out.push(`${label('file', c)}${file}`);
+  if (d.status !== 'error' && d.factor != null) out.push(`${label('figures', c)}${figures(d, c)}`);
+
+  // Failures first: the broken rules, the loop that blocks retiming and its fixes, the errors.
+  const violations = d.violations ?? [];
+  // designFindings lists the violations first, in their order; a baselined one says so.
+  const findings = baselined.size ? designFindings(d) : [];
+  violations.slice(0, MAX_VIOLATIONS).forEach((v, i) => {
+    const place = v.line ? ` at ${at(file, v.line, v.column)}` : '';
+    const accepted = baselined.size > 0 && baselined.has(findingKey(findings[i]));
+    out.push(`${accepted ? label('baselined', c, c.yellow) : label('broken', c, c.red)}${v.rule}=${v.limit} (${v.source})${place}: ${v.message}`);
+  });
+  if (violations.length > MAX_VIOLATIONS) out.push(`${label('broken', c, c.red)}... and ${violations.length - MAX_VIOLATIONS} more violations`);
+
+  const r = d.status !== 'error' ? d.retiming : null;
+  if (r && !r.feasible && r.conflict) {
+    const k = r.conflict;
+    const nodes = k.edges.length ? [k.edges[0].from, ...k.edges.map((e) => e.to)] : [];
+    const need = k.minFactor !== null ? `; this loop needs N >= ${k.minFactor}, the plan has N=${d.factor}` : '';
+    out.push(`${label('loop', c, c.red)}no retiming exists: loop ${shortPath(nodes)} (${plural(k.loopDelays, 'delay')}, ${plural(k.loopStages, 'pipeline stage')}${need})`);
+    for (const e of k.edges.slice(0, MAX_LOOP)) {
+      const bad = e.foldedDelay !== null && e.foldedDelay < 0;
+      const fd = e.foldedDelay === null ? 'tap' : bad ? c.red(String(e.foldedDelay)) : String(e.foldedDelay);
+      const where = e.viaBoundary ? '(tied boundary)' : at(file, e.line, e.column);
+      out.push(`${label('on-loop', c)}${where}  ${e.from} -> ${e.to}  delays ${e.delays}  folded ${fd}`);
+    }
+    if (k.edges.length > MAX_LOOP) out.push(`${label('on-loop', c)}... and ${k.edges.length - MAX_LOOP} more`);
+    for (const s of k.suggestions) out.push(`${label('fix', c, c.cyan)}${s}`);
+  }
+
+  const diags = quiet ? d.diagnostics.filter((x) => x.severity === 'error') : d.diagnostics;
+  const ordered = [...diags.filter((x) => x.severity === 'error'), ...diags.filter((x) => x.severity !== 'error')];
+  const diagLines: string[] = [];
+  for (const x of ordered.slice(0, MAX_DIAGNOSTICS)) {
+    const line = diagnosticLine(file, x);
+    diagLines.push(`  ${x.severity === 'error' ? c.red(line) : c.yellow(line)}`);
+  }
+  if (ordered.length > MAX_DIAGNOSTICS) diagLines.push(`  ... and ${ordered.length - MAX_DIAGNOSTICS} more diagnostics (all of them are in --format json)`);
+  const errorCount = Math.min(MAX_DIAGNOSTICS, ordered.filter((x) => x.severity === 'error').length);
+  out.push(...diagLines.slice(0, errorCount));
+
+  // Then the details: the negative folded delays and what became of each, the retiming.
+  if (r && d.edges) {
     const negatives: EdgeResult[] = d.edges.filter((e) => e.foldedDelay !== null && e.foldedDelay < 0);
-    const r = d.retiming;
     if (negatives.length > 0) {
-      out.push(`  ${c.yellow(`${plural(negatives.length, 'edge')} with a negative folded delay`)} (of ${d.edges.length}):`);
+      out.push(`${label('negative', c, c.yellow)}${plural(negatives.length, 'edge')} of ${d.edges.length} with a negative folded delay`);
       for (const e of negatives.slice(0, MAX_EDGES)) {
         let fix: string;
         if (r.applied === false) {
@@ -81,52 +182,52 @@ function designLines(d: DesignReport, c: ChalkInstance, file: string, quiet: boo
         } else if (r.feasible && e.retimedFoldedDelay !== null) {
           fix = `retimed: delays ${e.delays} -> ${e.retimedDelays}, folded ${e.retimedFoldedDelay}`;
         } else if (r.conflict && r.conflict.conflictingEdges.some((x) => x.from === e.from && x.to === e.to)) {
-          fix = c.red('on the loop that cannot be retimed (below)');
+          fix = c.red('on the loop that cannot be retimed');
         } else {
-          fix = 'no retiming exists for this plan (one blocking loop is shown below)';
+          fix = 'no retiming exists for this plan';
         }
-        out.push(`${ind}${e.from} -> ${e.to}  delays ${e.delays}  folded ${c.red(String(e.foldedDelay))}  ${fix}`);
+        out.push(`${label('edge', c)}${at(file, e.line, e.column)}  ${e.from} -> ${e.to}  delays ${e.delays}  folded ${c.red(String(e.foldedDelay))}  ${fix}`);
       }
-      if (negatives.length > MAX_EDGES) out.push(`${ind}... and ${negatives.length - MAX_EDGES} more`);
+      if (negatives.length > MAX_EDGES) out.push(`${label('edge', c)}... and ${negatives.length - MAX_EDGES} more`);
     }
     if (r.needed && r.feasible && r.applied !== false) {
       const moved = movedNodes(r.values);
       const latency = r.latencyAdded ? `, adds ${plural(r.latencyAdded, 'iteration')} of latency` : ', no latency added';
-      out.push(`  retiming: ${plural(moved.length, 'node')} moved${latency}`);
+      out.push(`${label('retiming', c)}${plural(moved.length, 'node')} moved${latency}`);
       if (moved.length > 0) {
         const shown = moved.slice(0, MAX_MOVES).map(([n, v]) => `${n} ${v > 0 ? '+' : ''}${v}`);
-        out.push(`${ind}${shown.join(', ')}${moved.length > MAX_MOVES ? `, ... and ${moved.length - MAX_MOVES} more` : ''}`);
+        out.push(`${label('moved', c)}${shown.join(', ')}${moved.length > MAX_MOVES ? `, ... and ${moved.length - MAX_MOVES} more` : ''}`);
       }
     }
-    if (!r.feasible && r.conflict) {
-      const k = r.conflict;
-      const nodes = k.edges.length ? [k.edges[0].from, ...k.edges.map((e) => e.to)] : [];
-      const need = k.minFactor !== null ? `; this loop needs N >= ${k.minFactor}, the plan has N=${d.factor}` : '';
-      out.push(`  ${c.red('no retiming exists')}: loop ${shortPath(nodes)} (${plural(k.loopDelays, 'delay')}, ${plural(k.loopStages, 'pipeline stage')}${need})`);
-      for (const e of k.edges.slice(0, MAX_LOOP)) {
-        const bad = e.foldedDelay !== null && e.foldedDelay < 0;
-        const fd = e.foldedDelay === null ? 'tap' : bad ? c.red(String(e.foldedDelay)) : String(e.foldedDelay);
-        out.push(`${ind}${e.from} -> ${e.to}  delays ${e.delays}  folded ${fd}${e.viaBoundary ? c.dim('  (tied boundary)') : ''}`);
-      }
-      if (k.edges.length > MAX_LOOP) out.push(`${ind}... and ${k.edges.length - MAX_LOOP} more`);
-      for (const s of k.suggestions) out.push(`${ind}fix: ${s}`);
-    }
   }
+  out.push(...diagLines.slice(errorCount));
 
-  const violations = d.violations ?? [];
-  for (const v of violations.slice(0, MAX_VIOLATIONS)) {
-    const where = v.line ? ` ${c.dim(`(${file}:${v.line}:${v.column ?? 1})`)}` : '';
-    out.push(`  ${c.red('rule')} ${v.rule}=${v.limit} (${v.source}): ${v.message}${where}`);
+  if (d.status !== 'error') {
+    const rules = ruleStates(d, report);
+    if (rules) out.push(`${label('rules', c)}${rules}`);
   }
-  if (violations.length > MAX_VIOLATIONS) out.push(`  ... and ${violations.length - MAX_VIOLATIONS} more violations`);
-
-  const diags = quiet ? d.diagnostics.filter((x) => x.severity === 'error') : d.diagnostics;
-  for (const x of diags.slice(0, MAX_DIAGNOSTICS)) {
-    const line = diagnosticLine(file, x);
-    out.push(`  ${x.severity === 'error' ? c.red(line) : c.yellow(line)}`);
-  }
-  if (diags.length > MAX_DIAGNOSTICS) out.push(`  ... and ${diags.length - MAX_DIAGNOSTICS} more diagnostics (all of them are in --format json)`);
   return out;
+}
+
+/** `held a, b; broken c; not checked d` for the rules in force on one design. */
+function ruleStates(d: DesignReport, report: Report): string {
+  const broken = new Set(brokenRules(d.violations));
+  const notChecked = new Set(d.diagnostics.filter((x) => x.code === 'rule-not-checked').map((x) => x.message.split(' ')[0]));
+  const held: string[] = [];
+  const notHeld: string[] = [];
+  const unchecked: string[] = [];
+  for (const [name, r] of Object.entries(report.rules)) {
+    if (!r) continue;
+    const item = `${name}=${String(r.value)}`;
+    if (broken.has(name as RuleName)) notHeld.push(item);
+    else if (notChecked.has(name)) unchecked.push(item);
+    else held.push(item);
+  }
+  const parts: string[] = [];
+  if (held.length) parts.push(`held ${held.join(', ')}`);
+  if (notHeld.length) parts.push(`broken ${notHeld.join(', ')}`);
+  if (unchecked.length) parts.push(`not checked ${unchecked.join(', ')}`);
+  return parts.join('; ');
 }
 
 /** Nodes with a nonzero retiming value, in the engine's node order. */

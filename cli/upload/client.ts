@@ -1,6 +1,7 @@
-// HTTP client of the Pleat server for CI: upload a report, read the team rules. Node's global
-// fetch with a timeout per try; retries with exponential backoff and jitter on 429, 5xx and
-// network failures only (a 400/401/403/413 will not change by asking again).
+// HTTP client of the Pleat server for CI: upload a report, read the team rules and runs. Node's
+// global fetch with a timeout per try; retries (p-retry) with exponential backoff and jitter on
+// 429, 5xx and network failures only (a 400/401/403/413 will not change by asking again).
+import pRetry from 'p-retry';
 
 export interface ServerTarget {
   /** Base URL of the server, e.g. http://127.0.0.1:4180 (a path prefix is kept). */
@@ -8,6 +9,8 @@ export interface ServerTarget {
   project: string;
   /** The project's CI token. Sent in the Authorization header, never printed. */
   token: string;
+  /** A person's session cookie (`name=value`), sent instead of the token when set (`pleat diff --against`). */
+  cookie?: string;
 }
 
 export interface RetryPolicy {
@@ -52,6 +55,8 @@ export interface Success {
   status: number;
   body: unknown;
   tries: number;
+  /** The Set-Cookie values of the answer (a login's session). */
+  cookies?: string[];
 }
 
 export interface Failure {
@@ -131,7 +136,7 @@ function retryAfter(header: string | null): number | undefined {
 }
 
 /** One try: an answer (any status) or a failure without one. */
-async function once(method: 'GET' | 'POST', url: string, target: ServerTarget, body: string | undefined, policy: RetryPolicy, hooks: Hooks): Promise<Outcome> {
+async function once(method: 'GET' | 'POST', url: string, target: Pick<ServerTarget, 'token' | 'cookie'>, body: string | undefined, policy: RetryPolicy, hooks: Hooks): Promise<Outcome> {
   const origin = new URL(url).origin;
   let res: Response;
   let text: string;
@@ -139,7 +144,7 @@ async function once(method: 'GET' | 'POST', url: string, target: ServerTarget, b
     res = await fetch(url, {
       method,
       headers: {
-        Authorization: `Bearer ${target.token}`,
+        ...(target.cookie ? { Cookie: target.cookie } : target.token ? { Authorization: `Bearer ${target.token}` } : {}),
         Accept: 'application/json',
         'User-Agent': hooks.userAgent ?? 'pleat',
         ...(body !== undefined ? { 'Content-Type': 'application/json' } : {}),
@@ -168,7 +173,7 @@ async function once(method: 'GET' | 'POST', url: string, target: ServerTarget, b
       // A proxy or another program answered in its place.
       return { ok: false, status: res.status, code: null, message: `HTTP ${res.status} from ${origin}, but the answer is not a Pleat server's (not JSON)`, retryable: false, tries: 1 };
     }
-    return { ok: true, status: res.status, body: json, tries: 1 };
+    return { ok: true, status: res.status, body: json, tries: 1, cookies: res.headers.getSetCookie() };
   }
   const err = (json as { error?: { code?: unknown; message?: unknown } } | null)?.error;
   const code = typeof err?.code === 'string' ? clean(err.code, 60) : null;
@@ -189,17 +194,47 @@ async function once(method: 'GET' | 'POST', url: string, target: ServerTarget, b
 
 const defaultSleep = (ms: number) => new Promise<void>((resolve) => setTimeout(resolve, ms));
 
-/** Repeats a request while it fails in a retryable way, up to policy.tries. */
+/** A failed try, as p-retry wants it: an Error that carries the outcome. */
+class TryFailed extends Error {
+  constructor(readonly outcome: Failure) {
+    super(outcome.message);
+  }
+}
+
+/**
+ * Repeats a request while it fails in a retryable way, up to policy.tries, through p-retry.
+ * The wait between tries stays ours (p-retry's own is set to 0): equal jitter, the server's
+ * Retry-After up to the cap, and a sleep the tests can replace; it happens in shouldRetry,
+ * which p-retry calls only when another try is left.
+ */
 async function withRetries(run: () => Promise<Outcome>, policy: RetryPolicy, hooks: Hooks): Promise<Outcome> {
   const sleep = hooks.sleep ?? defaultSleep;
-  for (let attempt = 1; ; attempt++) {
-    const outcome = await run();
-    outcome.tries = attempt;
-    if (outcome.ok || !outcome.retryable || attempt >= policy.tries) return outcome;
-    let delay = backoffDelay(attempt, policy, hooks.random);
-    if (outcome.retryAfterMs !== undefined) delay = Math.max(delay, Math.min(outcome.retryAfterMs, policy.maxDelayMs));
-    hooks.onRetry?.(outcome, delay);
-    await sleep(delay);
+  try {
+    return await pRetry(
+      async (attempt) => {
+        const outcome = await run();
+        outcome.tries = attempt;
+        if (!outcome.ok) throw new TryFailed(outcome);
+        return outcome;
+      },
+      {
+        retries: policy.tries - 1,
+        minTimeout: 0,
+        maxTimeout: 0,
+        shouldRetry: async ({ error, attemptNumber }) => {
+          const failure = (error as TryFailed).outcome;
+          if (!failure?.retryable) return false;
+          let delay = backoffDelay(attemptNumber, policy, hooks.random);
+          if (failure.retryAfterMs !== undefined) delay = Math.max(delay, Math.min(failure.retryAfterMs, policy.maxDelayMs));
+          hooks.onRetry?.(failure, delay);
+          await sleep(delay);
+          return true;
+        },
+      },
+    );
+  } catch (err) {
+    if (err instanceof TryFailed) return err.outcome;
+    throw err;
   }
 }
 
@@ -213,4 +248,20 @@ export function uploadReport(target: ServerTarget, reportJson: string, policy: R
 export function fetchTeamRules(target: ServerTarget, policy: RetryPolicy, hooks: Hooks = {}): Promise<Outcome> {
   const url = endpoint(target.url, `api/projects/${encodeURIComponent(target.project)}/rules`);
   return withRetries(() => once('GET', url, target, undefined, policy, hooks), policy, hooks);
+}
+
+/** GET of an API path (`api/...`), with the token or the session of `target`. */
+export function getJson(target: ServerTarget, apiPath: string, policy: RetryPolicy, hooks: Hooks = {}): Promise<Outcome> {
+  const url = endpoint(target.url, apiPath);
+  return withRetries(() => once('GET', url, target, undefined, policy, hooks), policy, hooks);
+}
+
+/** POST /api/auth/login: a person's session cookie (`name=value`) for reading runs, or the failure. */
+export async function login(baseUrl: string, email: string, password: string, policy: RetryPolicy, hooks: Hooks = {}): Promise<{ cookie: string } | Failure> {
+  const url = endpoint(baseUrl, 'api/auth/login');
+  const out = await withRetries(() => once('POST', url, { token: '' }, JSON.stringify({ email, password }), policy, hooks), policy, hooks);
+  if (!out.ok) return out;
+  const cookie = (out.cookies ?? []).map((c) => c.split(';')[0]).find((c) => c.includes('='));
+  if (!cookie) return { ok: false, status: out.status, code: null, message: `HTTP ${out.status} the login answer carries no session`, retryable: false, tries: out.tries };
+  return { cookie };
 }

@@ -267,7 +267,8 @@ export function applyRules(analysis: Analysis, effective: EffectiveRules): { vio
           limit: mr.value,
           actual: analysis.registers.minimum,
           message: `the folded datapath needs at least ${analysis.registers.minimum} registers (lifetime analysis), more than the maximum ${mr.value}`,
-          path: ['folding', 'factor'],
+          // Registers belong to the datapath as a whole, not to the folding factor: the units list.
+          path: ['units'],
         });
       }
     } else {
@@ -280,6 +281,7 @@ export function applyRules(analysis: Analysis, effective: EffectiveRules): { vio
             : 'max_registers not checked: no feasible folded datapath exists, so there is no register count',
         line: null,
         column: null,
+        path: ['units'],
       });
     }
   }

@@ -46,7 +46,7 @@ describe('the server is down', () => {
     expect(r.stderr).toMatch(/upload try 2 of 3 failed/);
     expect(r.stderr).toMatch(/pleat: upload failed \(after 3 tries\): cannot reach/);
     expect(r.stderr).toContain('pleat: the report is kept in .pleat/report.json; send it later with: pleat upload .pleat/report.json');
-    expect(r.stdout).toMatch(/PASS\s+smooth/); // the check itself still reports
+    expect(r.stdout).toMatch(/^design smooth\S*\s+N=\d+\s+folds$/m); // the check itself still reports
     const kept = JSON.parse(readFileSync(path.join(dir, '.pleat/report.json'), 'utf8'));
     expect(kept).toMatchObject({ format: 'pleat-report/1', verdict: 'pass', git: { branch: 'main', commit } });
     expect(r.stderr).not.toMatch(/\n\s+at /); // no stack trace
@@ -70,7 +70,7 @@ describe('the server is down', () => {
   it('exit 3 wins over a broken rule, and an invalid design (2) wins over a failed upload', async () => {
     const down = await closedPortUrl();
     const fail = await run(['check', '--upload'], repo(down, { 'f.fold.yaml': failingDesign('looped') }), { ...ci(), PLEAT_UPLOAD_TRIES: '1' });
-    expect(fail.stdout).toMatch(/FAIL\s+looped/);
+    expect(fail.stdout).toMatch(/^design looped\S*\s+N=\d+\s+breaks /m);
     expect(fail.exitCode).toBe(3);
     const invalid = await run(['check', '--upload'], repo(down, { 'i.fold.yaml': invalidDesign('broken') }), { ...ci(), PLEAT_UPLOAD_TRIES: '1' });
     expect(invalid.stderr).toMatch(/upload failed/);

@@ -41,8 +41,8 @@ describe('team rules from the server', () => {
     const r = await run(['check'], dir, { PLEAT_TOKEN: token });
     expect(r.exitCode).toBe(1);
     // The team floor (0.6) is above the design's 50%: it fails, and says whose rule it broke.
-    expect(r.stdout).toMatch(/FAIL\s+smooth/);
-    expect(r.stdout).toContain('rule min_utilization=0.6 (team): utilization 50% is below the minimum 60%');
+    expect(r.stdout).toMatch(/^design smooth\S*\s+N=\d+\s+breaks /m);
+    expect(r.stdout).toMatch(/^ {2}broken {4}min_utilization=0\.6 \(team\) at smooth\.fold\.yaml:\d+:\d+: utilization 50% is below the minimum 60%$/m);
     expect(r.stdout).toContain('min_utilization=0.6 (team)');
     expect(r.stdout).toContain('negative_delays=retime (team)');
     // The repository's max_registers is tighter than the team's: it stays the repository's.

@@ -93,7 +93,7 @@ describe('--output', () => {
     expect(existsSync(file)).toBe(true);
     const report = JSON.parse(readFileSync(file, 'utf8'));
     expect(report.verdict).toBe('fail');
-    expect(r.stdout).toMatch(/2 designs checked: 1 pass, 1 fail -> FAIL/);
+    expect(r.stdout).toMatch(/^gate broken: smoke-fail breaks negative_delays; 1 of 2 designs fold$/m);
     expect(r.stdout).not.toContain('"format"');
   });
 
@@ -149,11 +149,12 @@ describe('negative_delays: fail judges the plan as written', () => {
     write(repo, 'smooth.fold.yaml', retimed);
     const text = await pleat(['check', '--no-color'], { cwd: repo });
     expect(text.exitCode).toBe(1);
-    const verdict = text.stdout.split('\n').find((l) => l.includes('pressure-smoothing'))!;
-    expect(verdict).toMatch(/^FAIL/);
-    expect(verdict).not.toMatch(/retimed/);
-    expect(verdict).toMatch(/regs -/);
-    expect(text.stdout).not.toMatch(/^ {2}retiming: /m);
+    const verdict = text.stdout.split('\n').find((l) => l.startsWith('design pressure-smoothing'))!;
+    expect(verdict).toMatch(/ breaks negative_delays$/);
+    const figures = text.stdout.split('\n').find((l) => l.startsWith('  figures '))!;
+    expect(figures).not.toMatch(/retimed/);
+    expect(figures).toMatch(/regs -/);
+    expect(text.stdout).not.toMatch(/^ {2}retiming /m);
     expect(text.stdout).toMatch(/not retimed \(negative_delays: fail\)/);
 
     const json = await pleat(['check', '--format', 'json'], { cwd: repo });

@@ -21,13 +21,13 @@ describe('pleat check exit codes', () => {
   it('exits 0 when every design is valid and passes', async () => {
     const r = await pleat(['check', 'pass.fold.yaml'], { cwd: dir });
     expect(r.exitCode).toBe(0);
-    expect(r.stdout).toMatch(/PASS\s+smoke-pass/);
+    expect(r.stdout).toMatch(/^design smoke-pass  N=2  folds$/m);
   });
 
   it('exits 1 when a rule is broken', async () => {
     const r = await pleat(['check', 'fail.fold.yaml'], { cwd: dir });
     expect(r.exitCode).toBe(1);
-    expect(r.stdout).toMatch(/FAIL\s+smoke-fail/);
+    expect(r.stdout).toMatch(/^design smoke-fail  N=2  breaks negative_delays$/m);
     expect(r.stdout).toContain('negative_delays');
   });
 
@@ -41,7 +41,7 @@ describe('pleat check exit codes', () => {
   it('lets 2 win over 1 when both kinds of problem are present', async () => {
     const r = await pleat(['check', 'fail.fold.yaml', 'invalid.fold.yaml', 'pass.fold.yaml'], { cwd: dir });
     expect(r.exitCode).toBe(2);
-    expect(r.stdout).toMatch(/3 designs checked: 1 pass, 1 fail, 1 error/);
+    expect(r.stdout).toMatch(/^gate invalid: 1 design invalid \(smoke-invalid\); smoke-fail breaks negative_delays; 1 of 3 designs fold$/m);
   });
 
   it('exits 2 for YAML that does not parse, with its position', async () => {

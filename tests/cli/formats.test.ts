@@ -132,6 +132,20 @@ describe('--format junit', () => {
     expect(suites[2].errorTexts[0]).toContain('c-invalid.fold.yaml:9:13: error unknown-node');
   });
 
+  it('a rule that could not be checked is skipped with the reason; a failure carries the fixes', async () => {
+    const d = tempDir();
+    write(d, 'pleat.config.yaml', 'designs: ["*.fold.yaml"]\nrules:\n  max_registers: 64\n');
+    write(d, 'b-fail.fold.yaml', failingDesign());
+    const r = await pleat(['check', '--format', 'junit'], { cwd: d });
+    expect(r.exitCode).toBe(1);
+    const x = parseXml(r.stdout);
+    const s = x.suites![0];
+    // validity, negative_delays (broken), max_registers (no feasible datapath: no register count).
+    expect([s.cases, s.failures, s.errors, s.skipped]).toEqual([3, 1, 0, 1]);
+    expect(r.stdout).toMatch(/<testcase name="rule max_registers = 64 \(repository\)"[^>]*>\s*<skipped message="max_registers not checked: no feasible folded datapath exists/);
+    expect(s.failureTexts[0]).toMatch(/\nfix: Raise the folding factor to 3/);
+  });
+
   it('escapes markup characters in messages', async () => {
     const d = tempDir();
     write(d, 'odd.fold.yaml', invalidDesign().replace('{ from: ghost, to: y }', '{ from: "a<b&\\"c\\"]]>", to: y }'));
@@ -154,8 +168,10 @@ describe('--format github', () => {
     for (const line of lines) expect(line).toMatch(COMMAND);
     expect(lines).toContain('::error file=c-invalid.fold.yaml,line=9,col=13,title=pleat unknown-node::edges[0].from names node `ghost`, which does not exist');
     // The violation points at the edge with the negative folded delay (m -> a, line 13).
-    expect(lines.some((l) => l.startsWith('::error file=b-fail.fold.yaml,line=13,col=5,title=pleat rule negative_delays (default)::smoke-fail: '))).toBe(true);
-    expect(lines.at(-1)).toMatch(/^::notice title=pleat error::3 designs checked: 1 pass, 1 fail, 1 error$/);
+    const broken = lines.find((l) => l.startsWith('::error file=b-fail.fold.yaml,line=13,col=5,title=pleat rule negative_delays (default)::smoke-fail: '))!;
+    // The fix goes with the annotation, on lines of its own (LF escaped as %0A).
+    expect(broken).toMatch(/%0Afix: Raise the folding factor to 3/);
+    expect(lines.at(-1)).toBe('::notice title=pleat error::gate invalid: 1 design invalid (smoke-invalid); smoke-fail breaks negative_delays; 1 of 3 designs fold');
   });
 
   it('escapes properties and data as GitHub\'s toolkit does', async () => {
@@ -176,14 +192,25 @@ describe('--format text', () => {
   it('gives a verdict line per design, the loop that blocks retiming, and positioned diagnostics', async () => {
     const r = await pleat(['check', '.'], { cwd: dir });
     const out = r.stdout;
-    expect(out).toMatch(/^PASS\s+smoke-pass\s+a-pass\.fold\.yaml\s+N=2\s+util 50%\s+regs \d+\s+bound 1/m);
-    expect(out).toMatch(/^FAIL\s+smoke-fail\s+b-fail\.fold\.yaml\s+N=2/m);
-    expect(out).toMatch(/no retiming exists: loop .*needs N >= 3/);
-    expect(out).toMatch(/m -> a\s+delays 0\s+folded -3/);
-    expect(out).toMatch(/rule negative_delays=retime \(default\)/);
-    expect(out).toMatch(/^ERROR smoke-invalid\s+c-invalid\.fold\.yaml$/m);
-    expect(out).toContain('c-invalid.fold.yaml:9:13: error unknown-node:');
-    expect(out).toMatch(/3 designs checked: 1 pass, 1 fail, 1 error -> ERROR/);
+    // The stable line shapes of docs/cli.md ("Text").
+    const blocks = out.split('\n\n');
+    expect(blocks[0]).toMatch(/^design smoke-pass  N=2  folds\n  file      a-pass\.fold\.yaml\n  figures   util 50%  regs \d+  bound 1/);
+    expect(blocks[0]).toMatch(/^ {2}rules     held negative_delays=retime$/m);
+    const fail = blocks[1].split('\n');
+    expect(fail[0]).toBe('design smoke-fail  N=2  breaks negative_delays');
+    // Failures come before the details: the broken rule, then the loop, then the negative edges.
+    const order = ['  broken    ', '  loop      ', '  on-loop   ', '  negative  ', '  edge      '].map((p) => fail.findIndex((l) => l.startsWith(p)));
+    expect(order.every((i) => i > 0)).toBe(true);
+    expect([...order].sort((a, b) => a - b)).toEqual(order);
+    // The rule points at the edge m -> a (line 13 of the fixture), and so do its edge lines.
+    expect(blocks[1]).toMatch(/^ {2}broken {4}negative_delays=retime \(default\) at b-fail\.fold\.yaml:13:5: /m);
+    expect(blocks[1]).toMatch(/no retiming exists: loop .*needs N >= 3/);
+    expect(blocks[1]).toMatch(/^ {2}edge {6}b-fail\.fold\.yaml:13:5  m -> a  delays 0  folded -3  /m);
+    expect(blocks[2]).toMatch(/^design smoke-invalid  N=\?  invalid: 1 error\n  file      c-invalid\.fold\.yaml$/m);
+    expect(out).toContain('  c-invalid.fold.yaml:9:13: error unknown-node:');
+    expect(out).toMatch(/^gate invalid: 1 design invalid \(smoke-invalid\); smoke-fail breaks negative_delays; 1 of 3 designs fold$/m);
+    // Nothing of a test runner's summary is left.
+    expect(out).not.toMatch(/^(PASS|FAIL|ERROR)\b|designs? checked/m);
   });
 
   it('--quiet leaves out passing designs and warnings', async () => {

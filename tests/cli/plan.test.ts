@@ -168,7 +168,7 @@ describe('pleat plan', () => {
     expect(p.pins).toEqual(['g']);
     expect(p.sets!.MUL1[2]).toBe('g');
     const text = await pleat(['plan', 'pinned.fold.yaml', '--time-limit', '5'], { cwd: dir });
-    expect(text.stdout).toMatch(/pinned \(kept where the design placed them, marked \*\): g/);
+    expect(text.stdout).toMatch(/^ {2}pinned {4}kept where the design placed them, marked \*: g/m);
     expect(text.stdout).toContain('g*');
     const c = await check('out.fold.yaml', dir);
     expect([0, 1]).toContain(c.code);
@@ -207,7 +207,7 @@ describe('pleat plan', () => {
     expect(designs[0].suggestion?.units?.add).toBe(2);
     const text = await pleat(['plan', 'baro.fold.yaml', '--factor', '2', '--units', 'mul=2'], { cwd: dir });
     expect(text.exitCode).toBe(1);
-    expect(text.stdout).toContain('NO PLAN');
+    expect(text.stdout).toMatch(/^design \S+  N=\d+  no plan$/m);
     expect(text.stdout).toMatch(/--units .*add=2/);
   }, SLOW);
 
@@ -281,7 +281,7 @@ folding:
     // A kind the design does not have is a problem of that design: shown in its block.
     const fft = await pleat(['plan', 'baro.fold.yaml', '--units', 'fft=2'], { cwd: dir });
     expect(fft.exitCode).toBe(2);
-    expect(fft.stdout).toMatch(/ERROR .*baro-decimator[\s\S]*--units names kind `fft`, which the design baro-decimator does not use \(its kinds: add, mul\)/);
+    expect(fft.stdout).toMatch(/^design baro-decimator  N=\S+  invalid[\s\S]*--units names kind `fft`, which the design baro-decimator does not use \(its kinds: add, mul\)/);
     expect(readFileSync(path.join(dir, 'baro.fold.yaml'), 'utf8')).toBe(BARO);
   }, SLOW);
 });
