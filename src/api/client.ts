@@ -11,6 +11,8 @@ import type {
   ApiErrorBody,
   BranchList,
   CiToken,
+  HostConnection,
+  HostKind,
   Invitation,
   Me,
   Member,
@@ -175,6 +177,12 @@ export const api = {
   createToken: (slug: string, name: string) =>
     request<{ token: CiToken; secret: string }>(`/api/projects/${seg(slug)}/tokens`, { method: 'POST', body: { name } }),
   revokeToken: (slug: string, id: number) => request<{ token: CiToken }>(`/api/projects/${seg(slug)}/tokens/${id}`, { method: 'DELETE' }),
+
+  // the git host of the pull-request feedback (leads)
+  host: (slug: string, signal?: AbortSignal) => request<{ host: HostConnection | null }>(`/api/projects/${seg(slug)}/host`, { signal }),
+  saveHost: (slug: string, body: { kind: HostKind; apiUrl?: string; repository: string; token?: string }) =>
+    request<{ host: HostConnection }>(`/api/projects/${seg(slug)}/host`, { method: 'PUT', body }),
+  removeHost: (slug: string) => request<void>(`/api/projects/${seg(slug)}/host`, { method: 'DELETE' }),
 
   // members and invitations
   members: (slug: string, signal?: AbortSignal) => request<{ members: Member[] }>(`/api/projects/${seg(slug)}/members`, { signal }),

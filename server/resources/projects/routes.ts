@@ -8,7 +8,10 @@ import { requireUser } from '../../http/auth';
 import { QueryTypes } from 'sequelize';
 import { allow, badRequest, conflict } from '../../http/errors';
 import { checker } from '../../http/validate';
+import { send, type Sent } from '../../http/present';
+import type { HostStatus, Project as ApiProject } from '../../../shared/report/api';
 import { uploadReportSchema } from '../../../shared/report/reportSchema';
+import { hostStatuses } from '../hosts/store';
 import { canCreateProject, canDeleteProject, canEditProject, canSeeProject } from './policy';
 
 const json = express.json({ limit: '64kb' });
@@ -44,15 +47,17 @@ const checkDelete = checker<{ confirm: string }>({
   type: 'object', required: ['confirm'], additionalProperties: false, properties: { confirm: { type: 'string', maxLength: 100 } },
 });
 
-export function presentProject(p: Project, role: ProjectRole | null) {
+export function presentProject(p: Project, role: ProjectRole | null, host: Sent<HostStatus> | null): Sent<ApiProject> {
   return {
     slug: p.slug,
     name: p.name,
     baseBranch: p.baseBranch,
     regressionTolerance: p.regressionTolerance,
     branchRunDays: p.branchRunDays ?? null,
-    role,
+    // A CI token is not a role a person holds; it never reads a project through these routes.
+    role: role === 'ci' ? null : role,
     createdAt: p.createdAt,
+    host,
   };
 }
 
@@ -64,11 +69,13 @@ export function projectRoutes(ctx: AppContext): Router {
     const user = requireUser(req);
     if (user.isAdmin) {
       const all = await Project.findAll({ order: [['slug', 'ASC']] });
-      res.json({ projects: all.map((p) => presentProject(p, 'admin')) });
+      const hosts = await hostStatuses(ctx, all.map((p) => p.id));
+      send<{ projects: ApiProject[] }>(res, { projects: all.map((p) => presentProject(p, 'admin', hosts.get(p.id) ?? null)) });
       return;
     }
     const mine = await Membership.findAll({ where: { userId: user.id }, include: [{ model: Project, as: 'project' }], order: [['project', 'slug', 'ASC']] });
-    res.json({ projects: mine.map((m) => presentProject(m.project!, m.role)) });
+    const hosts = await hostStatuses(ctx, mine.map((m) => m.project!.id));
+    send<{ projects: ApiProject[] }>(res, { projects: mine.map((m) => presentProject(m.project!, m.role, hosts.get(m.project!.id) ?? null)) });
   });
 
   router.post('/api/projects', json, async (req, res) => {
@@ -81,7 +88,8 @@ export function projectRoutes(ctx: AppContext): Router {
         await TeamRules.create({ projectId: p.id, rules: {}, updatedBy: user.id }, { transaction });
         return p;
       });
-      res.status(201).json({ project: presentProject(project, 'admin') });
+      res.status(201);
+      send<{ project: ApiProject }>(res, { project: presentProject(project, 'admin', null) });
     } catch (err) {
       if (isUniqueViolation(err)) throw conflict(`A project with slug '${body.slug}' exists already.`, 'slug-taken');
       throw err;
@@ -91,7 +99,8 @@ export function projectRoutes(ctx: AppContext): Router {
   router.get('/api/projects/:slug', async (req, res) => {
     const { project, role } = await projectAccess(ctx, req, { slug: req.params.slug });
     allow(canSeeProject(role));
-    res.json({ project: presentProject(project, role) });
+    const hosts = await hostStatuses(ctx, [project.id]);
+    send<{ project: ApiProject }>(res, { project: presentProject(project, role, hosts.get(project.id) ?? null) });
   });
 
   router.patch('/api/projects/:slug', json, async (req, res) => {
@@ -116,7 +125,8 @@ export function projectRoutes(ctx: AppContext): Router {
       }
       await project.update(body, { transaction });
     });
-    res.json({ project: presentProject(project, role) });
+    const hosts = await hostStatuses(ctx, [project.id]);
+    send<{ project: ApiProject }>(res, { project: presentProject(project, role, hosts.get(project.id) ?? null) });
   });
 
   // Deleting a project deletes its runs, members, tokens and rules. The body repeats the slug, so
