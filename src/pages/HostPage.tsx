@@ -69,28 +69,33 @@ function HostForm({ slug, current }: { slug: string; current: HostConnection | n
               ))}
             </div>
           </fieldset>
-          <label className="text-sm font-medium text-ink-800">
-            API address
-            <input className={`${inputClass} mt-1`} type="url" placeholder={shape.apiUrl} value={apiUrl} onChange={(e) => setApiUrl(e.target.value)} />
-            <span className="mt-1 block text-xs font-normal text-ink-600">Empty: {shape.apiUrl}. A host of your own: its /api/v3 (GitHub) or /api/v4 (GitLab).</span>
-          </label>
+          <div>
+            <label className="text-sm font-medium text-ink-800">
+              API address
+              <input className={`${inputClass} mt-1`} type="url" aria-describedby="host-api-hint" placeholder={shape.apiUrl} value={apiUrl} onChange={(e) => setApiUrl(e.target.value)} />
+            </label>
+            <p id="host-api-hint" className="mt-1 text-xs text-ink-600">Empty: {shape.apiUrl}. A host of your own: its /api/v3 (GitHub) or /api/v4 (GitLab).</p>
+          </div>
           <label className="text-sm font-medium text-ink-800">
             Repository
             <input className={`${inputClass} mt-1`} required placeholder={shape.repository} value={repository} onChange={(e) => setRepository(e.target.value)} />
           </label>
-          <label className="text-sm font-medium text-ink-800">
-            Token
-            <input
-              className={`${inputClass} mt-1`}
-              type="password"
-              autoComplete="off"
-              required={!current}
-              placeholder={current ? `stored, ends in …${current.token.last4}; type a new one to replace it` : 'a token that may post statuses and comments'}
-              value={token}
-              onChange={(e) => setToken(e.target.value)}
-            />
-            <span className="mt-1 block text-xs font-normal text-ink-600">Kept encrypted on the server and never shown again.</span>
-          </label>
+          <div>
+            <label className="text-sm font-medium text-ink-800">
+              Token
+              <input
+                className={`${inputClass} mt-1`}
+                type="password"
+                aria-describedby="host-token-hint"
+                autoComplete="off"
+                required={!current}
+                placeholder={current ? `stored, ends in …${current.token.last4}; type a new one to replace it` : 'a token that may post statuses and comments'}
+                value={token}
+                onChange={(e) => setToken(e.target.value)}
+              />
+            </label>
+            <p id="host-token-hint" className="mt-1 text-xs text-ink-600">Kept encrypted on the server and never shown again.</p>
+          </div>
           <FormError error={save.error ? errorMessage(save.error) : remove.error ? errorMessage(remove.error) : null} />
           <div className="flex flex-wrap gap-3">
             <button type="submit" className={buttonClass.primary} disabled={save.isPending}>

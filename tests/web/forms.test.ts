@@ -5,6 +5,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { ensureChromium, ensureWebBuild, openBrowser, screenshot, signIn, type Session } from './browser';
 import { demoAccount, demoProject } from './demo';
 import { startWebServer, type WebServer } from './server';
+import { designEntry, makeCiToken, makeReport } from '../../server/test/factories';
+import { startFakeGitHost } from '../../server/test/fakeGitHost';
 
 let web: WebServer;
 let s: Session;
@@ -91,6 +93,64 @@ describe('keeping runs (retention of non-base branches)', () => {
     const days = await page.evaluate(async (slug) => (await (await fetch(`/api/projects/${slug}`)).json()).project.branchRunDays, slug);
     expect(days).toBe(30);
     expect(s.errors).toEqual([]);
+  });
+});
+
+describe('the git host connection', () => {
+  it('a lead connects the host, the token is never shown again, and a failing host shows on the project with its time', async () => {
+    const host = await startFakeGitHost();
+    try {
+      const { page } = s;
+      const a = demoAccount('lead');
+      await signIn(page, web.url, a.email, a.password);
+      await page.goto(`${web.url}/projects/${slug}`);
+      await page.getByRole('link', { name: 'Git host' }).click();
+      await page.getByLabel('GitHub').check();
+      await page.getByLabel('API address').fill(host.githubUrl);
+      await page.getByLabel('Repository').fill('acme/front-end');
+      await page.getByLabel('Token').fill(host.token);
+      await page.getByRole('button', { name: 'Connect' }).click();
+      await page.getByRole('status').filter({ hasText: 'Saved' }).waitFor();
+      // Only the last 4 characters come back, in the field's hint; the field itself is empty.
+      const token = page.getByLabel('Token');
+      expect(await token.getAttribute('placeholder')).toContain(`…${host.token.slice(-4)}`);
+      expect(await token.inputValue()).toBe('');
+      expect(await page.content()).not.toContain(host.token);
+
+      // The host answers 500 to the feedback of an upload: the upload is stored, the project says so.
+      host.openRequest('acme/front-end', 'feature/probe', 3);
+      host.setMode('fail');
+      const project = (await web.ctx.db.models.Project.findOne({ where: { slug } }))!;
+      const { secret } = await makeCiToken(web.ctx, project);
+      const res = await fetch(`${web.url}/api/projects/${slug}/runs`, {
+        method: 'POST', headers: { authorization: `Bearer ${secret}`, 'content-type': 'application/json' },
+        body: JSON.stringify(makeReport({ branch: 'feature/probe', designs: [designEntry('probe')] })),
+      });
+      expect(res.status).toBe(201);
+      await web.ctx.mail.settled();
+      await page.goto(`${web.url}/projects/${slug}`);
+      const banner = page.getByTestId('host-error');
+      await banner.waitFor();
+      expect(await banner.textContent()).toMatch(/acme\/front-end failed.*500/);
+      expect(await banner.locator('time').getAttribute('datetime')).toMatch(/^\d{4}-\d\d-\d\dT/);
+      await screenshot(page, 'host-error', false);
+
+      // The next feedback works: the banner goes, the status is on the host.
+      host.setMode('ok');
+      const again = await fetch(`${web.url}/api/projects/${slug}/runs`, {
+        method: 'POST', headers: { authorization: `Bearer ${secret}`, 'content-type': 'application/json' },
+        body: JSON.stringify(makeReport({ branch: 'feature/probe', designs: [designEntry('probe')] })),
+      });
+      expect(again.status).toBe(201);
+      await web.ctx.mail.settled();
+      await page.reload();
+      await page.getByRole('link', { name: 'Git host' }).waitFor();
+      expect(await page.getByTestId('host-error').count()).toBe(0);
+      expect(host.statuses.map((x) => x.state)).toEqual(['success']);
+      expect(s.errors).toEqual([]);
+    } finally {
+      await host.stop();
+    }
   });
 });
 
