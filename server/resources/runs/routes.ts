@@ -178,7 +178,7 @@ export function runRoutes(ctx: AppContext): Router {
     const stored = await ingestRun(ctx, project, report);
     const run = stored.row;
     if (stored.created) {
-      afterResponse(res, ctx.mail, () => notifyWatchers(ctx, project, stored.row));
+      afterResponse(res, ctx.mail, () => notifyWatchers(ctx, project, stored.row, report));
       // The pull request's status and summary: after the response, so the host never delays or fails the upload.
       afterResponse(res, ctx.mail, () => postHostFeedback(ctx, project, stored.row, report));
     }
