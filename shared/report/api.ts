@@ -178,6 +178,10 @@ export interface RuleChange {
   rule: string;
   oldValue: unknown;
   newValue: unknown;
+  /** Why, as the lead wrote it; null when none was given. */
+  reason: string | null;
+  /** Set when the change came from a revert: the change whose state the rules went back to. */
+  revertOf: number | null;
   at: string;
   by: { id: number; name: string } | null;
 }
@@ -212,6 +216,14 @@ export interface Invitation {
   expiresAt: string;
   acceptedAt: string | null;
   createdAt: string;
+}
+
+/** The answer to accepting an invitation: signedIn only when the acceptance made the account. */
+export interface InvitationAccepted {
+  user: PublicUser;
+  project: { slug: string; name: string } | null;
+  role: Role | null;
+  signedIn: boolean;
 }
 
 export interface AnalyzeResult {

@@ -14,6 +14,7 @@ import type {
   HostConnection,
   HostKind,
   Invitation,
+  InvitationAccepted,
   Me,
   Member,
   Project,
@@ -197,10 +198,7 @@ export const api = {
   invitation: (token: string, signal?: AbortSignal) =>
     request<{ invitation: Invitation; accountExists: boolean }>(`/api/invitations/${seg(token)}`, { signal }),
   acceptInvitation: (token: string, body: { name?: string; password?: string }) =>
-    request<{ user: PublicUser; project: { slug: string; name: string } | null; role: Role | null; signedIn: boolean }>(
-      `/api/invitations/${seg(token)}/accept`,
-      { method: 'POST', body },
-    ),
+    request<InvitationAccepted>(`/api/invitations/${seg(token)}/accept`, { method: 'POST', body }),
 
   // users (admins)
   users: (signal?: AbortSignal) => request<{ users: PublicUser[] }>('/api/users', { signal }),

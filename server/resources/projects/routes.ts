@@ -32,7 +32,7 @@ const checkCreate = checker<{ slug: string; name: string; baseBranch?: string; r
   },
 });
 
-const checkPatch = checker<{ name?: string; baseBranch?: string; regressionTolerance?: number; branchRunDays?: number | null }>({
+const checkPatch = checker<{ name?: string; baseBranch?: string; regressionTolerance?: number; branchRunDays?: number | null; reason?: string }>({
   type: 'object',
   additionalProperties: false,
   minProperties: 1,
@@ -40,6 +40,8 @@ const checkPatch = checker<{ name?: string; baseBranch?: string; regressionToler
     name: { type: 'string', minLength: 1, maxLength: 200 }, baseBranch: branchName, regressionTolerance: tolerance,
     // Days runs of other branches than the base branch are kept; null keeps them for ever.
     branchRunDays: { anyOf: [{ type: 'integer', minimum: 1, maximum: 36500 }, { type: 'null' }] },
+    // Why the tolerance or the retention changed: kept with the change in the rule history.
+    reason: { type: 'string', maxLength: 500 },
   },
 });
 
@@ -107,20 +109,21 @@ export function projectRoutes(ctx: AppContext): Router {
     const { project, role } = await projectAccess(ctx, req, { slug: req.params.slug });
     allow(canEditProject(role), 'Only a lead changes the project settings.');
     const user = requireUser(req);
-    const body = checkPatch(req.body);
+    const { reason: why, ...body } = checkPatch(req.body);
+    const reason = why?.trim() ? why.trim() : null;
     await ctx.db.sequelize.transaction(async (transaction) => {
       // The tolerance decides which runs mail their watchers, so its changes are kept with the rules'.
       if (body.regressionTolerance !== undefined && body.regressionTolerance !== project.regressionTolerance) {
         await RuleChange.create({
           projectId: project.id, userId: user.id, rule: 'regression_tolerance',
-          oldValue: project.regressionTolerance, newValue: body.regressionTolerance,
+          oldValue: project.regressionTolerance, newValue: body.regressionTolerance, reason,
         }, { transaction });
       }
       // Retention deletes runs: who shortened it, and when, is kept beside the rule changes.
       if (body.branchRunDays !== undefined && body.branchRunDays !== (project.branchRunDays ?? null)) {
         await RuleChange.create({
           projectId: project.id, userId: user.id, rule: 'branch_run_days',
-          oldValue: project.branchRunDays ?? null, newValue: body.branchRunDays,
+          oldValue: project.branchRunDays ?? null, newValue: body.branchRunDays, reason,
         }, { transaction });
       }
       await project.update(body, { transaction });
