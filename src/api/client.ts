@@ -155,7 +155,7 @@ export const api = {
   project: (slug: string, signal?: AbortSignal) => request<{ project: Project }>(`/api/projects/${seg(slug)}`, { signal }),
   createProject: (body: { slug: string; name: string; baseBranch?: string }) =>
     request<{ project: Project }>('/api/projects', { method: 'POST', body }),
-  updateProject: (slug: string, body: { name?: string; baseBranch?: string; regressionTolerance?: number; branchRunDays?: number | null }) =>
+  updateProject: (slug: string, body: { name?: string; baseBranch?: string; regressionTolerance?: number; branchRunDays?: number | null; reason?: string }) =>
     request<{ project: Project }>(`/api/projects/${seg(slug)}`, { method: 'PATCH', body }),
   deleteProject: (slug: string, confirm: string) => request<void>(`/api/projects/${seg(slug)}`, { method: 'DELETE', body: { confirm } }),
   branches: (slug: string, signal?: AbortSignal) => request<BranchList>(`/api/projects/${seg(slug)}/branches`, { signal }),
@@ -168,8 +168,10 @@ export const api = {
 
   // rules
   rules: (slug: string, signal?: AbortSignal) => request<TeamRules>(`/api/projects/${seg(slug)}/rules`, { signal }),
-  saveRules: (slug: string, rules: Rules) =>
-    request<TeamRules & { changed: string[] }>(`/api/projects/${seg(slug)}/rules`, { method: 'PUT', body: { rules } }),
+  saveRules: (slug: string, rules: Rules, reason?: string) =>
+    request<TeamRules & { changed: string[] }>(`/api/projects/${seg(slug)}/rules`, { method: 'PUT', body: { rules, ...(reason ? { reason } : {}) } }),
+  revertRules: (slug: string, to: number, reason?: string) =>
+    request<TeamRules & { changed: string[] }>(`/api/projects/${seg(slug)}/rules/revert`, { method: 'POST', body: { to, ...(reason ? { reason } : {}) } }),
   ruleHistory: (slug: string, before?: number | null, signal?: AbortSignal) =>
     request<RuleHistory>(`/api/projects/${seg(slug)}/rules/history`, { query: { before }, signal }),
 

@@ -78,7 +78,7 @@ export function useDeleteProject() {
 export function useUpdateProject(slug: string) {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: (v: { name?: string; baseBranch?: string; regressionTolerance?: number; branchRunDays?: number | null }) => api.updateProject(slug, v),
+    mutationFn: (v: { name?: string; baseBranch?: string; regressionTolerance?: number; branchRunDays?: number | null; reason?: string }) => api.updateProject(slug, v),
     onSuccess: () => {
       void qc.invalidateQueries({ queryKey: keys.project(slug) });
       void qc.invalidateQueries({ queryKey: keys.projects });
@@ -136,10 +136,23 @@ export function useRuleHistory(slug: string) {
 export function useSaveRules(slug: string) {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: (rules: Rules) => api.saveRules(slug, rules),
+    mutationFn: (v: { rules: Rules; reason?: string }) => api.saveRules(slug, v.rules, v.reason),
     onSuccess: (data) => {
       qc.setQueryData(keys.rules(slug), data);
       void qc.invalidateQueries({ queryKey: keys.ruleHistory(slug) });
+    },
+  });
+}
+
+/** Back to the rules as they were after change `to`; the tolerance may change too, so the project is refetched. */
+export function useRevertRules(slug: string) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (v: { to: number; reason?: string }) => api.revertRules(slug, v.to, v.reason),
+    onSuccess: (data) => {
+      qc.setQueryData(keys.rules(slug), data);
+      void qc.invalidateQueries({ queryKey: keys.ruleHistory(slug) });
+      void qc.invalidateQueries({ queryKey: keys.project(slug) });
     },
   });
 }

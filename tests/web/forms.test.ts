@@ -5,7 +5,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { ensureChromium, ensureWebBuild, openBrowser, screenshot, signIn, type Session } from './browser';
 import { demoAccount, demoProject } from './demo';
 import { startWebServer, type WebServer } from './server';
-import { designEntry, makeCiToken, makeReport } from '../../server/test/factories';
+import { designEntry, makeCiToken, makeReport, makeUser } from '../../server/test/factories';
 import { startFakeGitHost } from '../../server/test/fakeGitHost';
 
 let web: WebServer;
@@ -151,6 +151,79 @@ describe('the git host connection', () => {
     } finally {
       await host.stop();
     }
+  });
+});
+
+/** Counts the page's requests of one method whose URL contains `part` (a click that was cancelled sends none). */
+function requestsTo(page: Session['page'], method: string, part: string): { count: number } {
+  const seen = { count: 0 };
+  page.on('request', (r) => { if (r.method() === method && r.url().includes(part)) seen.count++; });
+  return seen;
+}
+
+describe('reasons, reverts and confirmations', () => {
+  it('keeps the reason of a rule change, and goes back to an earlier change only after the prompt', async () => {
+    const { page } = s;
+    const a = demoAccount('lead');
+    await signIn(page, web.url, a.email, a.password);
+    await page.goto(`${web.url}/projects/${slug}/rules`);
+    const field = page.getByLabel(/^Design utilization floor/);
+    await field.waitFor();
+    const before = await rulesNow();
+    await field.fill('65');
+    await page.getByLabel(/^Reason for the change/).fill('Probe: the new front end folds tighter');
+    await page.getByRole('button', { name: 'Save the rules' }).click();
+    await page.locator('#current-rules').getByRole('status').filter({ hasText: 'Saved' }).waitFor();
+    const history = page.getByTestId('rule-history');
+    await history.locator('tbody tr').first().filter({ hasText: 'Probe: the new front end folds tighter' }).waitFor();
+    expect((await rulesNow()).min_utilization).toBe(0.65);
+
+    // Dismissed, the prompt reverts nothing: of two clicks, only the accepted one reaches the server.
+    const sent = requestsTo(page, 'POST', '/rules/revert');
+    const back = history.locator('tbody tr').nth(1).getByRole('button', { name: /Back to here/ });
+    page.once('dialog', (d) => void d.dismiss());
+    await back.click();
+    expect((await rulesNow()).min_utilization).toBe(0.65);
+    // Accepted with a reason: the rules are those before the save, and the revert is in the history.
+    page.once('dialog', (d) => void d.accept('The probe is over'));
+    await back.click();
+    await page.locator('#rule-history').getByRole('status').filter({ hasText: 'Back to the rules after change' }).waitFor();
+    expect(await rulesNow()).toEqual(before);
+    await history.locator('tbody tr').first().filter({ hasText: 'The probe is over' }).waitFor();
+    expect(sent.count).toBe(1);
+    expect(s.errors).toEqual([]);
+  });
+
+  it('revokes a CI token and deactivates an account only after a confirmation', async () => {
+    const { page } = s;
+    await signIn(page, web.url, demoAccount('admin').email, demoAccount('admin').password);
+    await page.goto(`${web.url}/projects/${slug}/tokens`);
+    await page.getByLabel('Name').fill('confirm probe');
+    await page.getByRole('button', { name: 'Create token' }).click();
+    const row = page.locator('tr[data-token="confirm probe"]');
+    const revoke = row.getByRole('button', { name: /Revoke/ });
+    const revokes = requestsTo(page, 'DELETE', '/tokens/');
+    page.once('dialog', (d) => void d.dismiss());
+    await revoke.click();
+    page.once('dialog', (d) => void d.accept());
+    await revoke.click();
+    await row.getByText(/revoked/).waitFor();
+    expect(revokes.count).toBe(1);
+
+    const person = await makeUser(web.ctx, { name: 'Confirm Probe' });
+    await page.goto(`${web.url}/admin/users`);
+    const user = page.locator(`tr[data-user="${person.email}"]`);
+    const deactivate = user.getByRole('button', { name: /Deactivate/ });
+    const patches = requestsTo(page, 'PATCH', '/api/users/');
+    let asked = '';
+    page.once('dialog', (d) => { asked = d.message(); void d.dismiss(); });
+    await deactivate.click();
+    expect(asked).toContain('Deactivate Confirm Probe');
+    page.once('dialog', (d) => void d.accept());
+    await deactivate.click();
+    await user.getByText('deactivated').waitFor();
+    expect(patches.count).toBe(1);
+    expect(s.errors).toEqual([]);
   });
 });
 

@@ -148,6 +148,8 @@ describe('an invitation', () => {
     await page.getByRole('button', { name: 'Add' }).click();
     await page.getByText(`An invitation went to ${email}.`).waitFor();
     await page.getByText(email).nth(1).waitFor(); // listed under pending invitations
+    const pending = page.getByRole('region', { name: 'Pending invitations' }).locator('li').filter({ hasText: email });
+    expect(await pending.textContent()).toMatch(/as engineer.*sent .*expires/);
     await page.goto(`${web.url}/signout`);
     await page.getByRole('heading', { name: 'You are signed out' }).waitFor();
 
