@@ -86,6 +86,14 @@ describe.each(CASES)('pull-request feedback on $kind', ({ kind, repository, fail
     expect(host.comments[0]!.edits).toBe(2);
   });
 
+  it('two pushes of a branch at once still make one comment on its request', async () => {
+    host.openRequest(repository, 'feature/pair', 8);
+    await Promise.all([upload('feature/pair'), upload('feature/pair')]);
+    const mine = host.comments.filter((c) => c.number === 8);
+    expect(mine).toHaveLength(1);
+    expect(mine[0]!.edits).toBe(1);
+  });
+
   it('a host answering 500 leaves the upload at 201 and shows the failure on the project', async () => {
     host.setMode('fail');
     await upload('feature/trim');
@@ -101,6 +109,6 @@ describe.each(CASES)('pull-request feedback on $kind', ({ kind, repository, fail
     await upload('feature/trim');
     const h = await projectHost();
     expect(h.lastError).toMatch(/ECONNREFUSED/);
-    expect(host.comments).toHaveLength(1);
+    expect(host.comments.filter((c) => c.number === 7)).toHaveLength(1);
   });
 });

@@ -49,7 +49,7 @@ export function verdictLine(report: Report): string {
   return [failed ? `${failed} of ${n} ${designs} break a rule` : '', invalid ? `${invalid} of ${n} ${designs} cannot be checked` : ''].filter(Boolean).join(', ');
 }
 
-/** The commit status's description: short (GitHub keeps 140 characters). */
+/** The commit status's description: short (GitHub keeps 140 characters; from memory). */
 export function statusDescription(report: Report): string {
   const line = `Pleat ${report.verdict}: ${verdictLine(report)}`;
   return line.length <= 140 ? line : `${line.slice(0, 139)}…`;
