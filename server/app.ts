@@ -16,6 +16,7 @@ import { authRoutes } from './resources/auth/routes';
 import { branchRoutes } from './resources/branches/routes';
 import { devRoutes } from './resources/dev/routes';
 import { healthRoutes } from './resources/health/routes';
+import { hostRoutes } from './resources/hosts/routes';
 import { jobRoutes } from './resources/jobs/routes';
 import { memberRoutes } from './resources/members/routes';
 import { projectRoutes } from './resources/projects/routes';
@@ -69,7 +70,7 @@ export function createApp(ctx: AppContext): Express {
     next();
   });
   app.use('/api', cookieParser(), sameOriginOnly(ctx), authenticate(ctx));
-  for (const routes of [authRoutes, projectRoutes, branchRoutes, runRoutes, ruleRoutes, tokenRoutes, memberRoutes, userRoutes, watchRoutes, analyzeRoutes, jobRoutes, devRoutes]) {
+  for (const routes of [authRoutes, projectRoutes, branchRoutes, runRoutes, ruleRoutes, tokenRoutes, hostRoutes, memberRoutes, userRoutes, watchRoutes, analyzeRoutes, jobRoutes, devRoutes]) {
     app.use(routes(ctx));
   }
   app.use('/api', apiNotFound);

@@ -20,4 +20,14 @@ describe('loadConfig', () => {
       'server settings: PLEAT_PORT: not a number: 12abc; PLEAT_DB_POOL: not a number: Infinity',
     );
   });
+
+  it('reads the key of host tokens as 64 hex digits or base64 of 32 bytes, and names it when it is neither', () => {
+    const hex = '00112233445566778899aabbccddeeff00112233445566778899aabbccddeeff';
+    expect(loadConfig({ ...base, PLEAT_SECRET_KEY: hex }).secretKey).toEqual(Buffer.from(hex, 'hex'));
+    expect(loadConfig({ ...base, PLEAT_SECRET_KEY: Buffer.from(hex, 'hex').toString('base64') }).secretKey).toEqual(Buffer.from(hex, 'hex'));
+    // Under test and in production no key is made up: connecting a host is then refused.
+    expect(loadConfig(base).secretKey).toBeNull();
+    expect(() => loadConfig({ ...base, PLEAT_SECRET_KEY: 'abc123' })).toThrow(/PLEAT_SECRET_KEY: must be 32 bytes/);
+    expect(() => loadConfig({ ...base, PLEAT_SECRET_KEY: hex.slice(2) })).toThrow(/PLEAT_SECRET_KEY/);
+  });
 });

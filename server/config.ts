@@ -42,6 +42,13 @@ export interface Config {
   /** How often the clean-up of server/maintenance.ts runs; 0 turns it off. */
   maintenanceMs: number;
   jobs: JobSettings;
+  /**
+   * The AES-256-GCM key that encrypts git-host tokens at rest (PLEAT_SECRET_KEY: 32 bytes as 64 hex
+   * digits or base64). Null in production when unset: then no project can be connected to a host.
+   */
+  secretKey: Buffer | null;
+  /** How long one call to a git host may take before the pull-request feedback gives up on it. */
+  hostTimeoutMs: number;
 }
 
 /** The plan and sweep jobs (docs/server.md, section Jobs). */
@@ -73,6 +80,14 @@ const num = makeValidator<number>((raw) => {
   return n;
 });
 
+/** A 256-bit key: 64 hex digits or the base64 of 32 bytes. */
+const key32 = makeValidator<Buffer>((raw) => {
+  const bytes = /^[0-9a-fA-F]{64}$/.test(raw) ? Buffer.from(raw, 'hex')
+    : /^[A-Za-z0-9+/]{43}=?$/.test(raw) ? Buffer.from(raw, 'base64') : null;
+  if (!bytes || bytes.length !== 32) throw new EnvError('must be 32 bytes, as 64 hex digits or base64 (openssl rand -hex 32)');
+  return bytes;
+});
+
 function numbers(env: NodeJS.ProcessEnv) {
   const given = Object.fromEntries(Object.entries(env).filter(([, v]) => v !== undefined && v !== ''));
   return cleanEnv(given, {
@@ -98,6 +113,8 @@ function numbers(env: NodeJS.ProcessEnv) {
     PLEAT_QUEUE_POLL_S: num({ default: 2 }),
     PLEAT_JOB_RETRIES: num({ default: 1 }),
     PLEAT_TEST_JOB_HOLD_MS: num({ default: 0 }),
+    PLEAT_HOST_TIMEOUT_S: num({ default: 10 }),
+    PLEAT_SECRET_KEY: key32({ default: undefined }),
   }, {
     reporter: ({ errors }) => {
       const bad = Object.entries(errors).map(([name, e]) => `${name}: ${e?.message ?? 'invalid'}`);
@@ -106,10 +123,10 @@ function numbers(env: NodeJS.ProcessEnv) {
   });
 }
 
-/** In development the JWT secret is generated once and kept in .data/ (git-ignored). */
-function devSecret(root: string): string {
+/** In development the JWT secret (and the key of host tokens) is generated once and kept in .data/ (git-ignored). */
+function devSecret(root: string, name = 'jwt-secret'): string {
   const dir = join(root, '.data');
-  const file = join(dir, 'jwt-secret');
+  const file = join(dir, name);
   if (existsSync(file)) return readFileSync(file, 'utf8').trim();
   mkdirSync(dir, { recursive: true });
   const secret = randomBytes(32).toString('hex');
@@ -169,6 +186,9 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env, overrides: Part
       retries: n.PLEAT_JOB_RETRIES,
       holdMs: mode === 'test' ? n.PLEAT_TEST_JOB_HOLD_MS : 0,
     },
+    // Production gets no made-up key: a key that is lost with the machine loses every stored token.
+    secretKey: n.PLEAT_SECRET_KEY ?? (mode === 'development' ? Buffer.from(devSecret(root, 'secret-key'), 'hex') : null),
+    hostTimeoutMs: n.PLEAT_HOST_TIMEOUT_S * 1000,
     ...overrides,
   };
 }

@@ -16,6 +16,7 @@ const BranchPage = lazy(() => import('./pages/BranchPage'));
 const RunPage = lazy(() => import('./pages/RunPage'));
 const RulesPage = lazy(() => import('./pages/RulesPage'));
 const TokensPage = lazy(() => import('./pages/TokensPage'));
+const HostPage = lazy(() => import('./pages/HostPage'));
 const MembersPage = lazy(() => import('./pages/MembersPage'));
 const UsersPage = lazy(() => import('./pages/UsersPage'));
 const TryDesignPage = lazy(() => import('./pages/TryDesignPage'));
@@ -48,6 +49,7 @@ export const router = createBrowserRouter([
           { path: 'jobs/:id', element: page(<JobPage />) },
           { path: 'rules', element: page(<RulesPage />) },
           { path: 'tokens', element: page(<TokensPage />) },
+          { path: 'host', element: page(<HostPage />) },
           { path: 'members', element: page(<MembersPage />) },
         ],
       },

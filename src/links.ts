@@ -15,6 +15,7 @@ export const to = {
   run: (slug: string, id: number, design?: string | null) => `/projects/${seg(slug)}/runs/${id}${design ? `?design=${seg(design)}` : ''}`,
   rules: (slug: string) => `/projects/${seg(slug)}/rules`,
   tokens: (slug: string) => `/projects/${seg(slug)}/tokens`,
+  host: (slug: string) => `/projects/${seg(slug)}/host`,
   members: (slug: string) => `/projects/${seg(slug)}/members`,
   jobs: (slug: string) => `/projects/${seg(slug)}/jobs`,
   job: (slug: string, id: number) => `/projects/${seg(slug)}/jobs/${id}`,

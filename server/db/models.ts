@@ -103,6 +103,8 @@ class RuleChangeModel extends Model<InferAttributes<RuleChangeModel>, InferCreat
   declare rule: string;
   declare oldValue: unknown;
   declare newValue: unknown;
+  declare reason: CreationOptional<string | null>;
+  declare revertOf: CreationOptional<number | null>;
   declare createdAt: CreationOptional<Date>;
   declare user?: NonAttribute<UserModel | null>;
 }
@@ -227,6 +229,8 @@ export function defineModels(sequelize: Sequelize) {
     rule: { type: DataTypes.TEXT, allowNull: false },
     oldValue: { type: DataTypes.JSONB },
     newValue: { type: DataTypes.JSONB },
+    reason: { type: DataTypes.TEXT },
+    revertOf: { type: DataTypes.INTEGER },
   }, { ...common, tableName: 'rule_changes', modelName: 'RuleChange', updatedAt: false });
 
   Watch.init({

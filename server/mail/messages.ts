@@ -21,8 +21,9 @@ export function invitationMessage(o: {
 }
 
 export function branchAlertMessage(o: {
-  to: string; projectName: string; branch: string; commit: string; reasons: string[]; link: string;
+  to: string; projectName: string; branch: string; commit: string; reasons: string[]; broken?: string[]; link: string;
 }): Message {
+  const broken = o.broken ?? [];
   return {
     to: o.to,
     subject: `[Pleat] ${o.projectName}: ${o.branch} ${o.reasons.length === 1 && o.reasons[0]!.startsWith('went from pass') ? 'now fails' : 'regressed'}`,
@@ -30,6 +31,7 @@ export function branchAlertMessage(o: {
       `A new run on branch ${o.branch} of ${o.projectName} (commit ${o.commit.slice(0, 12)}):`,
       '',
       ...o.reasons.map((r) => `- ${r}`),
+      ...(broken.length ? ['', 'Designs that do not pass:', ...broken.map((b) => `- ${b}`)] : []),
       '',
       `The run: ${o.link}`,
       '',

@@ -5,6 +5,8 @@ import { readFileSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Test } from 'supertest';
 import { ingestRun } from './runs/ingest';
+import { sealToken } from './hosts/secret';
+import { saveConnection } from './hosts/store';
 import { addMember, cookieFor, makeCiToken, makeProject, makeInvitation, makeJob, makeMember, makeReport, makeUser, makeWorld, randomCommit, type World } from '../test/factories';
 import { startTestServer, type TestServer } from '../test/server';
 
@@ -66,6 +68,10 @@ const CASES: Case[] = [
   { route: 'GET /api/projects/:slug/rules', method: 'get', path: (p, w) => `/api/projects/${slug(p, w)}/rules`, expect: row('200 200 200 200 404 401 200 403') },
   { route: 'PUT /api/projects/:slug/rules', method: 'put', path: (p, w) => `/api/projects/${slug(p, w)}/rules`,
     body: () => ({ rules: { min_utilization: 0.6 } }), expect: row('200 200 403 403 404 401 403 403') },
+  { route: 'POST /api/projects/:slug/rules/revert', method: 'post',
+    prepare: async (t, w) => ({ id: (await t.ctx.db.models.RuleChange.create({ projectId: w.project.id, userId: w.lead.id, rule: 'max_registers', oldValue: null, newValue: 64 })).id }),
+    path: (p, w) => `/api/projects/${slug(p, w)}/rules/revert`, body: (p) => ({ to: p.id, reason: 'access test' }),
+    expect: row('200 200 403 403 404 401 403 403') },
   { route: 'GET /api/projects/:slug/rules/history', method: 'get', path: (p, w) => `/api/projects/${slug(p, w)}/rules/history`,
     expect: row('200 200 200 200 404 401 403 403') },
   { route: 'GET /api/projects/:slug/tokens', method: 'get', path: (p, w) => `/api/projects/${slug(p, w)}/tokens`, expect: row('200 200 403 403 404 401 403 403') },
@@ -74,6 +80,17 @@ const CASES: Case[] = [
   { route: 'DELETE /api/projects/:slug/tokens/:id', method: 'delete',
     prepare: async (t, w) => ({ id: (await makeCiToken(t.ctx, w.project)).id }),
     path: (p, w) => `/api/projects/${w.project.slug}/tokens/${p.id}`, expect: row('200 200 403 403 404 401 403 403') },
+  // The git host connection: a lead's settings (docs/server.md, Git hosts).
+  { route: 'GET /api/projects/:slug/host', method: 'get', path: (p, w) => `/api/projects/${slug(p, w)}/host`, expect: row('200 200 403 403 404 401 403 403') },
+  { route: 'PUT /api/projects/:slug/host', method: 'put', path: (p, w) => `/api/projects/${slug(p, w)}/host`,
+    body: () => ({ kind: 'github', repository: 'acme/access', token: 'token-for-access-test' }), expect: row('200 200 403 403 404 401 403 403') },
+  { route: 'DELETE /api/projects/:slug/host', method: 'delete',
+    prepare: async (t, w) => {
+      await saveConnection(t.ctx, { projectId: w.project.id, kind: 'gitlab', apiUrl: 'https://gitlab.example.test/api/v4', repository: 'g/p',
+        sealed: sealToken(t.ctx.config.secretKey!, w.project.id, 'token-for-access-test'), last4: 'test', userId: w.lead.id });
+      return {};
+    },
+    path: (p, w) => `/api/projects/${slug(p, w)}/host`, expect: row('204 204 403 403 404 401 403 403') },
   { route: 'GET /api/projects/:slug/members', method: 'get', path: (p, w) => `/api/projects/${slug(p, w)}/members`, expect: row('200 200 403 403 404 401 403 403') },
   { route: 'POST /api/projects/:slug/members', method: 'post',
     prepare: async (t) => ({ email: (await makeUser(t.ctx)).email }),

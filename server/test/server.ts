@@ -35,6 +35,9 @@ export async function startTestServer(opts: { mail?: boolean; config?: Partial<C
     PLEAT_UPLOAD_LIMIT: '100000',
     PLEAT_ANALYZE_LIMIT: '1000',
     PLEAT_PUBLIC_URL: 'http://pleat.test',
+    // The key of host tokens at rest (tests only; 32 bytes as hex).
+    PLEAT_SECRET_KEY: '00112233445566778899aabbccddeeff00112233445566778899aabbccddeeff',
+    PLEAT_HOST_TIMEOUT_S: '5',
     ...(smtp ? { PLEAT_SMTP_HOST: '127.0.0.1', PLEAT_SMTP_PORT: String(smtp.port) } : { PLEAT_SMTP_HOST: 'none' }),
   }, opts.config);
   const logs: string[] = [];

@@ -82,6 +82,31 @@ export interface Project {
   branchRunDays: number | null;
   role: ProjectRole | null;
   createdAt: string;
+  /** The git host the project posts pull-request feedback to, and how that last went; null: not connected. */
+  host: HostStatus | null;
+}
+
+// ---------------------------------------------------------------- git hosts (docs/server.md, Git hosts)
+
+export type HostKind = 'github' | 'gitlab';
+
+/** What every member sees of a project's git host: which one, and the last outcome of the feedback. */
+export interface HostStatus {
+  kind: HostKind;
+  repository: string;
+  /** The last time a status and comment were posted (or no open request was found) without a failure. */
+  lastOkAt: string | null;
+  /** The last failure to talk to the host, kept until it is replaced by a newer one. */
+  lastError: string | null;
+  lastErrorAt: string | null;
+}
+
+/** The connection as a lead manages it. The token itself never leaves the server again. */
+export interface HostConnection extends HostStatus {
+  apiUrl: string;
+  token: { set: boolean; last4: string };
+  updatedAt: string;
+  updatedBy: { id: number; name: string } | null;
 }
 
 export interface TrendPoint {
@@ -153,6 +178,10 @@ export interface RuleChange {
   rule: string;
   oldValue: unknown;
   newValue: unknown;
+  /** Why, as the lead wrote it; null when none was given. */
+  reason: string | null;
+  /** Set when the change came from a revert: the change whose state the rules went back to. */
+  revertOf: number | null;
   at: string;
   by: { id: number; name: string } | null;
 }
@@ -198,6 +227,14 @@ export interface WatchList {
 export interface WatchState {
   branch: string;
   watching: boolean;
+}
+
+/** The answer to accepting an invitation: signedIn only when the acceptance made the account. */
+export interface InvitationAccepted {
+  user: PublicUser;
+  project: { slug: string; name: string } | null;
+  role: Role | null;
+  signedIn: boolean;
 }
 
 export interface AnalyzeResult {

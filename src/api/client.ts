@@ -11,7 +11,10 @@ import type {
   ApiErrorBody,
   BranchList,
   CiToken,
+  HostConnection,
+  HostKind,
   Invitation,
+  InvitationAccepted,
   Me,
   Member,
   Project,
@@ -153,7 +156,7 @@ export const api = {
   project: (slug: string, signal?: AbortSignal) => request<{ project: Project }>(`/api/projects/${seg(slug)}`, { signal }),
   createProject: (body: { slug: string; name: string; baseBranch?: string }) =>
     request<{ project: Project }>('/api/projects', { method: 'POST', body }),
-  updateProject: (slug: string, body: { name?: string; baseBranch?: string; regressionTolerance?: number; branchRunDays?: number | null }) =>
+  updateProject: (slug: string, body: { name?: string; baseBranch?: string; regressionTolerance?: number; branchRunDays?: number | null; reason?: string }) =>
     request<{ project: Project }>(`/api/projects/${seg(slug)}`, { method: 'PATCH', body }),
   deleteProject: (slug: string, confirm: string) => request<void>(`/api/projects/${seg(slug)}`, { method: 'DELETE', body: { confirm } }),
   branches: (slug: string, signal?: AbortSignal) => request<BranchList>(`/api/projects/${seg(slug)}/branches`, { signal }),
@@ -166,8 +169,10 @@ export const api = {
 
   // rules
   rules: (slug: string, signal?: AbortSignal) => request<TeamRules>(`/api/projects/${seg(slug)}/rules`, { signal }),
-  saveRules: (slug: string, rules: Rules) =>
-    request<TeamRules & { changed: string[] }>(`/api/projects/${seg(slug)}/rules`, { method: 'PUT', body: { rules } }),
+  saveRules: (slug: string, rules: Rules, reason?: string) =>
+    request<TeamRules & { changed: string[] }>(`/api/projects/${seg(slug)}/rules`, { method: 'PUT', body: { rules, ...(reason ? { reason } : {}) } }),
+  revertRules: (slug: string, to: number, reason?: string) =>
+    request<TeamRules & { changed: string[] }>(`/api/projects/${seg(slug)}/rules/revert`, { method: 'POST', body: { to, ...(reason ? { reason } : {}) } }),
   ruleHistory: (slug: string, before?: number | null, signal?: AbortSignal) =>
     request<RuleHistory>(`/api/projects/${seg(slug)}/rules/history`, { query: { before }, signal }),
 
@@ -176,6 +181,12 @@ export const api = {
   createToken: (slug: string, name: string) =>
     request<{ token: CiToken; secret: string }>(`/api/projects/${seg(slug)}/tokens`, { method: 'POST', body: { name } }),
   revokeToken: (slug: string, id: number) => request<{ token: CiToken }>(`/api/projects/${seg(slug)}/tokens/${id}`, { method: 'DELETE' }),
+
+  // the git host of the pull-request feedback (leads)
+  host: (slug: string, signal?: AbortSignal) => request<{ host: HostConnection | null }>(`/api/projects/${seg(slug)}/host`, { signal }),
+  saveHost: (slug: string, body: { kind: HostKind; apiUrl?: string; repository: string; token?: string }) =>
+    request<{ host: HostConnection }>(`/api/projects/${seg(slug)}/host`, { method: 'PUT', body }),
+  removeHost: (slug: string) => request<void>(`/api/projects/${seg(slug)}/host`, { method: 'DELETE' }),
 
   // members and invitations
   members: (slug: string, signal?: AbortSignal) => request<{ members: Member[] }>(`/api/projects/${seg(slug)}/members`, { signal }),
@@ -190,10 +201,7 @@ export const api = {
   invitation: (token: string, signal?: AbortSignal) =>
     request<{ invitation: Invitation; accountExists: boolean }>(`/api/invitations/${seg(token)}`, { signal }),
   acceptInvitation: (token: string, body: { name?: string; password?: string }) =>
-    request<{ user: PublicUser; project: { slug: string; name: string } | null; role: Role | null; signedIn: boolean }>(
-      `/api/invitations/${seg(token)}/accept`,
-      { method: 'POST', body },
-    ),
+    request<InvitationAccepted>(`/api/invitations/${seg(token)}/accept`, { method: 'POST', body }),
 
   // users (admins)
   users: (signal?: AbortSignal) => request<{ users: PublicUser[] }>('/api/users', { signal }),

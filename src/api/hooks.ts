@@ -2,7 +2,7 @@
 // which cached answers it makes stale.
 import { keepPreviousData, useInfiniteQuery, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { api, type StartJob } from './client';
-import type { Me, Role, Rules } from './types';
+import type { HostKind, Me, Role, Rules } from './types';
 
 export const keys = {
   me: ['me'] as const,
@@ -14,6 +14,7 @@ export const keys = {
   rules: (slug: string) => ['rules', slug] as const,
   ruleHistory: (slug: string) => ['ruleHistory', slug] as const,
   tokens: (slug: string) => ['tokens', slug] as const,
+  host: (slug: string) => ['host', slug] as const,
   members: (slug: string) => ['members', slug] as const,
   invitations: (slug: string) => ['invitations', slug] as const,
   invitation: (token: string) => ['invitation', token] as const,
@@ -77,7 +78,7 @@ export function useDeleteProject() {
 export function useUpdateProject(slug: string) {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: (v: { name?: string; baseBranch?: string; regressionTolerance?: number; branchRunDays?: number | null }) => api.updateProject(slug, v),
+    mutationFn: (v: { name?: string; baseBranch?: string; regressionTolerance?: number; branchRunDays?: number | null; reason?: string }) => api.updateProject(slug, v),
     onSuccess: () => {
       void qc.invalidateQueries({ queryKey: keys.project(slug) });
       void qc.invalidateQueries({ queryKey: keys.projects });
@@ -135,10 +136,23 @@ export function useRuleHistory(slug: string) {
 export function useSaveRules(slug: string) {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: (rules: Rules) => api.saveRules(slug, rules),
+    mutationFn: (v: { rules: Rules; reason?: string }) => api.saveRules(slug, v.rules, v.reason),
     onSuccess: (data) => {
       qc.setQueryData(keys.rules(slug), data);
       void qc.invalidateQueries({ queryKey: keys.ruleHistory(slug) });
+    },
+  });
+}
+
+/** Back to the rules as they were after change `to`; the tolerance may change too, so the project is refetched. */
+export function useRevertRules(slug: string) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (v: { to: number; reason?: string }) => api.revertRules(slug, v.to, v.reason),
+    onSuccess: (data) => {
+      qc.setQueryData(keys.rules(slug), data);
+      void qc.invalidateQueries({ queryKey: keys.ruleHistory(slug) });
+      void qc.invalidateQueries({ queryKey: keys.project(slug) });
     },
   });
 }
@@ -164,6 +178,28 @@ export function useRevokeToken(slug: string) {
     onSuccess: () => qc.invalidateQueries({ queryKey: keys.tokens(slug) }),
   });
 }
+
+// ---------------------------------------------------------------- git host
+
+export function useHost(slug: string) {
+  return useQuery({ queryKey: keys.host(slug), queryFn: ({ signal }) => api.host(slug, signal) });
+}
+
+function useHostMutation<V, R>(slug: string, fn: (v: V) => Promise<R>) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: fn,
+    onSuccess: () => {
+      // The project carries the host's status too (shown on every page of the project).
+      void qc.invalidateQueries({ queryKey: keys.host(slug) });
+      void qc.invalidateQueries({ queryKey: keys.project(slug) });
+    },
+  });
+}
+
+export const useSaveHost = (slug: string) =>
+  useHostMutation(slug, (v: { kind: HostKind; apiUrl?: string; repository: string; token?: string }) => api.saveHost(slug, v));
+export const useRemoveHost = (slug: string) => useHostMutation(slug, () => api.removeHost(slug));
 
 // ---------------------------------------------------------------- members and invitations
 

@@ -21,6 +21,8 @@ export const can = {
   watch: (r: ProjectRole | null) => atLeast(r, 'engineer'),
   editRules: (r: ProjectRole | null) => atLeast(r, 'lead'),
   manageTokens: (r: ProjectRole | null) => atLeast(r, 'lead'),
+  /** The git host of the pull-request feedback (server/resources/hosts/policy.ts). */
+  manageHost: (r: ProjectRole | null) => atLeast(r, 'lead'),
   manageMembers: (r: ProjectRole | null) => atLeast(r, 'lead'),
   /** Plans and sweeps: engineers and above start and cancel them (server/resources/jobs/policy.ts). */
   startJob: (r: ProjectRole | null) => atLeast(r, 'engineer'),

@@ -1,8 +1,9 @@
 import { NavLink, Outlet, useLocation, useOutletContext, useParams } from 'react-router-dom';
 import { useProject } from '../api/hooks';
 import { can } from '../api/roles';
-import type { Project } from '../api/types';
+import type { HostStatus, Project } from '../api/types';
 import { to } from '../links';
+import { ago, dateTime } from './format';
 import { ErrorState, Loading } from './States';
 
 export interface ProjectContext {
@@ -42,6 +43,11 @@ export function ProjectLayout() {
               CI tokens
             </NavLink>
           )}
+          {can.manageHost(project.role) && (
+            <NavLink to={to.host(slug)} className={tab}>
+              Git host
+            </NavLink>
+          )}
           {can.manageMembers(project.role) && (
             <NavLink to={to.members(slug)} className={tab}>
               Members
@@ -49,7 +55,24 @@ export function ProjectLayout() {
           )}
         </nav>
       </div>
+      {project.host && <HostProblem host={project.host} />}
       <Outlet context={{ project } satisfies ProjectContext} />
+    </div>
+  );
+}
+
+/** The last failure of the pull-request feedback, while no success came after it. */
+export function HostProblem({ host }: { host: HostStatus }) {
+  if (!host.lastError || !host.lastErrorAt) return null;
+  if (host.lastOkAt && Date.parse(host.lastOkAt) > Date.parse(host.lastErrorAt)) return null;
+  return (
+    <div role="status" className="mb-6 rounded-lg border border-ember-300 bg-ember-50 px-4 py-3 text-sm text-ember-900" data-testid="host-error">
+      <span className="font-bold">The last pull-request feedback to {host.repository} failed</span>{' '}
+      on{' '}
+      <time dateTime={host.lastErrorAt}>
+        {dateTime(host.lastErrorAt)} ({ago(host.lastErrorAt)})
+      </time>
+      : {host.lastError}. Uploads are stored all the same.
     </div>
   );
 }

@@ -151,7 +151,7 @@ function Invitations({ slug }: { slug: string }) {
   const q = useInvitations(slug);
   const cancel = useCancelInvitation(slug);
   return (
-    <Panel title="Pending invitations">
+    <Panel id="pending-invitations" title="Pending invitations">
       <QueryState query={q} loadingLabel="Loading the invitations…">
         {({ invitations }) =>
           invitations.length === 0 ? (
@@ -162,9 +162,11 @@ function Invitations({ slug }: { slug: string }) {
                 <li key={i.id} className="flex items-center justify-between gap-3 py-2 text-sm">
                   <span>
                     <span className="font-medium">{i.email}</span> as {i.role ? roleLabel[i.role].toLowerCase() : 'member'}
-                    <span className="block text-xs text-ink-600">expires {ago(i.expiresAt)}</span>
+                    <span className="block text-xs text-ink-600">
+                      sent {ago(i.createdAt)}, expires {ago(i.expiresAt)}
+                    </span>
                   </span>
-                  <button type="button" className={buttonClass.danger} disabled={cancel.isPending} onClick={() => cancel.mutate(i.id)}>
+                  <button type="button" className={buttonClass.danger} disabled={cancel.isPending} onClick={() => { if (window.confirm(`Withdraw the invitation of ${i.email}? Its link stops working.`)) cancel.mutate(i.id); }}>
                     Cancel<span className="sr-only"> the invitation of {i.email}</span>
                   </button>
                 </li>

@@ -1,6 +1,6 @@
 import { useEffect, useState, type FormEvent } from 'react';
 import { errorMessage } from '../api/client';
-import { useRuleHistory, useRules, useSaveRules, useUpdateProject } from '../api/hooks';
+import { useRevertRules, useRuleHistory, useRules, useSaveRules, useUpdateProject } from '../api/hooks';
 import { can } from '../api/roles';
 import type { NegativeDelayPolicy, RuleName, Rules } from '../../shared/types';
 import type { RuleChange, TeamRules } from '../api/types';
@@ -127,7 +127,7 @@ export default function RulesPage() {
           </QueryState>
         </Panel>
         <Panel id="rule-history" title="Changes" subtitle="Every change to the team rules, with who made it and when">
-          <History slug={project.slug} />
+          <History slug={project.slug} mayEdit={mayEdit} />
         </Panel>
       </div>
       <div className="mt-6">
@@ -171,6 +171,7 @@ function RulesForm({ slug, data }: { slug: string; data: TeamRules }) {
   const [tolerance, setTolerance] = useState(percentText(data.regressionTolerance));
   const [problems, setProblems] = useState<Partial<Record<RuleName | 'tolerance', string>>>({});
   const [saved, setSaved] = useState<string | null>(null);
+  const [reason, setReason] = useState('');
   useEffect(() => setDraft(toDraft(data.rules)), [data.rules]);
 
   // What saving would apply, computed as the person types, so the value is seen before it counts.
@@ -197,12 +198,14 @@ function RulesForm({ slug, data }: { slug: string; data: TeamRules }) {
     setProblems(all);
     if (Object.keys(all).length) return;
     try {
-      const r = await save.mutateAsync(rules);
+      const why = reason.trim() || undefined;
+      const r = await save.mutateAsync({ rules, reason: why });
       let n = r.changed.length;
       if (tol.kind === 'ok' && Math.abs(tol.fraction - data.regressionTolerance) > 1e-12) {
-        await updateProject.mutateAsync({ regressionTolerance: tol.fraction });
+        await updateProject.mutateAsync({ regressionTolerance: tol.fraction, reason: why });
         n++;
       }
+      if (n > 0) setReason('');
       setSaved(n === 0 ? 'Nothing changed.' : `Saved ${n} change${n === 1 ? '' : 's'}. The next pleat check applies them.`);
     } catch {
       /* shown below from the mutation's error */
@@ -361,6 +364,17 @@ function RulesForm({ slug, data }: { slug: string; data: TeamRules }) {
             </>
           )}
         </div>
+        <label className="block text-sm font-medium text-ink-800">
+          Reason for the change
+          <input
+            className={`${inputClass} mt-1`}
+            maxLength={500}
+            placeholder="e.g. the new FPGA has fewer registers to spare"
+            value={reason}
+            onChange={(e) => setReason(e.target.value)}
+          />
+          <span className="mt-1 block text-xs font-normal text-ink-600">Kept with the change in the history below.</span>
+        </label>
         <FormError error={error ? errorMessage(error) : null} />
         {saved && (
           <p role="status" className="text-sm font-medium text-pass-700">
@@ -375,8 +389,10 @@ function RulesForm({ slug, data }: { slug: string; data: TeamRules }) {
   );
 }
 
-function History({ slug }: { slug: string }) {
+function History({ slug, mayEdit }: { slug: string; mayEdit: boolean }) {
   const q = useRuleHistory(slug);
+  const revert = useRevertRules(slug);
+  const [reverted, setReverted] = useState<string | null>(null);
   if (q.isPending) return <Loading label="Loading the changes…" />;
   if (q.error) return <ErrorState error={q.error} onRetry={() => void q.refetch()} />;
   const changes: RuleChange[] = q.data.pages.flatMap((p) => p.changes);
@@ -386,10 +402,10 @@ function History({ slug }: { slug: string }) {
       <ScrollRegion label="Changes to the team rules">
         <table className={tableClass.table} data-testid="rule-history">
           <caption className="sr-only">Changes to the team rules, newest first</caption>
-          <ColumnHeads columns={['When', 'Who', 'Rule', 'Change']} />
+          <ColumnHeads columns={['When', 'Who', 'Rule', 'Change', 'Reason', ...(mayEdit ? [<span key="r" className="sr-only">Revert</span>] : [])]} />
           <tbody>
-            {changes.map((c) => (
-              <tr key={c.id}>
+            {changes.map((c, i) => (
+              <tr key={c.id} data-change={c.id}>
                 <td className={`${tableClass.td} whitespace-nowrap`} title={dateTime(c.at)}>
                   {ago(c.at)}
                 </td>
@@ -399,11 +415,43 @@ function History({ slug }: { slug: string }) {
                   <span className="text-ink-600">{ruleValueText(c.rule, c.oldValue)}</span> <span aria-label="changed to">→</span>{' '}
                   <span className="font-bold">{ruleValueText(c.rule, c.newValue)}</span>
                 </td>
+                <td className={`${tableClass.td} text-ink-700`}>{c.reason ?? <span className="text-ink-400">none given</span>}</td>
+                {mayEdit && (
+                  <td className={tableClass.td}>
+                    {i > 0 && (
+                      <button
+                        type="button"
+                        className={buttonClass.secondary}
+                        disabled={revert.isPending}
+                        onClick={() => {
+                          // The prompt is the confirmation: cancelling it reverts nothing.
+                          const why = window.prompt(`Go back to the rules as they were right after change #${c.id}? Every later change is undone (and kept in the history). Reason:`, '');
+                          if (why === null) return;
+                          setReverted(null);
+                          revert.mutate(
+                            { to: c.id, reason: why.trim() || undefined },
+                            { onSuccess: (r) => setReverted(r.changed.length ? `Back to the rules after change #${c.id}: ${r.changed.length} change${r.changed.length === 1 ? '' : 's'} undone.` : 'Nothing to undo.') },
+                          );
+                        }}
+                      >
+                        Back to here<span className="sr-only"> (change #{c.id})</span>
+                      </button>
+                    )}
+                  </td>
+                )}
               </tr>
             ))}
           </tbody>
         </table>
       </ScrollRegion>
+      <div className="mt-3">
+        <FormError error={revert.error ? errorMessage(revert.error) : null} />
+        {reverted && (
+          <p role="status" className="text-sm font-medium text-pass-700">
+            {reverted}
+          </p>
+        )}
+      </div>
       {q.hasNextPage && (
         <button type="button" className={`${buttonClass.secondary} mt-3`} onClick={() => void q.fetchNextPage()} disabled={q.isFetchingNextPage}>
           {q.isFetchingNextPage ? 'Loading…' : 'Show older changes'}

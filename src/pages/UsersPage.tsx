@@ -73,7 +73,11 @@ function UserTable({ list }: { list: PublicUser[] }) {
                         type="button"
                         className={u.active ? buttonClass.danger : buttonClass.secondary}
                         disabled={update.isPending}
-                        onClick={() => update.mutate({ id: u.id, active: !u.active })}
+                        onClick={() => {
+                          // Deactivating ends the person's sessions at once: asked first; reactivating is not.
+                          if (u.active && !window.confirm(`Deactivate ${u.name} (${u.email})? They are signed out everywhere and can no longer sign in until an admin reactivates the account.`)) return;
+                          update.mutate({ id: u.id, active: !u.active });
+                        }}
                       >
                         {u.active ? 'Deactivate' : 'Reactivate'}
                         <span className="sr-only"> {u.name}</span>

@@ -5,6 +5,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { ensureChromium, ensureWebBuild, openBrowser, screenshot, signIn, type Session } from './browser';
 import { demoAccount, demoProject } from './demo';
 import { startWebServer, type WebServer } from './server';
+import { designEntry, makeCiToken, makeReport, makeUser } from '../../server/test/factories';
+import { startFakeGitHost } from '../../server/test/fakeGitHost';
 
 let web: WebServer;
 let s: Session;
@@ -90,6 +92,137 @@ describe('keeping runs (retention of non-base branches)', () => {
     await page.locator('#retention').getByRole('status').filter({ hasText: 'Saved' }).waitFor();
     const days = await page.evaluate(async (slug) => (await (await fetch(`/api/projects/${slug}`)).json()).project.branchRunDays, slug);
     expect(days).toBe(30);
+    expect(s.errors).toEqual([]);
+  });
+});
+
+describe('the git host connection', () => {
+  it('a lead connects the host, the token is never shown again, and a failing host shows on the project with its time', async () => {
+    const host = await startFakeGitHost();
+    try {
+      const { page } = s;
+      const a = demoAccount('lead');
+      await signIn(page, web.url, a.email, a.password);
+      await page.goto(`${web.url}/projects/${slug}`);
+      await page.getByRole('link', { name: 'Git host' }).click();
+      await page.getByLabel('GitHub').check();
+      await page.getByLabel('API address').fill(host.githubUrl);
+      await page.getByLabel('Repository').fill('acme/front-end');
+      await page.getByLabel('Token').fill(host.token);
+      await page.getByRole('button', { name: 'Connect' }).click();
+      await page.getByRole('status').filter({ hasText: 'Saved' }).waitFor();
+      // Only the last 4 characters come back, in the field's hint; the field itself is empty.
+      const token = page.getByLabel('Token');
+      expect(await token.getAttribute('placeholder')).toContain(`…${host.token.slice(-4)}`);
+      expect(await token.inputValue()).toBe('');
+      expect(await page.content()).not.toContain(host.token);
+
+      // The host answers 500 to the feedback of an upload: the upload is stored, the project says so.
+      host.openRequest('acme/front-end', 'feature/probe', 3);
+      host.setMode('fail');
+      const project = (await web.ctx.db.models.Project.findOne({ where: { slug } }))!;
+      const { secret } = await makeCiToken(web.ctx, project);
+      const res = await fetch(`${web.url}/api/projects/${slug}/runs`, {
+        method: 'POST', headers: { authorization: `Bearer ${secret}`, 'content-type': 'application/json' },
+        body: JSON.stringify(makeReport({ branch: 'feature/probe', designs: [designEntry('probe')] })),
+      });
+      expect(res.status).toBe(201);
+      await web.ctx.mail.settled();
+      await page.goto(`${web.url}/projects/${slug}`);
+      const banner = page.getByTestId('host-error');
+      await banner.waitFor();
+      expect(await banner.textContent()).toMatch(/acme\/front-end failed.*500/);
+      expect(await banner.locator('time').getAttribute('datetime')).toMatch(/^\d{4}-\d\d-\d\dT/);
+      await screenshot(page, 'host-error', false);
+
+      // The next feedback works: the banner goes, the status is on the host.
+      host.setMode('ok');
+      const again = await fetch(`${web.url}/api/projects/${slug}/runs`, {
+        method: 'POST', headers: { authorization: `Bearer ${secret}`, 'content-type': 'application/json' },
+        body: JSON.stringify(makeReport({ branch: 'feature/probe', designs: [designEntry('probe')] })),
+      });
+      expect(again.status).toBe(201);
+      await web.ctx.mail.settled();
+      await page.reload();
+      await page.getByRole('link', { name: 'Git host' }).waitFor();
+      expect(await page.getByTestId('host-error').count()).toBe(0);
+      expect(host.statuses.map((x) => x.state)).toEqual(['success']);
+      expect(s.errors).toEqual([]);
+    } finally {
+      await host.stop();
+    }
+  });
+});
+
+/** Counts the page's requests of one method whose URL contains `part` (a click that was cancelled sends none). */
+function requestsTo(page: Session['page'], method: string, part: string): { count: number } {
+  const seen = { count: 0 };
+  page.on('request', (r) => { if (r.method() === method && r.url().includes(part)) seen.count++; });
+  return seen;
+}
+
+describe('reasons, reverts and confirmations', () => {
+  it('keeps the reason of a rule change, and goes back to an earlier change only after the prompt', async () => {
+    const { page } = s;
+    const a = demoAccount('lead');
+    await signIn(page, web.url, a.email, a.password);
+    await page.goto(`${web.url}/projects/${slug}/rules`);
+    const field = page.getByLabel(/^Design utilization floor/);
+    await field.waitFor();
+    const before = await rulesNow();
+    await field.fill('65');
+    await page.getByLabel(/^Reason for the change/).fill('Probe: the new front end folds tighter');
+    await page.getByRole('button', { name: 'Save the rules' }).click();
+    await page.locator('#current-rules').getByRole('status').filter({ hasText: 'Saved' }).waitFor();
+    const history = page.getByTestId('rule-history');
+    await history.locator('tbody tr').first().filter({ hasText: 'Probe: the new front end folds tighter' }).waitFor();
+    expect((await rulesNow()).min_utilization).toBe(0.65);
+
+    // Dismissed, the prompt reverts nothing: of two clicks, only the accepted one reaches the server.
+    const sent = requestsTo(page, 'POST', '/rules/revert');
+    const back = history.locator('tbody tr').nth(1).getByRole('button', { name: /Back to here/ });
+    page.once('dialog', (d) => void d.dismiss());
+    await back.click();
+    expect((await rulesNow()).min_utilization).toBe(0.65);
+    // Accepted with a reason: the rules are those before the save, and the revert is in the history.
+    page.once('dialog', (d) => void d.accept('The probe is over'));
+    await back.click();
+    await page.locator('#rule-history').getByRole('status').filter({ hasText: 'Back to the rules after change' }).waitFor();
+    expect(await rulesNow()).toEqual(before);
+    await history.locator('tbody tr').first().filter({ hasText: 'The probe is over' }).waitFor();
+    expect(sent.count).toBe(1);
+    expect(s.errors).toEqual([]);
+  });
+
+  it('revokes a CI token and deactivates an account only after a confirmation', async () => {
+    const { page } = s;
+    await signIn(page, web.url, demoAccount('admin').email, demoAccount('admin').password);
+    await page.goto(`${web.url}/projects/${slug}/tokens`);
+    await page.getByLabel('Name').fill('confirm probe');
+    await page.getByRole('button', { name: 'Create token' }).click();
+    const row = page.locator('tr[data-token="confirm probe"]');
+    const revoke = row.getByRole('button', { name: /Revoke/ });
+    const revokes = requestsTo(page, 'DELETE', '/tokens/');
+    page.once('dialog', (d) => void d.dismiss());
+    await revoke.click();
+    page.once('dialog', (d) => void d.accept());
+    await revoke.click();
+    await row.getByText(/revoked/).waitFor();
+    expect(revokes.count).toBe(1);
+
+    const person = await makeUser(web.ctx, { name: 'Confirm Probe' });
+    await page.goto(`${web.url}/admin/users`);
+    const user = page.locator(`tr[data-user="${person.email}"]`);
+    const deactivate = user.getByRole('button', { name: /Deactivate/ });
+    const patches = requestsTo(page, 'PATCH', '/api/users/');
+    let asked = '';
+    page.once('dialog', (d) => { asked = d.message(); void d.dismiss(); });
+    await deactivate.click();
+    expect(asked).toContain('Deactivate Confirm Probe');
+    page.once('dialog', (d) => void d.accept());
+    await deactivate.click();
+    await user.getByText('deactivated').waitFor();
+    expect(patches.count).toBe(1);
     expect(s.errors).toEqual([]);
   });
 });

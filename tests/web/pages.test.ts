@@ -125,7 +125,7 @@ describe.each(SIZES)('every page at $width px wide', (size) => {
     }
   }, LONG);
 
-  it('rules, tokens, members (lead)', async () => {
+  it('rules, tokens, git host, members (lead)', async () => {
     const page = await as('lead');
     await page.goto(`${web.url}/projects/${slug}/rules`);
     await page.getByTestId('rule-history').waitFor();
@@ -133,6 +133,9 @@ describe.each(SIZES)('every page at $width px wide', (size) => {
     await page.goto(`${web.url}/projects/${slug}/tokens`);
     await page.getByRole('heading', { name: 'CI tokens' }).first().waitFor();
     await check(page, 'tokens');
+    await page.goto(`${web.url}/projects/${slug}/host`);
+    await page.getByRole('heading', { name: 'Git host' }).first().waitFor();
+    await check(page, 'host');
     await page.goto(`${web.url}/projects/${slug}/members`);
     await page.locator('tr[data-member]').first().waitFor();
     await check(page, 'members');

@@ -78,6 +78,8 @@ describe.each(Object.keys(MAY) as DemoRole[])('signed in as the demo %s', (role)
     const project = page.getByRole('navigation', { name: 'Project' });
     expect(await project.getByRole('link', { name: 'CI tokens' }).count()).toBe(may.tokens ? 1 : 0);
     expect(await project.getByRole('link', { name: 'Members' }).count()).toBe(may.members ? 1 : 0);
+    // The git host is a lead's setting, like the tokens (docs/roles.md).
+    expect(await project.getByRole('link', { name: 'Git host' }).count()).toBe(may.tokens ? 1 : 0);
     const main = page.getByRole('navigation', { name: 'Main' });
     expect(await main.getByRole('link', { name: 'Try a design' }).count()).toBe(may.tryDesign ? 1 : 0);
     expect(await main.getByRole('link', { name: 'Users' }).count()).toBe(may.users ? 1 : 0);
@@ -146,6 +148,8 @@ describe('an invitation', () => {
     await page.getByRole('button', { name: 'Add' }).click();
     await page.getByText(`An invitation went to ${email}.`).waitFor();
     await page.getByText(email).nth(1).waitFor(); // listed under pending invitations
+    const pending = page.getByRole('region', { name: 'Pending invitations' }).locator('li').filter({ hasText: email });
+    expect(await pending.textContent()).toMatch(/as engineer.*sent .*expires/);
     await page.goto(`${web.url}/signout`);
     await page.getByRole('heading', { name: 'You are signed out' }).waitFor();
 

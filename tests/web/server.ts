@@ -43,6 +43,8 @@ export async function startWebServer(o: { seed?: boolean } = {}): Promise<WebSer
     PLEAT_WEB_DIR: join(ROOT, 'dist', 'web'),
     PLEAT_SMTP_HOST: '127.0.0.1',
     PLEAT_SMTP_PORT: String(smtp.port),
+    // The key of git-host tokens at rest (tests only).
+    PLEAT_SECRET_KEY: 'ffeeddccbbaa99887766554433221100ffeeddccbbaa99887766554433221100',
   });
   const logs: string[] = [];
   const log = (m: string) => logs.push(m);

@@ -10,8 +10,8 @@ import type { Membership, Project, Role, User as UserRow } from '../../db/models
 import { projectAccess } from '../../http/access';
 import { hashSecret, requireUser, setSessionCookie } from '../../http/auth';
 import { HttpError, allow, badRequest, conflict, gone, notFound } from '../../http/errors';
-import { normalEmail, publicUser, type Sent } from '../../http/present';
-import type { Member } from '../../../shared/report/api';
+import { normalEmail, publicUser, send, type Sent } from '../../http/present';
+import type { Invitation as ApiInvitation, InvitationAccepted, Member } from '../../../shared/report/api';
 import { checker, idParam } from '../../http/validate';
 import { invite, presentInvitation } from './invitations';
 import { canAcceptInvitation, canManageMembers } from './policy';
@@ -79,7 +79,7 @@ export function memberRoutes(ctx: AppContext): Router {
   router.get('/api/projects/:slug/members', async (req, res) => {
     const { project } = await managed(req);
     const rows = await Membership.findAll({ where: { projectId: project.id }, include: [{ model: User, as: 'user' }], order: [['user', 'name', 'ASC']] });
-    res.json({ members: rows.map(presentMember) });
+    send<{ members: Member[] }>(res, { members: rows.map(presentMember) });
   });
 
   router.post('/api/projects/:slug/members', json, async (req, res) => {
@@ -91,21 +91,21 @@ export function memberRoutes(ctx: AppContext): Router {
       // Someone without an account: invited by e-mail, added when they accept.
       const inv = await invite(ctx, res, { email, project, role: body.role, inviter: caller });
       inv.project = project;
-      res.status(202).json({ invitation: presentInvitation(inv) });
+      send<{ invitation: ApiInvitation }>(res.status(202), { invitation: presentInvitation(inv) });
       return;
     }
     if (existing.deactivatedAt) throw conflict('This account is deactivated; an admin can reactivate it.', 'user-deactivated');
     const [m, created] = await Membership.findOrCreate({ where: { projectId: project.id, userId: existing.id }, defaults: { projectId: project.id, userId: existing.id, role: body.role } });
     if (!created) throw conflict(`${email} is a member already (${m.role}); change the role instead.`, 'already-member');
     m.user = existing;
-    res.status(201).json({ member: presentMember(m) });
+    send<{ member: Member }>(res.status(201), { member: presentMember(m) });
   });
 
   router.patch('/api/projects/:slug/members/:userId', json, async (req, res) => {
     const { project } = await managed(req);
     const { role: newRole } = checkRole(req.body);
     const m = await changeMember(project, req.params.userId, newRole);
-    res.json({ member: presentMember(m) });
+    send<{ member: Member }>(res, { member: presentMember(m) });
   });
 
   router.delete('/api/projects/:slug/members/:userId', async (req, res) => {
@@ -120,7 +120,7 @@ export function memberRoutes(ctx: AppContext): Router {
       where: { projectId: project.id, acceptedAt: { [Op.is]: null }, expiresAt: { [Op.gt]: new Date() } },
       include: [{ model: Project, as: 'project' }], order: [['id', 'DESC']],
     });
-    res.json({ invitations: rows.map(presentInvitation) });
+    send<{ invitations: ApiInvitation[] }>(res, { invitations: rows.map(presentInvitation) });
   });
 
   router.delete('/api/projects/:slug/invitations/:id', async (req, res) => {
@@ -143,7 +143,7 @@ export function memberRoutes(ctx: AppContext): Router {
   router.get('/api/invitations/:token', async (req, res) => {
     const inv = await byToken(req.params.token);
     const existing = await User.count({ where: { email: inv.email } });
-    res.json({ invitation: presentInvitation(inv), accountExists: existing > 0 });
+    send<{ invitation: ApiInvitation; accountExists: boolean }>(res, { invitation: presentInvitation(inv), accountExists: existing > 0 });
   });
 
   router.post('/api/invitations/:token/accept', json, async (req, res) => {
@@ -190,7 +190,7 @@ export function memberRoutes(ctx: AppContext): Router {
     });
     // A new account is signed in at once; an existing one signs in with its own password.
     if (created) setSessionCookie(ctx, res, user);
-    res.json({ user: publicUser(user), project: inv.project ? { slug: inv.project.slug, name: inv.project.name } : null, role, signedIn: created });
+    send<InvitationAccepted>(res, { user: publicUser(user), project: inv.project ? { slug: inv.project.slug, name: inv.project.name } : null, role, signedIn: created });
   });
 
   return router;

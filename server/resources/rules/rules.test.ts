@@ -77,6 +77,45 @@ describe('team rules', () => {
     expect(h.body.changes[0]).toMatchObject({ rule: 'regression_tolerance', oldValue: 0.05, newValue: 0.02, by: { id: lead.id } });
   });
 
+  it('keeps the reason given with each change, for the rules and for the tolerance', async () => {
+    const res = await t.http().put(`/api/projects/${project.slug}/rules`).set('Cookie', cookieFor(t.ctx, lead))
+      .send({ rules: { negative_delays: 'fail', max_registers: 48 }, reason: '  The new FPGA has fewer flip-flops to spare.  ' });
+    expect(res.body.changed).toEqual(['max_registers']);
+    await t.http().patch(`/api/projects/${project.slug}`).set('Cookie', cookieFor(t.ctx, lead)).send({ regressionTolerance: 0.03, reason: 'Tighter gate before tape-out' }).expect(200);
+    const h = await history('?limit=2');
+    expect(h.body.changes.map((c: { rule: string; reason: string | null; revertOf: number | null }) => [c.rule, c.reason, c.revertOf])).toEqual([
+      ['regression_tolerance', 'Tighter gate before tape-out', null],
+      ['max_registers', 'The new FPGA has fewer flip-flops to spare.', null],
+    ]);
+    expect((await t.http().put(`/api/projects/${project.slug}/rules`).set('Cookie', cookieFor(t.ctx, lead)).send({ rules: {}, reason: 'x'.repeat(501) })).status).toBe(400);
+  });
+
+  it('reverts to the rules and tolerance as they were right after an earlier change, recording why', async () => {
+    // Common practice, no source: a revert undoes every later change and is itself a change in the history.
+    const p = await makeProject(t.ctx, { regressionTolerance: 0.05 });
+    const l = await makeMember(t.ctx, p, 'lead');
+    const putP = (rules: object) => t.http().put(`/api/projects/${p.slug}/rules`).set('Cookie', cookieFor(t.ctx, l)).send({ rules });
+    await putP({ min_utilization: 0.7 }).expect(200);
+    const hist = async () => (await t.http().get(`/api/projects/${p.slug}/rules/history`).set('Cookie', cookieFor(t.ctx, l))).body.changes;
+    const target = (await hist())[0].id as number;
+    await putP({ min_utilization: 0.8, max_registers: 32 }).expect(200);
+    await t.http().patch(`/api/projects/${p.slug}`).set('Cookie', cookieFor(t.ctx, l)).send({ regressionTolerance: 0.1 }).expect(200);
+    const res = await t.http().post(`/api/projects/${p.slug}/rules/revert`).set('Cookie', cookieFor(t.ctx, l)).send({ to: target, reason: 'The 80 % floor blocked every branch' });
+    expect(res.status).toBe(200);
+    expect(res.body.rules).toEqual({ min_utilization: 0.7 });
+    expect(res.body.regressionTolerance).toBe(0.05);
+    expect([...res.body.changed].sort()).toEqual(['max_registers', 'min_utilization', 'regression_tolerance']);
+    const after = await hist();
+    expect(after.slice(0, 3).every((c: { revertOf: number; reason: string }) => c.revertOf === target && c.reason === `Back to the rules after change #${target}: The 80 % floor blocked every branch`)).toBe(true);
+    // The CLI's floor follows: the rules route gives the reverted rules.
+    const now = await t.http().get(`/api/projects/${p.slug}/rules`).set('Cookie', cookieFor(t.ctx, l));
+    expect(now.body.rules).toEqual({ min_utilization: 0.7 });
+    // A change of another project, or none, is not found; a viewer may not revert.
+    expect((await t.http().post(`/api/projects/${p.slug}/rules/revert`).set('Cookie', cookieFor(t.ctx, l)).send({ to: 999999 })).status).toBe(404);
+    const v = await makeMember(t.ctx, p, 'viewer');
+    expect((await t.http().post(`/api/projects/${p.slug}/rules/revert`).set('Cookie', cookieFor(t.ctx, v)).send({ to: target })).status).toBe(403);
+  });
+
   it('does not let a viewer change them', async () => {
     const res = await put({ min_utilization: 0.1 }, viewer);
     expect(res.status).toBe(403);

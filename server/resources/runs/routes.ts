@@ -15,6 +15,7 @@ import { afterResponse } from '../../mail/mailer';
 import { compareRun, RUN_COLUMNS, type DesignRow, type RunRow } from './compare';
 import { ingestRun } from './ingest';
 import { notifyWatchers } from './notify';
+import { postHostFeedback } from '../hosts/feedback';
 import { canReadRuns, canUploadRun } from './policy';
 import { MAX_INT32, checkUploadReport } from '../../../shared/report/reportSchema';
 
@@ -176,7 +177,11 @@ export function runRoutes(ctx: AppContext): Router {
     const report = checkUpload(req.body);
     const stored = await ingestRun(ctx, project, report);
     const run = stored.row;
-    if (stored.created) afterResponse(res, ctx.mail, () => notifyWatchers(ctx, project, stored.row));
+    if (stored.created) {
+      afterResponse(res, ctx.mail, () => notifyWatchers(ctx, project, stored.row, report));
+      // The pull request's status and summary: after the response, so the host never delays or fails the upload.
+      afterResponse(res, ctx.mail, () => postHostFeedback(ctx, project, stored.row, report));
+    }
     res.status(stored.created ? 201 : 200).json({
       created: stored.created,
       run: presentRun(run),

@@ -5,7 +5,8 @@ import type { AppContext } from '../../context';
 import { isUniqueViolation } from '../../db/index';
 import { requireUser } from '../../http/auth';
 import { allow, conflict, notFound } from '../../http/errors';
-import { normalEmail, publicUser } from '../../http/present';
+import { normalEmail, publicUser, send } from '../../http/present';
+import type { Invitation, PublicUser } from '../../../shared/report/api';
 import { checker, idParam } from '../../http/validate';
 import { invite, presentInvitation } from '../members/invitations';
 import { emailSchema, passwordSchema } from '../members/routes';
@@ -28,7 +29,7 @@ export function userRoutes(ctx: AppContext): Router {
   router.get('/api/users', async (req, res) => {
     allow(canManageUsers(requireUser(req)), 'Only an admin manages accounts.');
     const users = await User.findAll({ order: [['email', 'ASC']] });
-    res.json({ users: users.map(publicUser) });
+    send<{ users: PublicUser[] }>(res, { users: users.map(publicUser) });
   });
 
   router.post('/api/users', json, async (req, res) => {
@@ -40,7 +41,7 @@ export function userRoutes(ctx: AppContext): Router {
     if (!body.password) {
       // Without a password the person is invited and chooses one through the link.
       const inv = await invite(ctx, res, { email, project: null, role: null, isAdmin: body.isAdmin ?? false, inviter: actor });
-      res.status(202).json({ invitation: presentInvitation(inv) });
+      send<{ invitation: Invitation }>(res.status(202), { invitation: presentInvitation(inv) });
       return;
     }
     try {
@@ -48,7 +49,7 @@ export function userRoutes(ctx: AppContext): Router {
         email, name: body.name ?? email.split('@')[0]!, isAdmin: body.isAdmin ?? false,
         passwordHash: await bcrypt.hash(body.password, ctx.config.bcryptRounds),
       });
-      res.status(201).json({ user: publicUser(user) });
+      send<{ user: PublicUser }>(res.status(201), { user: publicUser(user) });
     } catch (err) {
       if (isUniqueViolation(err)) throw conflict(`An account for ${email} exists already.`, 'email-taken');
       throw err;
@@ -73,7 +74,7 @@ export function userRoutes(ctx: AppContext): Router {
     });
     // Sessions issued before a deactivation stay dead after a reactivation: their epoch is old.
     if (deactivating) await target.increment('sessionEpoch');
-    res.json({ user: publicUser(target) });
+    send<{ user: PublicUser }>(res, { user: publicUser(target) });
   });
 
   return router;

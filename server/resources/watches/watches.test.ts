@@ -1,6 +1,7 @@
 // Watching branches, and the mail a watcher gets when a new run breaks or regresses the branch.
 // The SMTP side is a fake server on a random port; the mail is parsed with mailparser.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { QueryTypes } from 'sequelize';
 import { cookieFor, designEntry, makeCiToken, makeMember, makeProject, makeReport, makeUser } from '../../test/factories';
 import { receivedMail } from '../../test/mail';
 import { startTestServer, type TestServer } from '../../test/server';
@@ -77,6 +78,26 @@ describe('mail to watchers', () => {
     expect(regs).toHaveLength(1);
     expect(regs[0]!.text).toContain('notch: register minimum 10 -> 12');
     expect(regs[0]!.text).not.toContain('utilization');
+  });
+
+  it('names the design, the rule, the values before and after, and links the run', async () => {
+    await watch(engineer, 'feature/named').expect(201);
+    await push('feature/named', { utilization: 0.8, registers: 10 });
+    const mail = await mailAfter(() => push('feature/named', { utilization: 0.5, registers: 12, status: 'fail' }));
+    expect(mail).toHaveLength(1);
+    const text = mail[0]!.text;
+    // The rule the design breaks, its value against the limit (designEntry's violation: 0.5 against 0.75).
+    expect(text).toContain('notch breaks rule min_utilization (team): 0.5 against the limit 0.75 (hw/notch.fold.yaml)');
+    // Its numbers in the branch's previous run, and now.
+    expect(text).toContain('before: utilization 80.0%, register minimum 10, pass; now: utilization 50.0%, register minimum 12, fail');
+    // The regressions against the base, with the tolerance they passed.
+    expect(text).toContain('notch: utilization 80.0% -> 50.0% against main');
+    expect(text).toContain('notch: register minimum 10 -> 12 against main');
+    expect(text).toContain("past the project's regression tolerance of 5.0%");
+    const [last] = await t.ctx.db.sequelize.query<{ id: number }>(
+      "SELECT id FROM runs WHERE branch = 'feature/named' ORDER BY id DESC LIMIT 1", { type: QueryTypes.SELECT },
+    );
+    expect(text).toContain(`http://pleat.test/projects/${project.slug}/runs/${last!.id}`);
   });
 
   it('goes only to watchers of that branch who can still read the project', async () => {
