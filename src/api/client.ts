@@ -222,6 +222,12 @@ export const api = {
   cancelJob: (id: number) => request<{ job: JobDetail }>(`/api/jobs/${id}/cancel`, { method: 'POST' }),
 };
 
+/** The run page's downloads (GET /api/runs/:id/download/:file): plain links, the session cookie goes along. */
+export type RunDownload = 'report.json' | 'edges.csv' | 'schedule.csv' | 'rtl.zip';
+export function downloadUrl(runId: number, file: RunDownload, design?: string): string {
+  return buildUrl(`/api/runs/${runId}/download/${file}`, { design });
+}
+
 /** What starts a job: the design from a stored run (by design name) or as text, and the settings. */
 export interface StartJob {
   kind: JobKind;

@@ -13,6 +13,7 @@ import { pgLimiter } from '../../http/limits';
 import { idParam } from '../../http/validate';
 import { afterResponse } from '../../mail/mailer';
 import { compareRun, RUN_COLUMNS, type DesignRow, type RunRow } from './compare';
+import { DOWNLOADS, edgesCsv, fileStem, rtlZip, scheduleCsv, type Download } from './downloads';
 import { ingestRun } from './ingest';
 import { notifyWatchers } from './notify';
 import { canReadRuns, canUploadRun } from './policy';
@@ -132,10 +133,10 @@ export function runRoutes(ctx: AppContext): Router {
     });
   });
 
-  router.get('/api/runs/:id', async (req, res) => {
+  /** A run that the caller may read, with its stored report as text (one round trip). */
+  const readableRun = async (req: Request) => {
     if (!req.actor) throw unauthorized(req.authProblem ?? 'Sign in first.', req.authProblem ? 'invalid-credentials' : 'unauthorized');
-    const id = idParam(req.params.id);
-    // The run's columns and its stored report as text, in one round trip.
+    const id = idParam(String(req.params.id));
     const [found] = id === null ? [] : await q.query<RunRow & { report_text: string }>(
       `SELECT ${RUN_COLUMNS}, report::text AS report_text FROM runs WHERE id = $1`,
       { bind: [id], type: QueryTypes.SELECT },
@@ -144,6 +145,11 @@ export function runRoutes(ctx: AppContext): Router {
     const { report_text: reportText, ...run } = found;
     const { project, role } = await projectAccess(ctx, req, { id: run.project_id });
     allow(canReadRuns(role));
+    return { run, reportText, project };
+  };
+
+  router.get('/api/runs/:id', async (req, res) => {
+    const { run, reportText, project } = await readableRun(req);
     const { comparison, designs } = await compareRun(ctx, run, project);
     const head = JSON.stringify({
       run: { ...presentRun(run), project: { slug: project.slug, name: project.name }, designs: designs.map(presentDesign) },
@@ -151,6 +157,33 @@ export function runRoutes(ctx: AppContext): Router {
     });
     // The stored report goes out as stored, without parsing it into objects and back.
     res.type('application/json').send(`${head.slice(0, -1)},"report":${reportText}}`);
+  });
+
+  // The run page's downloads: the report as stored, one design's edges or schedule as CSV, its RTL as a zip.
+  router.get('/api/runs/:id/download/:file', async (req, res) => {
+    const file = String(req.params.file) as Download;
+    if (!DOWNLOADS.includes(file)) throw notFound(`No such download; there are ${DOWNLOADS.join(', ')}.`);
+    const { run, reportText, project } = await readableRun(req);
+    const stem = `${fileStem(project.slug)}-${run.commit.slice(0, 12)}`;
+    if (file === 'report.json') {
+      res.attachment(`${stem}.pleat.json`).type('application/json').send(reportText);
+      return;
+    }
+    const name = queryString(req, 'design');
+    if (name === undefined) throw badRequest(`${file} is made for one design: add ?design=<name>.`);
+    const report = JSON.parse(reportText) as Report;
+    const design = report.designs.find((d) => (d.name ?? d.file) === name);
+    if (!design) throw notFound('This run has no design of that name.');
+    const base = `${stem}-${fileStem(name)}`;
+    if (file === 'edges.csv') {
+      res.attachment(`${base}-edges.csv`).type('text/csv; charset=utf-8').send(edgesCsv(design));
+    } else if (file === 'schedule.csv') {
+      res.attachment(`${base}-schedule.csv`).type('text/csv; charset=utf-8').send(scheduleCsv(design));
+    } else {
+      const zip = await rtlZip(design);
+      if (!zip.ok) throw new HttpError(422, 'no-rtl', zip.reason);
+      res.attachment(`${base}-rtl.zip`).type('application/zip').send(zip.zip);
+    }
   });
 
   // Authorise before reading a body of up to maxReportBytes.
