@@ -86,6 +86,9 @@ class RunDesignModel extends Model<InferAttributes<RunDesignModel>, InferCreatio
   declare negativeEdgeCount: number | null;
   declare retimingFeasible: boolean | null;
   declare violationCount: number;
+  declare factor: number | null;
+  declare unitCount: number | null;
+  declare latencyAdded: number | null;
 }
 
 class TeamRulesModel extends Model<InferAttributes<TeamRulesModel>, InferCreationAttributes<TeamRulesModel>> {
@@ -211,6 +214,9 @@ export function defineModels(sequelize: Sequelize) {
     negativeEdgeCount: { type: DataTypes.INTEGER },
     retimingFeasible: { type: DataTypes.BOOLEAN },
     violationCount: { type: DataTypes.INTEGER, allowNull: false },
+    factor: { type: DataTypes.INTEGER },
+    unitCount: { type: DataTypes.INTEGER },
+    latencyAdded: { type: DataTypes.INTEGER },
   }, { ...common, tableName: 'run_designs', modelName: 'RunDesign', timestamps: false });
 
   TeamRules.init({

@@ -28,6 +28,10 @@ export interface RunDesignRow {
   negativeEdges: number | null;
   retimingFeasible: boolean | null;
   violations: number;
+  /** The plan: folding factor, units, iterations of latency retiming adds (null for an invalid design or an older run). */
+  factor: number | null;
+  units: number | null;
+  latencyAdded: number | null;
 }
 
 /** A number of this run beside the same number of the base run. */
@@ -52,6 +56,13 @@ export interface DesignDelta {
   utilization: Metric;
   registerMinimum: Metric;
   violations: Metric;
+  /** What moved in the plan itself. */
+  factor: Metric;
+  units: Metric;
+  negativeEdges: Metric;
+  latencyAdded: Metric;
+  /** Whether a retiming removes every negative folded delay (false: a loop stops it). */
+  retimingFeasible: { current: boolean | null; base: boolean | null };
   /** What got worse past the project's tolerance. */
   regressions: Regression[];
 }

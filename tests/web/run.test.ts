@@ -70,6 +70,36 @@ describe('the run page', () => {
     expect(s.errors).toEqual([]);
   }, LONG);
 
+  it('tells what moved in the plan of the regressed design, in the terms of folding, and what the gate counts', async () => {
+    const { page } = s;
+    // The expected figures come from the engine's own reports of the two design texts.
+    const before = checkDesignText(text(EQUALISER), EQUALISER, null).design;
+    const after = checkDesignText(text(EQUALISER).replace(/^(\s+factor:\s*)\d+/m, '$18'), EQUALISER, null).design;
+    await page.goto(`${web.url}/projects/${demoProject.slug}/runs/${runId}`);
+    const panel = page.getByTestId('comparison').first();
+    const card = panel.locator(`li[data-design="${before.name}"]`);
+    await card.waitFor();
+    expect(await card.getAttribute('data-regressed')).toBe('true');
+    expect(await card.locator('[data-figure="N"]').textContent()).toBe(`N${before.factor}›${after.factor}`);
+    expect(await card.locator('[data-change="factor"]').textContent()).toContain(`folded looser: N goes from ${before.factor} to ${after.factor}`);
+    // Utilization fell past the project's 5 % (the demo project's tolerance), so the gate counts it.
+    const util = card.locator('[data-change="utilization"]');
+    expect(await util.getAttribute('data-judged')).toBe('true');
+    expect(await util.textContent()).toContain("more than the project's allowance of 5%");
+    const dr = after.registers!.minimum - before.registers!.minimum;
+    if (dr !== 0) expect(await card.locator('[data-change="registers"]').textContent()).toContain(`${Math.abs(dr)}`);
+    // The envelope fails in both runs and its plan did not move: it is listed as unchanged, not as a card.
+    const envelopeName = checkDesignText(text(ENVELOPE), ENVELOPE, null).design.name!;
+    expect(await panel.locator(`li[data-design="${envelopeName}"]`).count()).toBe(0);
+    expect(await panel.getByTestId('comparison-same').textContent()).toContain(envelopeName);
+    // No table of design rows: the change is told per design.
+    expect(await panel.locator('table').count()).toBe(0);
+    await page.getByRole('heading', { name: `Changes against main` }).scrollIntoViewIfNeeded();
+    await screenshot(page, 'run-changes', false);
+    expect(await axeViolations(page)).toEqual([]);
+    expect(s.errors).toEqual([]);
+  }, LONG);
+
   it('downloads the report, the edges and the schedule as CSV, and the RTL as a zip of Verilog files', async () => {
     const { page } = s;
     await page.goto(`${web.url}/projects/${demoProject.slug}/runs/${runId}?design=${encodeURIComponent(checkDesignText(text(EQUALISER), EQUALISER, null).design.name!)}`);

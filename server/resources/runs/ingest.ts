@@ -34,9 +34,10 @@ export async function ingestRun(ctx: AppContext, project: Project, report: Repor
        RETURNING ${RUN_COLUMNS}
      ), designs AS (
        INSERT INTO run_designs (run_id, design_name, file, status, utilization, register_minimum, negative_edge_count,
-                                retiming_feasible, violation_count)
+                                retiming_feasible, violation_count, factor, unit_count, latency_added)
        SELECT ins.id, d.* FROM ins,
-         unnest($16::text[], $17::text[], $18::text[], $19::float8[], $20::int[], $21::int[], $22::bool[], $23::int[]) AS d
+         unnest($16::text[], $17::text[], $18::text[], $19::float8[], $20::int[], $21::int[], $22::bool[], $23::int[],
+                $24::int[], $25::int[], $26::int[]) AS d
      ), branch AS (
        INSERT INTO branches (project_id, name, last_run_id, last_run_at)
        SELECT project_id, branch, id, created_at FROM ins
@@ -52,6 +53,7 @@ export async function ingestRun(ctx: AppContext, project: Project, report: Repor
         designs.map((d) => d.designName), designs.map((d) => d.file), designs.map((d) => d.status),
         designs.map((d) => d.utilization), designs.map((d) => d.registerMinimum), designs.map((d) => d.negativeEdgeCount),
         designs.map((d) => d.retimingFeasible), designs.map((d) => d.violationCount),
+        designs.map((d) => d.factor), designs.map((d) => d.unitCount), designs.map((d) => d.latencyAdded),
       ],
       type: QueryTypes.SELECT,
     },

@@ -57,6 +57,9 @@ export function presentDesign(d: DesignRow): RunDesignRow {
     negativeEdges: d.negative_edge_count,
     retimingFeasible: d.retiming_feasible,
     violations: d.violation_count,
+    factor: d.factor,
+    units: d.unit_count,
+    latencyAdded: d.latency_added,
   };
 }
 
@@ -120,7 +123,8 @@ export function runRoutes(ctx: AppContext): Router {
        LEFT JOIN LATERAL (
          SELECT json_agg(json_build_object('run_id', rd.run_id, 'design_name', rd.design_name, 'file', rd.file, 'status', rd.status,
                   'utilization', rd.utilization, 'register_minimum', rd.register_minimum, 'negative_edge_count', rd.negative_edge_count,
-                  'retiming_feasible', rd.retiming_feasible, 'violation_count', rd.violation_count) ORDER BY rd.id) AS designs
+                  'retiming_feasible', rd.retiming_feasible, 'violation_count', rd.violation_count, 'factor', rd.factor,
+                  'unit_count', rd.unit_count, 'latency_added', rd.latency_added) ORDER BY rd.id) AS designs
          FROM run_designs rd WHERE rd.run_id = r.id${designFilter}
        ) d ON true
        ORDER BY r.created_at DESC, r.id DESC`,

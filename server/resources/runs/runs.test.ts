@@ -54,6 +54,9 @@ describe('POST /api/projects/:slug/runs', () => {
     expect(got.status).toBe(200);
     expect(got.body.report).toEqual(JSON.parse(JSON.stringify(report)));
     expect(got.body.run.designs.map((d: { name: string }) => d.name)).toEqual(report.designs.map((d) => d.name));
+    // The plan's figures beside each design, as the engine's report has them.
+    expect(got.body.run.designs.map((d: { factor: number | null; units: number | null; latencyAdded: number | null }) => [d.factor, d.units, d.latencyAdded]))
+      .toEqual(report.designs.map((d) => [d.factor ?? null, d.schedule?.length ?? null, d.retiming?.latencyAdded ?? null]));
   });
 
   it('keeps one run per commit: a second upload of the same commit returns the first (200)', async () => {
@@ -187,6 +190,8 @@ describe('GET /api/runs/:id comparison with the base branch', () => {
     expect(fir.utilization.delta).toBeCloseTo(-0.1, 12);
     expect(fir.registerMinimum).toEqual({ current: 12, base: 10, delta: 2 });
     expect(fir.violations).toEqual({ current: 1, base: 0, delta: 1 });
+    expect(fir.factor).toEqual({ current: 4, base: 4, delta: 0 });
+    expect(fir.units).toEqual({ current: null, base: null, delta: null });
     // 0.8 -> 0.7 is a 12.5% drop and 10 -> 12 a 20% rise: both past the 10% tolerance.
     expect(fir.regressions).toEqual(['status', 'utilization', 'registerMinimum', 'violations']);
     expect(body.comparison.designs.map((d: { name: string; presence: string }) => [d.name, d.presence]))
