@@ -6,6 +6,7 @@ import { Umzug, type UmzugStorage } from 'umzug';
 import * as m001 from './migrations/001-initial';
 import * as m002 from './migrations/002-security-and-retention';
 import * as m003 from './migrations/003-jobs';
+import * as m005 from './migrations/005-run-commit-meta';
 import * as m006 from './migrations/006-run-design-plan';
 import type { Migration } from './migrations/types';
 
@@ -13,6 +14,7 @@ const MIGRATIONS: { name: string; up: Migration; down: Migration }[] = [
   { name: '001-initial', ...m001 },
   { name: '002-security-and-retention', ...m002 },
   { name: '003-jobs', ...m003 },
+  { name: '005-run-commit-meta', ...m005 },
   { name: '006-run-design-plan', ...m006 },
 ];
 

@@ -71,6 +71,9 @@ class RunModel extends Model<InferAttributes<RunModel>, InferCreationAttributes<
   declare utilization: number | null;
   declare registerMinimum: number | null;
   declare violationCount: number;
+  declare commitMessage: string | null;
+  declare commitAuthor: string | null;
+  declare utilizationFloor: number | null;
   declare report: Report;
   declare createdAt: CreationOptional<Date>;
 }
@@ -201,6 +204,9 @@ export function defineModels(sequelize: Sequelize) {
     utilization: { type: DataTypes.DOUBLE },
     registerMinimum: { type: DataTypes.INTEGER },
     violationCount: { type: DataTypes.INTEGER, allowNull: false },
+    commitMessage: { type: DataTypes.TEXT },
+    commitAuthor: { type: DataTypes.TEXT },
+    utilizationFloor: { type: DataTypes.DOUBLE },
     report: { type: DataTypes.JSONB, allowNull: false },
   }, { ...common, tableName: 'runs', modelName: 'Run', updatedAt: false });
 

@@ -137,6 +137,11 @@ export interface RunListItem {
   verdict: Status;
   toolVersion: string;
   createdAt: string;
+  /** First line of the commit's message and its author, as the CLI sent them (null from older CLIs). */
+  message: string | null;
+  author: string | null;
+  /** min_utilization of the rules the run was checked against (null when none was in force). */
+  utilizationFloor: number | null;
   summary: RunSummary;
   designs: RunDesignRow[];
 }
@@ -144,6 +149,13 @@ export interface RunListItem {
 export interface RunPage {
   runs: RunListItem[];
   nextCursor: string | null;
+}
+
+/** The answer to an upload from CI (201 created, 200 when the commit was stored before). */
+export interface UploadResult {
+  created: boolean;
+  run: Omit<RunListItem, 'designs'>;
+  url: string;
 }
 
 export interface RunDetail {

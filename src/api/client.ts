@@ -156,9 +156,9 @@ export const api = {
     request<{ project: Project }>(`/api/projects/${seg(slug)}`, { method: 'PATCH', body }),
   deleteProject: (slug: string, confirm: string) => request<void>(`/api/projects/${seg(slug)}`, { method: 'DELETE', body: { confirm } }),
   branches: (slug: string, signal?: AbortSignal) => request<BranchList>(`/api/projects/${seg(slug)}/branches`, { signal }),
-  runs: (slug: string, branch: string, o: { cursor?: string | null; limit?: number; design?: string | null } = {}, signal?: AbortSignal) =>
+  runs: (slug: string, branch: string, o: { cursor?: string | null; offset?: number; limit?: number; design?: string | null } = {}, signal?: AbortSignal) =>
     request<RunPage>(`/api/projects/${seg(slug)}/branches/${seg(branch)}/runs`, {
-      query: { cursor: o.cursor, limit: o.limit, design: o.design },
+      query: { cursor: o.cursor, offset: o.offset || undefined, limit: o.limit, design: o.design },
       signal,
     }),
   run: (id: number, signal?: AbortSignal) => request<RunDetail>(`/api/runs/${id}`, { signal }),

@@ -22,6 +22,9 @@ export interface RunRow {
   utilization: number | null;
   register_minimum: number | null;
   violation_count: number;
+  commit_message: string | null;
+  commit_author: string | null;
+  utilization_floor: number | null;
   created_at: Date;
 }
 
@@ -45,7 +48,7 @@ export const DESIGN_COLUMNS = `run_id, design_name, file, status, utilization, r
   violation_count, factor, unit_count, latency_added`;
 
 export const RUN_COLUMNS = `id, project_id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count,
-  failed_count, error_count, utilization, register_minimum, violation_count, created_at`;
+  failed_count, error_count, utilization, register_minimum, violation_count, commit_message, commit_author, utilization_floor, created_at`;
 
 const metric = (current: number | null, base: number | null): Metric => ({
   current, base, delta: current !== null && base !== null ? current - base : null,

@@ -2,8 +2,8 @@
 // with its comparison), POST /api/projects/:slug/runs (CI upload).
 import express, { Router, type Request } from 'express';
 import { QueryTypes } from 'sequelize';
-import type { RunDesignRow, RunListItem } from '../../../shared/report/api';
-import type { Sent } from '../../http/present';
+import type { RunDesignRow, RunDetail, RunListItem, RunPage, UploadResult } from '../../../shared/report/api';
+import { send, type Sent } from '../../http/present';
 import type { Report } from '../../../shared/types';
 import type { AppContext } from '../../context';
 import type { Project } from '../../db/models';
@@ -36,6 +36,9 @@ export function presentRun(r: RunRow): Sent<Omit<RunListItem, 'designs'>> {
     verdict: r.verdict,
     toolVersion: r.tool_version,
     createdAt: r.created_at,
+    message: r.commit_message,
+    author: r.commit_author,
+    utilizationFloor: r.utilization_floor,
     summary: {
       designs: r.design_count,
       failed: r.failed_count,
@@ -100,6 +103,11 @@ export function runRoutes(ctx: AppContext): Router {
     const limit = limitParam(req.query.limit, 50, 200);
     const cursor = queryString(req, 'cursor');
     const design = queryString(req, 'design');
+    // A page by number (the web's ?page= in the address) skips whole pages; the cursor stays the way for scripts.
+    const offsetText = queryString(req, 'offset');
+    const offset = offsetText === undefined ? 0 : Number(offsetText);
+    if (!Number.isInteger(offset) || offset < 0 || offset > 1_000_000 || (offsetText !== undefined && !/^\d+$/.test(offsetText))) throw badRequest('offset must be an integer from 0 to 1000000.');
+    if (cursor && offset) throw badRequest('Give either cursor or offset, not both.');
     const bind: unknown[] = [project.id, req.params.branch];
     let where = 'project_id = $1 AND branch = $2';
     if (cursor) {
@@ -118,7 +126,7 @@ export function runRoutes(ctx: AppContext): Router {
     const designFilter = designParam ? ` AND rd.design_name = ${designParam}` : '';
     const rows = await q.query<RunRow & { designs: DesignRow[] | null }>(
       `SELECT r.*, d.designs FROM (
-         SELECT ${RUN_COLUMNS} FROM runs WHERE ${where} ORDER BY created_at DESC, id DESC LIMIT $${bind.length}
+         SELECT ${RUN_COLUMNS} FROM runs WHERE ${where} ORDER BY created_at DESC, id DESC LIMIT $${bind.length} OFFSET ${offset}
        ) r
        LEFT JOIN LATERAL (
          SELECT json_agg(json_build_object('run_id', rd.run_id, 'design_name', rd.design_name, 'file', rd.file, 'status', rd.status,
@@ -131,7 +139,7 @@ export function runRoutes(ctx: AppContext): Router {
       { bind, type: QueryTypes.SELECT },
     );
     const page = rows.slice(0, limit);
-    res.json({
+    send<RunPage>(res, {
       runs: page.map((r) => ({ ...presentRun(r), designs: (r.designs ?? []).map(presentDesign) })),
       nextCursor: rows.length > limit ? encodeCursor(page[page.length - 1]!) : null,
     });
@@ -155,10 +163,11 @@ export function runRoutes(ctx: AppContext): Router {
   router.get('/api/runs/:id', async (req, res) => {
     const { run, reportText, project } = await readableRun(req);
     const { comparison, designs } = await compareRun(ctx, run, project);
-    const head = JSON.stringify({
+    const body: Sent<Omit<RunDetail, 'report'>> = {
       run: { ...presentRun(run), project: { slug: project.slug, name: project.name }, designs: designs.map(presentDesign) },
       comparison,
-    });
+    };
+    const head = JSON.stringify(body);
     // The stored report goes out as stored, without parsing it into objects and back.
     res.type('application/json').send(`${head.slice(0, -1)},"report":${reportText}}`);
   });
@@ -214,7 +223,8 @@ export function runRoutes(ctx: AppContext): Router {
     const stored = await ingestRun(ctx, project, report);
     const run = stored.row;
     if (stored.created) afterResponse(res, ctx.mail, () => notifyWatchers(ctx, project, stored.row));
-    res.status(stored.created ? 201 : 200).json({
+    res.status(stored.created ? 201 : 200);
+    send<UploadResult>(res, {
       created: stored.created,
       run: presentRun(run),
       url: `${ctx.config.publicUrl}/projects/${encodeURIComponent(project.slug)}/runs/${run.id}`,
