@@ -1,5 +1,5 @@
 import { useRef, useState, type ReactNode } from 'react';
-import type { Diagnostic, DesignReport, EffectiveRules } from '../../shared/types';
+import type { Diagnostic, DesignReport, EffectiveRules } from '../api/types';
 import { AllocationTable } from './AllocationTable';
 import { ControlTables } from './ControlTables';
 import { DiagnosticsList } from './DiagnosticsList';

@@ -1,5 +1,5 @@
 import { Bar, BarChart, CartesianGrid, Line, LineChart, ResponsiveContainer, Tooltip, XAxis, YAxis } from 'recharts';
-import type { Status } from '../../shared/types';
+import type { Status } from '../api/types';
 import { pct, shortCommit } from './format';
 
 /** One run on the branch history charts. */

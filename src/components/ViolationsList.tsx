@@ -1,4 +1,4 @@
-import type { RuleName, RuleSource, Violation } from '../../shared/types';
+import type { RuleName, RuleSource, Violation } from '../api/types';
 import { StatusIcon } from './StatusBadge';
 import { pct } from './format';
 
