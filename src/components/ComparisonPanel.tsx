@@ -173,7 +173,7 @@ function DesignChange({ d, c, onSelectDesign }: { d: DesignDelta; c: Comparison;
           <ul className="space-y-0.5 text-sm text-ink-800">
             {changes.map((ch) => (
               <li key={ch.key} data-change={ch.key} data-judged={ch.judged ? true : undefined} className="flex gap-2">
-                <span aria-hidden="true" className={ch.judged ? 'text-fail-600' : ch.worse ? 'text-ember-700' : 'text-pass-700'}>
+                <span aria-hidden="true" className={ch.judged ? 'text-fail-600' : ch.worse ? 'text-ember-700' : ch.key === 'factor' ? 'text-ink-500' : 'text-pass-700'}>
                   {ch.judged ? '◆' : ch.worse ? '▸' : '▹'}
                 </span>
                 <span>

@@ -97,6 +97,12 @@ describe('the run page', () => {
     await page.getByRole('heading', { name: `Changes against main` }).scrollIntoViewIfNeeded();
     await screenshot(page, 'run-changes', false);
     expect(await axeViolations(page)).toEqual([]);
+    // At phone width the entry wraps inside the page: the document does not scroll sideways.
+    await page.setViewportSize({ width: 390, height: 844 });
+    await card.scrollIntoViewIfNeeded();
+    await screenshot(page, 'run-changes', false);
+    expect(await page.evaluate(() => document.documentElement.scrollWidth <= window.innerWidth)).toBe(true);
+    await page.setViewportSize({ width: 1366, height: 768 });
     expect(s.errors).toEqual([]);
   }, LONG);
 
