@@ -8,6 +8,8 @@ import * as m002 from './migrations/002-security-and-retention';
 import * as m003 from './migrations/003-jobs';
 import * as m004 from './migrations/004-host-connections';
 import * as m005 from './migrations/005-rule-change-reasons';
+import * as m006 from './migrations/006-run-commit-meta';
+import * as m007 from './migrations/007-run-design-plan';
 import type { Migration } from './migrations/types';
 
 const MIGRATIONS: { name: string; up: Migration; down: Migration }[] = [
@@ -16,6 +18,8 @@ const MIGRATIONS: { name: string; up: Migration; down: Migration }[] = [
   { name: '003-jobs', ...m003 },
   { name: '004-host-connections', ...m004 },
   { name: '005-rule-change-reasons', ...m005 },
+  { name: '006-run-commit-meta', ...m006 },
+  { name: '007-run-design-plan', ...m007 },
 ];
 
 /** Keeps applied migration names in a table of the connection's own schema (search_path). */

@@ -71,6 +71,9 @@ class RunModel extends Model<InferAttributes<RunModel>, InferCreationAttributes<
   declare utilization: number | null;
   declare registerMinimum: number | null;
   declare violationCount: number;
+  declare commitMessage: string | null;
+  declare commitAuthor: string | null;
+  declare utilizationFloor: number | null;
   declare report: Report;
   declare createdAt: CreationOptional<Date>;
 }
@@ -86,6 +89,9 @@ class RunDesignModel extends Model<InferAttributes<RunDesignModel>, InferCreatio
   declare negativeEdgeCount: number | null;
   declare retimingFeasible: boolean | null;
   declare violationCount: number;
+  declare factor: number | null;
+  declare unitCount: number | null;
+  declare latencyAdded: number | null;
 }
 
 class TeamRulesModel extends Model<InferAttributes<TeamRulesModel>, InferCreationAttributes<TeamRulesModel>> {
@@ -200,6 +206,9 @@ export function defineModels(sequelize: Sequelize) {
     utilization: { type: DataTypes.DOUBLE },
     registerMinimum: { type: DataTypes.INTEGER },
     violationCount: { type: DataTypes.INTEGER, allowNull: false },
+    commitMessage: { type: DataTypes.TEXT },
+    commitAuthor: { type: DataTypes.TEXT },
+    utilizationFloor: { type: DataTypes.DOUBLE },
     report: { type: DataTypes.JSONB, allowNull: false },
   }, { ...common, tableName: 'runs', modelName: 'Run', updatedAt: false });
 
@@ -213,6 +222,9 @@ export function defineModels(sequelize: Sequelize) {
     negativeEdgeCount: { type: DataTypes.INTEGER },
     retimingFeasible: { type: DataTypes.BOOLEAN },
     violationCount: { type: DataTypes.INTEGER, allowNull: false },
+    factor: { type: DataTypes.INTEGER },
+    unitCount: { type: DataTypes.INTEGER },
+    latencyAdded: { type: DataTypes.INTEGER },
   }, { ...common, tableName: 'run_designs', modelName: 'RunDesign', timestamps: false });
 
   TeamRules.init({

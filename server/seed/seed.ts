@@ -109,6 +109,17 @@ const PLAN: BranchPlan[] = [
   },
 ];
 
+/** Invented commit authors of the demo history. */
+const AUTHORS = ['Rhea Router', 'Tomas Tapwright', 'Ines Delaney'];
+
+/** A commit message in words, from what the step changes. */
+function messageOf(step: Step, i: number): string {
+  const changed = Object.keys(step.variants ?? {});
+  if (step.designs && !changed.length) return `Add the ${step.designs[step.designs.length - 1]} design`;
+  if (changed.length) return `Refold the ${changed.join(' and ')} design${changed.length === 1 ? '' : 's'}`;
+  return i === 0 ? 'Start the datapath designs' : 'Tidy comments in the design files';
+}
+
 function commitOf(branch: string, index: number): string {
   return createHash('sha1').update(`pleat-demo:${branch}:${index}`).digest('hex');
 }
@@ -189,6 +200,8 @@ export async function seedDemo(ctx: AppContext, log: (msg: string) => void = () 
           commit: commitOf(plan.name, i),
           baseBranch: plan.from?.branch ?? null,
           baseCommit: plan.from ? commitOf(plan.from.branch, plan.from.index) : null,
+          message: messageOf(step, i),
+          author: AUTHORS[(i + plan.name.length) % AUTHORS.length]!,
         },
         rules: effective,
         designs,

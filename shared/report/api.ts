@@ -28,6 +28,10 @@ export interface RunDesignRow {
   negativeEdges: number | null;
   retimingFeasible: boolean | null;
   violations: number;
+  /** The plan: folding factor, units, iterations of latency retiming adds (null for an invalid design or an older run). */
+  factor: number | null;
+  units: number | null;
+  latencyAdded: number | null;
 }
 
 /** A number of this run beside the same number of the base run. */
@@ -52,6 +56,13 @@ export interface DesignDelta {
   utilization: Metric;
   registerMinimum: Metric;
   violations: Metric;
+  /** What moved in the plan itself. */
+  factor: Metric;
+  units: Metric;
+  negativeEdges: Metric;
+  latencyAdded: Metric;
+  /** Whether a retiming removes every negative folded delay (false: a loop stops it). */
+  retimingFeasible: { current: boolean | null; base: boolean | null };
   /** What got worse past the project's tolerance. */
   regressions: Regression[];
 }
@@ -151,6 +162,11 @@ export interface RunListItem {
   verdict: Status;
   toolVersion: string;
   createdAt: string;
+  /** First line of the commit's message and its author, as the CLI sent them (null from older CLIs). */
+  message: string | null;
+  author: string | null;
+  /** min_utilization of the rules the run was checked against (null when none was in force). */
+  utilizationFloor: number | null;
   summary: RunSummary;
   designs: RunDesignRow[];
 }
@@ -158,6 +174,13 @@ export interface RunListItem {
 export interface RunPage {
   runs: RunListItem[];
   nextCursor: string | null;
+}
+
+/** The answer to an upload from CI (201 created, 200 when the commit was stored before). */
+export interface UploadResult {
+  created: boolean;
+  run: Omit<RunListItem, 'designs'>;
+  url: string;
 }
 
 export interface RunDetail {

@@ -160,9 +160,9 @@ export const api = {
     request<{ project: Project }>(`/api/projects/${seg(slug)}`, { method: 'PATCH', body }),
   deleteProject: (slug: string, confirm: string) => request<void>(`/api/projects/${seg(slug)}`, { method: 'DELETE', body: { confirm } }),
   branches: (slug: string, signal?: AbortSignal) => request<BranchList>(`/api/projects/${seg(slug)}/branches`, { signal }),
-  runs: (slug: string, branch: string, o: { cursor?: string | null; limit?: number; design?: string | null } = {}, signal?: AbortSignal) =>
+  runs: (slug: string, branch: string, o: { cursor?: string | null; offset?: number; limit?: number; design?: string | null } = {}, signal?: AbortSignal) =>
     request<RunPage>(`/api/projects/${seg(slug)}/branches/${seg(branch)}/runs`, {
-      query: { cursor: o.cursor, limit: o.limit, design: o.design },
+      query: { cursor: o.cursor, offset: o.offset || undefined, limit: o.limit, design: o.design },
       signal,
     }),
   run: (id: number, signal?: AbortSignal) => request<RunDetail>(`/api/runs/${id}`, { signal }),
@@ -230,6 +230,12 @@ export const api = {
   job: (id: number, signal?: AbortSignal) => request<{ job: JobDetail }>(`/api/jobs/${id}`, { signal }),
   cancelJob: (id: number) => request<{ job: JobDetail }>(`/api/jobs/${id}/cancel`, { method: 'POST' }),
 };
+
+/** The run page's downloads (GET /api/runs/:id/download/:file): plain links, the session cookie goes along. */
+export type RunDownload = 'report.json' | 'edges.csv' | 'schedule.csv' | 'rtl.zip';
+export function downloadUrl(runId: number, file: RunDownload, design?: string): string {
+  return buildUrl(`/api/runs/${runId}/download/${file}`, { design });
+}
 
 /** What starts a job: the design from a stored run (by design name) or as text, and the settings. */
 export interface StartJob {

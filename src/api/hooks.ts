@@ -92,12 +92,13 @@ export function useBranches(slug: string) {
   return useQuery({ queryKey: keys.branches(slug), queryFn: ({ signal }) => api.branches(slug, signal) });
 }
 
-/** One page of a branch's history, newest first; the server pages by cursor (the last run of the previous page). */
-export function useRunPage(slug: string, branch: string, design: string | null, cursor: string | null, limit: number) {
+/** One page of a branch's history, newest first, from `offset` runs in (a page number of the address). */
+export function useRunPage(slug: string, branch: string, design: string | null, offset: number, limit: number, enabled = true) {
   return useQuery({
-    queryKey: [...keys.runs(slug, branch, design), cursor ?? '', limit],
-    queryFn: ({ signal }) => api.runs(slug, branch, { cursor, limit, design }, signal),
+    queryKey: [...keys.runs(slug, branch, design), offset, limit],
+    queryFn: ({ signal }) => api.runs(slug, branch, { offset, limit, design }, signal),
     placeholderData: keepPreviousData,
+    enabled,
   });
 }
 

@@ -2,4 +2,4 @@
 // them. Dates arrive as ISO strings. All of them live in shared/report/api.ts, which the server's
 // presenters are checked against too (server/http/present.ts `send`), so both ends agree.
 export type * from '../../shared/report/api';
-export type { DesignReport, EffectiveRules, Report, Rules, Status } from '../../shared/types';
+export type { DesignReport, Diagnostic, EffectiveRules, Report, RuleName, RuleSource, Rules, Status, Violation } from '../../shared/types';

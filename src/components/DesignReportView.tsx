@@ -1,5 +1,5 @@
-import type { ReactNode } from 'react';
-import type { Diagnostic, DesignReport, EffectiveRules } from '../../shared/types';
+import { useRef, useState, type ReactNode } from 'react';
+import type { Diagnostic, DesignReport, EffectiveRules } from '../api/types';
 import { AllocationTable } from './AllocationTable';
 import { ControlTables } from './ControlTables';
 import { DiagnosticsList } from './DiagnosticsList';
@@ -9,6 +9,7 @@ import { LifetimeChart } from './LifetimeChart';
 import { Panel, Stat } from './Panel';
 import { RetimingCard } from './RetimingCard';
 import { ScheduleGrid } from './ScheduleGrid';
+import { SourceView } from './SourceView';
 import { StatusBadge } from './StatusBadge';
 import { UtilizationBars } from './UtilizationBars';
 import { ViolationsList } from './ViolationsList';
@@ -23,13 +24,32 @@ export function DesignReportView({
   rules,
   changes,
   onSelectDiagnostic,
+  source,
 }: {
   design: DesignReport;
   rules?: EffectiveRules;
   /** The comparison against the base branch, rendered by the caller (only the run page has one). */
   changes?: ReactNode;
+  /** Goes to a line of the file the caller shows (the try page); without it, `source` is shown here. */
   onSelectDiagnostic?: (d: Diagnostic) => void;
+  /** The design file's text when the report carries it (a run uploaded with its designs' text). */
+  source?: string;
 }) {
+  // With the text at hand, findings and broken rules point into a file view of this design.
+  const [focus, setFocus] = useState<{ line: number; n: number } | null>(null);
+  const fileRef = useRef<HTMLDivElement>(null);
+  const ownFile = source !== undefined && !onSelectDiagnostic;
+  const goTo = (line: number | null | undefined) => {
+    if (line == null) return;
+    if (onSelectDiagnostic) return onSelectDiagnostic({ severity: 'error', code: '', message: '', line, column: null });
+    setFocus((f) => ({ line, n: (f?.n ?? 0) + 1 }));
+    fileRef.current?.scrollIntoView({ behavior: 'smooth', block: 'start' });
+  };
+  const selectLine = onSelectDiagnostic ?? (ownFile ? (d: Diagnostic) => goTo(d.line) : undefined);
+  const marks: Diagnostic[] = [
+    ...design.diagnostics,
+    ...design.violations.filter((v) => v.line != null).map((v) => ({ severity: 'error' as const, code: `rule-${v.rule}`, message: v.message, line: v.line ?? null, column: v.column ?? null })),
+  ];
   const valid = design.status !== 'error' && design.factor != null;
   const negatives = design.edges?.filter((e) => e.foldedDelay !== null && e.foldedDelay < 0).length ?? 0;
   // With negative folded delays that no retiming removes, the folded hardware cannot be built as
@@ -47,6 +67,7 @@ export function DesignReportView({
         ['registers', 'Registers'],
         ['control', 'Control'],
         ['bound', 'Iteration bound'],
+        ...(ownFile ? ([['file', 'File']] as [string, string][]) : []),
       ]
     : [];
 
@@ -60,7 +81,7 @@ export function DesignReportView({
 
       {!valid ? (
         <Panel id="findings" title="Why this design could not be analysed" subtitle="Fix these findings in the design file; positions are line:column.">
-          <DiagnosticsList diagnostics={design.diagnostics} file={design.file} onSelect={onSelectDiagnostic} />
+          <DiagnosticsList diagnostics={design.diagnostics} file={design.file} onSelect={selectLine} />
         </Panel>
       ) : (
         <>
@@ -96,7 +117,7 @@ export function DesignReportView({
 
           <div className="grid gap-5 xl:grid-cols-2">
             <Panel id="rules" title="Rules" subtitle="Broken rules and where each rule came from">
-              <ViolationsList violations={design.violations} />
+              <ViolationsList violations={design.violations} file={design.file} onSelect={selectLine || ownFile ? (v) => goTo(v.line) : undefined} />
               {rules && <RulesInForce rules={rules} />}
             </Panel>
             <Panel id="retiming" title="Retiming" subtitle="Removing negative folded delays by moving delays around loops">
@@ -106,7 +127,7 @@ export function DesignReportView({
 
           {design.diagnostics.length > 0 && (
             <Panel id="findings" title="Findings" subtitle="Warnings about the design file">
-              <DiagnosticsList diagnostics={design.diagnostics} file={design.file} onSelect={onSelectDiagnostic} />
+              <DiagnosticsList diagnostics={design.diagnostics} file={design.file} onSelect={selectLine} />
             </Panel>
           )}
 
@@ -170,6 +191,14 @@ export function DesignReportView({
             />
           </Panel>
         </>
+      )}
+
+      {ownFile && (
+        <div ref={fileRef} className="scroll-mt-20">
+          <Panel id="file" title={design.file} subtitle="The design file as the run uploaded it; findings and broken rules are marked on their lines">
+            <SourceView text={source!} diagnostics={marks} focus={focus} />
+          </Panel>
+        </div>
       )}
     </article>
   );

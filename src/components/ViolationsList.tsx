@@ -1,4 +1,4 @@
-import type { RuleName, RuleSource, Violation } from '../../shared/types';
+import type { RuleName, RuleSource, Violation } from '../api/types';
 import { StatusIcon } from './StatusBadge';
 import { pct } from './format';
 
@@ -30,8 +30,18 @@ export function formatRuleValue(rule: RuleName, v: number | string): string {
   return String(v);
 }
 
-/** The rules a design broke, each with the limit, the actual value and where the rule came from. */
-export function ViolationsList({ violations }: { violations: Violation[] }) {
+/** `file:line:column` of a violation the pipeline placed, or null. */
+export function violationWhere(v: Violation, file?: string): string | null {
+  if (v.line == null) return null;
+  return `${file ? `${file}:` : 'line '}${v.line}${v.column != null ? `:${v.column}` : ''}`;
+}
+
+/**
+ * The rules a design broke, each with the limit, the actual value and where the rule came from.
+ * A placed violation names its file:line:column; with `onSelect` (a page that shows the file) the
+ * position is a button that goes to that line.
+ */
+export function ViolationsList({ violations, file, onSelect }: { violations: Violation[]; file?: string; onSelect?: (v: Violation) => void }) {
   if (violations.length === 0)
     return (
       <p className="flex items-center gap-2 text-sm text-pass-700">
@@ -54,6 +64,18 @@ export function ViolationsList({ violations }: { violations: Violation[] }) {
             <p className="mt-0.5 text-ink-800">{v.message}</p>
             <p className="mt-0.5 text-xs text-ink-600">
               limit {formatRuleValue(v.rule, v.limit)} · actual {formatRuleValue(v.rule, v.actual)}
+              {violationWhere(v, file) && (
+                <>
+                  {' · '}
+                  {onSelect ? (
+                    <button type="button" data-where className="font-medium text-ember-700 underline underline-offset-2" onClick={() => onSelect(v)} aria-label={`Show ${violationWhere(v, file)} in the file`}>
+                      {violationWhere(v, file)}
+                    </button>
+                  ) : (
+                    <span data-where>{violationWhere(v, file)}</span>
+                  )}
+                </>
+              )}
             </p>
           </div>
         </li>

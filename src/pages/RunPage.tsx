@@ -1,15 +1,18 @@
 import { Link, useParams, useSearchParams } from 'react-router-dom';
 import { useRun } from '../api/hooks';
+import { downloadUrl } from '../api/client';
+import { rtlUnavailable } from '../../shared/hardware/rtlAvailable';
 import { ComparisonPanel } from '../components/ComparisonPanel';
 import { DesignReportView } from '../components/DesignReportView';
 import { PlanActions } from '../components/PlanActions';
 import { can } from '../api/roles';
 import { useProjectContext } from '../components/ProjectLayout';
-import { PageHeader, Panel } from '../components/Panel';
+import { PageHeader, Panel, buttonClass } from '../components/Panel';
 import { StatusBadge, StatusIcon } from '../components/StatusBadge';
 import { EmptyState, ErrorState, Loading } from '../components/States';
 import { ago, dateTime, shortCommit } from '../components/format';
 import { to } from '../links';
+import type { DesignReport } from '../api/types';
 import { useDocumentTitle } from '../components/useDocumentTitle';
 
 export default function RunPage() {
@@ -25,11 +28,15 @@ export default function RunPage() {
 
   const { run, comparison, report } = q.data;
   const designs = report.designs;
-  // A design is chosen by name (or by file for an invalid one without a name); by default the first that did not pass.
+  // A design is chosen by name (or by file for an invalid one without a name). By default the one
+  // that got worse against the base (what this commit changed), else the first that did not pass.
   const wanted = params.get('design');
+  const keyOf = (d: (typeof designs)[number]) => d.name ?? d.file;
+  const regressed = comparison.designs.filter((d) => d.regressions.length > 0).map((d) => d.name);
+  const firstRegressed = designs.findIndex((d) => regressed.includes(keyOf(d)));
   const index = Math.max(
     0,
-    wanted !== null ? designs.findIndex((d) => (d.name ?? d.file) === wanted) : designs.findIndex((d) => d.status !== 'pass'),
+    wanted !== null ? designs.findIndex((d) => keyOf(d) === wanted) : firstRegressed >= 0 ? firstRegressed : designs.findIndex((d) => d.status !== 'pass'),
   );
   const selected = designs[index];
   const select = (name: string) => {
@@ -46,6 +53,11 @@ export default function RunPage() {
           <Link to={to.branch(project.slug, run.branch)} className="hover:underline">
             ← {run.branch}
           </Link>
+        }
+        actions={
+          <a className={buttonClass.secondary} href={downloadUrl(run.id, 'report.json')} download data-download="report.json">
+            Download the report (JSON)
+          </a>
         }
         title={
           <span className="inline-flex flex-wrap items-center gap-3">
@@ -118,8 +130,10 @@ export default function RunPage() {
                 ) : null}
               </Panel>
             )}
+            {selected && <DesignFiles runId={run.id} design={selected} />}
             {selected && (
               <DesignReportView
+                source={(selected as { source?: string }).source}
                 key={`${selected.file}-${index}`}
                 design={selected}
                 rules={report.rules}
@@ -136,6 +150,36 @@ export default function RunPage() {
             )}
           </div>
         </div>
+      )}
+    </div>
+  );
+}
+
+/** One design's files: edges and control schedule as CSV, and the RTL when the plan can be built. */
+function DesignFiles({ runId, design }: { runId: number; design: DesignReport }) {
+  const name = design.name ?? design.file;
+  const noRtl = rtlUnavailable(design);
+  const link = 'inline-flex items-center gap-1.5 rounded-lg border border-ink-200 bg-white px-3 py-1.5 text-sm font-medium text-ink-800 hover:border-ember-600 hover:text-ember-800';
+  return (
+    <div className="mb-4 flex flex-wrap items-center gap-2" role="group" aria-label={`Files of ${name}`} data-testid="design-files">
+      {design.status !== 'error' && (
+        <>
+          <a className={link} href={downloadUrl(runId, 'edges.csv', name)} download data-download="edges.csv">
+            Edges (CSV)
+          </a>
+          <a className={link} href={downloadUrl(runId, 'schedule.csv', name)} download data-download="schedule.csv">
+            Control schedule (CSV)
+          </a>
+        </>
+      )}
+      {noRtl === null ? (
+        <a className={link} href={downloadUrl(runId, 'rtl.zip', name)} download data-download="rtl.zip">
+          Verilog of the folded datapath (zip)
+        </a>
+      ) : (
+        <span className="text-xs text-ink-600" data-no-rtl>
+          No RTL: {noRtl}
+        </span>
       )}
     </div>
   );

@@ -204,7 +204,7 @@ describe('a branch history', () => {
 
     // Filtered by one design, the table holds exactly the runs that have it.
     const name = all[0].designs[0].name;
-    await page.getByLabel('Design').selectOption(name);
+    await page.getByLabel('Design', { exact: true }).selectOption(name);
     await page.waitForURL(`**/branches/main?design=${encodeURIComponent(name)}`);
     await page.getByText(`History of the branch, newest run first, for the design ${name}.`).waitFor();
     const expected = all.filter((r) => r.designs.some((d) => d.name === name)).slice(0, 15).map((r) => r.commit);

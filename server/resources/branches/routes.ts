@@ -5,6 +5,8 @@ import type { Status } from '../../../shared/types';
 import type { AppContext } from '../../context';
 import { projectAccess } from '../../http/access';
 import { allow } from '../../http/errors';
+import { send } from '../../http/present';
+import type { BranchList } from '../../../shared/report/api';
 import { canListBranches } from './policy';
 
 /** How many recent runs the trend of each branch shows. */
@@ -43,14 +45,15 @@ export function branchRoutes(ctx: AppContext): Router {
        ORDER BY (b.name = $3) DESC, b.last_run_at DESC, b.name`,
       { bind: [project.id, userId, project.baseBranch], type: QueryTypes.SELECT },
     );
-    res.json({
+    send<BranchList>(res, {
       baseBranch: project.baseBranch,
       branches: rows.map((r) => ({
         name: r.name,
         isBase: r.name === project.baseBranch,
         watching: r.watching,
         lastRunAt: r.last_run_at,
-        latest: r.run_id === null ? null : { id: r.run_id, commit: r.commit, verdict: r.verdict },
+        // The join finds the run of last_run_id, so its commit and verdict are there whenever its id is.
+        latest: r.run_id === null || r.commit === null || r.verdict === null ? null : { id: r.run_id, commit: r.commit, verdict: r.verdict },
         trend: (r.trend ?? []).map((t) => ({ ...t, createdAt: new Date(t.createdAt) })),
       })),
     });

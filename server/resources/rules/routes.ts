@@ -2,9 +2,12 @@
 // GET /api/projects/:slug/rules/history.
 import express, { Router } from 'express';
 import { Op } from 'sequelize';
-import type { RuleName, Rules } from '../../../shared/types';
+import type { Rules } from '../../../shared/types';
 import type { RuleHistory, TeamRules as TeamRulesView } from '../../../shared/report/api';
-import { RULE_NAMES, RULES_SCHEMA } from '../../../shared/report/rules';
+import { RULE_NAMES, SIMULATION_RULE_NAMES, RULES_SCHEMA } from '../../../shared/report/rules';
+
+/** Every rule a team may set: the gate's and simulate's (both in RULES_SCHEMA), each kept in the history. */
+const TEAM_RULE_NAMES: readonly string[] = [...RULE_NAMES, ...SIMULATION_RULE_NAMES];
 import type { AppContext } from '../../context';
 import type { Project, User as UserRow } from '../../db/models';
 import { projectAccess } from '../../http/access';
@@ -62,9 +65,11 @@ export function ruleRoutes(ctx: AppContext): Router {
       await TeamRules.findOrCreate({ where: { projectId: project.id }, defaults: { projectId: project.id, rules: {}, updatedBy: null }, transaction });
       const row = (await TeamRules.findByPk(project.id, { transaction, lock: transaction.LOCK.UPDATE }))!;
       const old = row.rules ?? {};
-      const changed: string[] = RULE_NAMES.filter((k) => JSON.stringify(old[k] ?? null) !== JSON.stringify(rules[k] ?? null));
+      const before = old as Record<string, unknown>;
+      const after = rules as Record<string, unknown>;
+      const changed = TEAM_RULE_NAMES.filter((k) => JSON.stringify(before[k] ?? null) !== JSON.stringify(after[k] ?? null));
       for (const rule of changed) {
-        await RuleChange.create({ projectId: project.id, userId: user.id, rule, oldValue: old[rule as RuleName] ?? null, newValue: rules[rule as RuleName] ?? null, reason, revertOf }, { transaction });
+        await RuleChange.create({ projectId: project.id, userId: user.id, rule, oldValue: before[rule] ?? null, newValue: after[rule] ?? null, reason, revertOf }, { transaction });
       }
       if (changed.length) await row.update({ rules, updatedBy: user.id }, { transaction });
       if (tolerance !== undefined && tolerance !== project.regressionTolerance) {
@@ -105,7 +110,7 @@ export function ruleRoutes(ctx: AppContext): Router {
     const rules: Record<string, unknown> = { ...((await current(project)).rules as Record<string, unknown>) };
     let tolerance = project.regressionTolerance;
     for (const c of later) {
-      if ((RULE_NAMES as string[]).includes(c.rule)) {
+      if (TEAM_RULE_NAMES.includes(c.rule)) {
         if (c.oldValue === null || c.oldValue === undefined) delete rules[c.rule];
         else rules[c.rule] = c.oldValue;
       } else if (c.rule === 'regression_tolerance' && typeof c.oldValue === 'number') {

@@ -5,7 +5,7 @@ import { compareDesigns, type DesignRow } from './compare';
 
 const row = (name: string, o: Partial<DesignRow> = {}): DesignRow => ({
   run_id: 1, design_name: name, file: `${name}.fold.yaml`, status: 'pass', utilization: 0.8, register_minimum: 10,
-  negative_edge_count: 0, retiming_feasible: true, violation_count: 0, ...o,
+  negative_edge_count: 0, retiming_feasible: true, violation_count: 0, factor: 4, unit_count: 3, latency_added: 0, ...o,
 });
 
 describe('compareDesigns', () => {
@@ -35,6 +35,19 @@ describe('compareDesigns', () => {
     expect(d!.utilization).toEqual({ current: null, base: 0.8, delta: null });
     const [f] = compareDesigns([row('a', { status: 'fail', violation_count: 2 })], [row('a', { status: 'fail', violation_count: 1 })], 0.05);
     expect(f!.regressions).toEqual(['violations']);
+  });
+
+  it("carries the plan's own figures beside the base: factor, units, negative folded delays, latency, retiming", () => {
+    const [d] = compareDesigns(
+      [row('a', { factor: 6, unit_count: 2, negative_edge_count: 3, retiming_feasible: false, latency_added: 1 })],
+      [row('a')],
+      0.05,
+    );
+    expect(d!.factor).toEqual({ current: 6, base: 4, delta: 2 });
+    expect(d!.units).toEqual({ current: 2, base: 3, delta: -1 });
+    expect(d!.negativeEdges).toEqual({ current: 3, base: 0, delta: 3 });
+    expect(d!.latencyAdded).toEqual({ current: 1, base: 0, delta: 1 });
+    expect(d!.retimingFeasible).toEqual({ current: false, base: true });
   });
 
   it('matches designs by name and lists added and removed ones', () => {

@@ -22,6 +22,9 @@ export interface RunRow {
   utilization: number | null;
   register_minimum: number | null;
   violation_count: number;
+  commit_message: string | null;
+  commit_author: string | null;
+  utilization_floor: number | null;
   created_at: Date;
 }
 
@@ -35,10 +38,17 @@ export interface DesignRow {
   negative_edge_count: number | null;
   retiming_feasible: boolean | null;
   violation_count: number;
+  factor: number | null;
+  unit_count: number | null;
+  latency_added: number | null;
 }
 
+/** The columns of run_designs a DesignRow holds. */
+export const DESIGN_COLUMNS = `run_id, design_name, file, status, utilization, register_minimum, negative_edge_count, retiming_feasible,
+  violation_count, factor, unit_count, latency_added`;
+
 export const RUN_COLUMNS = `id, project_id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count,
-  failed_count, error_count, utilization, register_minimum, violation_count, created_at`;
+  failed_count, error_count, utilization, register_minimum, violation_count, commit_message, commit_author, utilization_floor, created_at`;
 
 const metric = (current: number | null, base: number | null): Metric => ({
   current, base, delta: current !== null && base !== null ? current - base : null,
@@ -67,6 +77,11 @@ export function compareDesigns(current: DesignRow[], base: DesignRow[], toleranc
       utilization: metric(d.utilization, b?.utilization ?? null),
       registerMinimum: metric(d.register_minimum, b?.register_minimum ?? null),
       violations: metric(d.violation_count, b?.violation_count ?? null),
+      factor: metric(d.factor, b?.factor ?? null),
+      units: metric(d.unit_count, b?.unit_count ?? null),
+      negativeEdges: metric(d.negative_edge_count, b?.negative_edge_count ?? null),
+      latencyAdded: metric(d.latency_added, b?.latency_added ?? null),
+      retimingFeasible: { current: d.retiming_feasible, base: b?.retiming_feasible ?? null },
       regressions,
     });
   }
@@ -74,7 +89,9 @@ export function compareDesigns(current: DesignRow[], base: DesignRow[], toleranc
     out.push({
       name: b.design_name, file: b.file, presence: 'removed', status: null, baseStatus: b.status,
       utilization: metric(null, b.utilization), registerMinimum: metric(null, b.register_minimum),
-      violations: metric(null, b.violation_count), regressions: [],
+      violations: metric(null, b.violation_count), factor: metric(null, b.factor), units: metric(null, b.unit_count),
+      negativeEdges: metric(null, b.negative_edge_count), latencyAdded: metric(null, b.latency_added),
+      retimingFeasible: { current: null, base: b.retiming_feasible }, regressions: [],
     });
   }
   return out;
@@ -83,7 +100,7 @@ export function compareDesigns(current: DesignRow[], base: DesignRow[], toleranc
 export async function loadDesignRows(ctx: AppContext, runIds: number[]): Promise<DesignRow[]> {
   if (!runIds.length) return [];
   return ctx.db.sequelize.query<DesignRow>(
-    `SELECT run_id, design_name, file, status, utilization, register_minimum, negative_edge_count, retiming_feasible, violation_count
+    `SELECT ${DESIGN_COLUMNS}
      FROM run_designs WHERE run_id = ANY($1::int[]) ORDER BY run_id, id`,
     { bind: [runIds], type: QueryTypes.SELECT },
   );

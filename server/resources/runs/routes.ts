@@ -2,8 +2,8 @@
 // with its comparison), POST /api/projects/:slug/runs (CI upload).
 import express, { Router, type Request } from 'express';
 import { QueryTypes } from 'sequelize';
-import type { RunDesignRow, RunListItem } from '../../../shared/report/api';
-import type { Sent } from '../../http/present';
+import type { RunDesignRow, RunDetail, RunListItem, RunPage, UploadResult } from '../../../shared/report/api';
+import { send, type Sent } from '../../http/present';
 import type { Report } from '../../../shared/types';
 import type { AppContext } from '../../context';
 import type { Project } from '../../db/models';
@@ -13,6 +13,7 @@ import { pgLimiter } from '../../http/limits';
 import { idParam } from '../../http/validate';
 import { afterResponse } from '../../mail/mailer';
 import { compareRun, RUN_COLUMNS, type DesignRow, type RunRow } from './compare';
+import { DOWNLOADS, edgesCsv, fileStem, rtlZip, scheduleCsv, type Download } from './downloads';
 import { ingestRun } from './ingest';
 import { notifyWatchers } from './notify';
 import { postHostFeedback } from '../hosts/feedback';
@@ -36,6 +37,9 @@ export function presentRun(r: RunRow): Sent<Omit<RunListItem, 'designs'>> {
     verdict: r.verdict,
     toolVersion: r.tool_version,
     createdAt: r.created_at,
+    message: r.commit_message,
+    author: r.commit_author,
+    utilizationFloor: r.utilization_floor,
     summary: {
       designs: r.design_count,
       failed: r.failed_count,
@@ -57,6 +61,9 @@ export function presentDesign(d: DesignRow): RunDesignRow {
     negativeEdges: d.negative_edge_count,
     retimingFeasible: d.retiming_feasible,
     violations: d.violation_count,
+    factor: d.factor,
+    units: d.unit_count,
+    latencyAdded: d.latency_added,
   };
 }
 
@@ -97,6 +104,11 @@ export function runRoutes(ctx: AppContext): Router {
     const limit = limitParam(req.query.limit, 50, 200);
     const cursor = queryString(req, 'cursor');
     const design = queryString(req, 'design');
+    // A page by number (the web's ?page= in the address) skips whole pages; the cursor stays the way for scripts.
+    const offsetText = queryString(req, 'offset');
+    const offset = offsetText === undefined ? 0 : Number(offsetText);
+    if (!Number.isInteger(offset) || offset < 0 || offset > 1_000_000 || (offsetText !== undefined && !/^\d+$/.test(offsetText))) throw badRequest('offset must be an integer from 0 to 1000000.');
+    if (cursor && offset) throw badRequest('Give either cursor or offset, not both.');
     const bind: unknown[] = [project.id, req.params.branch];
     let where = 'project_id = $1 AND branch = $2';
     if (cursor) {
@@ -115,28 +127,29 @@ export function runRoutes(ctx: AppContext): Router {
     const designFilter = designParam ? ` AND rd.design_name = ${designParam}` : '';
     const rows = await q.query<RunRow & { designs: DesignRow[] | null }>(
       `SELECT r.*, d.designs FROM (
-         SELECT ${RUN_COLUMNS} FROM runs WHERE ${where} ORDER BY created_at DESC, id DESC LIMIT $${bind.length}
+         SELECT ${RUN_COLUMNS} FROM runs WHERE ${where} ORDER BY created_at DESC, id DESC LIMIT $${bind.length} OFFSET ${offset}
        ) r
        LEFT JOIN LATERAL (
          SELECT json_agg(json_build_object('run_id', rd.run_id, 'design_name', rd.design_name, 'file', rd.file, 'status', rd.status,
                   'utilization', rd.utilization, 'register_minimum', rd.register_minimum, 'negative_edge_count', rd.negative_edge_count,
-                  'retiming_feasible', rd.retiming_feasible, 'violation_count', rd.violation_count) ORDER BY rd.id) AS designs
+                  'retiming_feasible', rd.retiming_feasible, 'violation_count', rd.violation_count, 'factor', rd.factor,
+                  'unit_count', rd.unit_count, 'latency_added', rd.latency_added) ORDER BY rd.id) AS designs
          FROM run_designs rd WHERE rd.run_id = r.id${designFilter}
        ) d ON true
        ORDER BY r.created_at DESC, r.id DESC`,
       { bind, type: QueryTypes.SELECT },
     );
     const page = rows.slice(0, limit);
-    res.json({
+    send<RunPage>(res, {
       runs: page.map((r) => ({ ...presentRun(r), designs: (r.designs ?? []).map(presentDesign) })),
       nextCursor: rows.length > limit ? encodeCursor(page[page.length - 1]!) : null,
     });
   });
 
-  router.get('/api/runs/:id', async (req, res) => {
+  /** A run that the caller may read, with its stored report as text (one round trip). */
+  const readableRun = async (req: Request) => {
     if (!req.actor) throw unauthorized(req.authProblem ?? 'Sign in first.', req.authProblem ? 'invalid-credentials' : 'unauthorized');
-    const id = idParam(req.params.id);
-    // The run's columns and its stored report as text, in one round trip.
+    const id = idParam(String(req.params.id));
     const [found] = id === null ? [] : await q.query<RunRow & { report_text: string }>(
       `SELECT ${RUN_COLUMNS}, report::text AS report_text FROM runs WHERE id = $1`,
       { bind: [id], type: QueryTypes.SELECT },
@@ -145,13 +158,46 @@ export function runRoutes(ctx: AppContext): Router {
     const { report_text: reportText, ...run } = found;
     const { project, role } = await projectAccess(ctx, req, { id: run.project_id });
     allow(canReadRuns(role));
+    return { run, reportText, project };
+  };
+
+  router.get('/api/runs/:id', async (req, res) => {
+    const { run, reportText, project } = await readableRun(req);
     const { comparison, designs } = await compareRun(ctx, run, project);
-    const head = JSON.stringify({
+    const body: Sent<Omit<RunDetail, 'report'>> = {
       run: { ...presentRun(run), project: { slug: project.slug, name: project.name }, designs: designs.map(presentDesign) },
       comparison,
-    });
+    };
+    const head = JSON.stringify(body);
     // The stored report goes out as stored, without parsing it into objects and back.
     res.type('application/json').send(`${head.slice(0, -1)},"report":${reportText}}`);
+  });
+
+  // The run page's downloads: the report as stored, one design's edges or schedule as CSV, its RTL as a zip.
+  router.get('/api/runs/:id/download/:file', async (req, res) => {
+    const file = String(req.params.file) as Download;
+    if (!DOWNLOADS.includes(file)) throw notFound(`No such download; there are ${DOWNLOADS.join(', ')}.`);
+    const { run, reportText, project } = await readableRun(req);
+    const stem = `${fileStem(project.slug)}-${run.commit.slice(0, 12)}`;
+    if (file === 'report.json') {
+      res.attachment(`${stem}.pleat.json`).type('application/json').send(reportText);
+      return;
+    }
+    const name = queryString(req, 'design');
+    if (name === undefined) throw badRequest(`${file} is made for one design: add ?design=<name>.`);
+    const report = JSON.parse(reportText) as Report;
+    const design = report.designs.find((d) => (d.name ?? d.file) === name);
+    if (!design) throw notFound('This run has no design of that name.');
+    const base = `${stem}-${fileStem(name)}`;
+    if (file === 'edges.csv') {
+      res.attachment(`${base}-edges.csv`).type('text/csv; charset=utf-8').send(edgesCsv(design));
+    } else if (file === 'schedule.csv') {
+      res.attachment(`${base}-schedule.csv`).type('text/csv; charset=utf-8').send(scheduleCsv(design));
+    } else {
+      const zip = await rtlZip(design);
+      if (!zip.ok) throw new HttpError(422, 'no-rtl', zip.reason);
+      res.attachment(`${base}-rtl.zip`).type('application/zip').send(zip.zip);
+    }
   });
 
   // Authorise before reading a body of up to maxReportBytes.
@@ -182,7 +228,8 @@ export function runRoutes(ctx: AppContext): Router {
       // The pull request's status and summary: after the response, so the host never delays or fails the upload.
       afterResponse(res, ctx.mail, () => postHostFeedback(ctx, project, stored.row, report));
     }
-    res.status(stored.created ? 201 : 200).json({
+    res.status(stored.created ? 201 : 200);
+    send<UploadResult>(res, {
       created: stored.created,
       run: presentRun(run),
       url: `${ctx.config.publicUrl}/projects/${encodeURIComponent(project.slug)}/runs/${run.id}`,

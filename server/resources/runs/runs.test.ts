@@ -54,6 +54,9 @@ describe('POST /api/projects/:slug/runs', () => {
     expect(got.status).toBe(200);
     expect(got.body.report).toEqual(JSON.parse(JSON.stringify(report)));
     expect(got.body.run.designs.map((d: { name: string }) => d.name)).toEqual(report.designs.map((d) => d.name));
+    // The plan's figures beside each design, as the engine's report has them.
+    expect(got.body.run.designs.map((d: { factor: number | null; units: number | null; latencyAdded: number | null }) => [d.factor, d.units, d.latencyAdded]))
+      .toEqual(report.designs.map((d) => [d.factor ?? null, d.schedule?.length ?? null, d.retiming?.latencyAdded ?? null]));
   });
 
   it('keeps one run per commit: a second upload of the same commit returns the first (200)', async () => {
@@ -144,9 +147,32 @@ describe('GET /api/projects/:slug/branches/:branch/runs', () => {
     expect(seen).toEqual(expected);
     expect(pages).toBe(3);
 
+    // A page by number (offset) gives the same runs as walking the cursor there.
+    const byOffset: number[] = [];
+    for (const offset of [0, 3, 6]) {
+      const res = await read(`/api/projects/${project.slug}/branches/feature%2Fpaging/runs?limit=3&offset=${offset}`);
+      expect(res.status).toBe(200);
+      byOffset.push(...res.body.runs.map((r: { id: number }) => r.id));
+    }
+    expect(byOffset).toEqual(expected);
+    expect((await read(`/api/projects/${project.slug}/branches/feature%2Fpaging/runs?offset=-1`)).status).toBe(400);
+    expect((await read(`/api/projects/${project.slug}/branches/feature%2Fpaging/runs?offset=1.5`)).status).toBe(400);
+
     const filtered = await read(`/api/projects/${project.slug}/branches/feature%2Fpaging/runs?design=beta`);
     expect(filtered.body.runs.map((r: { id: number }) => r.id)).toEqual(expected.filter((id) => ids.indexOf(id) % 2 === 1));
     expect(filtered.body.runs.every((r: { designs: { name: string }[] }) => r.designs.length === 1 && r.designs[0]!.name === 'beta')).toBe(true);
+  });
+
+  it("keeps the first line of the commit's message, its author and the utilization floor the run was checked under", async () => {
+    const report = { ...makeReport({ branch: 'feature/meta' }), rules: { min_utilization: { value: 0.65, source: 'team' as const } } };
+    report.git = { ...report.git, message: 'Fold the notch tighter\n\nN = 3 frees a multiplier.', author: 'Rhea Router' };
+    expect((await upload(report)).status).toBe(201);
+    const bare = makeReport({ branch: 'feature/meta' }); // an older CLI: no message, no author, no floor
+    expect((await upload(bare)).status).toBe(201);
+    const res = await read(`/api/projects/${project.slug}/branches/feature%2Fmeta/runs`);
+    const [older, newer] = [...res.body.runs].reverse();
+    expect([newer.message, newer.author, newer.utilizationFloor]).toEqual([null, null, null]);
+    expect([older.message, older.author, older.utilizationFloor]).toEqual(['Fold the notch tighter', 'Rhea Router', 0.65]);
   });
 
   it('refuses a cursor it did not give out and a limit out of range', async () => {
@@ -187,6 +213,8 @@ describe('GET /api/runs/:id comparison with the base branch', () => {
     expect(fir.utilization.delta).toBeCloseTo(-0.1, 12);
     expect(fir.registerMinimum).toEqual({ current: 12, base: 10, delta: 2 });
     expect(fir.violations).toEqual({ current: 1, base: 0, delta: 1 });
+    expect(fir.factor).toEqual({ current: 4, base: 4, delta: 0 });
+    expect(fir.units).toEqual({ current: null, base: null, delta: null });
     // 0.8 -> 0.7 is a 12.5% drop and 10 -> 12 a 20% rise: both past the 10% tolerance.
     expect(fir.regressions).toEqual(['status', 'utilization', 'registerMinimum', 'violations']);
     expect(body.comparison.designs.map((d: { name: string; presence: string }) => [d.name, d.presence]))
@@ -228,5 +256,28 @@ describe('GET /api/runs/:id comparison with the base branch', () => {
   it('answers 404 for a run id that does not exist or is not a number', async () => {
     expect((await read('/api/runs/999999')).status).toBe(404);
     expect((await read('/api/runs/abc')).status).toBe(404);
+  });
+});
+
+describe('migrations 006 and 007 on runs stored before them', () => {
+  it('fill the commit facts, the floor and the plan figures from the stored reports', async () => {
+    const m005 = await import('../../db/migrations/006-run-commit-meta');
+    const m006 = await import('../../db/migrations/007-run-design-plan');
+    const report = { ...engineReport('feature/backfill', randomCommit()), rules: { min_utilization: { value: 0.55, source: 'repository' as const } } };
+    report.git = { ...report.git, message: 'Refold the notch\nbody text', author: 'Ines Delaney' };
+    const { id } = await ingestRun(t.ctx, project, report);
+    const sequelize = t.db.sequelize;
+    const params = { context: sequelize, name: 'test' } as unknown as Parameters<typeof m005.up>[0];
+    // As before the migrations: the columns are gone; then the migrations run again over the stored row.
+    await m006.down(params);
+    await m005.down(params);
+    await m005.up(params);
+    await m006.up(params);
+    const member = await makeMember(t.ctx, project, 'viewer');
+    const got = await t.http().get(`/api/runs/${id}`).set('Cookie', cookieFor(t.ctx, member));
+    expect(got.status).toBe(200);
+    expect([got.body.run.message, got.body.run.author, got.body.run.utilizationFloor]).toEqual(['Refold the notch', 'Ines Delaney', 0.55]);
+    expect(got.body.run.designs.map((d: { factor: number | null; units: number | null; latencyAdded: number | null }) => [d.factor, d.units, d.latencyAdded]))
+      .toEqual(report.designs.map((d) => [d.factor ?? null, d.schedule?.length ?? null, d.retiming?.latencyAdded ?? null]));
   });
 });

@@ -11,6 +11,10 @@ export interface DesignSummary {
   negativeEdgeCount: number | null;
   retimingFeasible: boolean | null;
   violationCount: number;
+  /** The plan: folding factor, number of units, iterations of latency that retiming adds. */
+  factor: number | null;
+  unitCount: number | null;
+  latencyAdded: number | null;
 }
 
 export interface RunSummary {
@@ -24,6 +28,9 @@ export interface RunSummary {
   violationCount: number;
 }
 
+/** An integer that fits PostgreSQL's integer column, else null (the report's other fields are not checked this far). */
+const int32 = (v: unknown, min: number): number | null => (typeof v === 'number' && Number.isInteger(v) && v >= min && v <= 2_147_483_647 ? v : null);
+
 export function summarizeDesign(d: DesignReport): DesignSummary {
   const edges = Array.isArray(d.edges) ? d.edges : null;
   return {
@@ -35,6 +42,9 @@ export function summarizeDesign(d: DesignReport): DesignSummary {
     negativeEdgeCount: edges ? edges.filter((e) => typeof e.foldedDelay === 'number' && e.foldedDelay < 0).length : null,
     retimingFeasible: typeof d.retiming?.feasible === 'boolean' ? d.retiming.feasible : null,
     violationCount: Array.isArray(d.violations) ? d.violations.length : 0,
+    factor: int32(d.factor, 1),
+    unitCount: Array.isArray(d.schedule) ? d.schedule.length : null,
+    latencyAdded: int32(d.retiming?.latencyAdded, -2_147_483_647),
   };
 }
 
