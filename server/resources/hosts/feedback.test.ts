@@ -42,7 +42,7 @@ describe.each(CASES)('pull-request feedback on $kind', ({ kind, repository, fail
       .send(makeReport({ branch, baseBranch: 'main', designs }));
     expect(res.status).toBe(201);
     await t.ctx.mail.settled(); // the feedback runs after the response; wait for it to finish
-    return res.body as { run: { id: number; commit: string } };
+    return res.body as { run: { id: number; commit: string; createdAt: string } };
   }
   const projectHost = async () => (await t.http().get(`/api/projects/${project.slug}`).set('Cookie', cookieFor(t.ctx, lead))).body.project.host;
 
@@ -88,10 +88,12 @@ describe.each(CASES)('pull-request feedback on $kind', ({ kind, repository, fail
 
   it('two pushes of a branch at once still make one comment on its request', async () => {
     host.openRequest(repository, 'feature/pair', 8);
-    await Promise.all([upload('feature/pair'), upload('feature/pair')]);
+    const runs = (await Promise.all([upload('feature/pair'), upload('feature/pair')])).map((r) => r.run);
     const mine = host.comments.filter((c) => c.number === 8);
     expect(mine).toHaveLength(1);
-    expect(mine[0]!.edits).toBe(1);
+    // Whichever finished last, the comment shows the newer run: an older one never overwrites it.
+    const newer = [...runs].sort((x, y) => Date.parse(x.createdAt) - Date.parse(y.createdAt) || x.id - y.id)[1]!;
+    expect(mine[0]!.body).toContain(`/runs/${newer.id})`);
   });
 
   it('a host answering 500 leaves the upload at 201 and shows the failure on the project', async () => {
