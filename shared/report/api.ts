@@ -105,6 +105,8 @@ export type HostKind = 'github' | 'gitlab';
 export interface HostStatus {
   kind: HostKind;
   repository: string;
+  /** The repository's web page on the host (for links to files: GitHub `<webUrl>/blob/<commit>/<path>`, GitLab `<webUrl>/-/blob/<commit>/<path>`); null when it cannot be told from the settings. */
+  webUrl: string | null;
   /** The last time a status and comment were posted (or no open request was found) without a failure. */
   lastOkAt: string | null;
   /** The last failure to talk to the host, kept until it is replaced by a newer one. */

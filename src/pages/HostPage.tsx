@@ -120,6 +120,16 @@ function HostForm({ slug, current }: { slug: string; current: HostConnection | n
       {current && (
         <Panel title="Last feedback">
           <dl className="grid grid-cols-[auto_1fr] gap-x-4 gap-y-2 text-sm" data-testid="host-outcome">
+            <dt className="text-ink-600">Repository</dt>
+            <dd>
+              {current.webUrl ? (
+                <a className="text-ember-700 underline" href={current.webUrl} rel="noreferrer">
+                  {current.repository}
+                </a>
+              ) : (
+                current.repository
+              )}
+            </dd>
             <dt className="text-ink-600">Last posted</dt>
             <dd>{current.lastOkAt ? `${dateTime(current.lastOkAt)} (${ago(current.lastOkAt)})` : 'not yet'}</dd>
             <dt className="text-ink-600">Last failure</dt>

@@ -126,7 +126,7 @@ export default function RulesPage() {
             {(data) => (mayEdit ? <RulesForm slug={project.slug} data={data} /> : <RulesReadOnly data={data} />)}
           </QueryState>
         </Panel>
-        <Panel id="rule-history" title="Changes" subtitle="Every change to the team rules, with who made it and when">
+        <Panel id="rule-history" title="Changes" subtitle="Every change to the team rules, with who made it, when and why">
           <History slug={project.slug} mayEdit={mayEdit} />
         </Panel>
       </div>
@@ -415,13 +415,13 @@ function History({ slug, mayEdit }: { slug: string; mayEdit: boolean }) {
                   <span className="text-ink-600">{ruleValueText(c.rule, c.oldValue)}</span> <span aria-label="changed to">→</span>{' '}
                   <span className="font-bold">{ruleValueText(c.rule, c.newValue)}</span>
                 </td>
-                <td className={`${tableClass.td} text-ink-700`}>{c.reason ?? <span className="text-ink-400">none given</span>}</td>
+                <td className={`${tableClass.td} text-ink-700`}>{c.reason ?? <span className="text-ink-600">none given</span>}</td>
                 {mayEdit && (
                   <td className={tableClass.td}>
                     {i > 0 && (
                       <button
                         type="button"
-                        className={buttonClass.secondary}
+                        className={`${buttonClass.secondary} whitespace-nowrap`}
                         disabled={revert.isPending}
                         onClick={() => {
                           // The prompt is the confirmation: cancelling it reverts nothing.

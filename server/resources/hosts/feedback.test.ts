@@ -9,6 +9,9 @@ import { startFakeGitHost, type FakeGitHost } from '../../test/fakeGitHost';
 import { startTestServer, type TestServer } from '../../test/server';
 import type { Project, User } from '../../db/models';
 import { COMMENT_MARKER } from './summary';
+import { randomBytes } from 'node:crypto';
+import { sealToken } from './secret';
+import { saveConnection } from './store';
 
 let t: TestServer;
 beforeAll(async () => { t = await startTestServer(); });
@@ -42,7 +45,7 @@ describe.each(CASES)('pull-request feedback on $kind', ({ kind, repository, fail
       .send(makeReport({ branch, baseBranch: 'main', designs }));
     expect(res.status).toBe(201);
     await t.ctx.mail.settled(); // the feedback runs after the response; wait for it to finish
-    return res.body as { run: { id: number; commit: string } };
+    return res.body as { run: { id: number; commit: string; createdAt: string } };
   }
   const projectHost = async () => (await t.http().get(`/api/projects/${project.slug}`).set('Cookie', cookieFor(t.ctx, lead))).body.project.host;
 
@@ -88,10 +91,12 @@ describe.each(CASES)('pull-request feedback on $kind', ({ kind, repository, fail
 
   it('two pushes of a branch at once still make one comment on its request', async () => {
     host.openRequest(repository, 'feature/pair', 8);
-    await Promise.all([upload('feature/pair'), upload('feature/pair')]);
+    const runs = (await Promise.all([upload('feature/pair'), upload('feature/pair')])).map((r) => r.run);
     const mine = host.comments.filter((c) => c.number === 8);
     expect(mine).toHaveLength(1);
-    expect(mine[0]!.edits).toBe(1);
+    // Whichever finished last, the comment shows the newer run: an older one never overwrites it.
+    const newer = [...runs].sort((x, y) => Date.parse(x.createdAt) - Date.parse(y.createdAt) || x.id - y.id)[1]!;
+    expect(mine[0]!.body).toContain(`/runs/${newer.id})`);
   });
 
   it('a host answering 500 leaves the upload at 201 and shows the failure on the project', async () => {
@@ -112,3 +117,37 @@ describe.each(CASES)('pull-request feedback on $kind', ({ kind, repository, fail
     expect(host.comments.filter((c) => c.number === 7)).toHaveLength(1);
   });
 });
+
+describe('a token that does not open', () => {
+  it('is recorded on the project (sealed under another key), and the upload is stored all the same', async () => {
+    const project = await makeProject(t.ctx);
+    const lead = await makeMember(t.ctx, project, 'lead');
+    const ci = (await makeCiToken(t.ctx, project)).secret;
+    await saveConnection(t.ctx, {
+      projectId: project.id, kind: 'gitlab', apiUrl: 'http://127.0.0.1:9/api/v4', repository: 'g/p', userId: lead.id,
+      sealed: sealToken(randomBytes(32), project.id, 'a-token-under-an-old-key'), last4: '-key',
+    });
+    const res = await t.http().post(`/api/projects/${project.slug}/runs`).set('Authorization', `Bearer ${ci}`).send(makeReport({ branch: 'feature/x' }));
+    expect(res.status).toBe(201);
+    await t.ctx.mail.settled();
+    const p = await t.http().get(`/api/projects/${project.slug}`).set('Cookie', cookieFor(t.ctx, lead));
+    expect(p.body.project.host.lastError).toMatch(/^GitLab: the stored token does not open with this server's PLEAT_SECRET_KEY/);
+  });
+});
+
+describe('a server without PLEAT_SECRET_KEY', () => {
+  it('refuses to connect a host, saying what is missing', async () => {
+    const bare = await startTestServer({ config: { secretKey: null } });
+    try {
+      const project = await makeProject(bare.ctx);
+      const lead = await makeMember(bare.ctx, project, 'lead');
+      const res = await bare.http().put(`/api/projects/${project.slug}/host`).set('Cookie', cookieFor(bare.ctx, lead))
+        .send({ kind: 'github', repository: 'acme/x', token: 'a-token-12345678' });
+      expect(res.status).toBe(503);
+      expect(res.body.error).toMatchObject({ code: 'no-secret-key', message: expect.stringContaining('PLEAT_SECRET_KEY') });
+    } finally {
+      await bare.close();
+    }
+  });
+});
+

@@ -11,8 +11,8 @@ import type { HostClient, HostSettings, OpenRequest } from './client';
 import { githubClient } from './github';
 import { gitlabClient } from './gitlab';
 import { openToken } from './secret';
-import { loadConnection, recordOutcome } from './store';
-import { COMMENT_MARKER, statusDescription, summaryComment } from './summary';
+import { loadConnection, recordOutcome, repositoryWebUrl } from './store';
+import { COMMENT_MARKER, statusDescription, summaryComment, type FileLink } from './summary';
 
 const HOST_NAME = { github: 'GitHub', gitlab: 'GitLab' } as const;
 
@@ -47,7 +47,11 @@ export async function postHostFeedback(ctx: AppContext, project: Project, run: R
       const link = `${ctx.config.publicUrl}/projects/${encodeURIComponent(project.slug)}/runs/${run.id}`;
       await step('posting the commit status', () => client.postStatus(run.commit, report.verdict === 'pass' ? 'success' : 'failure', statusDescription(report), link));
       const { comparison } = await compareRun(ctx, run, project);
-      const body = summaryComment({ report, comparison, branch: run.branch, commit: run.commit, link });
+      const web = repositoryWebUrl(conn.kind, conn.api_url, conn.repository);
+      // Report paths are relative to the config file's folder, the repository root (docs/cli.md); absolute or ../ paths are not linked.
+      const fileLink: FileLink | undefined = web ? (file, line) => (/^(\/|\.\.\/|[A-Za-z]:)/.test(file) ? null
+        : `${web}${conn.kind === 'gitlab' ? '/-' : ''}/blob/${run.commit}/${file.split('/').map(encodeURIComponent).join('/')}${line ? `#L${line}` : ''}`) : undefined;
+      const body = summaryComment({ report, comparison, branch: run.branch, commit: run.commit, link, fileLink });
       await postComment(ctx, client, project.id, request, run, body);
     }
     await recordOutcome(ctx, project.id, null);

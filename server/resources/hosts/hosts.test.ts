@@ -7,6 +7,7 @@ import { cookieFor, makeMember, makeProject } from '../../test/factories';
 import { startTestServer, type TestServer } from '../../test/server';
 import type { Project, User } from '../../db/models';
 import { openToken, sealToken } from './secret';
+import { repositoryWebUrl } from './store';
 
 let t: TestServer;
 let project: Project;
@@ -75,7 +76,9 @@ describe('git host connection', () => {
 
   it('members see which host and its last error on the project; only a lead sees the settings', async () => {
     const p = await t.http().get(`/api/projects/${project.slug}`).set('Cookie', cookieFor(t.ctx, viewer));
-    expect(p.body.project.host).toEqual({ kind: 'github', repository: 'acme/other', lastOkAt: null, lastError: null, lastErrorAt: null });
+    expect(p.body.project.host).toEqual({
+      kind: 'github', repository: 'acme/other', webUrl: 'https://github.example.com/acme/other', lastOkAt: null, lastError: null, lastErrorAt: null,
+    });
     expect((await t.http().get(`/api/projects/${project.slug}/host`).set('Cookie', cookieFor(t.ctx, viewer))).status).toBe(403);
     expect((await put({ kind: 'github', repository: 'acme/x', token: TOKEN }, viewer)).status).toBe(403);
   });
@@ -86,5 +89,16 @@ describe('git host connection', () => {
     const p = await t.http().get(`/api/projects/${project.slug}`).set('Cookie', cookieFor(t.ctx, lead));
     expect(p.body.project.host).toBeNull();
     expect((await t.http().delete(`/api/projects/${project.slug}/host`).set('Cookie', cookieFor(t.ctx, lead))).status).toBe(404);
+  });
+});
+
+describe('the repository web address', () => {
+  it('follows from the API address of each host (GitHub: api.github.com and /api/v3; GitLab: /api/v4, from the hosts\' REST references)', () => {
+    expect(repositoryWebUrl('github', 'https://api.github.com', 'acme/x')).toBe('https://github.com/acme/x');
+    expect(repositoryWebUrl('github', 'https://ghe.example.com/api/v3', 'acme/x')).toBe('https://ghe.example.com/acme/x');
+    expect(repositoryWebUrl('gitlab', 'https://gitlab.com/api/v4', 'g/sub/x')).toBe('https://gitlab.com/g/sub/x');
+    expect(repositoryWebUrl('gitlab', 'https://git.example.com/gitlab/api/v4/', 'g/x')).toBe('https://git.example.com/gitlab/g/x');
+    expect(repositoryWebUrl('gitlab', 'https://gitlab.com/api/v4', '12345')).toBeNull();
+    expect(repositoryWebUrl('github', 'http://127.0.0.1:9/elsewhere', 'acme/x')).toBeNull();
   });
 });

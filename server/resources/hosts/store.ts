@@ -26,8 +26,26 @@ export async function loadConnection(ctx: AppContext, projectId: number): Promis
   return row ?? null;
 }
 
+/**
+ * The repository's web address, from the API address: api.github.com serves github.com, a GitHub
+ * Enterprise server its API under /api/v3 and GitLab under /api/v4 (the hosts' REST references).
+ * A GitLab project named by its numeric id has no path to show.
+ */
+export function repositoryWebUrl(kind: HostKind, apiUrl: string, repository: string): string | null {
+  if (kind === 'gitlab' && /^\d+$/.test(repository)) return null;
+  let url: URL;
+  try { url = new URL(apiUrl); } catch { return null; }
+  if (kind === 'github' && url.hostname === 'api.github.com') return `https://github.com/${repository}`;
+  const suffix = kind === 'github' ? /\/api\/v3\/?$/ : /\/api\/v4\/?$/;
+  if (!suffix.test(url.pathname)) return null;
+  return `${url.origin}${url.pathname.replace(suffix, '')}/${repository}`;
+}
+
 export function presentStatus(h: ConnectionRow): Sent<HostStatus> {
-  return { kind: h.kind, repository: h.repository, lastOkAt: h.last_ok_at, lastError: h.last_error, lastErrorAt: h.last_error_at };
+  return {
+    kind: h.kind, repository: h.repository, webUrl: repositoryWebUrl(h.kind, h.api_url, h.repository),
+    lastOkAt: h.last_ok_at, lastError: h.last_error, lastErrorAt: h.last_error_at,
+  };
 }
 
 export function presentConnection(h: ConnectionRow): Sent<HostConnection> {

@@ -11,17 +11,26 @@ const num = (v: number | null) => (v === null ? 'none' : String(v));
 const code = (s: string) => `\`${s.replace(/`/g, "'")}\``;
 const REGRESSION: Record<string, string> = { status: 'verdict', utilization: 'utilization', registerMinimum: 'registers', violations: 'rule breaks' };
 
+/** Makes a Markdown link to a file (and line) at the run's commit on the host; absent: plain text. */
+export type FileLink = (file: string, line: number | null) => string | null;
+
+/** A file reference: `file:line[:column]`, linked to the host's file view when there is one. */
+function place(file: string, line: number | null | undefined, column: number | null | undefined, link?: FileLink): string {
+  const text = line ? `${file}:${line}${column ? `:${column}` : ''}` : file;
+  const url = link?.(file, line ?? null);
+  return url ? `[${text}](${url})` : text;
+}
+
 /** What broke in the report: one line per design that does not pass, naming the rule or the first error. */
-export function brokenLines(report: Report): string[] {
+export function brokenLines(report: Report, link?: FileLink): string[] {
   const out: string[] = [];
   for (const d of report.designs) {
     if (d.status === 'error') {
       const first = d.diagnostics.find((x) => x.severity === 'error') ?? d.diagnostics[0];
-      const at = first?.line ? `${d.file}:${first.line}${first.column ? `:${first.column}` : ''}` : d.file;
-      out.push(`${code(d.name ?? d.file)} cannot be checked: ${first ? `${first.code} at ${at}: ${first.message}` : `the file ${d.file} is not valid`}`);
+      out.push(`${code(d.name ?? d.file)} cannot be checked: ${first ? `${first.code} at ${place(d.file, first.line, first.column, link)}: ${first.message}` : `the file ${place(d.file, null, null, link)} is not valid`}`);
     } else if (d.status === 'fail') {
-      const rules = d.violations.map((v) => `${code(v.rule)} (${v.source} rule${v.unit ? `, unit ${v.unit}` : ''}: ${v.actual} against the limit ${v.limit})`);
-      out.push(`${code(d.name ?? d.file)} (${d.file}) breaks ${rules.length ? rules.join(', ') : 'a rule'}`);
+      const rules = d.violations.map((v) => `${code(v.rule)} (${v.source} rule${v.unit ? `, unit ${v.unit}` : ''}: ${v.actual} against the limit ${v.limit}${v.line ? `, ${place(d.file, v.line, v.column, link)}` : ''})`);
+      out.push(`${code(d.name ?? d.file)} (${place(d.file, null, null, link)}) breaks ${rules.length ? rules.join(', ') : 'a rule'}`);
     }
   }
   return out;
@@ -55,11 +64,11 @@ export function statusDescription(report: Report): string {
   return line.length <= 140 ? line : `${line.slice(0, 139)}…`;
 }
 
-export function summaryComment(o: { report: Report; comparison: Comparison; branch: string; commit: string; link: string }): string {
+export function summaryComment(o: { report: Report; comparison: Comparison; branch: string; commit: string; link: string; fileLink?: FileLink }): string {
   const { report, comparison: c } = o;
   const lines = [COMMENT_MARKER, `#### Pleat: ${report.verdict.toUpperCase()} (${verdictLine(report)})`, ''];
   lines.push(`Commit ${code(o.commit.slice(0, 12))} of ${code(o.branch)}.`);
-  const broken = brokenLines(report);
+  const broken = brokenLines(report, o.fileLink);
   if (broken.length) lines.push('', '**What broke**', '', ...broken.map((b) => `- ${b}`));
   if (c.baseRun) {
     const moved = c.designs.map((d) => movedLine(d, c.baseBranch)).filter((x): x is string => x !== null);
