@@ -1,11 +1,11 @@
 // `pleat baseline [paths...]`: checks the designs as `pleat check` does and writes their broken
 // rules to a baseline file (pleat-baseline/1, docs/cli.md) to commit, so that
 // `pleat check --baseline FILE` fails only on what is new or worse.
-import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { mkdirSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import type { Command } from 'commander';
 import { CliError, type CliContext, type RegisterCommand } from '../context';
-import { baselineOf, parseBaseline, type Baseline } from '../../shared/report/baseline';
+import { baselineOf } from '../../shared/report/baseline';
 import { checkToReport } from './check';
 
 export const DEFAULT_BASELINE = 'pleat-baseline.json';
@@ -47,23 +47,4 @@ async function runBaseline(paths: string[], opts: BaselineOptions, ctx: CliConte
   const designs = new Set(baseline.findings.map((f) => f.design)).size;
   process.stdout.write(`baseline ${opts.output}: ${baseline.findings.length} broken rule${baseline.findings.length === 1 ? '' : 's'} of ${designs} design${designs === 1 ? '' : 's'} (of ${report.designs.length} checked); commit it and run \`pleat check --baseline ${opts.output}\`\n`);
   return 0;
-}
-
-/** Reads a baseline file for `check --baseline`; a clear error (exit 2) when it is not one. */
-export function readBaseline(abs: string, shown: string): Baseline {
-  let text: string;
-  try {
-    text = readFileSync(abs, 'utf8');
-  } catch (e) {
-    throw new CliError(`cannot read the baseline ${shown}: ${(e as NodeJS.ErrnoException).code === 'ENOENT' ? 'no such file (`pleat baseline` writes it)' : (e as Error).message}`);
-  }
-  let json: unknown;
-  try {
-    json = JSON.parse(text);
-  } catch (e) {
-    throw new CliError(`the baseline ${shown} is not JSON: ${(e as Error).message}`);
-  }
-  const { baseline, problem } = parseBaseline(json);
-  if (!baseline) throw new CliError(`the baseline ${shown} is not a pleat baseline: ${problem}`);
-  return baseline;
 }
