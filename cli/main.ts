@@ -47,7 +47,7 @@ export async function main(argv: string[]): Promise<void> {
       outputError: (text, write) => write(`pleat: ${text.replace(/^error: /, '')}`),
     });
   for (const register of Object.values(commands)) register(program, ctx);
-  program.addHelpText('after', '\nExit codes: 0 all designs pass, 1 a rule is broken, 2 invalid design, config or command line, 3 upload failed after retries.\nplan and sweep: 0 a plan was found, 1 no plan exists at this N and these units (or none in the time limit), 2 invalid input.\nA pass is an engineering aid, not a sign-off of the hardware.\nDocumentation: docs/cli.md');
+  program.addHelpText('after', '\nExit codes: 0 all designs pass, 1 a rule is broken, 2 invalid design, config or command line, 3 upload failed after retries.\nplan and sweep: 0 a plan was found, 1 no plan exists at this N and these units (or none in the time limit), 2 invalid input.\ncheck --baseline: 1 only for broken rules that are new or worse than the baseline. diff: 0 whatever moved, 2 invalid input.\nA pass is an engineering aid, not a sign-off of the hardware.\nDocumentation: docs/cli.md');
 
   try {
     await program.parseAsync(argv);

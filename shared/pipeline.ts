@@ -74,58 +74,67 @@ export function runDesignModel(
   const control = analysis.control ?? null;
   const { violations: raw, warnings } = applyRules(analysis, options.rules ?? NO_RULES);
   const text = options.text;
-  const violations = text !== undefined ? placeViolations(text, raw) : raw;
-  // The report points at the edges it names (negative folded delays, the blocking loop); the
-  // analysis itself stays as the later stages use it.
-  const placed = text !== undefined ? placeEdges(text, analysis) : analysis;
-  const ruleWarnings = text !== undefined && warnings.some((w) => w.path) ? locate(text, warnings) : warnings;
+  // One reading of the text places the rule findings, their warnings and the edges the report
+  // names (negative folded delays, the blocking loop); the analysis itself stays as the later
+  // stages use it.
+  const { violations, ruleWarnings, analysis: placed } =
+    text !== undefined ? placeFindings(text, raw, warnings, analysis) : { violations: raw, ruleWarnings: warnings, analysis };
   const diagnostics = options.diagnostics ?? [];
   const report = designReport({ file, name: design.name, diagnostics, analysis: placed, violations, ruleWarnings });
   return { report, design, analysis, datapath, control, diagnostics: [...diagnostics, ...ruleWarnings], violations };
 }
 
-/** Violations name a place in the file (the first negative edge, a unit's set): give them a line and column. */
-function placeViolations(text: string, violations: Violation[]): Violation[] {
-  if (!violations.some((v) => v.path)) return violations;
-  const probes: Diagnostic[] = violations.map((v) => ({ severity: 'error', code: `rule-${v.rule}`, message: v.message, line: null, column: null, path: v.path ?? [] }));
-  try {
-    const placed = locate(text, probes);
-    return violations.map((v, i) => (v.path ? { ...v, line: placed[i].line, column: placed[i].column } : v));
-  } catch {
-    return violations;
-  }
-}
+/**
+ * Above this size a design's text is read for positions only when a rule finding needs one:
+ * the reading costs about as much as the analysis of a large design (docs/cli.md, "Text").
+ */
+export const PLACE_EDGES_ALWAYS_BELOW_CHARS = 4 * 1024 * 1024;
 
 /**
- * Line and column of the edges a reader is sent to: every edge with a negative folded delay and
- * every edge of the loop that blocks retiming. Other edges stay unplaced (a design may have
- * hundreds of thousands; one walk of the text places all the wanted ones at once).
+ * Line and column for what the report points at, in one walk of the text: the violations (the
+ * first negative edge, a unit's set), the rule warnings with a path, and the edges the report
+ * names (every negative folded delay and every edge of the blocking loop). Other edges stay
+ * unplaced: a design may have hundreds of thousands.
  */
-function placeEdges(text: string, analysis: Analysis): Analysis {
+function placeFindings(text: string, violations: Violation[], warnings: Diagnostic[], analysis: Analysis): { violations: Violation[]; ruleWarnings: Diagnostic[]; analysis: Analysis } {
+  const findings = violations.some((v) => v.path) || warnings.some((w) => w.path);
   const wanted = new Set<number>();
-  analysis.edges.forEach((e, i) => {
-    if (e.foldedDelay !== null && e.foldedDelay < 0) wanted.add(i);
-  });
   const loop = analysis.retiming.conflict?.edges ?? [];
   const loopIndex = loop.map((c) => (c.viaBoundary ? -1 : analysis.edges.findIndex((e) => e.from === c.from && e.to === c.to && e.delays === c.delays)));
-  for (const i of loopIndex) if (i >= 0) wanted.add(i);
-  if (wanted.size === 0) return analysis;
-  const order = [...wanted];
-  const probes: Diagnostic[] = order.map((i) => ({ severity: 'warning', code: 'edge', message: '', line: null, column: null, path: ['edges', i] }));
-  let at: Diagnostic[];
-  try {
-    at = locate(text, probes);
-  } catch {
-    return analysis;
+  if (findings || text.length < PLACE_EDGES_ALWAYS_BELOW_CHARS) {
+    analysis.edges.forEach((e, i) => {
+      if (e.foldedDelay !== null && e.foldedDelay < 0) wanted.add(i);
+    });
+    for (const i of loopIndex) if (i >= 0) wanted.add(i);
   }
+  if (!findings && wanted.size === 0) return { violations, ruleWarnings: warnings, analysis };
+  const order = [...wanted];
+  const withWarnings = warnings.some((w) => w.path);
+  const probes: Diagnostic[] = [
+    ...violations.map((v): Diagnostic => ({ severity: 'error', code: `rule-${v.rule}`, message: v.message, line: null, column: null, path: v.path ?? [] })),
+    ...order.map((i): Diagnostic => ({ severity: 'warning', code: 'edge', message: '', line: null, column: null, path: ['edges', i] })),
+    ...(withWarnings ? warnings : []),
+  ];
+  let placed: Diagnostic[];
+  try {
+    placed = locate(text, probes);
+  } catch {
+    return { violations, ruleWarnings: warnings, analysis };
+  }
+  const placedWarnings = withWarnings ? placed.slice(violations.length + order.length) : warnings;
+  const outViolations = violations.map((v, i) => (v.path ? { ...v, line: placed[i].line, column: placed[i].column } : v));
   const pos = new Map<number, { line: number | null; column: number | null }>();
-  order.forEach((i, k) => pos.set(i, { line: at[k].line, column: at[k].column }));
+  order.forEach((i, k) => {
+    const p = placed[violations.length + k];
+    pos.set(i, { line: p.line, column: p.column });
+  });
+  if (pos.size === 0) return { violations: outViolations, ruleWarnings: placedWarnings, analysis };
   const edges = analysis.edges.map((e, i) => (pos.has(i) ? { ...e, ...pos.get(i)! } : e));
   const conflict = analysis.retiming.conflict;
   const retiming = conflict
     ? { ...analysis.retiming, conflict: { ...conflict, edges: conflict.edges.map((c, k) => (loopIndex[k] >= 0 ? { ...c, ...pos.get(loopIndex[k])! } : c)) } }
     : analysis.retiming;
-  return { ...analysis, edges, retiming };
+  return { violations: outViolations, ruleWarnings: placedWarnings, analysis: { ...analysis, edges, retiming } };
 }
 
 function nameOfInvalid(text: string): string | null {

@@ -190,7 +190,7 @@ export async function runCheck(paths: string[], opts: CheckOptions, ctx: CliCont
   // A baseline: only broken rules that are new or worse fail the check.
   let baselineCode: number | null = null;
   if (opts.baseline) {
-    const { readBaseline } = await import('../baselineFile');
+    const { readBaseline } = await import('../baseline');
     const baseline = readBaseline(path.resolve(cwd, opts.baseline), opts.baseline);
     const b = await import('../../shared/report/baseline');
     const outcome = b.compareWithBaseline(report, baseline);

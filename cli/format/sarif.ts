@@ -3,7 +3,7 @@
 // per finding with its fixes in the message. Locations are relative to the repository's work
 // tree (uriBaseId SRCROOT); a design outside the work tree gets no location and says where it is.
 import { SarifBuilder, SarifResultBuilder, SarifRuleBuilder, SarifRunBuilder } from 'node-sarif-builder';
-import { allRuleIds, reportFindings, ruleHelp, type Finding } from '../../shared/report/findings';
+import { allRuleIds, findingKey, reportFindings, ruleHelp, type Finding } from '../../shared/report/findings';
 import type { Report } from '../../shared/types';
 import type { FormatContext } from './common';
 import { escapeControlsDeep } from './escape';
@@ -26,6 +26,12 @@ export function formatSarif(raw: Report, ctx: FormatContext = {}): string {
     const h = ruleHelp(id);
     run.addRule(new SarifRuleBuilder({ id, name: id.replace(/[^A-Za-z0-9]+/g, '_'), shortDescription: { text: h.short }, fullDescription: { text: h.help }, help: { text: h.help } }));
   }
+  // Under `check --baseline`: SARIF's own baselineState says which broken rules are new.
+  const b = ctx.baseline?.outcome;
+  const state = new Map<string, 'new' | 'unchanged' | 'updated'>();
+  for (const f of b?.baselined ?? []) state.set(findingKey(f), 'unchanged');
+  for (const f of b?.fresh ?? []) state.set(findingKey(f), 'new');
+  for (const w of b?.worse ?? []) state.set(findingKey(w.finding), 'updated');
   for (const f of reportFindings(report)) {
     const rel = repoFile(f.file);
     const result = new SarifResultBuilder().initSimple({
@@ -45,6 +51,8 @@ export function formatSarif(raw: Report, ctx: FormatContext = {}): string {
     }
     // Same finding on another run = same fingerprint (design, rule, subject: no line).
     result.result.partialFingerprints = { pleatFinding: [f.design ?? f.file, f.ruleId, f.subject].join('|') };
+    const s = state.get(findingKey(f));
+    if (s) result.result.baselineState = s;
     run.addResult(result);
   }
   builder.addRun(run);

@@ -4,7 +4,7 @@
 // Long lists are cut ("... and N more") so a design of thousands of nodes stays readable.
 import { Chalk, type ChalkInstance } from 'chalk';
 import type { BaselineOutcome } from '../../shared/report/baseline';
-import { designFindings, type Finding } from '../../shared/report/findings';
+import { designFindings, findingKey } from '../../shared/report/findings';
 import { countStatuses } from '../../shared/report/report';
 import type { DesignReport, EdgeResult, Report, RuleName, Violation } from '../../shared/types';
 import { diagnosticLine, fraction, pct, plural, type FormatContext } from './common';
@@ -81,9 +81,7 @@ export function gateLine(report: Report, c: ChalkInstance = NO_COLOR, baseline?:
   return `${head}: ${parts.join('; ')}; ${folds}${tail}`;
 }
 
-function findingKey(f: Finding): string {
-  return JSON.stringify([f.design, f.ruleId, f.subject, f.line, f.message]);
-}
+
 
 function named(items: string[]): string {
   return items.length <= MAX_NAMED ? items.join(', ') : `${items.slice(0, MAX_NAMED).join(', ')}, ... and ${items.length - MAX_NAMED} more`;

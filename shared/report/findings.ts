@@ -143,6 +143,11 @@ export function reportFindings(report: Report): Finding[] {
   return report.designs.flatMap(designFindings);
 }
 
+/** Identity of one finding within a report (design, rule, subject, place, message), to recognise it in another list. */
+export function findingKey(f: Finding): string {
+  return JSON.stringify([f.design, f.ruleId, f.subject, f.line, f.message]);
+}
+
 /** The rule ids that a report's findings use, each once, in first-seen order. */
 export function usedRuleIds(findings: Finding[]): string[] {
   return [...new Set(findings.map((f) => f.ruleId))];

@@ -66,6 +66,10 @@ describe('pleat check --baseline', () => {
     write(d, 'b.fold.yaml', failingDesign());
     const r = await pleat(['check', '--baseline', 'pleat-baseline.json'], { cwd: d });
     expect(r.exitCode).toBe(1);
+    // SARIF says the same with its own baselineState (SARIF 2.1.0, result.baselineState).
+    const sarif = JSON.parse((await pleat(['check', '--baseline', 'pleat-baseline.json', '--format', 'sarif'], { cwd: d })).stdout);
+    const states = sarif.runs[0].results.filter((x: { ruleId: string }) => x.ruleId.startsWith('rule/')).map((x: { ruleId: string; message: { text: string }; baselineState: string }) => [x.message.text.split(':')[0], x.ruleId, x.baselineState]);
+    expect(states).toEqual(expect.arrayContaining([['smoke-pass', 'rule/min_unit_utilization', 'unchanged'], ['smoke-fail', 'rule/negative_delays', 'new']]));
     expect(r.stdout).toMatch(/^gate broken: smoke-fail breaks negative_delays \(edge m -> a\)(, smoke-fail breaks min_unit_utilization \(unit \w+\))*; 0 of 2 designs fold; 2 broken rules baselined, \d+ new, 0 worse/m);
   });
 

@@ -1,5 +1,5 @@
-// Reading a baseline file (pleat-baseline/1, docs/cli.md) for `pleat check --baseline`; apart from
-// the `baseline` command, which checks through check.ts and would otherwise close an import circle.
+// Reads the baseline file of `pleat check --baseline` (format pleat-baseline/1, written by
+// `pleat baseline`); a file that is not one is a command-line error (exit 2) saying why.
 import { readFileSync } from 'node:fs';
 import { CliError } from './context';
 import { parseBaseline, type Baseline } from '../shared/report/baseline';
