@@ -64,7 +64,7 @@ describe.each(CASES)('pull-request feedback on $kind', ({ kind, repository, fail
     expect(host.comments).toHaveLength(1);
     const body = host.comments[0]!.body;
     expect(body).toContain(COMMENT_MARKER);
-    expect(body).toContain('FAIL');
+    expect(body).toContain('gate broken');
     expect(body).toContain('`anti-alias`');
     expect(body).toContain('`min_utilization`');
     expect(body).toMatch(/Against `main`/);
@@ -78,7 +78,7 @@ describe.each(CASES)('pull-request feedback on $kind', ({ kind, repository, fail
     expect(host.statuses.map((s) => s.state)).toEqual([failed, 'success']);
     expect(host.comments).toHaveLength(1);
     expect(host.comments[0]!.edits).toBe(1);
-    expect(host.comments[0]!.body).toContain('PASS');
+    expect(host.comments[0]!.body).toContain('gate holds');
     expect(host.comments[0]!.body).toContain(`/runs/${run.id}`);
   });
 

@@ -17,7 +17,7 @@ describe('summary comment', () => {
       fileLink: (file, line) => `https://github.com/acme/x/blob/${'a'.repeat(40)}/${file}${line ? `#L${line}` : ''}`,
     });
     expect(body.startsWith(COMMENT_MARKER)).toBe(true);
-    expect(body).toContain('#### Pleat: FAIL (1 of 2 designs break a rule)');
+    expect(body).toContain('#### Pleat: gate broken (1 of 2 designs break a rule)');
     expect(body).toContain('`channel-mixer` ([hw/channel-mixer.fold.yaml](https://github.com/acme/x/blob/aaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaa/hw/channel-mixer.fold.yaml)) breaks `min_utilization`');
     expect(body).toContain('[hw/channel-mixer.fold.yaml:12](https://github.com/acme/x/blob/aaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaa/hw/channel-mixer.fold.yaml#L12)');
     expect(body).toContain('No run of `main` to compare with yet.');
@@ -28,6 +28,6 @@ describe('summary comment', () => {
   it('keeps the status description within 140 characters (GitHub\'s limit, from memory)', () => {
     const many = makeReport({ designs: Array.from({ length: 400 }, (_, i) => designEntry(`d${i}`, { status: i % 2 ? 'fail' : 'error' })) });
     expect(statusDescription(many).length).toBeLessThanOrEqual(140);
-    expect(statusDescription(makeReport())).toBe('Pleat pass: all 1 design fold within the rules');
+    expect(statusDescription(makeReport())).toBe('Pleat gate holds: the one design folds within the rules');
   });
 });

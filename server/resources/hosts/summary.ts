@@ -49,24 +49,29 @@ function movedLine(d: DesignDelta, baseBranch: string): string | null {
   return `${code(d.name)}: ${parts.join('; ')}${past}`;
 }
 
+/** The gate's verdict in the words of `pleat check`'s closing line (docs/cli.md): holds, broken, invalid. */
+export function gateWords(report: Report): string {
+  return report.verdict === 'pass' ? 'gate holds' : report.verdict === 'fail' ? 'gate broken' : 'gate invalid';
+}
+
 export function verdictLine(report: Report): string {
   const n = report.designs.length;
   const failed = report.designs.filter((d) => d.status === 'fail').length;
   const invalid = report.designs.filter((d) => d.status === 'error').length;
   const designs = `design${n === 1 ? '' : 's'}`;
-  if (report.verdict === 'pass') return `all ${n} ${designs} fold within the rules`;
+  if (report.verdict === 'pass') return n === 1 ? 'the one design folds within the rules' : `all ${n} designs fold within the rules`;
   return [failed ? `${failed} of ${n} ${designs} break a rule` : '', invalid ? `${invalid} of ${n} ${designs} cannot be checked` : ''].filter(Boolean).join(', ');
 }
 
 /** The commit status's description: short (GitHub keeps 140 characters; from memory). */
 export function statusDescription(report: Report): string {
-  const line = `Pleat ${report.verdict}: ${verdictLine(report)}`;
+  const line = `Pleat ${gateWords(report)}: ${verdictLine(report)}`;
   return line.length <= 140 ? line : `${line.slice(0, 139)}…`;
 }
 
 export function summaryComment(o: { report: Report; comparison: Comparison; branch: string; commit: string; link: string; fileLink?: FileLink }): string {
   const { report, comparison: c } = o;
-  const lines = [COMMENT_MARKER, `#### Pleat: ${report.verdict.toUpperCase()} (${verdictLine(report)})`, ''];
+  const lines = [COMMENT_MARKER, `#### Pleat: ${gateWords(report)} (${verdictLine(report)})`, ''];
   lines.push(`Commit ${code(o.commit.slice(0, 12))} of ${code(o.branch)}.`);
   const broken = brokenLines(report, o.fileLink);
   if (broken.length) lines.push('', '**What broke**', '', ...broken.map((b) => `- ${b}`));
