@@ -4,6 +4,10 @@
 // One module per step: interface (names), coefficients, counters, units, registers, outputs, top;
 // testbench and parallel are the two companions of `pleat rtl`.
 import { DEFAULT_FIXED } from '../arith';
+import { formatPlan } from '../formats';
+import { resolveArithmetic } from '../reference';
+import type { QuantOf } from './variants';
+import type { OutputQuantOf } from './outputs';
 import type { ControlTables, Design } from '../../types';
 import { coefficientLocals, coefficientParams } from './coefficients';
 import { counterBlocks } from './counters';
@@ -27,8 +31,26 @@ export { parallelDesign } from './parallel';
  * module per unit.
  */
 export function generateRtl(design: Design, control: ControlTables, opts: RtlOptions = {}): RtlBundle {
-  const W = opts.width ?? DEFAULT_FIXED.width;
+  const plan = formatPlan(design, opts.width ?? DEFAULT_FIXED.width);
+  // With number formats the data word holds every format; without, it is --width as always.
+  const W = plan.container;
   const F = opts.coefFrac ?? DEFAULT_FIXED.coefFrac;
+  let quantOf: QuantOf | undefined;
+  let outQuantOf: OutputQuantOf | undefined;
+  if (plan.declared) {
+    const graph = resolveArithmetic(design).graph;
+    if (!graph) throw new Error('the design has no arithmetic to generate');
+    const fracOf = (e: number) => plan.signals[graph.index.get(design.edges[e].from)!].format.frac;
+    quantOf = (node) => {
+      const i = graph.index.get(node)!;
+      return { operandFrac: graph.nodes[i].operands.map(fracOf), sf: plan.signals[i] };
+    };
+    outQuantOf = (node) => {
+      const i = graph.index.get(node)!;
+      const e = graph.nodes[i].operands[0];
+      return e === undefined ? undefined : { fromFrac: fracOf(e), sf: plan.signals[i] };
+    };
+  }
   const N = control.factor;
   const generator = opts.generator ?? 'pleat';
 
@@ -47,9 +69,10 @@ export function generateRtl(design: Design, control: ControlTables, opts: RtlOpt
     generator,
     W,
     F,
+    quantOf,
   });
   const regBlocks = registerFile(control, n, timing, read);
-  const outputs = outputRegisters(control, n, timing, read);
+  const outputs = outputRegisters(control, n, timing, read, outQuantOf, W);
   const ports = [...inputTimings(control, n), ...outputs.ports];
   const topText = topModuleText(design, control, n, read, {
     W,
@@ -62,6 +85,7 @@ export function generateRtl(design: Design, control: ControlTables, opts: RtlOpt
     regBlocks,
     unitBlocks,
     outBlocks: outputs.outBlocks,
+    formats: plan.declared,
   });
   return {
     top: n.top,

@@ -1,7 +1,10 @@
 // Test vectors from the integer reference model and the self-checking testbench that drives them
 // with the documented port timing (docs/rtl.md, "Timing of the interface").
-import { fixedArithmetic, randomStreams, type FixedFormat } from '../arith';
+import type { FixedFormat } from '../arith';
 import { evaluateReference, type ResolvedGraph } from '../reference';
+import { formatPlan } from '../formats';
+import { formatArithmetic } from '../formatArithmetic';
+import { inputStreams } from '../foldedSim';
 import type { ControlTables, Design } from '../../types';
 import { hex, Names } from './names';
 import type { PortTiming, RtlBundle } from './types';
@@ -16,6 +19,8 @@ export interface TestVectors {
   inputs: Record<string, bigint[]>;
   /** Expected output samples in strobe order: sample firstSample + k at strobe k. */
   outputs: Record<string, bigint[]>;
+  /** Results of the reference run that overflowed their format, by node: count and first iteration. */
+  overflows: { node: string; count: number; firstIteration: number }[];
 }
 
 /**
@@ -26,20 +31,22 @@ export function testVectors(
   design: Design,
   graph: ResolvedGraph,
   control: ControlTables,
-  opts: { iterations: number; seed: number; fixed: FixedFormat },
+  opts: { iterations: number; seed: number; fixed: FixedFormat; formatWidth?: number },
 ): TestVectors {
   const K = opts.iterations;
-  const ar = fixedArithmetic(opts.fixed);
+  // The formats of the file, or Q(W-1).0 everywhere: the W-bit arithmetic, bit for bit.
+  const plan = formatPlan(design, opts.formatWidth ?? opts.fixed.width);
+  const ar = formatArithmetic(design, graph, plan, opts.fixed);
   const wait = control.outputs.reduce((m, o) => Math.max(m, Math.max(0, o.lag)), 0);
   const H = K + wait;
-  const ids = control.inputs.map((x) => x.node);
-  const inputs = randomStreams(ids, H, opts.seed, Math.min(opts.fixed.width, 32));
+  const inputs = inputStreams(design, plan, H, opts.seed, Math.min(opts.fixed.width, 32));
   let refIterations = H;
   for (const o of control.outputs) refIterations = Math.max(refIterations, o.firstSample + K);
   const ref = evaluateReference(design, graph, ar, inputs, refIterations);
   const outputs: Record<string, bigint[]> = {};
   for (const o of control.outputs) outputs[o.node] = ref.outputs[o.node].slice(o.firstSample, o.firstSample + K);
-  return { iterations: H, samples: K, seed: opts.seed, inputs, outputs };
+  const overflows = [...ar.overflows].map(([node, o]) => ({ node, count: o.count, firstIteration: o.first })).sort((a, b) => a.firstIteration - b.firstIteration);
+  return { iterations: H, samples: K, seed: opts.seed, inputs, outputs, overflows };
 }
 
 /**

@@ -18,6 +18,8 @@ export interface TopParts {
   regBlocks: string[];
   unitBlocks: string[];
   outBlocks: string[];
+  /** The file names number formats: each signal is requantised to its own (docs/rtl.md). */
+  formats?: boolean;
 }
 
 /** Declared signals nobody reads (an input feeding nothing, a result feeding nothing). */
@@ -39,7 +41,9 @@ export function topModuleText(design: Design, control: ControlTables, n: RtlName
     '// closure and sign-off verification remain the engineer\'s.',
     `// Folding factor N = ${N}: one iteration (one sample per input) every ${N} clock cycles.`,
     '// Cycle 0 is the first cycle after the last rising edge of clk with rst high; it runs partition 0.',
-    `// Arithmetic: W-bit two's complement, sums and products wrap to W bits${CW ? `; coefficients have ${F} fractional bits (${CW}-bit field), a gain keeps bits [COEF_FRAC +: W] of the full product` : ''}.`,
+    p.formats
+      ? `// Arithmetic: every signal in its own format, held sign-extended in W bits; each result is rounded and wrapped or saturated as the design file says${CW ? `; coefficients have ${F} fractional bits (${CW}-bit field)` : ''}.`
+      : `// Arithmetic: W-bit two's complement, sums and products wrap to W bits${CW ? `; coefficients have ${F} fractional bits (${CW}-bit field), a gain keeps bits [COEF_FRAC +: W] of the full product` : ''}.`,
     `// Retiming adds ${control.latencyAdded} iteration${control.latencyAdded === 1 ? '' : 's'} of latency.`,
     '// Ports:',
     ...p.ports.map((q) => `//   ${q.port}${q.port !== q.node ? ` (node ${safe(q.node)})` : ''}: ${q.timing}`),
