@@ -22,6 +22,7 @@ interface RtlOptions {
   force?: boolean;
   format: 'text' | 'json';
   color: boolean;
+  interface: 'strobe' | 'stream';
 }
 
 export const register: RegisterCommand = (program: Command, ctx: CliContext) => {
@@ -37,6 +38,7 @@ export const register: RegisterCommand = (program: Command, ctx: CliContext) => 
     .option('--verify', 'compile and run the testbench with Icarus Verilog (iverilog, vvp)')
     .option('--force', 'write into a folder that holds files Pleat did not write')
     .option('--area', 'synthesize the folded RTL and a fully parallel RTL of the same graph with Yosys and compare cells and flip-flops')
+    .addOption(new Option('--interface <kind>', 'strobe: timed ports with one-cycle valid strobes; stream: valid/ready handshakes, start/busy, a clock enable').choices(['strobe', 'stream']).default('strobe'))
     .addOption(new Option('-f, --format <format>', 'output format').choices(['text', 'json']).default('text'))
     .option('--no-color', 'never colour the output')
     .action(async (file: string, opts: RtlOptions) => {
@@ -130,7 +132,7 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
     /* keep them without positions */
   }
   const generator = `pleat ${ctx.version}`;
-  const bundle = rtl.generateRtl(loaded.design, control, { width: opts.width, coefFrac: opts.coefFrac, generator });
+  const bundle = rtl.generateRtl(loaded.design, control, { width: opts.width, coefFrac: opts.coefFrac, generator, interface: opts.interface });
   const vectors = rtl.testVectors(loaded.design, graph, control, { iterations: opts.iterations, seed: opts.seed, fixed: bundle.fixed, formatWidth: opts.width });
   const tb = rtl.generateTestbench(bundle, control, vectors);
 
@@ -197,6 +199,8 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
     coefWidth: bundle.coefWidth,
     coefficients: bundle.coefficients,
     factor: bundle.factor,
+    interface: bundle.interface ?? 'strobe',
+    ...(bundle.interface === 'stream' ? { start: bundle.start, busy: bundle.busy } : {}),
     latencyAdded: control.latencyAdded,
     ports: bundle.ports,
     renamed: bundle.renamed,
@@ -219,7 +223,8 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   const lines: string[] = [];
   lines.push(`wrote ${report.files.length} Verilog files and ${bundle.top}.rtl.json to ${shownDir}/ (top module ${bundle.top}, W = ${bundle.fixed.width}, N = ${bundle.factor})`);
   if (formatPlan(loaded.design, opts.width).declared) lines.push(`number formats of the file; every port is a ${bundle.fixed.width}-bit signed word holding its signal's format sign-extended`);
-  lines.push('interface (cycle 0 = first cycle after the last rising edge of clk with rst high):');
+  if (bundle.interface === 'stream') lines.push(`interface: stream (pulse ${bundle.start} once after reset; ${bundle.busy} is high while an iteration runs; every port has a valid/ready handshake):`);
+  else lines.push('interface (cycle 0 = first cycle after the last rising edge of clk with rst high):');
   for (const p of bundle.ports) lines.push(`  ${p.direction === 'input' ? 'in ' : 'out'} ${p.port}: ${p.timing}`);
   // Node ids and the design name come from the file: escaped before colours are added.
   for (const r of escapeControlsDeep(bundle.renamed)) lines.push(`  renamed ${r.role === 'module' ? 'top module' : r.role === 'strobe' ? `strobe of ${r.of}` : `port of ${r.of}`}: ${r.wanted} -> ${r.name} (${r.reason})`);

@@ -22,7 +22,7 @@ export function unitInstances(
   coef: CoefficientParams,
   read: SignalReader,
   choose: PartitionChoice,
-  gen: { designName: string; generator: string; W: number; F: number; quantOf?: QuantOf },
+  gen: { designName: string; generator: string; W: number; F: number; quantOf?: QuantOf; ce?: string },
 ): UnitInstances {
   const { names, unitSig } = n;
   const { coefParam, CW } = coef;
@@ -45,7 +45,7 @@ export function unitInstances(
     const OW = variants.length > 1 ? bitsFor(variants.length - 1) : 0;
     const lines: string[] = [`  // Unit ${safe(u.unit)} (${safe(u.kind)}, ${u.stages} pipeline stage${u.stages === 1 ? '' : 's'}): ${u.partitions.map((s, t) => `${t}:${s ? safe(s.node) : '-'}`).join(' ')}`];
     const conns: string[] = [];
-    if (u.stages > 0) conns.push('.clk(clk)', '.rst(rst)');
+    if (u.stages > 0) conns.push('.clk(clk)', '.rst(rst)', ...(gen.ce ? [`.ce(${gen.ce})`] : []));
     if (OW > 0) {
       const opSig = names.claim(`${names_.base}_op`);
       lines.push(
@@ -76,7 +76,7 @@ export function unitInstances(
     const params = hasCoef ? '#(.W(W), .CW(CW), .COEF_FRAC(COEF_FRAC))' : '#(.W(W))';
     lines.push(`  ${names_.module} ${params} ${names_.inst} (`, conns.map((c) => `    ${c}`).join(',\n'), '  );', '');
     unitBlocks.push(...lines);
-    unitFiles.push({ name: `${names_.module}.v`, text: unitModule(names_.module, u, variants, hasCoef, OW, gen.designName, gen.generator, gen.W, CW, gen.F) });
+    unitFiles.push({ name: `${names_.module}.v`, text: unitModule(names_.module, u, variants, hasCoef, OW, gen.designName, gen.generator, gen.W, CW, gen.F, gen.ce !== undefined) });
   }
   return { unitBlocks, unitFiles };
 }
@@ -129,6 +129,7 @@ function unitModule(
   W: number,
   CW: number,
   F: number,
+  withCe = false,
 ): string {
   const P = u.stages;
   const lines: string[] = [
@@ -153,7 +154,7 @@ function unitModule(
     ') (',
   ];
   const ports: string[] = [];
-  if (P > 0) ports.push('  input  wire clk', '  input  wire rst');
+  if (P > 0) ports.push('  input  wire clk', '  input  wire rst', ...(withCe ? ['  input  wire ce'] : []));
   if (OW) ports.push(`  input  wire [${OW - 1}:0] op`);
   for (let p = 0; p < u.ports; p++) ports.push(`  input  wire signed [W-1:0] a${p}`);
   if (hasCoef) ports.push('  input  wire signed [CW-1:0] coef');
@@ -202,7 +203,7 @@ function unitModule(
     const st = Array.from({ length: P }, (_, k) => `pl_s${k}`);
     lines.push(`  reg signed [W-1:0] ${st.join(', ')};`, '  always @(posedge clk) begin', '    if (rst) begin');
     for (const s of st) lines.push(`      ${s} <= {W{1'b0}};`);
-    lines.push('    end else begin');
+    lines.push(withCe ? '    end else if (ce) begin' : '    end else begin');
     st.forEach((s, k) => lines.push(`      ${s} <= ${k === 0 ? 'pl_res' : st[k - 1]};`));
     lines.push('    end', '  end', `  assign y = ${st[P - 1]};`);
   }
