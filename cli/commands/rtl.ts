@@ -22,6 +22,7 @@ interface RtlOptions {
   force?: boolean;
   format: 'text' | 'json';
   color: boolean;
+  interface: 'strobe' | 'stream';
 }
 
 export const register: RegisterCommand = (program: Command, ctx: CliContext) => {
@@ -37,6 +38,7 @@ export const register: RegisterCommand = (program: Command, ctx: CliContext) => 
     .option('--verify', 'compile and run the testbench with Icarus Verilog (iverilog, vvp)')
     .option('--force', 'write into a folder that holds files Pleat did not write')
     .option('--area', 'synthesize the folded RTL and a fully parallel RTL of the same graph with Yosys and compare cells and flip-flops')
+    .addOption(new Option('--interface <kind>', 'strobe: timed ports with one-cycle valid strobes; stream: valid/ready handshakes, start/busy, a clock enable').choices(['strobe', 'stream']).default('strobe'))
     .addOption(new Option('-f, --format <format>', 'output format').choices(['text', 'json']).default('text'))
     .option('--no-color', 'never colour the output')
     .action(async (file: string, opts: RtlOptions) => {
@@ -116,13 +118,22 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   const { control } = built;
   if (!control) throw infeasible(loaded, built);
   const graph = resolveArithmetic(loaded.design).graph!;
-  const { formatPlan } = await import('../../shared/hardware/formats');
-  if (formatPlan(loaded.design, opts.width).declared) {
-    throw new CliError(`${loaded.file} names number formats (fixed_point, format, rounding or overflow); pleat rtl writes the W-bit integer datapath only so far: \`pleat simulate --arithmetic fixed\` runs the formats`);
+  const [{ formatPlan }, { bitGrowth }, { locate }] = await Promise.all([
+    import('../../shared/hardware/formats'),
+    import('../../shared/hardware/range'),
+    import('../../shared/design/positions'),
+  ]);
+  // Bit growth before writing: a format too narrow for its worst case is worth a warning.
+  const growth = bitGrowth(loaded.design, graph, formatPlan(loaded.design, opts.width));
+  let narrow = growth.diagnostics;
+  try {
+    narrow = locate(loaded.text, narrow);
+  } catch {
+    /* keep them without positions */
   }
   const generator = `pleat ${ctx.version}`;
-  const bundle = rtl.generateRtl(loaded.design, control, { width: opts.width, coefFrac: opts.coefFrac, generator });
-  const vectors = rtl.testVectors(loaded.design, graph, control, { iterations: opts.iterations, seed: opts.seed, fixed: bundle.fixed });
+  const bundle = rtl.generateRtl(loaded.design, control, { width: opts.width, coefFrac: opts.coefFrac, generator, interface: opts.interface });
+  const vectors = rtl.testVectors(loaded.design, graph, control, { iterations: opts.iterations, seed: opts.seed, fixed: bundle.fixed, formatWidth: opts.width });
   const tb = rtl.generateTestbench(bundle, control, vectors);
 
   const dir = path.resolve(process.cwd(), opts.out);
@@ -188,11 +199,14 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
     coefWidth: bundle.coefWidth,
     coefficients: bundle.coefficients,
     factor: bundle.factor,
+    interface: bundle.interface ?? 'strobe',
+    ...(bundle.interface === 'stream' ? { start: bundle.start, busy: bundle.busy } : {}),
     latencyAdded: control.latencyAdded,
     ports: bundle.ports,
     renamed: bundle.renamed,
     warnings: bundle.warnings,
-    testbench: { file: tb.name, iterations: vectors.iterations, samplesPerOutput: vectors.samples, seed: vectors.seed },
+    testbench: { file: tb.name, iterations: vectors.iterations, samplesPerOutput: vectors.samples, seed: vectors.seed, overflows: vectors.overflows },
+    bitGrowth: { method: growth.method, ...(growth.reason ? { reason: growth.reason } : {}), signals: growth.signals },
     verify,
     area: area ? { tool: area.tool, folded: area.folded, parallel: area.parallel } : null,
     control,
@@ -208,11 +222,19 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   const shownDir = path.relative(process.cwd(), dir) || '.';
   const lines: string[] = [];
   lines.push(`wrote ${report.files.length} Verilog files and ${bundle.top}.rtl.json to ${shownDir}/ (top module ${bundle.top}, W = ${bundle.fixed.width}, N = ${bundle.factor})`);
-  lines.push('interface (cycle 0 = first cycle after the last rising edge of clk with rst high):');
+  if (formatPlan(loaded.design, opts.width).declared) lines.push(`number formats of the file; every port is a ${bundle.fixed.width}-bit signed word holding its signal's format sign-extended`);
+  if (bundle.interface === 'stream') lines.push(`interface: stream (pulse ${bundle.start} once after reset; ${bundle.busy} is high while an iteration runs; every port has a valid/ready handshake):`);
+  else lines.push('interface (cycle 0 = first cycle after the last rising edge of clk with rst high):');
   for (const p of bundle.ports) lines.push(`  ${p.direction === 'input' ? 'in ' : 'out'} ${p.port}: ${p.timing}`);
   // Node ids and the design name come from the file: escaped before colours are added.
   for (const r of escapeControlsDeep(bundle.renamed)) lines.push(`  renamed ${r.role === 'module' ? 'top module' : r.role === 'strobe' ? `strobe of ${r.of}` : `port of ${r.of}`}: ${r.wanted} -> ${r.name} (${r.reason})`);
   for (const w of bundle.warnings) lines.push(`${color.yellow('warning')}: ${escapeControls(w)}`);
+  for (const d of narrow) lines.push(`${color.yellow('warning')}: ${loaded.file}${d.line ? `:${d.line}:${d.column}` : ''}: ${escapeControls(d.message)} [${d.code}]`);
+  if (vectors.overflows.length) {
+    const n = vectors.overflows.reduce((a, o) => a + o.count, 0);
+    const first = vectors.overflows[0];
+    lines.push(`${color.yellow('warning')}: the test vectors overflow ${n} time${n === 1 ? '' : 's'} at ${vectors.overflows.length} node${vectors.overflows.length === 1 ? '' : 's'} (first ${escapeControls(first.node)}, iteration ${first.firstIteration}); the testbench checks the RTL against the same overflows, so PASS says the RTL matches its model, not that the numbers fit`);
+  }
   if (verify) lines.push(`testbench: ${verify.passed ? color.green(verify.summary) : color.red(verify.summary || 'no PASS line')}`);
   if (area) {
     const pad = (s: string | number, n: number) => String(s).padStart(n);

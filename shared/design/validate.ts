@@ -441,7 +441,21 @@ function edgeChecks(s: Scope): EdgeTable {
 
 /** Folding sets: keyed by units, naming operations of their kind once each; idle units; the plan complete. */
 function foldingSetChecks(s: Scope): void {
-  const { doc, out, sets, units, nodes, factor, folding, unitIndex, unitKinds, nodeClass, shadowed, unitsOk, allowUnplaced, nodeIds, nN } = s;
+  if (!s.sets) return;
+  planCompleteness(s, placementChecks(s, s.sets));
+}
+
+/** Where the sets place operations, for the completeness check after them. */
+interface Placement {
+  placedSet: Int32Array;
+  unitHasSet: Uint8Array;
+  emptySets: string[];
+  malformedKinds: Set<string>;
+}
+
+/** Each set: keyed by a unit, not longer than N, naming operations of the unit's kind, each once. */
+function placementChecks(s: Scope, sets: Record<string, unknown>): Placement {
+  const { out, units, nodes, factor, unitIndex, unitKinds, nodeClass, nodeIds, nN } = s;
   const nodeIndex = s.owner;
   const placedSet = new Int32Array(nN).fill(-1);
   const placedPos = new Int32Array(nN);
@@ -449,91 +463,96 @@ function foldingSetChecks(s: Scope): void {
   const unitHasSet = new Uint8Array(units.length);
   const emptySets: string[] = [];
   const malformedKinds = new Set<string>();
-  if (sets) {
-    for (const key of Object.keys(sets)) {
-      const si = setKeys.length;
-      setKeys.push(key);
-      const ui = unitIndex.get(key);
-      const list = sets[key];
-      if (ui === undefined) {
-        const isNode = nodeAt(nodeIndex, key) !== undefined;
-        out.add(
-          'unknown-unit',
-          () =>
-            isNode
-              ? `folding set \`${key}\` is keyed by a node; keys of folding.sets are unit ids`
-              : `folding set \`${key}\` names no unit${hintFrom(key, [...unitIndex.keys()])}`,
-          ['folding', 'sets', key],
-        );
-      } else unitHasSet[ui] = 1;
-      const unit = ui !== undefined ? (units[ui] as Record<string, unknown>) : null;
-      const unitKind = unit && typeof unit.kind === 'string' ? unit.kind : null;
-      // A set the schema already refuses (not a list, or entries that are not ids) is the root
-      // cause: its nodes are not also `plan-incomplete`, nor the set `idle-unit`.
-      const malformed = !Array.isArray(list) || list.some((v) => v !== null && typeof v !== 'string');
-      if (malformed && unitKind !== null) malformedKinds.add(unitKind);
-      if (!Array.isArray(list)) continue;
-      if (factor !== null && list.length > factor) {
-        out.add('set-too-long', `folding set \`${key}\` has ${list.length} entries but the folding factor is ${factor}; partitions run 0..${factor - 1}`, ['folding', 'sets', key, factor]);
-      }
-      let used = 0;
-      for (let p = 0; p < list.length; p++) {
-        const v = list[p];
-        if (typeof v !== 'string') continue;
-        used++;
-        const ni = nodeAt(nodeIndex, v);
-        if (ni === undefined) {
-          out.add('unknown-node', () => unknownNodeMessage(v, `folding set ${key}`, unitIndex, nodeIds), ['folding', 'sets', key, p]);
-          continue;
-        }
-        const cls = nodeClass[ni];
-        if (cls === INPUT || cls === OUTPUT) {
-          out.add('boundary-in-set', `\`${v}\` is ${cls === INPUT ? 'an input' : 'an output'}; boundary nodes are never folded — give it a \`slot\` instead`, ['folding', 'sets', key, p]);
-          continue;
-        }
-        const nk = (nodes[ni] as Record<string, unknown>).kind;
-        // a kind no unit has is reported once, as kind-without-unit, not again for its placement
-        if (unitKind !== null && cls === OPERATION && nk !== unitKind && unitKinds.has(nk as string)) {
-          out.add('kind-mismatch', `\`${v}\` is of kind \`${label(nk)}\` but unit \`${key}\` executes \`${unitKind}\``, ['folding', 'sets', key, p]);
-        }
-        if (placedSet[ni] >= 0) {
-          out.add('node-in-two-places', `\`${v}\` is already placed in \`${setKeys[placedSet[ni]]}\` at partition ${placedPos[ni]}; each operation runs once per iteration`, ['folding', 'sets', key, p]);
-        } else {
-          placedSet[ni] = si;
-          placedPos[ni] = p;
-        }
-      }
-      if (ui !== undefined && used === 0 && !(unitKind !== null && malformedKinds.has(unitKind))) emptySets.push(key);
+  for (const key of Object.keys(sets)) {
+    const si = setKeys.length;
+    setKeys.push(key);
+    const ui = unitIndex.get(key);
+    const list = sets[key];
+    if (ui === undefined) {
+      const isNode = nodeAt(nodeIndex, key) !== undefined;
+      out.add(
+        'unknown-unit',
+        () =>
+          isNode
+            ? `folding set \`${key}\` is keyed by a node; keys of folding.sets are unit ids`
+            : `folding set \`${key}\` names no unit${hintFrom(key, [...unitIndex.keys()])}`,
+        ['folding', 'sets', key],
+      );
+    } else unitHasSet[ui] = 1;
+    const unit = ui !== undefined ? (units[ui] as Record<string, unknown>) : null;
+    const unitKind = unit && typeof unit.kind === 'string' ? unit.kind : null;
+    // A set the schema already refuses (not a list, or entries that are not ids) is the root
+    // cause: its nodes are not also `plan-incomplete`, nor the set `idle-unit`.
+    const malformed = !Array.isArray(list) || list.some((v) => v !== null && typeof v !== 'string');
+    if (malformed && unitKind !== null) malformedKinds.add(unitKind);
+    if (!Array.isArray(list)) continue;
+    if (factor !== null && list.length > factor) {
+      out.add('set-too-long', `folding set \`${key}\` has ${list.length} entries but the folding factor is ${factor}; partitions run 0..${factor - 1}`, ['folding', 'sets', key, factor]);
     }
-    const unplaced: string[] = [];
-    for (let i = 0; i < nN; i++) {
-      if (nodeClass[i] !== OPERATION || placedSet[i] >= 0) continue;
-      if (shadowed[i]) continue;
-      const n = nodes[i] as Record<string, unknown>;
-      if (unitsOk && !unitKinds.has(n.kind as string)) continue; // kind-without-unit says it already
-      if (malformedKinds.has(n.kind as string)) continue; // the malformed set of its kind says it already
-      unplaced.push(label(n.id));
-    }
-    // While operations wait for a plan, a unit without one is expected, not worth a warning.
-    if (unplaced.length === 0 && folding) {
-      for (const key of emptySets) out.add('idle-unit', `unit \`${key}\` has an empty folding set; it does nothing`, ['folding', 'sets', key]);
-      for (let i = 0; i < units.length; i++) {
-        const u = units[i];
-        if (unitHasSet[i] || !isObj(u) || typeof u.id !== 'string' || unitIndex.get(u.id) !== i) continue;
-        out.add('idle-unit', `unit \`${u.id}\` has no folding set; it does nothing`, ['units', i]);
+    let used = 0;
+    for (let p = 0; p < list.length; p++) {
+      const v = list[p];
+      if (typeof v !== 'string') continue;
+      used++;
+      const ni = nodeAt(nodeIndex, v);
+      if (ni === undefined) {
+        out.add('unknown-node', () => unknownNodeMessage(v, `folding set ${key}`, unitIndex, nodeIds), ['folding', 'sets', key, p]);
+        continue;
+      }
+      const cls = nodeClass[ni];
+      if (cls === INPUT || cls === OUTPUT) {
+        out.add('boundary-in-set', `\`${v}\` is ${cls === INPUT ? 'an input' : 'an output'}; boundary nodes are never folded — give it a \`slot\` instead`, ['folding', 'sets', key, p]);
+        continue;
+      }
+      const nk = (nodes[ni] as Record<string, unknown>).kind;
+      // a kind no unit has is reported once, as kind-without-unit, not again for its placement
+      if (unitKind !== null && cls === OPERATION && nk !== unitKind && unitKinds.has(nk as string)) {
+        out.add('kind-mismatch', `\`${v}\` is of kind \`${label(nk)}\` but unit \`${key}\` executes \`${unitKind}\``, ['folding', 'sets', key, p]);
+      }
+      if (placedSet[ni] >= 0) {
+        out.add('node-in-two-places', `\`${v}\` is already placed in \`${setKeys[placedSet[ni]]}\` at partition ${placedPos[ni]}; each operation runs once per iteration`, ['folding', 'sets', key, p]);
+      } else {
+        placedSet[ni] = si;
+        placedPos[ni] = p;
       }
     }
-    if (!allowUnplaced && (unplaced.length > 0 || !folding)) {
-      // One error for the whole plan, at `folding:` (or at `nodes:` when there is no folding).
-      const names =
-        unplaced.length <= UNPLACED_NAMES_SHOWN
-          ? unplaced.map((x) => `\`${x}\``).join(', ')
-          : `${unplaced.slice(0, UNPLACED_NAMES_SHOWN).map((x) => `\`${x}\``).join(', ')} and ${unplaced.length - UNPLACED_NAMES_SHOWN} more`;
-      const what = !folding
-        ? `the design has no folding plan (no \`folding:\`)${unplaced.length ? `; ${operations(unplaced.length)} to place: ${names}` : ''}; run \`pleat plan --factor N\` to make one`
-        : `${operations(unplaced.length)} ${unplaced.length === 1 ? 'is' : 'are'} in no folding set: ${names}; run \`pleat plan\` to place them (entries already in the sets are kept)`;
-      out.add('plan-incomplete', what, folding ? ['folding'] : Array.isArray(doc.nodes) ? ['nodes'] : []);
+    if (ui !== undefined && used === 0 && !(unitKind !== null && malformedKinds.has(unitKind))) emptySets.push(key);
+  }
+  return { placedSet, unitHasSet, emptySets, malformedKinds };
+}
+
+/** Operations in no set (one plan-incomplete error), and units that idle once the plan is whole. */
+function planCompleteness(s: Scope, pl: Placement): void {
+  const { doc, out, units, nodes, folding, unitIndex, unitKinds, nodeClass, shadowed, unitsOk, allowUnplaced, nN } = s;
+  const { placedSet, unitHasSet, emptySets, malformedKinds } = pl;
+  const unplaced: string[] = [];
+  for (let i = 0; i < nN; i++) {
+    if (nodeClass[i] !== OPERATION || placedSet[i] >= 0) continue;
+    if (shadowed[i]) continue;
+    const n = nodes[i] as Record<string, unknown>;
+    if (unitsOk && !unitKinds.has(n.kind as string)) continue; // kind-without-unit says it already
+    if (malformedKinds.has(n.kind as string)) continue; // the malformed set of its kind says it already
+    unplaced.push(label(n.id));
+  }
+  // While operations wait for a plan, a unit without one is expected, not worth a warning.
+  if (unplaced.length === 0 && folding) {
+    for (const key of emptySets) out.add('idle-unit', `unit \`${key}\` has an empty folding set; it does nothing`, ['folding', 'sets', key]);
+    for (let i = 0; i < units.length; i++) {
+      const u = units[i];
+      if (unitHasSet[i] || !isObj(u) || typeof u.id !== 'string' || unitIndex.get(u.id) !== i) continue;
+      out.add('idle-unit', `unit \`${u.id}\` has no folding set; it does nothing`, ['units', i]);
     }
+  }
+  if (!allowUnplaced && (unplaced.length > 0 || !folding)) {
+    // One error for the whole plan, at `folding:` (or at `nodes:` when there is no folding).
+    const names =
+      unplaced.length <= UNPLACED_NAMES_SHOWN
+        ? unplaced.map((x) => `\`${x}\``).join(', ')
+        : `${unplaced.slice(0, UNPLACED_NAMES_SHOWN).map((x) => `\`${x}\``).join(', ')} and ${unplaced.length - UNPLACED_NAMES_SHOWN} more`;
+    const what = !folding
+      ? `the design has no folding plan (no \`folding:\`)${unplaced.length ? `; ${operations(unplaced.length)} to place: ${names}` : ''}; run \`pleat plan --factor N\` to make one`
+      : `${operations(unplaced.length)} ${unplaced.length === 1 ? 'is' : 'are'} in no folding set: ${names}; run \`pleat plan\` to place them (entries already in the sets are kept)`;
+    out.add('plan-incomplete', what, folding ? ['folding'] : Array.isArray(doc.nodes) ? ['nodes'] : []);
   }
 }
 

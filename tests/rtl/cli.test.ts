@@ -17,6 +17,33 @@ const sensor = path.join(EXAMPLES, 'sensor-frontend.fold.yaml');
 const retimed = path.join(ROOT, 'tests/sim/fixtures/smoothing-retimed.fold.yaml');
 const unretimable = path.join(EXAMPLES, 'envelope-unretimable.fold.yaml');
 
+const biquad = path.join(ROOT, 'tests/sim/fixtures/notch-biquad.fold.yaml');
+const biquadQ = path.join(ROOT, 'tests/sim/fixtures/notch-biquad-q.fold.yaml');
+
+describe('pleat simulate: fixed point', () => {
+  it('a biquad that outgrows 16 bits matches its reference but says so, and max_overflows fails it (exit 1)', async () => {
+    const plain = await pleat(['simulate', biquad, '--iterations', '32', '--no-color']);
+    expect(plain.exitCode, plain.stderr).toBe(0);
+    expect(plain.stdout).toMatch(/^match /m);
+    expect(plain.stdout).toMatch(/overflow: \d+ exact values outside their format .* first at b1 \(Q15\.0\)/);
+    expect(plain.stdout).toMatch(/bit growth \(impulse responses\): 5 signals can exceed their format/);
+    const gated = await pleat(['simulate', biquad, '--iterations', '32', '--max-overflows', '0', '--no-color']);
+    expect(gated.exitCode).toBe(1);
+    expect(gated.stdout).toMatch(/RULE FAILED max_overflows: \d+ exact values outside their format, at most 0 allowed/);
+  });
+
+  it('the scaled biquad in fixed point: no overflow, SQNR against the exact model, min_sqnr_db gates (JSON)', async () => {
+    const ok = await pleat(['simulate', biquadQ, '--arithmetic', 'fixed', '--iterations', '100', '--min-sqnr-db', '40', '--format', 'json']);
+    expect(ok.exitCode, ok.stderr).toBe(0);
+    const j = JSON.parse(ok.stdout);
+    expect(j.simulation.fixedPoint.overflowCount).toBe(0);
+    expect(j.simulation.fixedPoint.accuracy[0].sqnrDb).toBeGreaterThan(40);
+    expect(j.gates).toEqual([expect.objectContaining({ rule: 'min_sqnr_db', passed: true, source: 'option' })]);
+    const strict = await pleat(['simulate', biquadQ, '--arithmetic', 'fixed', '--iterations', '100', '--min-sqnr-db', '200', '--format', 'json']);
+    expect(strict.exitCode).toBe(1);
+  });
+});
+
 describe('pleat simulate', () => {
   it('reports a match and the alignment of every output (exit 0)', async () => {
     const r = await pleat(['simulate', retimed, '--iterations', '40', '--seed', '9']);

@@ -124,7 +124,8 @@ export function impulseSums(design: Design, graph: ResolvedGraph, maxWork = 5e7)
         break;
       }
       if (hasLoop && (it + 1) % W === 0) {
-        if (!Number.isFinite(total)) break;
+        // A response past 10^100 is growing without end: no bound, and no need to follow it further.
+        if (!Number.isFinite(total) || total > 1e100) break;
         if (window <= TAIL * total && window < prevWindow) {
           // Past the last window, each node's response is bounded by a geometric series at the
           // decay rate of its last two windows, added to both sides (docs/analysis.md).

@@ -4,6 +4,10 @@
 // One module per step: interface (names), coefficients, counters, units, registers, outputs, top;
 // testbench and parallel are the two companions of `pleat rtl`.
 import { DEFAULT_FIXED } from '../arith';
+import { formatPlan } from '../formats';
+import { resolveArithmetic } from '../reference';
+import type { QuantOf } from './variants';
+import type { OutputQuantOf } from './outputs';
 import type { ControlTables, Design } from '../../types';
 import { coefficientLocals, coefficientParams } from './coefficients';
 import { counterBlocks } from './counters';
@@ -14,6 +18,7 @@ import { byPartition, counterTiming, SignalReader } from './signals';
 import { topModuleText } from './top';
 import type { RtlBundle, RtlOptions } from './types';
 import { combinationalLoops, loopWarnings, unitInstances } from './units';
+import { streamParts } from './stream';
 
 export { verilogIdent } from './names';
 export type { PortTiming, RtlBundle, RtlOptions, RtlRename } from './types';
@@ -27,30 +32,56 @@ export { parallelDesign } from './parallel';
  * module per unit.
  */
 export function generateRtl(design: Design, control: ControlTables, opts: RtlOptions = {}): RtlBundle {
-  const W = opts.width ?? DEFAULT_FIXED.width;
+  const plan = formatPlan(design, opts.width ?? DEFAULT_FIXED.width);
+  // With number formats the data word holds every format; without, it is --width as always.
+  const W = plan.container;
   const F = opts.coefFrac ?? DEFAULT_FIXED.coefFrac;
+  let quantOf: QuantOf | undefined;
+  let outQuantOf: OutputQuantOf | undefined;
+  if (plan.declared) {
+    const graph = resolveArithmetic(design).graph;
+    if (!graph) throw new Error('the design has no arithmetic to generate');
+    const fracOf = (e: number) => plan.signals[graph.index.get(design.edges[e].from)!].format.frac;
+    quantOf = (node) => {
+      const i = graph.index.get(node)!;
+      return { operandFrac: graph.nodes[i].operands.map(fracOf), sf: plan.signals[i] };
+    };
+    outQuantOf = (node) => {
+      const i = graph.index.get(node)!;
+      const e = graph.nodes[i].operands[0];
+      return e === undefined ? undefined : { fromFrac: fracOf(e), sf: plan.signals[i] };
+    };
+  }
   const N = control.factor;
   const generator = opts.generator ?? 'pleat';
 
   const n = interfaceNames(design, control, opts);
   const coef = coefficientParams(n.activeUnits, n.names, F);
   const timing = counterTiming(control);
-  const read = new SignalReader(n);
+  const stream = opts.interface === 'stream' ? streamParts(control, n, timing) : null;
+  const read = new SignalReader(n, stream?.inputSignal);
   // 0-stage units that feed each other's operands directly form a loop through multiplexers:
   // never active in one cycle (the partitions differ), but a loop in the netlist all the same.
   const looped = combinationalLoops(n.activeUnits, control);
   const warnings = loopWarnings(looped);
 
-  const body = counterBlocks(N, n.part, n.iter, timing);
+  const body = counterBlocks(N, n.part, n.iter, timing, stream?.ce);
   const { unitBlocks, unitFiles } = unitInstances(control, n, looped, coef, read, byPartition(n.part, timing.pconst), {
     designName: design.name,
     generator,
     W,
     F,
+    quantOf,
+    ce: stream?.ce,
   });
-  const regBlocks = registerFile(control, n, timing, read);
-  const outputs = outputRegisters(control, n, timing, read);
-  const ports = [...inputTimings(control, n), ...outputs.ports];
+  const regBlocks = registerFile(control, n, timing, read, stream?.ce);
+  const outputs = outputRegisters(control, n, timing, read, outQuantOf, W, stream?.outputs);
+  const inputs = inputTimings(control, n).map((p) =>
+    stream
+      ? { ...p, valid: stream.inValid.get(p.node)!, ready: stream.inReady.get(p.node)!, timing: `stream: a sample moves in a cycle with ${stream.inValid.get(p.node)} and ${stream.inReady.get(p.node)} high; sample l feeds iteration l` }
+      : p,
+  );
+  const ports = [...inputs, ...outputs.ports];
   const topText = topModuleText(design, control, n, read, {
     W,
     F,
@@ -62,6 +93,8 @@ export function generateRtl(design: Design, control: ControlTables, opts: RtlOpt
     regBlocks,
     unitBlocks,
     outBlocks: outputs.outBlocks,
+    formats: plan.declared,
+    ...(stream ? { stream: { portDecl: stream.portDecl, early: stream.early, late: stream.late(stream.outputs), inputSignal: stream.inputSignal } } : {}),
   });
   return {
     top: n.top,
@@ -74,5 +107,6 @@ export function generateRtl(design: Design, control: ControlTables, opts: RtlOpt
     coefWidth: coef.CW,
     factor: N,
     warnings,
+    ...(stream ? { interface: 'stream' as const, start: stream.start, busy: stream.busy } : {}),
   };
 }

@@ -4,7 +4,7 @@ import type { ControlTables } from '../../types';
 import type { RtlNames } from './interface';
 import type { SignalReader, Timing } from './signals';
 
-export function registerFile(control: ControlTables, n: RtlNames, timing: Timing, read: SignalReader): string[] {
+export function registerFile(control: ControlTables, n: RtlNames, timing: Timing, read: SignalReader, ce?: string): string[] {
   const N = control.factor;
   const { part, regName } = n;
   const { pconst } = timing;
@@ -17,7 +17,7 @@ export function registerFile(control: ControlTables, n: RtlNames, timing: Timing
     const loads = rt.loads.map((l) => (l ? read.sig(l.source) : null));
     const every = loads.every((l) => l !== null);
     regBlocks.push('  always @(posedge clk) begin', `    if (rst) ${r} <= {W{1'b0}};`);
-    if (N === 1) regBlocks.push(`    else ${r} <= ${loads[0] ?? r};`);
+    if (N === 1) regBlocks.push(`    else${ce ? ` if (${ce})` : ''} ${r} <= ${loads[0] ?? r};`);
     else {
       const groups = new Map<string, number[]>();
       loads.forEach((v, t) => {
@@ -25,7 +25,7 @@ export function registerFile(control: ControlTables, n: RtlNames, timing: Timing
         if (!groups.has(v)) groups.set(v, []);
         groups.get(v)!.push(t);
       });
-      regBlocks.push('    else begin', `      case (${part})`);
+      regBlocks.push(ce ? `    else if (${ce}) begin` : '    else begin', `      case (${part})`);
       for (const [v, ts] of groups) regBlocks.push(`        ${ts.map(pconst).join(', ')}: ${r} <= ${v};`);
       regBlocks.push(`        default: ${r} <= ${every ? loads[0] : r};`, '      endcase', '    end');
     }

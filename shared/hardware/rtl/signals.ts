@@ -22,7 +22,11 @@ export function counterTiming(control: ControlTables): Timing {
 /** The Verilog signal of a source; every name handed out is remembered as read. */
 export class SignalReader {
   readonly used = new Set<string>();
-  constructor(private readonly n: RtlNames) {}
+  /** stream: what the datapath reads of an input (its buffered sample), by node. */
+  constructor(
+    private readonly n: RtlNames,
+    private readonly inputSignal?: Map<string, string>,
+  ) {}
   sig(s: SignalSource): string {
     let name: string;
     switch (s.kind) {
@@ -30,7 +34,7 @@ export class SignalReader {
         name = this.n.unitSig.get(s.unit)!.y;
         break;
       case 'input':
-        name = this.n.portOf.get(s.node)!;
+        name = this.inputSignal?.get(s.node) ?? this.n.portOf.get(s.node)!;
         break;
       case 'register':
         name = this.n.regName[s.register];

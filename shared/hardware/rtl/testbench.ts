@@ -1,7 +1,10 @@
 // Test vectors from the integer reference model and the self-checking testbench that drives them
 // with the documented port timing (docs/rtl.md, "Timing of the interface").
-import { fixedArithmetic, randomStreams, type FixedFormat } from '../arith';
+import type { FixedFormat } from '../arith';
 import { evaluateReference, type ResolvedGraph } from '../reference';
+import { formatPlan } from '../formats';
+import { formatArithmetic } from '../formatArithmetic';
+import { inputStreams } from '../foldedSim';
 import type { ControlTables, Design } from '../../types';
 import { hex, Names } from './names';
 import type { PortTiming, RtlBundle } from './types';
@@ -16,6 +19,8 @@ export interface TestVectors {
   inputs: Record<string, bigint[]>;
   /** Expected output samples in strobe order: sample firstSample + k at strobe k. */
   outputs: Record<string, bigint[]>;
+  /** Results of the reference run that overflowed their format, by node: count and first iteration. */
+  overflows: { node: string; count: number; firstIteration: number }[];
 }
 
 /**
@@ -26,20 +31,22 @@ export function testVectors(
   design: Design,
   graph: ResolvedGraph,
   control: ControlTables,
-  opts: { iterations: number; seed: number; fixed: FixedFormat },
+  opts: { iterations: number; seed: number; fixed: FixedFormat; formatWidth?: number },
 ): TestVectors {
   const K = opts.iterations;
-  const ar = fixedArithmetic(opts.fixed);
+  // The formats of the file, or Q(W-1).0 everywhere: the W-bit arithmetic, bit for bit.
+  const plan = formatPlan(design, opts.formatWidth ?? opts.fixed.width);
+  const ar = formatArithmetic(design, graph, plan, opts.fixed);
   const wait = control.outputs.reduce((m, o) => Math.max(m, Math.max(0, o.lag)), 0);
   const H = K + wait;
-  const ids = control.inputs.map((x) => x.node);
-  const inputs = randomStreams(ids, H, opts.seed, Math.min(opts.fixed.width, 32));
+  const inputs = inputStreams(design, plan, H, opts.seed, Math.min(opts.fixed.width, 32));
   let refIterations = H;
   for (const o of control.outputs) refIterations = Math.max(refIterations, o.firstSample + K);
   const ref = evaluateReference(design, graph, ar, inputs, refIterations);
   const outputs: Record<string, bigint[]> = {};
   for (const o of control.outputs) outputs[o.node] = ref.outputs[o.node].slice(o.firstSample, o.firstSample + K);
-  return { iterations: H, samples: K, seed: opts.seed, inputs, outputs };
+  const overflows = [...ar.overflows].map(([node, o]) => ({ node, count: o.count, firstIteration: o.first })).sort((a, b) => a.firstIteration - b.firstIteration);
+  return { iterations: H, samples: K, seed: opts.seed, inputs, outputs, overflows };
 }
 
 /**
@@ -47,6 +54,7 @@ export function testVectors(
  * valid strobe (value and cycle) and prints `PASS <top>: ...` or `FAIL <top>: ...`.
  */
 export function generateTestbench(bundle: RtlBundle, control: ControlTables, vectors: TestVectors): { name: string; text: string } {
+  if (bundle.interface === 'stream') return streamTestbench(bundle, control, vectors);
   const N = control.factor;
   const W = bundle.fixed.width;
   const K = vectors.iterations;
@@ -141,6 +149,126 @@ export function generateTestbench(bundle: RtlBundle, control: ControlTables, vec
       `    if (${seen.get(p.port)} < ${n}) begin`,
       `      ${errors} = ${errors} + 1;`,
       `      $display("MISMATCH ${p.port}: %0d of ${n} samples arrived", ${seen.get(p.port)});`,
+      '    end',
+    );
+  }
+  L.push(
+    `    if (${errors} == 0) $display("PASS ${bundle.top}: %0d samples on ${outPorts.length} outputs, 0 mismatches", ${checked});`,
+    `    else $display("FAIL ${bundle.top}: %0d mismatches in %0d samples", ${errors}, ${checked});`,
+    '    $finish;',
+    '  end',
+    'endmodule',
+    '',
+  );
+  return { name: `${tb}.v`, text: L.join('\n') };
+}
+
+/**
+ * The testbench of the stream interface: every input offers its samples with random gaps and
+ * every output takes them with random stalls (both from $random with a fixed seed); every sample
+ * of every output is checked in order against the reference, and all must arrive in time.
+ */
+function streamTestbench(bundle: RtlBundle, control: ControlTables, vectors: TestVectors): { name: string; text: string } {
+  const N = control.factor;
+  const W = bundle.fixed.width;
+  const K = vectors.iterations;
+  const tb = bundle.testbench;
+  const inPorts = bundle.ports.filter((p) => p.direction === 'input');
+  const outPorts = bundle.ports.filter((p) => p.direction === 'output');
+  const names = new Names(['clk', 'rst', tb, bundle.top, bundle.start!, bundle.busy!, ...bundle.ports.flatMap((p) => [p.port, p.valid!, p.ready!])]);
+  const [pW, pK, dut, cyc, errors, checked, seed, limit] = ['W', 'K', 'dut', 'cyc', 'errors', 'checked', 'seed', 'limit'].map((x) => names.claim(`tb_${x}`));
+  const vec = new Map(inPorts.map((p) => [p.port, names.claim(`tb_in_${p.port}`)]));
+  const sent = new Map(inPorts.map((p) => [p.port, names.claim(`tb_sent_${p.port}`)]));
+  const seen = new Map(inPorts.map((p) => [p.port, names.claim(`tb_seen_${p.port}`)]));
+  const exp = new Map(outPorts.map((p) => [p.port, names.claim(`tb_expect_${p.port}`)]));
+  const got = new Map(outPorts.map((p) => [p.port, names.claim(`tb_got_${p.port}`)]));
+  // Every iteration at most N cycles plus a few of waiting per handshake: stalls are 1 in 3 or 4.
+  const cycles = (K + 8) * (N + 8) * 4 + 100;
+  const L: string[] = [
+    `// Self-checking testbench of the stream interface of ${bundle.top}: ${K} samples per input offered with random`,
+    `// gaps, outputs taken with random stalls ($random, seed ${vectors.seed}); ${vectors.samples} samples checked in order on every output`,
+    '// against the integer reference model. Prints PASS or FAIL with the number of mismatches.',
+    `module ${tb};`,
+    `  localparam ${pW} = ${W};`,
+    `  localparam ${pK} = ${K};`,
+    `  localparam ${limit} = ${cycles};`,
+    '  reg clk;',
+    '  reg rst;',
+    `  reg ${bundle.start!};`,
+    `  wire ${bundle.busy!};`,
+    `  integer ${cyc}, ${errors}, ${checked}, ${seed};`,
+  ];
+  for (const p of inPorts) {
+    L.push(`  reg signed [${pW}-1:0] ${p.port};`, `  reg ${p.valid};`, `  wire ${p.ready};`, `  integer ${sent.get(p.port)}, ${seen.get(p.port)};`);
+    L.push(`  reg signed [${pW}-1:0] ${vec.get(p.port)} [0:${Math.max(K, 1) - 1}];`);
+  }
+  for (const p of outPorts) {
+    const n = vectors.outputs[p.node].length;
+    L.push(`  wire signed [${pW}-1:0] ${p.port};`, `  wire ${p.valid};`, `  reg ${p.ready};`, `  integer ${got.get(p.port)};`);
+    L.push(`  reg signed [${pW}-1:0] ${exp.get(p.port)} [0:${Math.max(n, 1) - 1}];`);
+  }
+  const conns = [
+    '.clk(clk)',
+    '.rst(rst)',
+    `.${bundle.start}(${bundle.start})`,
+    `.${bundle.busy}(${bundle.busy})`,
+    ...inPorts.flatMap((p) => [`.${p.port}(${p.port})`, `.${p.valid}(${p.valid})`, `.${p.ready}(${p.ready})`]),
+    ...outPorts.flatMap((p) => [`.${p.port}(${p.port})`, `.${p.valid}(${p.valid})`, `.${p.ready}(${p.ready})`]),
+  ];
+  L.push(`  ${bundle.top} #(.W(${pW})) ${dut} (`, conns.map((c) => `    ${c}`).join(',\n'), '  );', '');
+  L.push("  initial clk = 1'b0;", '  always #5 clk = ~clk;', '');
+  L.push('  initial begin');
+  for (const p of inPorts) vectors.inputs[p.node].forEach((v, i) => L.push(`    ${vec.get(p.port)}[${i}] = ${hex(v, W)};`));
+  for (const p of outPorts) vectors.outputs[p.node].forEach((v, i) => L.push(`    ${exp.get(p.port)}[${i}] = ${hex(v, W)};`));
+  L.push('  end', '');
+  // Handshakes are counted at the rising edge, where the DUT samples them.
+  L.push('  always @(posedge clk) begin', '    if (!rst) begin');
+  for (const p of inPorts) L.push(`      if (${p.valid} && ${p.ready}) ${sent.get(p.port)} <= ${sent.get(p.port)} + 1;`);
+  for (const p of outPorts) {
+    const n = vectors.outputs[p.node].length;
+    const g = got.get(p.port)!;
+    L.push(
+      `      if (${p.valid} && ${p.ready}) begin`,
+      `        if (${g} < ${n}) begin`,
+      `          ${checked} = ${checked} + 1;`,
+      `          if (${p.port} !== ${exp.get(p.port)}[${g}]) begin`,
+      `            ${errors} = ${errors} + 1;`,
+      `            if (${errors} <= 20) $display("MISMATCH ${p.port}: sample %0d at cycle %0d: expected %0d, got %0d", ${p.firstSample} + ${g}, ${cyc}, ${exp.get(p.port)}[${g}], ${p.port});`,
+      '          end',
+      '        end',
+      `        ${g} <= ${g} + 1;`,
+      '      end',
+    );
+  }
+  L.push('    end', '  end', '');
+  L.push('  initial begin', `    ${errors} = 0;`, `    ${checked} = 0;`, `    ${seed} = ${vectors.seed};`, "    rst = 1'b1;", `    ${bundle.start} = 1'b0;`);
+  for (const p of inPorts) L.push(`    ${p.port} = {${pW}{1'b0}};`, `    ${p.valid} = 1'b0;`, `    ${sent.get(p.port)} = 0;`, `    ${seen.get(p.port)} = 0;`);
+  for (const p of outPorts) L.push(`    ${p.ready} = 1'b0;`, `    ${got.get(p.port)} = 0;`);
+  L.push('    @(posedge clk);', '    @(posedge clk);', '    @(negedge clk);', "    rst = 1'b0;", `    ${bundle.start} = 1'b1;`, '    @(negedge clk);', `    ${bundle.start} = 1'b0;`);
+  const done = outPorts.map((p) => `${got.get(p.port)} >= ${vectors.outputs[p.node].length}`).join(' && ') || "1'b1";
+  L.push(`    for (${cyc} = 0; ${cyc} < ${limit} && !(${done}); ${cyc} = ${cyc} + 1) begin`);
+  L.push('      // Mid-cycle: offer the next sample (held until taken) and choose the readiness of each output.');
+  for (const p of inPorts) {
+    const s = sent.get(p.port)!;
+    const last = seen.get(p.port)!;
+    // A sample offered stays offered until taken; after a transfer (or while idle) a new draw.
+    L.push(
+      `      if (!${p.valid} || ${s} != ${last}) begin`,
+      `        ${last} = ${s};`,
+      // Past the vectors, zeros: an output produced late in an iteration needs the next one started.
+      `        ${p.valid} = ($random(${seed}) % 4) != 0;`,
+      `        ${p.port} = !${p.valid} ? {${pW}{1'bx}} : (${s} < ${pK}) ? ${vec.get(p.port)}[${s}] : {${pW}{1'b0}};`,
+      '      end',
+    );
+  }
+  for (const p of outPorts) L.push(`      ${p.ready} = ($random(${seed}) % 3) != 0;`);
+  L.push('      @(negedge clk);', '    end');
+  for (const p of outPorts) {
+    const n = vectors.outputs[p.node].length;
+    L.push(
+      `    if (${got.get(p.port)} < ${n}) begin`,
+      `      ${errors} = ${errors} + 1;`,
+      `      $display("MISMATCH ${p.port}: %0d of ${n} samples arrived", ${got.get(p.port)});`,
       '    end',
     );
   }

@@ -10,6 +10,8 @@ export interface RtlOptions {
   generator?: string;
   /** Top module name; default: the design name made a Verilog identifier. */
   topName?: string;
+  /** `strobe` (default): the timed ports of docs/rtl.md; `stream`: valid/ready handshakes with a clock enable. */
+  interface?: 'strobe' | 'stream';
 }
 
 export interface PortTiming {
@@ -27,6 +29,8 @@ export interface PortTiming {
   firstStrobeCycle?: number;
   /** Outputs: the name of the one-cycle valid strobe (`<port>_valid` unless that name was taken). */
   valid?: string;
+  /** stream: the ready of the handshake (an input's output, an output's input). */
+  ready?: string;
 }
 
 /** A name of the interface that differs from the one the convention gives (docs/rtl.md). */
@@ -58,6 +62,11 @@ export interface RtlBundle {
   /** Width of the coefficient field (0 when the design has no coefficient). */
   coefWidth: number;
   factor: number;
+  /** Present for `--interface stream` only (the strobe bundle is as it always was). */
+  interface?: 'stream';
+  /** stream: the start input and busy output. */
+  start?: string;
+  busy?: string;
   /** Things an engineer should know about this netlist (e.g. a combinational loop through multiplexers). */
   warnings: string[];
 }

@@ -5,7 +5,9 @@ import type { RtlNames } from './interface';
 import { bitsFor, safe } from './names';
 import type { PartitionChoice, SignalReader } from './signals';
 import type { CoefficientParams } from './coefficients';
-import { variantKey, variantOf, variantText, type Variant } from './variants';
+import { variantKey, variantOf, variantText, type QuantOf, type Variant } from './variants';
+import { requantiseLines, sext } from './requantise';
+import { formatName } from '../../design/numberFormat';
 
 /** The netlist parts of the units: instances in the top module and one module file each. */
 export interface UnitInstances {
@@ -20,7 +22,7 @@ export function unitInstances(
   coef: CoefficientParams,
   read: SignalReader,
   choose: PartitionChoice,
-  gen: { designName: string; generator: string; W: number; F: number },
+  gen: { designName: string; generator: string; W: number; F: number; quantOf?: QuantOf; ce?: string },
 ): UnitInstances {
   const { names, unitSig } = n;
   const { coefParam, CW } = coef;
@@ -32,7 +34,7 @@ export function unitInstances(
     const vIndex = new Map<string, number>();
     for (const s of u.partitions) {
       if (!s) continue;
-      const v = variantOf(s);
+      const v = variantOf(s, gen.quantOf);
       const k = variantKey(v);
       if (!vIndex.has(k)) {
         vIndex.set(k, variants.length);
@@ -43,14 +45,14 @@ export function unitInstances(
     const OW = variants.length > 1 ? bitsFor(variants.length - 1) : 0;
     const lines: string[] = [`  // Unit ${safe(u.unit)} (${safe(u.kind)}, ${u.stages} pipeline stage${u.stages === 1 ? '' : 's'}): ${u.partitions.map((s, t) => `${t}:${s ? safe(s.node) : '-'}`).join(' ')}`];
     const conns: string[] = [];
-    if (u.stages > 0) conns.push('.clk(clk)', '.rst(rst)');
+    if (u.stages > 0) conns.push('.clk(clk)', '.rst(rst)', ...(gen.ce ? [`.ce(${gen.ce})`] : []));
     if (OW > 0) {
       const opSig = names.claim(`${names_.base}_op`);
       lines.push(
         ...choose(
           `[${OW - 1}:0]`,
           opSig,
-          u.partitions.map((s) => (s ? `${OW}'d${vIndex.get(variantKey(variantOf(s)))}` : null)),
+          u.partitions.map((s) => (s ? `${OW}'d${vIndex.get(variantKey(variantOf(s, gen.quantOf)))}` : null)),
           `${OW}'d0`,
         ),
       );
@@ -74,7 +76,7 @@ export function unitInstances(
     const params = hasCoef ? '#(.W(W), .CW(CW), .COEF_FRAC(COEF_FRAC))' : '#(.W(W))';
     lines.push(`  ${names_.module} ${params} ${names_.inst} (`, conns.map((c) => `    ${c}`).join(',\n'), '  );', '');
     unitBlocks.push(...lines);
-    unitFiles.push({ name: `${names_.module}.v`, text: unitModule(names_.module, u, variants, hasCoef, OW, gen.designName, gen.generator, gen.W, CW, gen.F) });
+    unitFiles.push({ name: `${names_.module}.v`, text: unitModule(names_.module, u, variants, hasCoef, OW, gen.designName, gen.generator, gen.W, CW, gen.F, gen.ce !== undefined) });
   }
   return { unitBlocks, unitFiles };
 }
@@ -127,6 +129,7 @@ function unitModule(
   W: number,
   CW: number,
   F: number,
+  withCe = false,
 ): string {
   const P = u.stages;
   const lines: string[] = [
@@ -135,16 +138,23 @@ function unitModule(
     `// Latency: the result of the operands of cycle c appears on y in cycle c+${P}${P === 0 ? ' (combinational)' : ''}.`,
     `// Operations${OW ? ' (op code: operation)' : ''}:`,
     ...variants.map((v, i) => `//   ${OW ? `${i}: ` : ''}${v.op}: y = ${variantText(v)}`),
-    '// All values are W-bit two\'s complement; sums and products keep the low W bits.',
+    variants.some((v) => v.q)
+      ? '// Every value is a signal of its own format held sign-extended in W bits; each result is requantised to its node\'s format.'
+      : '// All values are W-bit two\'s complement; sums and products keep the low W bits.',
     '`default_nettype none',
     '',
     `module ${name} #(`,
     `  parameter W = ${W}${hasCoef ? ',' : ''}`,
-    ...(hasCoef ? [`  parameter CW = ${CW},`, `  parameter COEF_FRAC = ${F}`] : []),
+    ...(hasCoef
+      ? variants.some((v) => v.scaled && !v.q)
+        ? [`  parameter CW = ${CW},`, `  parameter COEF_FRAC = ${F}`]
+        : // With number formats the shifts are written out; COEF_FRAC stays for a replacement core.
+          [`  parameter CW = ${CW},`, '  // verilator lint_off UNUSEDPARAM', `  parameter COEF_FRAC = ${F}`, '  // verilator lint_on UNUSEDPARAM']
+      : []),
     ') (',
   ];
   const ports: string[] = [];
-  if (P > 0) ports.push('  input  wire clk', '  input  wire rst');
+  if (P > 0) ports.push('  input  wire clk', '  input  wire rst', ...(withCe ? ['  input  wire ce'] : []));
   if (OW) ports.push(`  input  wire [${OW - 1}:0] op`);
   for (let p = 0; p < u.ports; p++) ports.push(`  input  wire signed [W-1:0] a${p}`);
   if (hasCoef) ports.push('  input  wire signed [CW-1:0] coef');
@@ -154,6 +164,11 @@ function unitModule(
   // One expression per variant; scaled ones go through a full-width product.
   const exprs: string[] = [];
   variants.forEach((v, i) => {
+    if (v.q) {
+      lines.push(...quantisedVariant(v, i, W, CW, F));
+      exprs.push(`pl_res${i}`);
+      return;
+    }
     const a = Array.from({ length: v.arity }, (_, k) => `a${k}`);
     if (!v.scaled) {
       exprs.push(v.op === 'add' ? a.join(' + ') : v.op === 'sub' ? a.join(' - ') : v.op === 'mul' ? a.join(' * ') : v.op === 'neg' ? '-a0' : 'a0');
@@ -188,10 +203,70 @@ function unitModule(
     const st = Array.from({ length: P }, (_, k) => `pl_s${k}`);
     lines.push(`  reg signed [W-1:0] ${st.join(', ')};`, '  always @(posedge clk) begin', '    if (rst) begin');
     for (const s of st) lines.push(`      ${s} <= {W{1'b0}};`);
-    lines.push('    end else begin');
+    lines.push(withCe ? '    end else if (ce) begin' : '    end else begin');
     st.forEach((s, k) => lines.push(`      ${s} <= ${k === 0 ? 'pl_res' : st[k - 1]};`));
     lines.push('    end', '  end', `  assign y = ${st[P - 1]};`);
   }
   lines.push('endmodule', '', '`default_nettype wire', '');
   return lines.join('\n');
+}
+
+/**
+ * One operation with number formats: the full-precision result from operands in their
+ * producers' formats, requantised to the node's format (shared/hardware/formatArithmetic.ts).
+ */
+function quantisedVariant(v: Variant, i: number, W: number, CW: number, F: number): string[] {
+  const { operandFrac: fr, sf } = v.q!;
+  const p = `pl_v${i}`;
+  const L: string[] = [`  // ${v.op} of ${v.arity} to ${formatName(sf.format)}, ${sf.rounding}, ${sf.overflow}; operands with ${fr.slice(0, v.arity).join(', ')} fraction bits`, '  // verilator lint_off UNUSEDSIGNAL'];
+  const a = (k: number) => `a${k}`;
+  let x: string;
+  let xw: number;
+  let xf: number;
+  const gainOf = (y: string, yf: number, tag: string): [string, number, number] => {
+    const g = `${p}_${tag}`;
+    L.push(`  wire signed [${W + CW - 1}:0] ${g} = ${sext(y, W, W + CW)} * ${sext('coef', CW, W + CW)};`);
+    return [g, W + CW, yf + F];
+  };
+  switch (v.op) {
+    case 'add':
+    case 'sub': {
+      const fa = Math.max(...fr.slice(0, v.arity));
+      const shift = Math.max(...fr.slice(0, v.arity).map((f) => fa - f));
+      xw = W + shift + v.arity;
+      xf = fa;
+      const terms = Array.from({ length: v.arity }, (_, k) => sext(a(k), W, xw, fa - fr[k]));
+      x = `${p}_x`;
+      L.push(`  wire signed [${xw - 1}:0] ${x} = ${terms.join(v.op === 'add' ? ' + ' : ' - ')};`);
+      break;
+    }
+    case 'mul': {
+      xw = W * v.arity;
+      xf = fr.slice(0, v.arity).reduce((s, f) => s + f, 0);
+      x = `${p}_x`;
+      L.push(`  wire signed [${xw - 1}:0] ${x} = ${Array.from({ length: v.arity }, (_, k) => sext(a(k), W, xw)).join(' * ')};`);
+      if (v.scaled) {
+        // The signal product in the node's format first, then the coefficient (as without formats).
+        L.push(...requantiseLines(`${p}_m`, x, xw, xf, sf, W, `${p}_mq`));
+        [x, xw, xf] = gainOf(`${p}_mq`, sf.format.frac, 'g');
+      }
+      break;
+    }
+    case 'gain':
+      [x, xw, xf] = gainOf('a0', fr[0], 'g');
+      break;
+    case 'neg':
+      x = `${p}_x`;
+      xw = W + 1;
+      xf = fr[0];
+      L.push(`  wire signed [${W}:0] ${x} = -${sext('a0', W, W + 1)};`);
+      break;
+    case 'pass':
+      x = 'a0';
+      xw = W;
+      xf = fr[0];
+      break;
+  }
+  L.push(...requantiseLines(p, x, xw, xf, sf, W, `pl_res${i}`), '  // verilator lint_on UNUSEDSIGNAL');
+  return L;
 }

@@ -1,20 +1,35 @@
 // The operations a unit runs, told apart by operation, operand count and coefficient: each
 // variant is one expression of the unit module, selected by an op code when there are several.
 import type { NodeOp, UnitSlot } from '../../types';
+import { formatName } from '../../design/numberFormat';
+import type { SignalFormat } from '../formats';
+
+/** With number formats: the operands' fraction bits and the result's format and modes. */
+export interface VariantQuant {
+  operandFrac: number[];
+  sf: SignalFormat;
+}
 
 export interface Variant {
   op: NodeOp;
   arity: number;
   scaled: boolean;
+  q?: VariantQuant;
 }
 
-export function variantOf(s: UnitSlot): Variant {
+export type QuantOf = (node: string) => VariantQuant | undefined;
+
+export function variantOf(s: UnitSlot, quantOf?: QuantOf): Variant {
   const op = s.op;
   if (!op) throw new Error(`node ${s.node} has no arithmetic`);
-  return { op, arity: s.arity, scaled: op === 'gain' || (op === 'mul' && s.coefficient !== null) };
+  const v: Variant = { op, arity: s.arity, scaled: op === 'gain' || (op === 'mul' && s.coefficient !== null) };
+  const q = quantOf?.(s.node);
+  if (q) v.q = q;
+  return v;
 }
 export function variantKey(v: Variant): string {
-  return `${v.op}/${v.arity}/${v.scaled ? 'c' : ''}`;
+  const q = v.q ? `/${v.q.operandFrac.join(',')}>${formatName(v.q.sf.format)}:${v.q.sf.rounding}:${v.q.sf.overflow}` : '';
+  return `${v.op}/${v.arity}/${v.scaled ? 'c' : ''}${q}`;
 }
 export function variantText(v: Variant): string {
   const a = Array.from({ length: v.arity }, (_, i) => `a${i}`);
