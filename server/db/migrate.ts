@@ -6,12 +6,14 @@ import { Umzug, type UmzugStorage } from 'umzug';
 import * as m001 from './migrations/001-initial';
 import * as m002 from './migrations/002-security-and-retention';
 import * as m003 from './migrations/003-jobs';
+import * as m006 from './migrations/006-history-indexes';
 import type { Migration } from './migrations/types';
 
 const MIGRATIONS: { name: string; up: Migration; down: Migration }[] = [
   { name: '001-initial', ...m001 },
   { name: '002-security-and-retention', ...m002 },
   { name: '003-jobs', ...m003 },
+  { name: '006-history-indexes', ...m006 },
 ];
 
 /** Keeps applied migration names in a table of the connection's own schema (search_path). */

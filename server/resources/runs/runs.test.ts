@@ -149,6 +149,19 @@ describe('GET /api/projects/:slug/branches/:branch/runs', () => {
     expect(filtered.body.runs.every((r: { designs: { name: string }[] }) => r.designs.length === 1 && r.designs[0]!.name === 'beta')).toBe(true);
   });
 
+  it('gives each run in the shape of the run page (GET /api/runs/:id), dates as Date.toJSON writes them', async () => {
+    const at = new Date('2024-05-06T07:08:09.123Z');
+    const { id } = await ingestRun(t.ctx, project, makeReport({ branch: 'feature/shape', designs: [designEntry('alpha', { utilization: 0.1 + 0.2, registers: 7 }), designEntry('beta')] }), { createdAt: at });
+    const page = await read(`/api/projects/${project.slug}/branches/feature%2Fshape/runs`);
+    expect(page.status).toBe(200);
+    expect(page.body.nextCursor).toBeNull();
+    const detail = await read(`/api/runs/${id}`);
+    const { project: _project, ...run } = detail.body.run;
+    expect(page.body.runs).toEqual([run]);
+    expect(page.body.runs[0].createdAt).toBe(at.toJSON());
+    expect(page.body.runs[0].designs[0].utilization).toBe(0.1 + 0.2); // a double kept to the last bit
+  });
+
   it('refuses a cursor it did not give out and a limit out of range', async () => {
     expect((await read(`/api/projects/${project.slug}/branches/main/runs?cursor=yesterday`)).status).toBe(400);
     expect((await read(`/api/projects/${project.slug}/branches/main/runs?limit=0`)).status).toBe(400);
