@@ -12,6 +12,7 @@ import { retime, retimedDelays } from '../../shared/analysis/retiming';
 import { retimingConstraints, satisfiesConstraints } from '../../shared/analysis/constraints';
 import { minRegisterRetiming } from '../../shared/analysis/minRegisterRetiming';
 import type { Design } from '../../shared/types';
+import { applyRules, mergeRules } from '../../shared/report/rules';
 import { constraintsOf, randomDesign, type ConstraintRow } from './helpers';
 
 /** Sum over edges with a folded delay of N * w_r(e) - stages(U) + slot(V) - slot(U) (docs/analysis.md). */
@@ -172,6 +173,10 @@ describe('fewest-register retiming (min-cost flow)', () => {
       const starved = retime(g, foldedDelays(g), d.folding.latency ?? 'free', { budget: 1 });
       expect(starved.result.registersProven).toBe(false);
       expect(starved.result.method).toMatch(/not proven/);
+      // ... and every report says so, whatever the rules (docs/cli.md, registers-not-proven).
+      const warned = applyRules({ ...a, retiming: { ...a.retiming, registersProven: false } }, mergeRules(null, null).effective);
+      expect(warned.warnings.map((w) => w.code)).toContain('registers-not-proven');
+      expect(applyRules(a, mergeRules(null, null).effective).warnings.map((w) => w.code)).not.toContain('registers-not-proven');
       return;
     }
     throw new Error('no random design needed retiming');
