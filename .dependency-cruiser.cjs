@@ -6,9 +6,9 @@ module.exports = {
     { name: 'no-circular', severity: 'error', comment: 'An import circle makes the order of the stages unreadable.', from: {}, to: { circular: true } },
     {
       name: 'engine-is-pure', severity: 'error',
-      comment: 'shared/ runs in the CLI, the server and the browser: no Node built-ins, no npm packages but yaml, js-yaml and ajv.',
+      comment: 'shared/ runs in the CLI, the server and the browser: no Node built-ins, no npm packages but yaml, js-yaml (and js-yaml-5, its 5.x under an alias, for positions) and ajv.',
       from: { path: '^shared/' },
-      to: { dependencyTypes: ['core', 'npm', 'npm-dev', 'npm-optional', 'npm-peer', 'npm-no-pkg', 'npm-unknown'], pathNot: '^node_modules/(yaml|js-yaml|ajv)/' },
+      to: { dependencyTypes: ['core', 'npm', 'npm-dev', 'npm-optional', 'npm-peer', 'npm-no-pkg', 'npm-unknown'], pathNot: '^node_modules/(yaml|js-yaml|js-yaml-5|ajv)/' },
     },
     { name: 'engine-imports-only-engine', severity: 'error', from: { path: '^shared/' }, to: { dependencyTypes: ['local'], pathNot: '^shared/' } },
     { name: 'design-stage-first', severity: 'error', comment: 'The design file stage comes before the analysis, hardware and report stages.', from: { path: '^shared/design/' }, to: { path: '^shared/(analysis|hardware|report|planning)/' } },

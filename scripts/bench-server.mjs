@@ -11,16 +11,14 @@
 // Options: --runs N (stored runs, default 100000), --duration S (seconds per measurement,
 // default 5), --connections C (default 10), --json FILE, --no-docs (do not write docs/performance.md),
 // --keep-db (keep the database pleat_bench afterwards).
-import { execFileSync, spawn } from 'node:child_process';
+import { execFileSync } from 'node:child_process';
 import { readFileSync, writeFileSync, existsSync } from 'node:fs';
-import { createServer } from 'node:net';
 import { cpus, loadavg } from 'node:os';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { parseArgs } from 'node:util';
-import autocannon from 'autocannon';
-import bcrypt from 'bcryptjs';
 import pg from 'pg';
+import { buildAndMigrate, dropDatabase, freshDatabase, load, loginCookie, postgres, seedProject, serverEnv, startServer } from './server-load.mjs';
 
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
 // node's own argument parser: an unknown or misspelt option is an error, not silently ignored.
@@ -43,32 +41,11 @@ const say = (m) => process.stderr.write(`bench-server: ${m}\n`);
 const loadAtStart = loadavg()[0];
 
 // ---------------------------------------------------------------- set-up
-execFileSync('bash', ['scripts/pg.sh'], { cwd: root, stdio: ['ignore', 'ignore', 'inherit'] });
-const pgUrl = (db) => execFileSync('bash', ['scripts/pg.sh', 'url', db], { cwd: root, encoding: 'utf8' }).trim();
+const pgUrl = await postgres(root);
 const DB = 'pleat_bench';
-{
-  const admin = new pg.Client({ connectionString: pgUrl('postgres') });
-  await admin.connect();
-  await admin.query(`DROP DATABASE IF EXISTS ${DB} WITH (FORCE)`);
-  await admin.query(`CREATE DATABASE ${DB}`);
-  await admin.end();
-}
-const dbUrl = pgUrl(DB);
-execFileSync(process.execPath, ['scripts/build.mjs', '--server-only'], { cwd: root, stdio: 'inherit' });
-const serverEnv = {
-  ...process.env,
-  PLEAT_ENV: 'production',
-  PLEAT_DATABASE_URL: dbUrl,
-  PLEAT_JWT_SECRET: 'bench-only-secret',
-  PLEAT_SMTP_HOST: 'none',
-  PLEAT_LOGIN_LIMIT: '1000000',
-  // The benchmark measures ingestion, not the per-token limits (docs/server.md).
-  PLEAT_UPLOAD_LIMIT: '1000000000',
-  PLEAT_UPLOAD_QUOTA: '1000000000',
-  PLEAT_MAINTENANCE_MIN: '0',
-  PLEAT_ROOT: root,
-};
-execFileSync(process.execPath, ['dist/server/main.js', 'migrate'], { cwd: root, env: serverEnv, stdio: ['ignore', 'ignore', 'inherit'] });
+const dbUrl = await freshDatabase(pgUrl, DB);
+const env = serverEnv(root, dbUrl, 'bench-only-secret'); // upload limits out of the way: ingestion is measured, not the limits
+buildAndMigrate(root, env);
 
 // A real report: what `pleat check` writes for four example designs.
 const cli = existsSync(path.join(root, 'dist/cli/pleat.js')) ? [path.join(root, 'bin/pleat.js')] : [path.join(root, 'node_modules/.bin/tsx'), path.join(root, 'cli/main.ts')];
@@ -83,16 +60,10 @@ const report = JSON.parse(reportText);
 
 const client = new pg.Client({ connectionString: dbUrl });
 await client.connect();
-const { rows: [project] } = await client.query(`INSERT INTO projects (slug, name) VALUES ('bench', 'Bench') RETURNING id`);
-await client.query(`INSERT INTO team_rules (project_id, rules) VALUES ($1, '{}')`, [project.id]);
 const password = 'bench password';
-const { rows: [user] } = await client.query(
-  `INSERT INTO users (email, name, password_hash) VALUES ('viewer@bench.test', 'Viewer', $1) RETURNING id`, [bcrypt.hashSync(password, 4)]);
-await client.query(`INSERT INTO memberships (project_id, user_id, role) VALUES ($1, $2, 'viewer')`, [project.id, user.id]);
 const ciToken = 'pleat_ci_bench_' + 'x'.repeat(40);
-const { createHash } = await import('node:crypto');
-await client.query(`INSERT INTO ci_tokens (project_id, name, token_hash, prefix) VALUES ($1, 'bench', $2, 'pleat_ci_bench')`,
-  [project.id, createHash('sha256').update(ciToken).digest('hex')]);
+const { projectId, email } = await seedProject(client, { slug: 'bench', name: 'Bench', password, token: ciToken });
+const project = { id: projectId };
 
 // N stored runs on one branch, one a minute back in time, two designs each; a small report body
 // (history pages never read it).
@@ -125,7 +96,8 @@ await client.query(
   `INSERT INTO branches (project_id, name, last_run_id, last_run_at)
    SELECT DISTINCT ON (branch) project_id, branch, id, created_at FROM runs WHERE project_id = $1
    ORDER BY branch, created_at DESC, id DESC`, [project.id]);
-await client.query('ANALYZE');
+// VACUUM as autovacuum would after a bulk load: it sets the visibility map that index-only scans need.
+await client.query('VACUUM (ANALYZE)');
 const insertSeconds = (performance.now() - t0) / 1000;
 const { rows: [mid] } = await client.query(
   `SELECT id, created_at FROM runs WHERE project_id = $1 AND branch = 'main' ORDER BY created_at DESC, id DESC OFFSET $2 LIMIT 1`,
@@ -134,38 +106,13 @@ const deepCursor = `${mid.created_at.toISOString()},${mid.id}`;
 say(`inserted in ${insertSeconds.toFixed(1)} s`);
 
 // ---------------------------------------------------------------- the server
-const port = await new Promise((resolve) => {
-  const s = createServer();
-  s.listen(0, '127.0.0.1', () => { const p = s.address().port; s.close(() => resolve(p)); });
-});
-const server = spawn(process.execPath, ['dist/server/main.js', 'serve'], {
-  cwd: root, env: { ...serverEnv, PLEAT_PORT: String(port), PLEAT_MIGRATE: '0' }, stdio: ['ignore', 'ignore', 'inherit'],
-});
-const base = `http://127.0.0.1:${port}`;
-for (let i = 0; i < 100; i++) {
-  try { if ((await fetch(`${base}/api/health/live`)).ok) break; } catch { /* not yet */ }
-  await new Promise((r) => setTimeout(r, 100));
-}
-const login = await fetch(`${base}/api/auth/login`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email: 'viewer@bench.test', password }) });
-if (!login.ok) throw new Error(`login failed: ${login.status}`);
-const cookie = login.headers.get('set-cookie').split(';')[0];
+const { base, stop } = await startServer(root, env);
+const cookie = await loginCookie(base, email, password);
 
-/** One autocannon measurement; every response time is kept so p95 is exact. */
+/** One autocannon measurement at the benchmark's connection count. */
 async function measure(name, { duration = DURATION, ...request }) {
-  const times = [];
-  const statuses = new Map();
-  // Always the `requests` form: autocannon applies setupRequest (and keeps the path) only there.
-  const instance = autocannon({ url: base, connections: CONNECTIONS, duration, requests: [{ method: 'GET', ...request }] });
-  instance.on('response', (_c, status, _bytes, ms) => {
-    times.push(ms);
-    statuses.set(status, (statuses.get(status) ?? 0) + 1);
-  });
-  const r = await instance;
-  times.sort((a, b) => a - b);
-  const q = (p) => times[Math.min(times.length - 1, Math.floor(p * times.length))];
-  const bad = [...statuses.keys()].filter((c) => c >= 300);
-  if (bad.length) throw new Error(`${name}: unexpected statuses ${JSON.stringify(Object.fromEntries(statuses))}`);
-  const out = { name, requests: times.length, perSecond: times.length / duration, p50: q(0.5), p95: q(0.95), p99: q(0.99), errors: r.errors + r.timeouts, statuses: Object.fromEntries(statuses) };
+  const out = { name, ...(await load(base, { connections: CONNECTIONS, duration, request })) };
+  if (out.errors) throw new Error(`${name}: unexpected statuses ${JSON.stringify(out.statuses)}`);
   say(`${name}: ${out.perSecond.toFixed(0)}/s, p95 ${out.p95.toFixed(2)} ms (${JSON.stringify(out.statuses)})`);
   return out;
 }
@@ -216,17 +163,11 @@ const filtered = await paired('history page filtered by design', {
 const branches = await paired('branch list with trends', { path: '/api/projects/bench/branches', headers: hdr });
 const oneRun = await paired('one run with its comparison', { path: `/api/runs/${mid.id}`, headers: hdr });
 
-server.kill('SIGTERM');
 const { rows: [{ count: ingested }] } = await client.query(`SELECT count(*) FROM runs WHERE branch = 'ingest'`);
 await client.end();
-await new Promise((resolve) => server.once('exit', resolve));
-if (!args['keep-db']) {
-  // The bench database is large and only for this run; --keep-db leaves it for a look.
-  const admin = new pg.Client({ connectionString: pgUrl('postgres') });
-  await admin.connect();
-  await admin.query(`DROP DATABASE IF EXISTS ${DB} WITH (FORCE)`);
-  await admin.end();
-}
+await stop();
+// The bench database is large and only for this run; --keep-db leaves it for a look.
+if (!args['keep-db']) await dropDatabase(pgUrl, DB);
 
 // ---------------------------------------------------------------- results
 const results = {
@@ -276,8 +217,9 @@ if (WRITE_DOCS) {
     '',
     'Reading: an upload checks the token and the project, validates the report against its schema and writes the run,',
     'its per-design rows and the branch pointer in one SQL statement. A history page is the session check, the project',
-    'and role, and one query: an index range scan on `runs (project_id, branch, created_at DESC, id DESC)` with the',
-    'page\'s design rows beside each run, so its cost does not grow with the length of the history (compare the',
+    'and role, and one query: index-only scans of the covering indexes of migration 006 (`runs (project_id, branch,',
+    'created_at DESC, id DESC) INCLUDE (...)` and `run_designs (run_id, id) INCLUDE (...)`), the page\'s JSON built by',
+    'PostgreSQL and sent as it comes (no object per run in the server), so its cost does not grow with the length of the history (compare the',
     'branch of 1,000 runs and the page half-way down 100,000: cursor paging, no OFFSET). On this machine each request',
     'costs mostly system calls (socket writes to the client and to PostgreSQL) and JSON; the bare route shows what the',
     'HTTP layer alone costs under the same load.',

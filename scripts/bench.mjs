@@ -112,6 +112,8 @@ async function main() {
     platform: 'node',
     logLevel: 'warning',
     outExtension: { '.js': '.mjs' },
+    // The yaml package is CommonJS and requires node built-ins: give the ES module a require.
+    banner: { js: "import { createRequire as __benchRequire } from 'node:module'; const require = __benchRequire(import.meta.url);" },
   });
   const { loadDesign } = await import(pathToFileURL(path.join(work, 'engine/load.mjs')).href);
   const { analyze } = await import(pathToFileURL(path.join(work, 'engine/analyze.mjs')).href);

@@ -5,16 +5,13 @@
 // count right after, as the baseline of the same server in the same run. Counts every error
 // (socket errors, timeouts, any status but 2xx) and writes the figures into docs/reliability.md.
 // Options: --duration S (seconds per phase, default 10), --no-docs.
-import { execFileSync, spawn } from 'node:child_process';
-import { randomBytes, createHash } from 'node:crypto';
+import { randomBytes } from 'node:crypto';
 import { existsSync, readFileSync, writeFileSync } from 'node:fs';
-import { createServer } from 'node:net';
 import { cpus, loadavg } from 'node:os';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
-import autocannon from 'autocannon';
-import bcrypt from 'bcryptjs';
 import pg from 'pg';
+import { buildAndMigrate, dropDatabase, freshDatabase, load, loginCookie, postgres, seedProject, serverEnv, startServer } from './server-load.mjs';
 
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
 const argv = process.argv.slice(2);
@@ -24,42 +21,17 @@ const WRITE_DOCS = !argv.includes('--no-docs');
 const say = (m) => process.stderr.write(`chaos-load: ${m}\n`);
 const loadAtStart = loadavg()[0];
 
-// The PostgreSQL the tests use (PLEAT_PG_PORT, default 54329); scripts/pg.sh starts it when it is not up.
-const pgUrl = (db) => `postgres://pleat@127.0.0.1:${process.env.PLEAT_PG_PORT ?? 54329}/${db}`;
-try {
-  const probe = new pg.Client({ connectionString: pgUrl('postgres') });
-  await probe.connect();
-  await probe.end();
-} catch {
-  execFileSync('bash', ['scripts/pg.sh'], { cwd: root, stdio: ['ignore', 'ignore', 'inherit'] });
-}
+const pgUrl = await postgres(root);
 const DB = 'pleat_chaos';
-{
-  const admin = new pg.Client({ connectionString: pgUrl('postgres') });
-  await admin.connect();
-  await admin.query(`DROP DATABASE IF EXISTS ${DB} WITH (FORCE)`);
-  await admin.query(`CREATE DATABASE ${DB}`);
-  await admin.end();
-}
-const dbUrl = pgUrl(DB);
-execFileSync(process.execPath, ['scripts/build.mjs', '--server-only'], { cwd: root, stdio: 'inherit' });
-const env = {
-  ...process.env, PLEAT_ENV: 'production', PLEAT_DATABASE_URL: dbUrl, PLEAT_JWT_SECRET: 'chaos-only-secret', PLEAT_SMTP_HOST: 'none',
-  PLEAT_LOGIN_LIMIT: '1000000', PLEAT_UPLOAD_LIMIT: '100000000', PLEAT_UPLOAD_QUOTA: '100000000', PLEAT_MAINTENANCE_MIN: '0', PLEAT_ROOT: root,
-};
-execFileSync(process.execPath, ['dist/server/main.js', 'migrate'], { cwd: root, env, stdio: ['ignore', 'ignore', 'inherit'] });
+const dbUrl = await freshDatabase(pgUrl, DB);
+const env = serverEnv(root, dbUrl, 'chaos-only-secret', { perMinute: '100000000', perDay: '100000000' });
+buildAndMigrate(root, env);
 
 const client = new pg.Client({ connectionString: dbUrl });
 await client.connect();
-const { rows: [project] } = await client.query(`INSERT INTO projects (slug, name) VALUES ('chaos', 'Chaos') RETURNING id`);
-await client.query(`INSERT INTO team_rules (project_id, rules) VALUES ($1, '{}')`, [project.id]);
 const password = 'chaos password';
-const { rows: [user] } = await client.query(
-  `INSERT INTO users (email, name, password_hash) VALUES ('viewer@chaos.test', 'Viewer', $1) RETURNING id`, [bcrypt.hashSync(password, 4)]);
-await client.query(`INSERT INTO memberships (project_id, user_id, role) VALUES ($1, $2, 'viewer')`, [project.id, user.id]);
 const token = `pleat_ci_${randomBytes(32).toString('base64url')}`;
-await client.query(`INSERT INTO ci_tokens (project_id, name, token_hash, prefix) VALUES ($1, 'chaos', $2, 'pleat_ci_chaos')`,
-  [project.id, createHash('sha256').update(token).digest('hex')]);
+const { email } = await seedProject(client, { slug: 'chaos', name: 'Chaos', password, token });
 await client.end();
 
 // A report of the CLI's shape with three designs; each upload gets a new commit.
@@ -73,37 +45,15 @@ const reportFor = (commit) => JSON.stringify({
   designs: ['a', 'b', 'c'].map(design),
 });
 
-const port = await new Promise((resolve) => { const s = createServer(); s.listen(0, '127.0.0.1', () => { const p = s.address().port; s.close(() => resolve(p)); }); });
-const server = spawn(process.execPath, ['dist/server/main.js', 'serve'], { cwd: root, env: { ...env, PLEAT_PORT: String(port), PLEAT_MIGRATE: '0' }, stdio: ['ignore', 'ignore', 'pipe'] });
-let serverLog = '';
-server.stderr.setEncoding('utf8').on('data', (d) => { serverLog += d; });
-const base = `http://127.0.0.1:${port}`;
-for (let i = 0; i < 100; i++) {
-  try { if ((await fetch(`${base}/api/health/live`)).ok) break; } catch { /* not yet */ }
-  await new Promise((r) => setTimeout(r, 100));
-}
-const login = await fetch(`${base}/api/auth/login`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email: 'viewer@chaos.test', password }) });
-if (!login.ok) throw new Error(`login failed: ${login.status}`);
-const cookie = login.headers.get('set-cookie').split(';')[0];
+const { base, stop, log } = await startServer(root, env);
+const cookie = await loginCookie(base, email, password);
 // Some history to read before the first phase.
 for (let i = 0; i < 60; i++) {
   await fetch(`${base}/api/projects/chaos/runs`, { method: 'POST', headers: { 'content-type': 'application/json', authorization: `Bearer ${token}` }, body: reportFor(randomBytes(20).toString('hex')) });
 }
 
-function run(name, connections, request) {
-  const times = [];
-  const statuses = new Map();
-  const instance = autocannon({ url: base, connections, duration: DURATION, requests: [request] });
-  instance.on('response', (_c, status, _bytes, ms) => {
-    times.push(ms);
-    statuses.set(status, (statuses.get(status) ?? 0) + 1);
-  });
-  return instance.then((r) => {
-    times.sort((a, b) => a - b);
-    const q = (p) => times[Math.min(times.length - 1, Math.floor(p * times.length))] ?? NaN;
-    const bad = [...statuses].filter(([c]) => c < 200 || c >= 300).reduce((a, [, n]) => a + n, 0);
-    return { name, connections, requests: times.length, perSecond: times.length / DURATION, p50: q(0.5), p95: q(0.95), errors: r.errors + r.timeouts + bad, statuses: Object.fromEntries(statuses) };
-  });
+async function run(name, connections, request) {
+  return { name, ...(await load(base, { connections, duration: DURATION, request })) };
 }
 
 const uploadReq = {
@@ -124,9 +74,9 @@ for (const c of [10, 50]) {
   for (const r of [up, hist, bare]) say(`  ${r.name}: ${r.perSecond.toFixed(0)}/s, p95 ${r.p95.toFixed(1)} ms, errors ${r.errors} ${JSON.stringify(r.statuses)}`);
   results.push({ connections: c, up, hist, bare });
 }
-server.kill('SIGTERM');
-await new Promise((r) => server.once('exit', r));
-const stackTraces = (serverLog.match(/\n\s+at /g) ?? []).length;
+await stop();
+await dropDatabase(pgUrl, DB);
+const stackTraces = (log().match(/\n\s+at /g) ?? []).length;
 
 const rows = results.flatMap(({ connections, up, hist, bare }) => [up, hist].map((r) =>
   `| ${connections} | ${r.name} (${r.connections} conn.) | ${r.requests} | ${r.perSecond.toFixed(0)}/s | ${r.errors} | ${r.p95.toFixed(1)} ms | ${bare.p95.toFixed(1)} ms | ${(r.p95 / bare.p95).toFixed(1)} |`));

@@ -36,7 +36,7 @@ export const register: RegisterCommand = (program: Command, ctx: CliContext) => 
   program
     .command('check')
     .description('validate and analyse designs and apply the rules (files, folders, globs; default: the designs of pleat.config.yaml)')
-    .argument('[paths...]', 'design files, folders (searched for *.fold.yaml) or globs')
+    .argument('[paths...]', 'design files, folders (searched for *.fold.yaml and *.fold.json) or globs')
     .addOption(new Option('-f, --format <format>', 'report format').choices(FORMATS).default('text'))
     .option('-o, --output <file>', 'write the report to FILE in the chosen format; the text summary stays on the terminal')
     .option('-c, --config <file>', 'use this config file instead of looking for pleat.config.yaml')

@@ -118,23 +118,22 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   const { control } = built;
   if (!control) throw infeasible(loaded, built);
   const graph = resolveArithmetic(loaded.design).graph!;
-  const [{ formatPlan }, { bitGrowth }, { locate }] = await Promise.all([
+  const [{ buildRtlOutput }, { formatPlan }, { locate }] = await Promise.all([
+    import('../../shared/hardware/rtlFiles'),
     import('../../shared/hardware/formats'),
-    import('../../shared/hardware/range'),
     import('../../shared/design/positions'),
   ]);
-  // Bit growth before writing: a format too narrow for its worst case is worth a warning.
-  const growth = bitGrowth(loaded.design, graph, formatPlan(loaded.design, opts.width));
-  let narrow = growth.diagnostics;
+  const out = buildRtlOutput(loaded.design, loaded.file, graph, control, {
+    width: opts.width, coefFrac: opts.coefFrac, iterations: opts.iterations, seed: opts.seed, interface: opts.interface, version: ctx.version,
+  });
+  const { bundle, testbench: tb } = out;
+  let narrow = out.narrow;
   try {
     narrow = locate(loaded.text, narrow);
   } catch {
     /* keep them without positions */
   }
   const generator = `pleat ${ctx.version}`;
-  const bundle = rtl.generateRtl(loaded.design, control, { width: opts.width, coefFrac: opts.coefFrac, generator, interface: opts.interface });
-  const vectors = rtl.testVectors(loaded.design, graph, control, { iterations: opts.iterations, seed: opts.seed, fixed: bundle.fixed, formatWidth: opts.width });
-  const tb = rtl.generateTestbench(bundle, control, vectors);
 
   const dir = path.resolve(process.cwd(), opts.out);
   const before = outputFolderState(dir);
@@ -187,30 +186,7 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
     }
   }
 
-  const report = {
-    format: 'pleat-rtl/1',
-    tool: { name: 'pleat', version: ctx.version },
-    file: loaded.file,
-    design: loaded.design.name,
-    top: bundle.top,
-    files: [...bundle.files.map((f) => f.name), tb.name],
-    width: bundle.fixed.width,
-    coefFrac: bundle.fixed.coefFrac,
-    coefWidth: bundle.coefWidth,
-    coefficients: bundle.coefficients,
-    factor: bundle.factor,
-    interface: bundle.interface ?? 'strobe',
-    ...(bundle.interface === 'stream' ? { start: bundle.start, busy: bundle.busy } : {}),
-    latencyAdded: control.latencyAdded,
-    ports: bundle.ports,
-    renamed: bundle.renamed,
-    warnings: bundle.warnings,
-    testbench: { file: tb.name, iterations: vectors.iterations, samplesPerOutput: vectors.samples, seed: vectors.seed, overflows: vectors.overflows },
-    bitGrowth: { method: growth.method, ...(growth.reason ? { reason: growth.reason } : {}), signals: growth.signals },
-    verify,
-    area: area ? { tool: area.tool, folded: area.folded, parallel: area.parallel } : null,
-    control,
-  };
+  const report = { ...out.manifest, verify, area: area ? { tool: area.tool, folded: area.folded, parallel: area.parallel } : null };
   writeFileSync(path.join(dir, `${bundle.top}.rtl.json`), `${JSON.stringify(report, null, 2)}\n`);
   const failed = verify !== null && !verify.passed;
 
@@ -230,10 +206,10 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   for (const r of escapeControlsDeep(bundle.renamed)) lines.push(`  renamed ${r.role === 'module' ? 'top module' : r.role === 'strobe' ? `strobe of ${r.of}` : `port of ${r.of}`}: ${r.wanted} -> ${r.name} (${r.reason})`);
   for (const w of bundle.warnings) lines.push(`${color.yellow('warning')}: ${escapeControls(w)}`);
   for (const d of narrow) lines.push(`${color.yellow('warning')}: ${loaded.file}${d.line ? `:${d.line}:${d.column}` : ''}: ${escapeControls(d.message)} [${d.code}]`);
-  if (vectors.overflows.length) {
-    const n = vectors.overflows.reduce((a, o) => a + o.count, 0);
-    const first = vectors.overflows[0];
-    lines.push(`${color.yellow('warning')}: the test vectors overflow ${n} time${n === 1 ? '' : 's'} at ${vectors.overflows.length} node${vectors.overflows.length === 1 ? '' : 's'} (first ${escapeControls(first.node)}, iteration ${first.firstIteration}); the testbench checks the RTL against the same overflows, so PASS says the RTL matches its model, not that the numbers fit`);
+  if (out.overflows.length) {
+    const n = out.overflows.reduce((a, o) => a + o.count, 0);
+    const first = out.overflows[0];
+    lines.push(`${color.yellow('warning')}: the test vectors overflow ${n} time${n === 1 ? '' : 's'} at ${out.overflows.length} node${out.overflows.length === 1 ? '' : 's'} (first ${escapeControls(first.node)}, iteration ${first.firstIteration}); the testbench checks the RTL against the same overflows, so PASS says the RTL matches its model, not that the numbers fit`);
   }
   if (verify) lines.push(`testbench: ${verify.passed ? color.green(verify.summary) : color.red(verify.summary || 'no PASS line')}`);
   if (area) {

@@ -10,6 +10,7 @@ import * as m004 from './migrations/004-host-connections';
 import * as m005 from './migrations/005-rule-change-reasons';
 import * as m006 from './migrations/006-run-commit-meta';
 import * as m007 from './migrations/007-run-design-plan';
+import * as m008 from './migrations/008-history-indexes';
 import type { Migration } from './migrations/types';
 
 const MIGRATIONS: { name: string; up: Migration; down: Migration }[] = [
@@ -20,6 +21,7 @@ const MIGRATIONS: { name: string; up: Migration; down: Migration }[] = [
   { name: '005-rule-change-reasons', ...m005 },
   { name: '006-run-commit-meta', ...m006 },
   { name: '007-run-design-plan', ...m007 },
+  { name: '008-history-indexes', ...m008 },
 ];
 
 /** Keeps applied migration names in a table of the connection's own schema (search_path). */

@@ -67,27 +67,36 @@ export function minRegisterRetiming(
   const objective = options.objective ?? 'edges';
   const n0 = cg.vars.count;
   const m0 = cg.arcFrom.length;
-  const tails: number[] = [];
-  const heads: number[] = [];
-  const costs: number[] = [];
+  // Typed arrays sized for the most arcs and variables there can be (every DFG edge, the
+  // latency arc, one mirror arc per folded edge; one mirror per node): no growing arrays, little
+  // for the garbage collector on a design of a million edges.
+  const maxArcs = 2 * m0 + 1;
+  const tails = new Int32Array(maxArcs);
+  const heads = new Int32Array(maxArcs);
+  const costs = new Float64Array(maxArcs);
+  let arcs = 0;
+  const addArc = (t: number, h: number, c: number) => {
+    tails[arcs] = t;
+    heads[arcs] = h;
+    costs[arcs] = c;
+    arcs++;
+  };
   // Objective coefficient of each variable (mirrors appended after the n0 retiming variables).
-  const coef: number[] = new Array<number>(n0).fill(0);
-  const init: number[] = Array.from(start);
+  const coef = new Float64Array(n0 + (objective === 'fanout' ? g.nodeCount : 0));
+  const init = new Float64Array(coef.length);
+  init.set(start.subarray(0, n0));
+  let vars = n0;
   // Constraint arcs in DFG direction: tail = var(U) = constraint arcTo, head = var(V) = arcFrom.
   for (let e = 0; e < m0; e++) {
     const u = cg.arcTo[e];
     const v = cg.arcFrom[e];
     if (u === v) continue; // reads 0 <= c(e): already checked by the shortest paths, no flow
-    tails.push(u);
-    heads.push(v);
-    costs.push(cg.weight[e]);
+    addArc(u, v, cg.weight[e]);
   }
   const { inputVar, outputVar } = cg.vars;
   if (options.maxLatency !== undefined && inputVar !== outputVar) {
     // r(out) - r(in) <= L reads like a DFG edge out -> in with bound L and no folded delay.
-    tails.push(outputVar);
-    heads.push(inputVar);
-    costs.push(options.maxLatency);
+    addArc(outputVar, inputVar, options.maxLatency);
   }
   // Objective terms, with their mirror constraints for 'fanout'.
   const edgeTerm = (e: number) => {
@@ -98,35 +107,40 @@ export function minRegisterRetiming(
     for (let e = 0; e < m0; e++) if (!Number.isNaN(folded[e])) edgeTerm(e);
   } else {
     for (let u = 0; u < g.nodeCount; u++) {
-      const list: number[] = [];
-      for (let k = g.outStart[u]; k < g.outStart[u + 1]; k++) {
-        const e = g.outEdge[k];
-        if (!Number.isNaN(folded[e])) list.push(e);
-      }
+      let count = 0;
+      for (let k = g.outStart[u]; k < g.outStart[u + 1]; k++) if (!Number.isNaN(folded[g.outEdge[k]])) count++;
       const held = g.role[u] === INPUT && g.slot[u] === NO_SLOT;
-      if (held || list.length < 2) {
-        for (const e of list) edgeTerm(e);
+      if (held || count < 2) {
+        for (let k = g.outStart[u]; k < g.outStart[u + 1]; k++) if (!Number.isNaN(folded[g.outEdge[k]])) edgeTerm(g.outEdge[k]);
         continue;
       }
-      const mirror = coef.length;
-      coef.push(1);
+      const mirror = vars++;
+      coef[mirror] = 1;
       coef[cg.vars.varOf[u]]--;
       let m = -Infinity;
-      for (const e of list) {
+      for (let k = g.outStart[u]; k < g.outStart[u + 1]; k++) {
+        const e = g.outEdge[k];
+        if (Number.isNaN(folded[e])) continue;
         // r(V) - m(u) <= -floor(D_F / N)
         const v = cg.arcFrom[e];
-        tails.push(v);
-        heads.push(mirror);
-        costs.push(-cg.weight[e]);
+        addArc(v, mirror, -cg.weight[e]);
         m = Math.max(m, start[v] + cg.weight[e]);
       }
-      init.push(m);
+      init[mirror] = m;
     }
   }
-  const sol = minCostPotentials(coef.length, tails, heads, costs, coef, Float64Array.from(init), options.budget ?? minRegisterWorkBudget(tails.length));
+  const sol = minCostPotentials(
+    vars,
+    tails.subarray(0, arcs),
+    heads.subarray(0, arcs),
+    costs.subarray(0, arcs),
+    coef.subarray(0, vars),
+    init.subarray(0, vars),
+    options.budget ?? minRegisterWorkBudget(arcs),
+  );
   if (!sol) return null;
   let value = 0;
-  for (let v = 0; v < coef.length; v++) value += coef[v] * sol.values[v];
+  for (let v = 0; v < vars; v++) value += coef[v] * sol.values[v];
   return { values: sol.values.slice(0, n0), objective: value + 0, work: sol.work };
 }
 
@@ -137,10 +151,10 @@ export function minRegisterRetiming(
  */
 export function minCostPotentials(
   n: number,
-  tails: readonly number[],
-  heads: readonly number[],
-  costs: readonly number[],
-  coef: readonly number[],
+  tails: ArrayLike<number>,
+  heads: ArrayLike<number>,
+  costs: ArrayLike<number>,
+  coef: ArrayLike<number>,
   start: Float64Array,
   budget: number = minRegisterWorkBudget(tails.length),
 ): { values: Float64Array; work: number } | null {

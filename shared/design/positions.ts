@@ -1,8 +1,24 @@
-// Method: maps a diagnostic's document path to the source offset of that value by walking the concrete syntax tree of the `yaml` package's parser (only when there are diagnostics to place).
+// Method: maps a diagnostic's document path to the source offset of that value by walking the event stream of js-yaml 5's parser.
 // Convention: line and column are 1-based, columns count UTF-16 code units; a path that is not in the text falls back to its nearest parent.
-import { CST, Parser } from 'yaml';
+// The loader reads with js-yaml 4 (faster, less memory: docs/performance.md); positions are only
+// needed when there is a finding to place, and js-yaml 5's event parser (the package `js-yaml-5`,
+// an npm alias of js-yaml 5.5.0) finds them in about the time of a load, where the `yaml`
+// package's concrete syntax tree took ten times as long on a 100,000-edge design.
+import { parseEvents, getScalarValue, type Event, type ScalarEvent } from 'js-yaml-5';
 import type { Diagnostic } from '../types';
 import { KEY_CODES } from './diagnostics';
+
+// Event type ids of js-yaml's parser (EVENT_ID in its typings).
+const DOCUMENT = 1;
+const SEQUENCE = 2;
+const MAPPING = 3;
+const SCALAR = 4;
+const ALIAS = 5;
+const POP = 6;
+// Quoted scalar styles: their value starts after the quote; point at the quote.
+const SINGLE_QUOTED = 2;
+const DOUBLE_QUOTED = 3;
+const PLAIN = 1;
 
 /** One step of a wanted path; only the paths of the diagnostics are kept, so the walk skips the rest. */
 interface Trie {
@@ -17,101 +33,110 @@ function newTrie(): Trie {
   return { children: null, keyOffset: -1, valueOffset: -1, plain: null };
 }
 
-type Token = CST.Token;
-type Item = CST.CollectionItem;
-
-/** Where a value starts: the node itself, else the anchor or tag written in its place (`key: !t`), else -1. */
-function valueOffset(value: Token | null | undefined, props: readonly CST.SourceToken[] | undefined): number {
-  if (value && value.type !== 'error') {
-    if (value.type === 'block-scalar') return value.offset;
-    if ('offset' in value) return value.offset;
-  }
-  if (props) for (const p of props) if (p.type === 'anchor' || p.type === 'tag') return p.offset;
-  return -1;
-}
-
 /** Records where a value starts and, for a plain scalar, its text as written. */
-function setValue(trie: Trie, value: Token | null | undefined, props: readonly CST.SourceToken[] | undefined): void {
-  trie.valueOffset = valueOffset(value, props);
-  if (value && value.type === 'scalar') trie.plain = value.source;
+function setValue(text: string, trie: Trie, ev: Event): void {
+  trie.valueOffset = nodeOffset(ev);
+  if (ev.type === SCALAR) {
+    const s = ev as ScalarEvent;
+    if (s.style === PLAIN && s.valueStart >= 0 && s.valueEnd >= s.valueStart) trie.plain = text.slice(s.valueStart, s.valueEnd);
+  }
 }
 
-/** The key of a map item as the loader reads it (a scalar's value), or null for a complex key. */
-function keyText(key: Token | null | undefined): string | null {
-  if (!key) return null;
-  if (key.type === 'scalar' || key.type === 'single-quoted-scalar' || key.type === 'double-quoted-scalar' || key.type === 'block-scalar') {
-    const r = CST.resolveAsScalar(key);
-    return r ? r.value : null;
+interface Frame {
+  isMap: boolean;
+  trie: Trie | null;
+  index: number;
+  expectKey: boolean;
+  pending: Trie | null;
+  pendingKey: number;
+}
+
+function nodeOffset(ev: Event): number {
+  switch (ev.type) {
+    case SCALAR: {
+      const s = ev as ScalarEvent;
+      if (s.valueStart < 0) return s.anchorStart >= 0 ? s.anchorStart - 1 : s.tagStart;
+      return s.style === SINGLE_QUOTED || s.style === DOUBLE_QUOTED ? s.valueStart - 1 : s.valueStart;
+    }
+    case SEQUENCE:
+    case MAPPING:
+      return ev.start;
+    case ALIAS:
+      return ev.anchorStart - 1; // the `*`
+    default:
+      return -1;
+  }
+}
+
+/** Fills the wanted tries with key and value offsets in one pass over the events of the first document. */
+function walk(text: string, root: Trie): void {
+  const events = parseEvents(text, {});
+  const frames: Frame[] = [];
+  let docs = 0;
+  for (let k = 0; k < events.length; k++) {
+    const ev = events[k];
+    const t = ev.type;
+    if (t === DOCUMENT) {
+      if (++docs > 1) break;
+      continue;
+    }
+    if (t === POP) {
+      frames.pop();
+      continue;
+    }
+    let trie: Trie | null = null;
+    const top = frames.length ? frames[frames.length - 1] : null;
+    if (top === null) {
+      trie = root;
+      setValue(text, root, ev);
+    } else if (!top.isMap) {
+      const idx = top.index++;
+      if (top.trie?.children) {
+        trie = top.trie.children.get(String(idx)) ?? null;
+        if (trie) setValue(text, trie, ev);
+      }
+    } else if (top.expectKey) {
+      top.expectKey = false;
+      top.pending = null;
+      if (t === SCALAR && top.trie?.children) {
+        const key = getScalarValue(text, ev as ScalarEvent);
+        top.pending = top.trie.children.get(key) ?? null;
+        top.pendingKey = nodeOffset(ev);
+      }
+      if (t === SEQUENCE || t === MAPPING) frames.push({ isMap: t === MAPPING, trie: null, index: 0, expectKey: true, pending: null, pendingKey: -1 });
+      continue;
+    } else {
+      top.expectKey = true;
+      trie = top.pending;
+      top.pending = null;
+      if (trie) {
+        trie.keyOffset = top.pendingKey;
+        setValue(text, trie, ev);
+      }
+    }
+    if (t === SEQUENCE || t === MAPPING) {
+      frames.push({ isMap: t === MAPPING, trie: trie?.children ? trie : null, index: 0, expectKey: true, pending: null, pendingKey: -1 });
+    }
+  }
+}
+
+/** Line and column (1-based) of the first alias (`*name`) of the text's first document; null when there is none. */
+export function firstAliasPosition(text: string): [number, number] | null {
+  let events: Event[];
+  try {
+    events = parseEvents(text, {});
+  } catch {
+    return null; // the loader reports the syntax error itself
+  }
+  let docs = 0;
+  for (const ev of events) {
+    if (ev.type === DOCUMENT && ++docs > 1) break;
+    if (ev.type === ALIAS) {
+      const off = nodeOffset(ev);
+      return lineColumns(text, [off]).get(off)!;
+    }
   }
   return null;
-}
-
-/** Descends into the wanted children of a node; a trie without children ends the descent. */
-function walkNode(node: Token | null | undefined, trie: Trie): void {
-  const children = trie.children;
-  if (!children || !node) return;
-  if (node.type === 'block-map' || (node.type === 'flow-collection' && node.start.type === 'flow-map-start')) {
-    for (const item of node.items as Item[]) {
-      const k = keyText(item.key);
-      if (k === null) continue;
-      const t = children.get(k);
-      if (!t) continue;
-      t.keyOffset = item.key && 'offset' in item.key ? item.key.offset : -1;
-      setValue(t, item.value, item.sep);
-      walkNode(item.value, t);
-    }
-  } else if (node.type === 'block-seq' || node.type === 'flow-collection') {
-    const items = node.items as Item[];
-    for (let i = 0; i < items.length; i++) {
-      const t = children.get(String(i));
-      if (!t) continue;
-      const item = items[i];
-      if (item.key !== undefined || item.sep?.some((s) => s.type === 'map-value-ind')) {
-        // `[a: 1]`: a one-pair mapping in a sequence
-        t.valueOffset = valueOffset(item.key, item.start);
-        const k = keyText(item.key);
-        const c = k !== null ? t.children?.get(k) : undefined;
-        if (c) {
-          c.keyOffset = t.valueOffset;
-          setValue(c, item.value, item.sep);
-          walkNode(item.value, c);
-        }
-        continue;
-      }
-      setValue(t, item.value, item.start);
-      walkNode(item.value, t);
-    }
-  }
-}
-
-/** Fills the wanted tries with key and value offsets from the first document of the text. */
-function walk(text: string, root: Trie): void {
-  for (const token of new Parser().parse(text)) {
-    if (token.type !== 'document') continue;
-    setValue(root, token.value, token.start);
-    walkNode(token.value, root);
-    break; // the first document only
-  }
-}
-
-/** Line and column (1-based) of the first alias (`*name`) of the text's first document, by the same parser; null when there is none. */
-export function firstAliasPosition(text: string): [number, number] | null {
-  let at = -1;
-  const visit = (tok: unknown): void => {
-    if (at >= 0 || !tok || typeof tok !== 'object') return;
-    if (Array.isArray(tok)) return tok.forEach(visit);
-    const t = tok as { type?: string; offset?: number };
-    if (t.type === 'alias' && typeof t.offset === 'number') {
-      at = t.offset;
-      return;
-    }
-    for (const v of Object.values(tok)) if (v && typeof v === 'object') visit(v);
-  };
-  for (const token of new Parser().parse(text)) {
-    visit(token);
-    if (token.type === 'document') break;
-  }
-  return at < 0 ? null : lineColumns(text, [at]).get(at)!;
 }
 
 /** 1-based line and column of each offset, by one scan over the text. */

@@ -1,23 +1,81 @@
-// A design file's text -> the files `pleat rtl` writes with its default options: the Verilog of
-// the folded datapath, its self-checking testbench and the `<top>.rtl.json` manifest. The server's
-// RTL download uses it; the steps are those of cli/commands/rtl.ts (load, the analysis with
-// retiming, the whole control tables, generateRtl, testVectors, generateTestbench), so the Verilog
-// is byte for byte the CLI's for the same design and version.
+// The output of `pleat rtl` in one place: the Verilog of the folded datapath, its self-checking
+// testbench and the `<top>.rtl.json` manifest (format pleat-rtl/1, docs/rtl.md). `pleat rtl` builds
+// with buildRtlOutput and adds its verification and area runs; the server's RTL download calls
+// rtlFilesOfText with the command's defaults, so both give the same files for the same design.
 import { loadDesign } from '../design/load';
 import { analyzeDatapath } from '../analysis/analyze';
 import { controlTables } from './control';
 import { resolveArithmetic } from './reference';
-import { generateRtl, generateTestbench, testVectors } from './rtl';
+import { generateRtl, generateTestbench, testVectors, type RtlOptions } from './rtl';
+import { formatPlan } from './formats';
+import { bitGrowth } from './range';
+import type { ResolvedGraph } from './reference';
+import type { ControlTables, Design, Diagnostic } from '../types';
 
 /** The defaults of `pleat rtl` (docs/cli.md): W = 16, 14 fractional coefficient bits, 32 samples, seed 1. */
 export const RTL_DEFAULTS = { width: 16, coefFrac: 14, iterations: 32, seed: 1 } as const;
+
+export interface RtlOutputOptions {
+  width: number;
+  coefFrac: number;
+  iterations: number;
+  seed: number;
+  interface?: RtlOptions['interface'];
+  /** The tool version the generator line and the manifest name (`pleat <version>`). */
+  version: string;
+}
+
+/** Everything `pleat rtl` writes, before any tool runs: files, manifest, and the bit-growth findings. */
+export interface RtlOutput {
+  bundle: ReturnType<typeof generateRtl>;
+  testbench: { name: string; text: string };
+  /** The manifest with `verify` and `area` null: the CLI fills them when it runs the tools. */
+  manifest: Record<string, unknown> & { files: string[]; verify: unknown; area: unknown };
+  /** Signals whose format is too narrow for their worst case (unplaced: the caller has the text). */
+  narrow: Diagnostic[];
+  /** Overflows the test vectors meet in the model, per node (the testbench expects the same). */
+  overflows: ReturnType<typeof testVectors>['overflows'];
+}
+
+export function buildRtlOutput(design: Design, file: string, graph: ResolvedGraph, control: ControlTables, o: RtlOutputOptions): RtlOutput {
+  // Bit growth before writing: a format too narrow for its worst case is worth a warning.
+  const growth = bitGrowth(design, graph, formatPlan(design, o.width));
+  const bundle = generateRtl(design, control, { width: o.width, coefFrac: o.coefFrac, generator: `pleat ${o.version}`, interface: o.interface });
+  const vectors = testVectors(design, graph, control, { iterations: o.iterations, seed: o.seed, fixed: bundle.fixed, formatWidth: o.width });
+  const tb = generateTestbench(bundle, control, vectors);
+  const manifest = {
+    format: 'pleat-rtl/1',
+    tool: { name: 'pleat', version: o.version },
+    file,
+    design: design.name,
+    top: bundle.top,
+    files: [...bundle.files.map((f) => f.name), tb.name],
+    width: bundle.fixed.width,
+    coefFrac: bundle.fixed.coefFrac,
+    coefWidth: bundle.coefWidth,
+    coefficients: bundle.coefficients,
+    factor: bundle.factor,
+    interface: bundle.interface ?? 'strobe',
+    ...(bundle.interface === 'stream' ? { start: bundle.start, busy: bundle.busy } : {}),
+    latencyAdded: control.latencyAdded,
+    ports: bundle.ports,
+    renamed: bundle.renamed,
+    warnings: bundle.warnings,
+    testbench: { file: tb.name, iterations: vectors.iterations, samplesPerOutput: vectors.samples, seed: vectors.seed, overflows: vectors.overflows },
+    bitGrowth: { method: growth.method, ...(growth.reason ? { reason: growth.reason } : {}), signals: growth.signals },
+    verify: null as unknown,
+    area: null as unknown,
+    control,
+  };
+  return { bundle, testbench: tb, manifest, narrow: growth.diagnostics, overflows: vectors.overflows };
+}
 
 export type RtlFiles =
   | { ok: true; top: string; files: { name: string; text: string }[] }
   | { ok: false; reason: string };
 
 /**
- * `version` is the tool version the generator line names (`pleat <version>`). Never throws for a
+ * The files of `pleat rtl FILE` with its default options, for the server. Never throws for a
  * design that cannot be built: it says why (invalid, no arithmetic, no feasible datapath, too large).
  */
 export function rtlFilesOfText(text: string, file: string, version: string): RtlFiles {
@@ -40,36 +98,10 @@ export function rtlFilesOfText(text: string, file: string, version: string): Rtl
         : 'The plan has no feasible folded datapath: no retiming makes every folded delay nonnegative.',
     };
   }
-  const control = built.control;
-  const generator = `pleat ${version}`;
-  const bundle = generateRtl(design, control, { width: RTL_DEFAULTS.width, coefFrac: RTL_DEFAULTS.coefFrac, generator });
-  const vectors = testVectors(design, arithmetic.graph, control, { iterations: RTL_DEFAULTS.iterations, seed: RTL_DEFAULTS.seed, fixed: bundle.fixed });
-  const tb = generateTestbench(bundle, control, vectors);
-  // The manifest of `pleat rtl` (format pleat-rtl/1), without a verification or area run.
-  const manifest = {
-    format: 'pleat-rtl/1',
-    tool: { name: 'pleat', version },
-    file,
-    design: design.name,
-    top: bundle.top,
-    files: [...bundle.files.map((f) => f.name), tb.name],
-    width: bundle.fixed.width,
-    coefFrac: bundle.fixed.coefFrac,
-    coefWidth: bundle.coefWidth,
-    coefficients: bundle.coefficients,
-    factor: bundle.factor,
-    latencyAdded: control.latencyAdded,
-    ports: bundle.ports,
-    renamed: bundle.renamed,
-    warnings: bundle.warnings,
-    testbench: { file: tb.name, iterations: vectors.iterations, samplesPerOutput: vectors.samples, seed: vectors.seed },
-    verify: null,
-    area: null,
-    control,
-  };
+  const out = buildRtlOutput(design, file, arithmetic.graph, built.control, { ...RTL_DEFAULTS, version });
   return {
     ok: true,
-    top: bundle.top,
-    files: [...bundle.files, tb, { name: `${bundle.top}.rtl.json`, text: `${JSON.stringify(manifest, null, 2)}\n` }],
+    top: out.bundle.top,
+    files: [...out.bundle.files, out.testbench, { name: `${out.bundle.top}.rtl.json`, text: `${JSON.stringify(out.manifest, null, 2)}\n` }],
   };
 }

@@ -76,6 +76,7 @@ export const DEFAULT_RULES: Rules = { negative_delays: 'retime' };
 export const RULE_WARNING_CODES = {
   negativeDelay: 'negative-folded-delay',
   notChecked: 'rule-not-checked',
+  registersNotProven: 'registers-not-proven',
 } as const;
 
 /** A problem in a rules mapping (config file or server settings), with its path for positions. */
@@ -284,6 +285,17 @@ export function applyRules(analysis: Analysis, effective: EffectiveRules): { vio
         path: ['units'],
       });
     }
+  }
+
+  // Whatever the rules: a register count that is not proven minimal is said in every report.
+  if (analysis.retiming.registersProven === false) {
+    warnings.push({
+      severity: 'warning',
+      code: RULE_WARNING_CODES.registersNotProven,
+      message: 'the retiming is not proven to need the fewest registers: a search for them ran out of its work budget, so the register counts may be above the minimum',
+      line: null,
+      column: null,
+    });
   }
 
   return { violations, warnings };

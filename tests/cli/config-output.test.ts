@@ -52,6 +52,15 @@ describe('config discovery', () => {
     expect(r.stderr).toMatch(/^pleat\.config\.yaml:\d+:\d+: error config-syntax: /m);
   });
 
+  it('refuses YAML aliases in the config, at the alias (a config has no use for them; YAML 1.2 aliases, common practice)', async () => {
+    const repo = tempDir();
+    write(repo, 'pleat.config.yaml', 'designs: &d ["*.fold.yaml"]\nrules:\n  min_utilization: 0.5\nextra: *d\n');
+    write(repo, 'a.fold.yaml', passingDesign());
+    const r = await pleat(['check'], { cwd: repo });
+    expect(r.exitCode).toBe(2);
+    expect(r.stderr).toMatch(/^pleat\.config\.yaml:4:8: error config-syntax: .*aliases are not allowed/m);
+  });
+
   it('refuses a token in the config file', async () => {
     const repo = tempDir();
     write(repo, 'pleat.config.yaml', 'designs: ["*.fold.yaml"]\nserver:\n  url: http://127.0.0.1:4180\n  token: abc\n');

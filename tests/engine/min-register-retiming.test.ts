@@ -13,6 +13,7 @@ import { minRegisterRetiming } from '../../shared/analysis/minRegisterRetiming';
 import { randomDesign } from '../support/randomDesign';
 import { lpOptimum } from '../oracles/lpRetiming';
 import { constraintsOf } from '../oracles/retimingConstraints';
+import { applyRules, mergeRules } from '../../shared/report/rules';
 
 /** Sum over edges with a folded delay of N * w_r(e) - stages(U) + slot(V) - slot(U) (docs/analysis.md). */
 function totalRetimedFolded(a: ReturnType<typeof analyze>): number {
@@ -105,6 +106,10 @@ describe('fewest-register retiming (min-cost flow)', () => {
       const starved = retime(g, foldedDelays(g), d.folding.latency ?? 'free', { budget: 1 });
       expect(starved.result.registersProven).toBe(false);
       expect(starved.result.method).toMatch(/not proven/);
+      // ... and every report says so, whatever the rules (docs/cli.md, registers-not-proven).
+      const warned = applyRules({ ...a, retiming: { ...a.retiming, registersProven: false } }, mergeRules(null, null).effective);
+      expect(warned.warnings.map((w) => w.code)).toContain('registers-not-proven');
+      expect(applyRules(a, mergeRules(null, null).effective).warnings.map((w) => w.code)).not.toContain('registers-not-proven');
       return;
     }
     throw new Error('no random design needed retiming');

@@ -1,5 +1,8 @@
 // Stores one uploaded report as a run. One run per (project, branch, commit): a second upload of
 // the same commit, also a concurrent one, returns the first run instead of adding another.
+// Uploads that arrive while a write is under way are written together by the next statement
+// (one round trip and one commit for all of them), so concurrent CI uploads do not each pay a
+// round trip and queue on the branch row one after the other.
 import { QueryTypes } from 'sequelize';
 import type { Report } from '../../../shared/types';
 import type { AppContext } from '../../context';
@@ -26,7 +29,7 @@ export interface StoredRun {
  * every upload to a branch updates is locked only for that statement: uploads to one branch do not
  * queue behind each other's round trips.
  */
-export async function ingestRun(ctx: AppContext, project: Project, report: Report, opts: { createdAt?: Date } = {}): Promise<StoredRun> {
+async function ingestOne(ctx: AppContext, project: Project, report: Report, opts: { createdAt?: Date } = {}): Promise<StoredRun> {
   const { designs, run } = summarizeReport(report);
   const git = report.git;
   const branch = git.branch!;
@@ -76,4 +79,134 @@ export async function ingestRun(ctx: AppContext, project: Project, report: Repor
     { bind: [project.id, branch, commit], type: QueryTypes.SELECT },
   );
   return { id: existing!.id, created: false, createdAt: existing!.created_at, row: existing! };
+}
+
+interface Pending {
+  project: Project;
+  report: Report;
+  createdAt?: Date;
+  resolve: (r: StoredRun) => void;
+  reject: (e: unknown) => void;
+}
+
+/** Most uploads written by one statement (its bind parameters are arrays, one element per run or design). */
+const MAX_BATCH = 64;
+const queues = new WeakMap<AppContext, { items: Pending[]; running: boolean }>();
+
+/**
+ * Stores one report as a run. Alone, it is one statement; with other uploads waiting, they are
+ * written by one statement together (ingestBatch), each still with its own result.
+ */
+export function ingestRun(ctx: AppContext, project: Project, report: Report, opts: { createdAt?: Date } = {}): Promise<StoredRun> {
+  return new Promise<StoredRun>((resolve, reject) => {
+    let q = queues.get(ctx);
+    if (!q) {
+      q = { items: [], running: false };
+      queues.set(ctx, q);
+    }
+    q.items.push({ project, report, createdAt: opts.createdAt, resolve, reject });
+    if (!q.running) void drain(ctx, q);
+  });
+}
+
+async function drain(ctx: AppContext, q: { items: Pending[]; running: boolean }): Promise<void> {
+  q.running = true;
+  try {
+    while (q.items.length > 0) {
+      const batch = q.items.splice(0, MAX_BATCH);
+      if (batch.length === 1) {
+        const p = batch[0]!;
+        await ingestOne(ctx, p.project, p.report, { createdAt: p.createdAt }).then(p.resolve, p.reject);
+        continue;
+      }
+      try {
+        await ingestBatch(ctx, batch);
+      } catch {
+        // One bad upload must not fail the others: write them one by one, each with its own outcome.
+        for (const p of batch) await ingestOne(ctx, p.project, p.report, { createdAt: p.createdAt }).then(p.resolve, p.reject);
+      }
+    }
+  } finally {
+    q.running = false;
+  }
+}
+
+/** Writes several uploads with one statement: their runs, design rows and branch pointers. */
+async function ingestBatch(ctx: AppContext, batch: Pending[]): Promise<void> {
+  // The first upload of each (project, branch, commit) is written; repeats get the stored run.
+  const key = (p: Pending) => `${p.project.id}\u0000${p.report.git.branch}\u0000${p.report.git.commit!.toLowerCase()}`;
+  const firsts: Pending[] = [];
+  const seen = new Set<string>();
+  for (const p of batch) {
+    if (seen.has(key(p))) continue;
+    seen.add(key(p));
+    firsts.push(p);
+  }
+  const runs = firsts.map((p) => ({ p, ...summarizeReport(p.report) }));
+  const col = <T>(f: (r: (typeof runs)[number]) => T) => runs.map(f);
+  const designRows = runs.flatMap((r, ord) => r.designs.map((d, k) => ({ ord, k, d })));
+  const dcol = <T>(f: (x: (typeof designRows)[number]) => T) => designRows.map(f);
+  const rows = await ctx.db.sequelize.query<RunRow & { ord: number }>(
+    `WITH input AS (
+       SELECT * FROM unnest($1::int[], $2::text[], $3::text[], $4::text[], $5::text[], $6::text[], $7::text[], $8::int[], $9::int[],
+                            $10::int[], $11::float8[], $12::int[], $13::int[], $14::text[], $15::timestamptz[], $16::int[])
+         AS t(project_id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count, failed_count, error_count,
+              utilization, register_minimum, violation_count, report, created_at, ord)
+     ), ins AS (
+       INSERT INTO runs (project_id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count,
+                         failed_count, error_count, utilization, register_minimum, violation_count, report, created_at)
+       SELECT project_id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count, failed_count, error_count,
+              utilization, register_minimum, violation_count, report::jsonb, coalesce(created_at, now())
+       FROM input ORDER BY ord
+       ON CONFLICT ON CONSTRAINT runs_one_per_commit DO NOTHING
+       RETURNING ${RUN_COLUMNS}
+     ), matched AS (
+       SELECT ins.*, input.ord FROM ins
+       JOIN input ON input.project_id = ins.project_id AND input.branch = ins.branch AND input.commit = ins.commit
+     ), designs AS (
+       INSERT INTO run_designs (run_id, design_name, file, status, utilization, register_minimum, negative_edge_count,
+                                retiming_feasible, violation_count)
+       SELECT m.id, d.design_name, d.file, d.status, d.utilization, d.register_minimum, d.negative_edge_count, d.retiming_feasible, d.violation_count
+       FROM unnest($17::int[], $18::int[], $19::text[], $20::text[], $21::text[], $22::float8[], $23::int[], $24::int[], $25::bool[], $26::int[])
+         AS d(ord, k, design_name, file, status, utilization, register_minimum, negative_edge_count, retiming_feasible, violation_count)
+       JOIN matched m ON m.ord = d.ord
+       ORDER BY d.ord, d.k
+     ), branch AS (
+       INSERT INTO branches (project_id, name, last_run_id, last_run_at)
+       SELECT DISTINCT ON (project_id, branch) project_id, branch, id, created_at FROM ins ORDER BY project_id, branch, created_at DESC, id DESC
+       ON CONFLICT (project_id, name) DO UPDATE SET last_run_id = EXCLUDED.last_run_id, last_run_at = EXCLUDED.last_run_at
+       WHERE (branches.last_run_at, coalesce(branches.last_run_id, 0)) < (EXCLUDED.last_run_at, EXCLUDED.last_run_id)
+     )
+     SELECT * FROM matched`,
+    {
+      bind: [
+        col((r) => r.p.project.id), col((r) => r.p.report.git.branch!), col((r) => r.p.report.git.commit!.toLowerCase()),
+        col((r) => r.p.report.git.baseBranch ?? null), col((r) => r.p.report.git.baseCommit?.toLowerCase() ?? null),
+        col((r) => r.p.report.verdict), col((r) => r.p.report.tool.version), col((r) => r.run.designCount),
+        col((r) => r.run.failedCount), col((r) => r.run.errorCount), col((r) => r.run.utilization), col((r) => r.run.registerMinimum),
+        col((r) => r.run.violationCount), col((r) => JSON.stringify(r.p.report)), col((r) => r.p.createdAt ?? null), runs.map((_, i) => i),
+        dcol((x) => x.ord), dcol((x) => x.k), dcol((x) => x.d.designName), dcol((x) => x.d.file), dcol((x) => x.d.status),
+        dcol((x) => x.d.utilization), dcol((x) => x.d.registerMinimum), dcol((x) => x.d.negativeEdgeCount),
+        dcol((x) => x.d.retimingFeasible), dcol((x) => x.d.violationCount),
+      ],
+      type: QueryTypes.SELECT,
+    },
+  );
+  const created = new Map<string, RunRow>();
+  for (const row of rows) {
+    const { ord, ...run } = row;
+    created.set(key(runs[ord]!.p), run as RunRow);
+  }
+  // Settled in upload order; a run another request wrote first is read back as before.
+  const settledKeys = new Set<string>();
+  for (const p of batch) {
+    const k = key(p);
+    const row = created.get(k);
+    if (row && !settledKeys.has(k)) {
+      settledKeys.add(k);
+      p.resolve({ id: row.id, created: true, createdAt: row.created_at, row });
+    } else {
+      await ingestOne(ctx, p.project, p.report, { createdAt: p.createdAt }).then(p.resolve, p.reject);
+    }
+  }
 }

@@ -123,7 +123,8 @@ export function runRoutes(ctx: AppContext): Router {
       where += ` AND EXISTS (SELECT 1 FROM run_designs d WHERE d.run_id = runs.id AND d.design_name = ${designParam})`;
     }
     bind.push(limit + 1);
-    // One round trip: the page of runs and, beside each, its design rows.
+    // One round trip: the page of runs and, beside each, its design rows; both scans can be
+    // index-only on the covering indexes of migration 008.
     const designFilter = designParam ? ` AND rd.design_name = ${designParam}` : '';
     const rows = await q.query<RunRow & { designs: DesignRow[] | null }>(
       `SELECT r.*, d.designs FROM (
