@@ -187,12 +187,14 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   }
 
   const report = { ...out.manifest, verify, area: area ? { tool: area.tool, folded: area.folded, parallel: area.parallel } : null };
-  writeFileSync(path.join(dir, `${bundle.top}.rtl.json`), `${JSON.stringify(report, null, 2)}\n`);
+  // Written in chunks: the manifest of a large plan (its control tables) outgrows one string.
+  const { writeJsonFile, writeJson } = await import('../format/json');
+  writeJsonFile(report, path.join(dir, `${bundle.top}.rtl.json`));
   const failed = verify !== null && !verify.passed;
 
   for (const n of notices) process.stderr.write(`${escapeTerminal(n)}\n`);
   if (opts.format === 'json') {
-    process.stdout.write(`${JSON.stringify(report, null, 2)}\n`);
+    writeJson(report, (chunk) => process.stdout.write(chunk));
     return failed ? 1 : 0;
   }
   const shownDir = path.relative(process.cwd(), dir) || '.';

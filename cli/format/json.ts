@@ -77,7 +77,7 @@ function stream(value: unknown, emit: (piece: string) => void, depth: number): v
  * Writes the report to `sink` in chunks of about a megabyte. A report that stays under
  * INDENT_BELOW_CHARS is written indented, in one piece, as people open small reports.
  */
-export function writeJson(report: Report, sink: (chunk: string) => void): void {
+export function writeJson(report: Report | object, sink: (chunk: string) => void): void {
   let parts: string[] = [];
   let size = 0;
   let streaming = false;
@@ -108,8 +108,8 @@ export function formatJson(report: Report, _ctx: FormatContext = {}): string {
   return chunks.join('');
 }
 
-/** Writes the report to a file, chunk by chunk. Throws what the file system throws. */
-export function writeJsonFile(report: Report, file: string): void {
+/** Writes the report (or another large JSON value, as pleat rtl's manifest) to a file, chunk by chunk. Throws what the file system throws. */
+export function writeJsonFile(report: Report | object, file: string): void {
   const fd = openSync(file, 'w');
   try {
     writeJson(report, (c) => {
