@@ -25,6 +25,7 @@ export function DesignReportView({
   changes,
   onSelectDiagnostic,
   source,
+  hostLink,
 }: {
   design: DesignReport;
   rules?: EffectiveRules;
@@ -34,6 +35,8 @@ export function DesignReportView({
   onSelectDiagnostic?: (d: Diagnostic) => void;
   /** The design file's text when the report carries it (a run uploaded with its designs' text). */
   source?: string;
+  /** A line of this design's file on the git host at the run's commit, when the project is connected. */
+  hostLink?: (line: number | null | undefined) => string | null;
 }) {
   // With the text at hand, findings and broken rules point into a file view of this design.
   const [focus, setFocus] = useState<{ line: number; n: number } | null>(null);
@@ -117,7 +120,12 @@ export function DesignReportView({
 
           <div className="grid gap-5 xl:grid-cols-2">
             <Panel id="rules" title="Rules" subtitle="Broken rules and where each rule came from">
-              <ViolationsList violations={design.violations} file={design.file} onSelect={selectLine || ownFile ? (v) => goTo(v.line) : undefined} />
+              <ViolationsList
+                violations={design.violations}
+                file={design.file}
+                onSelect={selectLine || ownFile ? (v) => goTo(v.line) : undefined}
+                hostHref={hostLink ? (v) => hostLink(v.line) : undefined}
+              />
               {rules && <RulesInForce rules={rules} />}
             </Panel>
             <Panel id="retiming" title="Retiming" subtitle="Removing negative folded delays by moving delays around loops">

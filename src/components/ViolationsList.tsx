@@ -41,7 +41,18 @@ export function violationWhere(v: Violation, file?: string): string | null {
  * A placed violation names its file:line:column; with `onSelect` (a page that shows the file) the
  * position is a button that goes to that line.
  */
-export function ViolationsList({ violations, file, onSelect }: { violations: Violation[]; file?: string; onSelect?: (v: Violation) => void }) {
+export function ViolationsList({
+  violations,
+  file,
+  onSelect,
+  hostHref,
+}: {
+  violations: Violation[];
+  file?: string;
+  onSelect?: (v: Violation) => void;
+  /** The line on the git host's file view at the run's commit (a connected project's run page). */
+  hostHref?: (v: Violation) => string | null;
+}) {
   if (violations.length === 0)
     return (
       <p className="flex items-center gap-2 text-sm text-pass-700">
@@ -73,6 +84,14 @@ export function ViolationsList({ violations, file, onSelect }: { violations: Vio
                     </button>
                   ) : (
                     <span data-where>{violationWhere(v, file)}</span>
+                  )}
+                  {hostHref?.(v) && (
+                    <>
+                      {' · '}
+                      <a data-host-link href={hostHref(v)!} rel="noreferrer" className="font-medium text-ember-700 underline underline-offset-2">
+                        at this commit in the repository
+                      </a>
+                    </>
                   )}
                 </>
               )}

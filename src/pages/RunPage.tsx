@@ -2,6 +2,7 @@ import { Link, useParams, useSearchParams } from 'react-router-dom';
 import { useRun } from '../api/hooks';
 import { downloadUrl } from '../api/client';
 import { rtlUnavailable } from '../../shared/hardware/rtlAvailable';
+import { hostFileUrl } from '../../shared/report/hostLinks';
 import { ComparisonPanel } from '../components/ComparisonPanel';
 import { DesignReportView } from '../components/DesignReportView';
 import { PlanActions } from '../components/PlanActions';
@@ -134,6 +135,7 @@ export default function RunPage() {
             {selected && (
               <DesignReportView
                 source={(selected as { source?: string }).source}
+                hostLink={project.host ? (line) => hostFileUrl(project.host!, run.commit, selected.file, line) : undefined}
                 key={`${selected.file}-${index}`}
                 design={selected}
                 rules={report.rules}

@@ -44,8 +44,8 @@ function newestMtime(dir: string): number {
  */
 export function ensureWebBuild(): void {
   const index = join(ROOT, 'dist', 'web', 'index.html');
-  // src/ takes types from shared/ and one function (shared/hardware/rtlAvailable.ts, the run page's RTL button).
-  const sources = Math.max(newestMtime(join(ROOT, 'src')), statSync(join(ROOT, 'shared', 'hardware', 'rtlAvailable.ts')).mtimeMs, statSync(join(ROOT, 'index.html')).mtimeMs);
+  // src/ takes types and a few small functions from shared/ (the RTL button, links to the git host).
+  const sources = Math.max(newestMtime(join(ROOT, 'src')), newestMtime(join(ROOT, 'shared')), statSync(join(ROOT, 'index.html')).mtimeMs);
   const fresh = () => existsSync(index) && statSync(index).mtimeMs >= sources;
   if (fresh()) return;
   const lock = join(ROOT, 'dist', '.web-build-lock');

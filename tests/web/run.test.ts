@@ -11,6 +11,7 @@ import { buildReport } from '../../shared/report/report';
 import type { DesignReport, Report } from '../../shared/types';
 import { checkDesignText } from '../../server/engine';
 import { ingestRun } from '../../server/resources/runs/ingest';
+import { deleteConnection, saveConnection } from '../../server/resources/hosts/store';
 import type { Project } from '../../server/db/models';
 import { axeViolations, ensureChromium, ensureWebBuild, openBrowser, screenshot, signIn, type Session } from './browser';
 import { demoAccount, demoProject } from './demo';
@@ -153,5 +154,23 @@ describe('the run page', () => {
     await page.locator(`[data-testid=source-view] [data-line="${placed!.line}"][data-focused]`).waitFor();
     expect(await axeViolations(page)).toEqual([]);
     expect(s.errors).toEqual([]);
+  }, LONG);
+
+  it('links a broken rule to its line on the git host at the run\'s commit when the project is connected', async () => {
+    const { page } = s;
+    const lead = (await web.ctx.db.models.User.findOne({ where: { email: demoAccount('lead').email } }))!;
+    // Only the address matters here; the sealed token is never opened by the run page.
+    await saveConnection(web.ctx, { projectId: project.id, kind: 'github', apiUrl: 'https://api.github.com', repository: 'acme/front-end', sealed: 'not-opened', last4: 'abcd', userId: lead.id });
+    try {
+      const detail = await page.evaluate(async (id) => (await fetch(`/api/runs/${id}`)).json(), runId);
+      const placed = (detail.report as Report).designs[0]!.violations.find((v) => v.line != null)!;
+      await page.goto(`${web.url}/projects/${demoProject.slug}/runs/${runId}?design=${encodeURIComponent((detail.report as Report).designs[0]!.name!)}`);
+      const link = page.locator('[data-host-link]').first();
+      await link.waitFor();
+      // GitHub's file view at a commit, with the line as its fragment (the host's URL scheme; common practice, no source).
+      expect(await link.getAttribute('href')).toBe(`https://github.com/acme/front-end/blob/${HEAD_COMMIT}/hw/${ENVELOPE}#L${placed.line}`);
+    } finally {
+      await deleteConnection(web.ctx, project.id);
+    }
   }, LONG);
 });

@@ -2,6 +2,7 @@
 // pull/merge request. Runs after the upload's response has gone out (afterResponse), so the host
 // never slows or fails an upload; what went wrong is kept on the connection and shown on the
 // project, and logged.
+import { hostFileUrl } from '../../../shared/report/hostLinks';
 import { QueryTypes } from 'sequelize';
 import type { Report } from '../../../shared/types';
 import type { AppContext } from '../../context';
@@ -48,9 +49,7 @@ export async function postHostFeedback(ctx: AppContext, project: Project, run: R
       await step('posting the commit status', () => client.postStatus(run.commit, report.verdict === 'pass' ? 'success' : 'failure', statusDescription(report), link));
       const { comparison } = await compareRun(ctx, run, project);
       const web = repositoryWebUrl(conn.kind, conn.api_url, conn.repository);
-      // Report paths are relative to the config file's folder, the repository root (docs/cli.md); absolute or ../ paths are not linked.
-      const fileLink: FileLink | undefined = web ? (file, line) => (/^(\/|\.\.\/|[A-Za-z]:)/.test(file) ? null
-        : `${web}${conn.kind === 'gitlab' ? '/-' : ''}/blob/${run.commit}/${file.split('/').map(encodeURIComponent).join('/')}${line ? `#L${line}` : ''}`) : undefined;
+      const fileLink: FileLink | undefined = web ? (file, line) => hostFileUrl({ kind: conn.kind, webUrl: web }, run.commit, file, line) : undefined;
       const body = summaryComment({ report, comparison, branch: run.branch, commit: run.commit, link, fileLink });
       await postComment(ctx, client, project.id, request, run, body);
     }
