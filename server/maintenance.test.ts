@@ -2,10 +2,10 @@
 // go goes, everything else stays, and a history page can be read while a deletion runs.
 import { QueryTypes } from 'sequelize';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { runMaintenance } from './maintenance';
+import { JOB_RETENTION_DAYS, runMaintenance } from './maintenance';
 import type { Project, User } from './db/models';
 import { ingestRun } from './resources/runs/ingest';
-import { cookieFor, makeInvitation, makeMember, makeProject, makeReport, makeUser } from './test/factories';
+import { cookieFor, makeInvitation, makeJob, makeMember, makeProject, makeReport, makeUser } from './test/factories';
 import { startTestServer, type TestServer } from './test/server';
 
 let t: TestServer;
@@ -127,5 +127,27 @@ describe('deleting a project', () => {
     expect(await runsOf(p)).toHaveLength(0);
     expect(await t.ctx.db.models.RunDesign.count({ where: {} })).toBeGreaterThan(0); // the other project's
     expect(await runsOf(other)).toHaveLength(1);
+  });
+});
+
+describe('retention of finished jobs', () => {
+  it('deletes jobs finished more than the retention ago, with their attempts, and keeps the rest', async () => {
+    const p = await makeProject(t.ctx);
+    const u = await makeMember(t.ctx, p, 'engineer');
+    const q = t.db.sequelize;
+    const job = async (status: string, finishedDaysAgo: number | null) => {
+      const id = await makeJob(t.ctx, p, u);
+      await q.query(`UPDATE jobs SET status = $2, finished_at = CASE WHEN $3::int IS NULL THEN NULL ELSE now() - $3::int * interval '1 day' END, created_at = now() - interval '400 days' WHERE id = $1`, { bind: [id, status, finishedDaysAgo] });
+      await q.query(`INSERT INTO job_attempts (job_id, attempt, worker, started_at) VALUES ($1, 1, 'test:1', now() - interval '400 days')`, { bind: [id] });
+      return id;
+    };
+    const old = [await job('done', JOB_RETENTION_DAYS + 1), await job('failed', JOB_RETENTION_DAYS + 10), await job('cancelled', 365)];
+    const kept = [await job('done', JOB_RETENTION_DAYS - 1), await job('queued', null), await job('running', null)];
+    const r = await runMaintenance(t.ctx, { batch: 2 });
+    expect(r.jobsDeleted).toBeGreaterThanOrEqual(old.length);
+    const left = await q.query<{ id: number }>('SELECT id FROM jobs WHERE project_id = $1 ORDER BY id', { bind: [p.id], type: QueryTypes.SELECT });
+    expect(left.map((x) => x.id)).toEqual(kept);
+    const attempts = await q.query<{ n: string }>('SELECT count(*) AS n FROM job_attempts WHERE job_id = ANY($1::int[])', { bind: [old], type: QueryTypes.SELECT });
+    expect(Number(attempts[0].n)).toBe(0);
   });
 });

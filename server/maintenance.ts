@@ -3,7 +3,8 @@
 // project's retention (projects.branch_run_days) in small batches, each its own short statement
 // (readers of history pages never wait: PostgreSQL's readers take no row locks, and each batch
 // locks only the rows it deletes, skipping rows another statement holds), and prunes expired
-// invitations, spent rate-limit counters and revoked sessions past their expiry.
+// invitations, spent rate-limit counters and revoked sessions past their expiry, and plan and
+// sweep jobs finished more than JOB_RETENTION_DAYS ago.
 import { QueryTypes } from 'sequelize';
 import type { AppContext } from './context';
 
@@ -14,9 +15,13 @@ export interface MaintenanceResult {
   invitationsDeleted: number;
   rateLimitsDeleted: number;
   revokedSessionsDeleted: number;
+  jobsDeleted: number;
 }
 
-const EMPTY: MaintenanceResult = { ran: false, runsDeleted: 0, branchesDeleted: 0, invitationsDeleted: 0, rateLimitsDeleted: 0, revokedSessionsDeleted: 0 };
+/** Finished plan and sweep jobs (done, failed, cancelled) are kept this long, their results with them. */
+export const JOB_RETENTION_DAYS = 30;
+
+const EMPTY: MaintenanceResult = { ran: false, runsDeleted: 0, branchesDeleted: 0, invitationsDeleted: 0, rateLimitsDeleted: 0, revokedSessionsDeleted: 0, jobsDeleted: 0 };
 
 async function deleted(ctx: AppContext, sql: string, bind: unknown[] = []): Promise<number> {
   const rows = await ctx.db.sequelize.query<{ n: string }>(`WITH gone AS (${sql} RETURNING 1) SELECT count(*) AS n FROM gone`, { bind, type: QueryTypes.SELECT });
@@ -50,6 +55,14 @@ export async function runMaintenance(ctx: AppContext, o: { batch?: number } = {}
     result.invitationsDeleted = await deleted(ctx, 'DELETE FROM invitations WHERE accepted_at IS NULL AND expires_at < now()');
     result.rateLimitsDeleted = await deleted(ctx, 'DELETE FROM rate_limits WHERE reset_at < now()');
     result.revokedSessionsDeleted = await deleted(ctx, 'DELETE FROM revoked_sessions WHERE expires_at < now()');
+    // Finished jobs past their retention, with their attempts (ON DELETE CASCADE); queued and running ones stay.
+    for (;;) {
+      const n = await deleted(ctx, `DELETE FROM jobs WHERE id IN (
+          SELECT id FROM jobs WHERE status IN ('done', 'failed', 'cancelled') AND finished_at < now() - $2 * interval '1 day'
+          ORDER BY id LIMIT $1 FOR UPDATE SKIP LOCKED)`, [batch, JOB_RETENTION_DAYS]);
+      result.jobsDeleted += n;
+      if (n < batch) break;
+    }
     return result;
   } finally {
     await tx.rollback().catch(() => {});
@@ -64,9 +77,9 @@ export function startMaintenance(ctx: AppContext, everyMs: number, firstMs = 60_
     busy = true;
     try {
       const r = await runMaintenance(ctx);
-      const total = r.runsDeleted + r.invitationsDeleted + r.rateLimitsDeleted + r.revokedSessionsDeleted + r.branchesDeleted;
+      const total = r.runsDeleted + r.invitationsDeleted + r.rateLimitsDeleted + r.revokedSessionsDeleted + r.branchesDeleted + r.jobsDeleted;
       if (r.ran && total > 0) {
-        ctx.log(`maintenance: deleted ${r.runsDeleted} expired branch runs, ${r.branchesDeleted} empty branches, ${r.invitationsDeleted} expired invitations, ${r.rateLimitsDeleted} rate-limit counters, ${r.revokedSessionsDeleted} revoked sessions`);
+        ctx.log(`maintenance: deleted ${r.runsDeleted} expired branch runs, ${r.branchesDeleted} empty branches, ${r.invitationsDeleted} expired invitations, ${r.rateLimitsDeleted} rate-limit counters, ${r.revokedSessionsDeleted} revoked sessions, ${r.jobsDeleted} finished jobs`);
       }
     } catch (err) {
       // An outage is reported by the request path; the next pass tries again.

@@ -5,7 +5,7 @@
 import { readFileSync } from 'node:fs';
 import { createRequire } from 'node:module';
 import type { Highs, Model } from 'highs';
-import type { MilpSolution, MilpSolver } from '../shared/planning/types';
+import type { MilpSolution, MilpSolveOptions, MilpSolver } from '../shared/planning/types';
 
 let runtime: Promise<Highs> | null = null;
 
@@ -46,7 +46,10 @@ export const DEFAULT_MAX_MODEL_CHARS = 32_000_000;
 export function highsSolver(solverOptions: HighsSolverOptions = {}): MilpSolver {
   return {
     name: 'HiGHS',
-    async solve(lp: string, options: { timeLimitSeconds: number }): Promise<MilpSolution> {
+    async solve(lp: string, options: MilpSolveOptions): Promise<MilpSolution> {
+      // The limit covers the whole call: loading the module (the first time) and reading the model
+      // count against it, so HiGHS gets what is left.
+      const started = Date.now();
       const max = solverOptions.maxModelChars ?? DEFAULT_MAX_MODEL_CHARS;
       if (lp.length > max) {
         return failed(`the model is ${(lp.length / 1e6).toFixed(1)} million characters of LP text, more than the ${(max / 1e6).toFixed(1)} million the HiGHS adaptor takes`);
@@ -59,11 +62,14 @@ export function highsSolver(solverOptions: HighsSolverOptions = {}): MilpSolver 
       }
       try {
         return highs.withModel({ format: 'lp', data: lp }, (model): MilpSolution => {
+          const left = options.timeLimitSeconds - (Date.now() - started) / 1000;
+          if (left <= 0) return { status: 'timeout', objective: null, bound: null, values: {}, message: 'HiGHS: no time left after loading and reading the model' };
           model.options.set({
             output_flag: false,
-            time_limit: Math.max(0.01, options.timeLimitSeconds),
+            time_limit: Math.max(0.01, left),
             mip_rel_gap: solverOptions.relativeGap ?? 0,
           });
+          if (options.start) setStart(model, options.start);
           const signal = solverOptions.signal;
           const callbacks = signal
             ? {
@@ -83,7 +89,8 @@ export function highsSolver(solverOptions: HighsSolverOptions = {}): MilpSolver 
           const dual = isMip ? finiteInfo(model, 'mip_dual_bound') : null;
 
           if (status === s.optimal) {
-            return { status: 'optimal', objective, bound: dual ?? objective, values };
+            const reducedCosts = options.duals && !isMip ? columnDuals(model, highs.constants.solutionStatus.feasible) : undefined;
+            return { status: 'optimal', objective, bound: dual ?? objective, values, ...(reducedCosts ? { reducedCosts } : {}) };
           }
           if (status === s.empty) {
             // No columns or rows: the optimum is the objective's constant.
@@ -112,6 +119,30 @@ export function highsSolver(solverOptions: HighsSolverOptions = {}): MilpSolver 
   };
 }
 
+/** A (partial) MIP start by column name; names the model does not have are left out, and HiGHS completes or drops the start. */
+function setStart(model: Model, start: Record<string, number>): void {
+  const indices: number[] = [];
+  const values: number[] = [];
+  for (const [name, v] of Object.entries(start)) {
+    let i = -1;
+    try {
+      i = model.getColByName(name);
+    } catch {
+      i = -1;
+    }
+    if (i >= 0) {
+      indices.push(i);
+      values.push(v);
+    }
+  }
+  if (indices.length === 0) return;
+  try {
+    model.setSolution({ indices, values });
+  } catch {
+    // a start HiGHS refuses only costs the time it would have saved
+  }
+}
+
 function failed(message: string): MilpSolution {
   return { status: 'error', objective: null, bound: null, values: {}, message };
 }
@@ -121,6 +152,14 @@ function columnValues(model: Model): Record<string, number> {
   const values: Record<string, number> = {};
   for (let i = 0; i < colValue.length; i++) values[model.getColName(i)] = colValue[i];
   return values;
+}
+
+function columnDuals(model: Model, feasible: number): Record<string, number> | undefined {
+  if (Number(model.info.get('dual_solution_status')) !== feasible) return undefined;
+  const { colDual } = model.getSolution();
+  const duals: Record<string, number> = {};
+  for (let i = 0; i < colDual.length; i++) duals[model.getColName(i)] = colDual[i];
+  return duals;
 }
 
 function isMipModel(model: Model): boolean {

@@ -54,13 +54,21 @@ export function presentJob(r: JobRow): JobSummary {
 
 export async function insertJob(q: Sequelize, j: {
   projectId: number; kind: JobKind; runId: number | null; file: string; name: string | null; text: string; params: JobParams; userId: number;
-}): Promise<number> {
-  const [row] = await q.query<{ id: number }>(
-    `INSERT INTO jobs (project_id, kind, source_run_id, design_file, design_name, design_text, params, created_by)
-     VALUES ($1, $2, $3, $4, $5, $6, $7, $8) RETURNING id`,
-    { bind: [j.projectId, j.kind, j.runId, j.file, j.name, j.text, JSON.stringify(j.params), j.userId], type: QueryTypes.SELECT },
-  );
-  return row!.id;
+}, o: { maxActivePerUser?: number } = {}): Promise<number | null> {
+  // One transaction holding a lock per person: two starts at once cannot both pass the count.
+  return q.transaction(async (transaction) => {
+    if (o.maxActivePerUser !== undefined) {
+      await q.query("SELECT pg_advisory_xact_lock(hashtext('pleat-jobs-of:' || current_schema() || ':' || $1::text))", { bind: [j.userId], transaction });
+      const [active] = await q.query<{ n: string }>(`SELECT count(*) AS n FROM jobs WHERE created_by = $1 AND status IN ('queued', 'running')`, { bind: [j.userId], type: QueryTypes.SELECT, transaction });
+      if (Number(active?.n ?? 0) >= o.maxActivePerUser) return null;
+    }
+    const [row] = await q.query<{ id: number }>(
+      `INSERT INTO jobs (project_id, kind, source_run_id, design_file, design_name, design_text, params, created_by)
+       VALUES ($1, $2, $3, $4, $5, $6, $7, $8) RETURNING id`,
+      { bind: [j.projectId, j.kind, j.runId, j.file, j.name, j.text, JSON.stringify(j.params), j.userId], type: QueryTypes.SELECT, transaction },
+    );
+    return row!.id;
+  });
 }
 
 export async function setQueueId(q: Sequelize, id: number, queueId: string): Promise<void> {

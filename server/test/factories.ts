@@ -137,10 +137,11 @@ export function makeReport(o: { branch?: string; commit?: string; baseBranch?: s
 
 /** A queued plan job of the project (in our tables only: no worker will take it). */
 export async function makeJob(ctx: AppContext, project: Project, user: User, o: { text?: string; kind?: 'plan' | 'sweep' } = {}): Promise<number> {
-  return insertJob(ctx.db.sequelize, {
+  const id = await insertJob(ctx.db.sequelize, {
     projectId: project.id, kind: o.kind ?? 'plan', runId: null, file: 'made.fold.yaml', name: 'made',
     text: o.text ?? 'format: pleat/1\nname: made\n', params: { objective: 'registers', timeLimitSeconds: 1 }, userId: user.id,
   });
+  return id!;
 }
 
 export function randomCommit(): string {

@@ -5,6 +5,7 @@ import { IN, OP, OUT, setsFromAssignment, designWithSets, type Arc, type PlanPro
 
 const mod = (a: number, n: number) => ((a % n) + n) % n;
 import { compareMetrics, evaluateDesign, primary } from './evaluate';
+import { engineSearch } from './heuristic';
 import type { MilpSolution, MilpSolver, PlanMetrics, PlanObjective } from './types';
 
 export interface ExactOptions {
@@ -29,6 +30,10 @@ export interface ExactResult {
   provenOptimal: boolean;
   /** The model proved that no plan exists. */
   infeasible: boolean;
+  /** `sets` were found by the model, not handed in as the incumbent. */
+  foundByModel: boolean;
+  /** The solver answered at least once (no error, not skipped for lack of time). */
+  solverAnswered: boolean;
   method: string;
   notes: string[];
 }
@@ -61,8 +66,38 @@ export interface ExactModel {
   primaryWeight: number;
   /** Lifetime horizon used (cycles). */
   horizon: number;
+  /** The objective is integral (registers alone): a dual bound b proves ceil(b). */
+  integral: boolean;
+  /** Values r(outputs) - r(inputs) the outputs' indicators range over (empty when the outputs have no variable). */
+  outValues: number[];
+  /** The units each start column's `k` stands for (a class of interchangeable units, or the unit alone). */
+  classes: Map<number, number[]>;
+  binding: 'classes' | 'units';
   columns: number;
   rows: number;
+}
+
+/**
+ * `full`: the model of docs/planning.md; `feasibility`: placements and edge constraints only;
+ * `lengths`: placements, edges, the check's retiming rule and the lifetime lengths, minimising
+ * their sum (whose N-th part, rounded up, is a lower bound on the registers: the lifetime bound).
+ */
+export type ModelMode = 'full' | 'feasibility' | 'lengths';
+
+export interface ModelOptions {
+  mode?: ModelMode;
+  /** Binaries written as columns in [0, 1] (the linear relaxation). */
+  relax?: boolean;
+  /** A proven lower bound on the registers, as a bound on the column (tightens the relaxation). */
+  minRegisters?: number;
+  /** Start binaries and output indicators (by column name) left out: fixed at 0 by reduced costs. */
+  fixedOff?: Set<string>;
+  /**
+   * `classes` (default, except for the muxes objective): interchangeable units (one kind, the
+   * same stages, no pins) are one column per start and cycle with their count as capacity, and
+   * decoding hands them out; `units`: a column per unit (what the multiplexer proxy needs).
+   */
+  binding?: 'classes' | 'units';
 }
 
 function terms(row: Map<string, number>): string {
@@ -93,8 +128,9 @@ export function buildExactModel(
   maxLifetime: number,
   maxRegisters: number | null,
   cuts: { slot: Int32Array; stages: Int32Array }[] = [],
-  feasibilityOnly = false,
+  options: ModelOptions = {},
 ): ExactModel {
+  const mode = options.mode ?? 'full';
   const N = p.N;
   const n = p.ops.length;
   const rows: string[] = [];
@@ -121,14 +157,38 @@ export function buildExactModel(
     kindMax.set(kind, Math.max(...list.map((k) => p.unitStages[k])));
   }
   const S = p.scheduleNodes;
+  const binding = options.binding ?? (objective === 'muxes' ? 'units' : 'classes');
   // Symmetry: units of one kind with the same stages and no pins are interchangeable (every metric
-  // is unchanged when they are relabelled), so label them by the first operation they run: the
-  // i-th unpinned operation of the kind may only use the first i + 1 of them.
+  // but the multiplexer proxy is unchanged when they are relabelled). With classes they share
+  // columns (the class's first unit stands for it, its size is the capacity of a cycle); with
+  // units, they are labelled by the first operation they run: the i-th unpinned operation of the
+  // kind may only use the first i + 1 of them.
   const usable: number[][] = [];
-  {
+  const classes = new Map<number, number[]>();
+  const pinnedUnits = new Set<number>();
+  for (let o = 0; o < n; o++) if (p.pinUnit[o] >= 0) pinnedUnits.add(p.pinUnit[o]);
+  if (binding === 'classes') {
+    const byKind = new Map<string, number[]>();
+    for (const [kind, list] of p.kindUnits) {
+      const reps: number[] = [];
+      for (const k of list) {
+        if (pinnedUnits.has(k)) {
+          classes.set(k, [k]);
+          reps.push(k);
+          continue;
+        }
+        const r = reps.find((x) => !pinnedUnits.has(x) && p.unitStages[x] === p.unitStages[k]);
+        if (r === undefined) {
+          classes.set(k, [k]);
+          reps.push(k);
+        } else classes.get(r)!.push(k);
+      }
+      byKind.set(kind, reps);
+    }
+    for (let o = 0; o < n; o++) usable.push(p.pinUnit[o] >= 0 ? [p.pinUnit[o]] : (byKind.get(p.opKind[o]) ?? []));
+  } else {
+    for (const k of p.units.keys()) classes.set(k, [k]);
     const rank = new Map<string, number>();
-    const pinnedUnits = new Set<number>();
-    for (let o = 0; o < n; o++) if (p.pinUnit[o] >= 0) pinnedUnits.add(p.pinUnit[o]);
     for (let o = 0; o < n; o++) {
       if (p.pinUnit[o] >= 0) {
         usable.push([p.pinUnit[o]]);
@@ -282,6 +342,7 @@ export function buildExactModel(
       for (let t = lo[o]; t <= hi[o]; t++) {
         if (p.pinUnit[o] >= 0 && mod(t, N) !== p.pinSlot[o]) continue;
         const name = y(o, k, t);
+        if (options.fixedOff?.has(name)) continue;
         binaries.add(name);
         list.push({ k, t, name });
       }
@@ -292,10 +353,12 @@ export function buildExactModel(
     if (list.length === 0) assign.add('nowhere', 1); // no start fits the window: the model is infeasible
     emit(`assign${o}`, assign, '=', 1);
   }
-  if (empty || starts.some((l) => l.length === 0)) {
+  const nowhere = () => {
+    if (continuous.has('nowhere')) return;
     bounds.push(' 0 <= nowhere <= 0');
     continuous.add('nowhere');
-  }
+  };
+  if (empty || starts.some((l) => l.length === 0)) nowhere();
   // one operation per unit and partition
   const cell = new Map<string, Row>();
   for (let o = 0; o < n; o++) {
@@ -305,7 +368,10 @@ export function buildExactModel(
       cell.get(key)!.add(s.name, 1);
     }
   }
-  for (const [key, row] of cell) if (row.terms.size > 1) emit(`cap${key}`, row, '<=', 1);
+  for (const [key, row] of cell) {
+    const size = classes.get(Number(key.split('_')[0]))!.length;
+    if (row.terms.size > size) emit(`cap${key}`, row, '<=', size);
+  }
 
   // outputs' node: T = N * r_out, r_out by indicator binaries (latency free), or 0 (fixed: it is the inputs' node)
   const outVals: number[] = [];
@@ -316,9 +382,14 @@ export function buildExactModel(
     const jhi = Math.max(jlo, Math.floor(hi[p.outNode] / N));
     const one = new Row();
     for (let j = jlo; j <= jhi; j++) {
+      if (options.fixedOff?.has(ro(j))) continue;
       outVals.push(j);
       binaries.add(ro(j));
       one.add(ro(j), 1);
+    }
+    if (outVals.length === 0) {
+      one.add('nowhere', 1); // every value fixed off: the model is infeasible
+      nowhere();
     }
     emit('outone', one, '=', 1);
   }
@@ -347,9 +418,9 @@ export function buildExactModel(
     emit(`prec${i}`, row, '>=', arc.base);
   });
 
-  if (feasibilityOnly) {
-    const lp = ['\\ Pleat folding plan: feasibility only (docs/planning.md)', 'Minimize', ' obj: 0 zero', 'Subject To', ...rows, ' fz: zero >= 0', 'Bounds', ...bounds, ' 0 <= zero <= 0', 'Binaries', ...chunk([...binaries]), 'End', ''].join('\n');
-    return { lp, x: y, primaryWeight: 1, horizon: 0, columns: binaries.size, rows: rowCount, starts };
+  if (mode === 'feasibility') {
+    const lp = ['\\ Pleat folding plan: feasibility only (docs/planning.md)', 'Minimize', ' obj: 0 zero', 'Subject To', ...rows, ' fz: zero >= 0', 'Bounds', ...bounds, ' 0 <= zero <= 0', ...integrality(binaries, new Set(), !!options.relax), 'End', ''].join('\n');
+    return { lp, x: y, primaryWeight: 1, horizon: 0, integral: true, outValues: [], classes, binding, columns: binaries.size, rows: rowCount, starts };
   }
 
   // ---- the check retimes only when some folded delay is negative (docs/engine.md): z = 1 exactly then
@@ -449,6 +520,7 @@ export function buildExactModel(
   const lifetime = (aAt: (c: number) => Row, c0: number, ends: number[], tIn?: Row) => {
     const id = varCount++;
     if (tIn) lengthRows(id, tIn, ends);
+    if (mode === 'lengths') return;
     let c1 = c0;
     for (const e of ends) c1 = Math.max(c1, endRange(e));
     for (let c = c0 + 1; c <= c1; c++) {
@@ -508,9 +580,14 @@ export function buildExactModel(
       }
     }
   }
+  if (mode === 'lengths') {
+    const obj = totalLength.terms.size ? terms(totalLength.terms) : '0 zero';
+    const lp = ['\\ Pleat folding plan: the sum of lifetimes, for the lifetime bound (docs/planning.md)', 'Minimize', ` obj: ${obj}`, 'Subject To', ...rows, ' fz: zero >= 0', 'Bounds', ...bounds, ' 0 <= zero <= 0', ...integrality(binaries, new Set(), !!options.relax), 'End', ''].join('\n');
+    return { lp, x: y, primaryWeight: N, horizon: maxLifetime, integral: false, outValues: outVals, classes, binding, columns: binaries.size + continuous.size + 1, rows: rowCount, starts };
+  }
   liveRows.forEach((row, t) => emit(`live${t}`, new Row().add(regs, 1).addRow(row, -1), '>=', 0));
   if (totalLength.terms.size) emit('sumlen', new Row().add(regs, N).addRow(totalLength, -1), '>=', 0);
-  bounds.push(` 0 <= ${regs} <= ${maxRegisters ?? 1_000_000}`);
+  bounds.push(` ${Math.max(0, options.minRegisters ?? 0)} <= ${regs} <= ${maxRegisters ?? 1_000_000}`);
 
   // ---- multiplexer proxy: distinct producers (unit, or input node) per consumer unit and operand port
   const muxTerms: string[] = [];
@@ -552,7 +629,7 @@ export function buildExactModel(
   // ---- latency r(out) - r(in) = r_out, shifted to be nonnegative
   const lat = new Row();
   let latRange = 0;
-  if (freeOut && p.hasInputs) {
+  if (freeOut && p.hasInputs && outVals.length) {
     const jlo = Math.min(...outVals);
     latRange = Math.max(...outVals) - jlo;
     for (const j of outVals) lat.add(ro(j), j - jlo);
@@ -569,10 +646,11 @@ export function buildExactModel(
   const obj = new Row();
   let primaryWeight: number;
   if (objective === 'registers') {
-    const wMux = latRange + 1;
-    primaryWeight = wMux * (muxMax + 1);
-    obj.add(regs, primaryWeight).addRow(lat, 1);
-    for (const m of muxTerms) obj.add(m, wMux);
+    // Registers alone: an integral objective, so the solver rounds its bound up and proves the
+    // count at the root whenever the relaxation is within one register; the levels below are
+    // improved afterwards by swaps the engine scores (shared/planning/exact.ts, exactPlan).
+    primaryWeight = 1;
+    obj.add(regs, 1);
   } else if (objective === 'muxes') {
     const wReg = latRange + 1;
     primaryWeight = wReg * (regMax + 1);
@@ -595,14 +673,17 @@ export function buildExactModel(
     ...rows,
     'Bounds',
     ...bounds,
-    'Binaries',
-    ...chunk([...binaries]),
-    'Generals',
-    ...chunk([...generals]),
+    ...integrality(binaries, generals, !!options.relax),
     'End',
     '',
   ].join('\n');
-  return { lp, x: y, primaryWeight, horizon: maxLifetime, columns: binaries.size + generals.size + continuous.size, rows: rowCount, starts };
+  return { lp, x: y, primaryWeight, horizon: maxLifetime, integral: objective === 'registers', outValues: outVals, classes, binding, columns: binaries.size + generals.size + continuous.size, rows: rowCount, starts };
+}
+
+/** The Binaries and Generals sections, or for the relaxation the binaries' [0, 1] bounds (generals keep theirs). */
+function integrality(binaries: Set<string>, generals: Set<string>, relax: boolean): string[] {
+  if (relax) return [...binaries].map((b) => ` 0 <= ${b} <= 1`);
+  return ['Binaries', ...chunk([...binaries]), 'Generals', ...chunk([...generals])];
 }
 
 function chunk(names: string[]): string[] {
@@ -611,77 +692,92 @@ function chunk(names: string[]): string[] {
   return out;
 }
 
-/** Decodes the binding and partitions of a solution; null when some operation has no place. */
+/** Decodes the binding and partitions of a solution; null when some operation has no place. The units of a class are handed out in operation order. */
 export function decodeAssignment(p: PlanProblem, model: ExactModel, values: Record<string, number>): { unitOf: Int32Array; slotOf: Int32Array } | null {
   const n = p.ops.length;
   const unitOf = new Int32Array(n).fill(-1);
   const slotOf = new Int32Array(n).fill(-1);
+  const taken = new Map<string, number>();
   for (let o = 0; o < n; o++) {
     let bestV = 0.5;
+    let rep = -1;
     for (const s of model.starts[o]) {
       const v = values[s.name] ?? 0;
       if (v > bestV) {
         bestV = v;
-        unitOf[o] = s.k;
+        rep = s.k;
         slotOf[o] = mod(s.t, p.N);
       }
     }
-    if (unitOf[o] < 0) return null;
+    if (rep < 0) return null;
+    const members = model.classes.get(rep) ?? [rep];
+    const key = `${rep}_${slotOf[o]}`;
+    const i = taken.get(key) ?? 0;
+    if (i >= members.length) return null;
+    taken.set(key, i + 1);
+    unitOf[o] = members[i];
   }
   return { unitOf, slotOf };
 }
 
+/** Least time worth handing the solver for one call (seconds); less is left unused. */
+export const MIN_SOLVE_SECONDS = 0.25;
+
 /**
- * A lower bound on the registers of every plan the model admits, from its linear relaxation with
- * the registers alone as objective: used when the solver stops at its time limit without a bound
- * of its own. Integrality (Binaries, Generals) is dropped, so this is an LP, solved fast.
+ * A MIP start from a plan: the start binaries of its operations at their absolute cycles
+ * (partition + N * retiming, inputs at 0) and the outputs' indicator, with the units of each
+ * interchangeable group renamed in order of first use as the model's symmetry rule wants. Null
+ * when some start lies outside the model's windows.
  */
-async function relaxationBound(o: ExactOptions, lp: string, notes: string[]): Promise<number | null> {
-  const lines = lp.split('\n');
-  const out: string[] = [];
-  let skipping = false;
-  for (const line of lines) {
-    if (line === 'Minimize') {
-      out.push(line, ' obj: regs');
-      skipping = true;
-      continue;
-    }
-    if (line === 'Subject To') skipping = false;
-    if (line === 'Binaries' || line === 'Generals') {
-      skipping = true;
-      continue;
-    }
-    if (line === 'End') skipping = false;
-    if (!skipping) out.push(line);
+export function startFromPlan(p: PlanProblem, model: ExactModel, unitOf: Int32Array, slotOf: Int32Array, retiming: Record<string, number>): Record<string, number> | null {
+  const N = p.N;
+  const n = p.ops.length;
+  const firstOf = (role: number) => {
+    for (let v = 0; v < p.nodeIds.length; v++) if (p.role[v] === role) return retiming[p.nodeIds[v]] ?? 0;
+    return 0;
+  };
+  const rIn = firstOf(IN);
+  // interchangeable units: same kind and stages, no pins; renamed in order of first use
+  const pinned = new Set<number>();
+  for (let o = 0; o < n; o++) if (p.pinUnit[o] >= 0) pinned.add(p.pinUnit[o]);
+  const rename = new Map<number, number>();
+  const nextOf = new Map<string, number>();
+  for (let o = 0; o < n; o++) {
+    const k = unitOf[o];
+    if (pinned.has(k) || rename.has(k)) continue;
+    const group = `${p.units[k].kind}\0${p.unitStages[k]}`;
+    const members = (p.kindUnits.get(p.units[k].kind) ?? []).filter((u) => !pinned.has(u) && p.unitStages[u] === p.unitStages[k]);
+    const i = nextOf.get(group) ?? 0;
+    nextOf.set(group, i + 1);
+    rename.set(k, members[i]);
   }
-  // binaries become continuous columns in 0..1
-  const binaryBounds: string[] = [];
-  let inBinaries = false;
-  for (const line of lines) {
-    if (line === 'Binaries') inBinaries = true;
-    else if (line === 'Generals' || line === 'End') inBinaries = false;
-    else if (inBinaries) for (const name of line.trim().split(/\s+/)) if (name) binaryBounds.push(` 0 <= ${name} <= 1`);
+  const classOf = new Map<number, number>();
+  for (const [rep, members] of model.classes) for (const k of members) classOf.set(k, rep);
+  const start: Record<string, number> = {};
+  for (let o = 0; o < n; o++) {
+    const k = model.binding === 'classes' ? classOf.get(unitOf[o])! : (rename.get(unitOf[o]) ?? unitOf[o]);
+    const t = slotOf[o] + N * ((retiming[p.nodeIds[p.ops[o]]] ?? 0) - rIn);
+    const s = model.starts[o].find((x) => x.k === k && x.t === t);
+    if (!s) return null;
+    for (const x of model.starts[o]) start[x.name] = x === s ? 1 : 0;
   }
-  const at = out.indexOf('Bounds');
-  out.splice(at + 1, 0, ...binaryBounds);
-  try {
-    const left = Math.max(0.5, (o.deadline - o.now()) / 1000);
-    const sol = await o.solver.solve(out.join('\n'), { timeLimitSeconds: Math.min(left, 30) });
-    if (sol.status === 'optimal' && sol.objective !== null) {
-      notes.push(`bound from the linear relaxation: ${Math.ceil(sol.objective - 1e-6)} registers`);
-      return Math.ceil(sol.objective - 1e-6);
-    }
-  } catch {
-    // no bound then
+  if (p.outNode !== p.inNode && p.hasOutputs) {
+    const j = firstOf(OUT) - rIn;
+    if (!model.outValues.includes(j)) return null;
+    for (const v of model.outValues) start[`ro${v < 0 ? 'm' + -v : v}`] = v === j ? 1 : 0;
   }
-  return null;
+  return start;
 }
 
 /**
- * Solves the model, decodes the plan and scores it with the engine. When the engine's own
- * retiming needs more registers than the model found for those partitions, the (slot, stages)
- * assignment is cut off and the model solved again (within the time limit), keeping the best
- * plan the engine scored; the model's bound stays a lower bound on every plan not yet cut off.
+ * Solves the model, decodes the plan and scores it with the engine. With the registers objective
+ * the lifetime bound comes first (the linear relaxation of the sum of lifetimes, an LP): when it
+ * meets the known plan, that plan is proven optimal without the full model. Else the full model
+ * runs from the known plan as its start. When the engine's own retiming needs more registers
+ * than the model found for those partitions, the (slot, stages) assignment is cut off and the
+ * model solved again (within the time limit), keeping the best plan the engine scored; the
+ * model's bound stays a lower bound on every plan not yet cut off. A plan the model found is
+ * then improved on the levels below registers by swaps the engine scores.
  */
 export async function exactPlan(p: PlanProblem, o: ExactOptions): Promise<ExactResult> {
   const notes: string[] = [];
@@ -689,79 +785,135 @@ export async function exactPlan(p: PlanProblem, o: ExactOptions): Promise<ExactR
   const objective = o.objective;
   const incumbentRegs = o.incumbent ? o.incumbent.registers : null;
   const cuts: { slot: Int32Array; stages: Int32Array }[] = [];
-  let best: { sets: Record<string, (string | null)[]>; metrics: PlanMetrics } | null = null;
-  if (o.incumbent && o.incumbentSets) best = { sets: o.incumbentSets, metrics: o.incumbent };
+  let best: { sets: Record<string, (string | null)[]>; metrics: PlanMetrics; assignment: { unitOf: Int32Array; slotOf: Int32Array } | null; fromModel: boolean } | null = null;
+  if (o.incumbent && o.incumbentSets) best = { sets: o.incumbentSets, metrics: o.incumbent, assignment: null, fromModel: false };
   let modelBound: number | null = null;
   let solvedOptimal = false;
+  let answered = false;
   const maxCuts = o.maxCuts ?? 12;
   const solverName = o.solver.name ?? 'injected solver';
-  let incumbentRegs2 = incumbentRegs;
-  if (incumbentRegs === null) {
+  const method = `${EXACT_METHOD} (${solverName})`;
+  const left = () => (o.deadline - o.now()) / 1000;
+  /** One solver call within the time left; null (with a note) when there is no time, it fails, or it errs. */
+  const solve = async (lp: string, seconds: number, what: string, start?: Record<string, number>, duals = false): Promise<MilpSolution | null> => {
+    if (o.signal?.aborted) return null;
+    if (seconds < MIN_SOLVE_SECONDS) {
+      notes.push(`no time left for the ${what}`);
+      return null;
+    }
+    try {
+      const t0 = o.now();
+      const sol = await o.solver.solve(lp, { timeLimitSeconds: seconds, ...(start ? { start } : {}), ...(duals ? { duals } : {}) });
+      notes.push(`${what}: ${sol.status} in ${((o.now() - t0) / 1000).toFixed(1)} s`);
+      if (sol.status === 'error') {
+        notes.push(`the solver reported an error on the ${what}${sol.message ? `: ${sol.message}` : ''}`);
+        return null;
+      }
+      answered = true;
+      return sol;
+    } catch (err) {
+      notes.push(`the solver failed on the ${what}: ${err instanceof Error ? err.message : String(err)}`);
+      return null;
+    }
+  };
+  const result = (extra: Partial<ExactResult> = {}): ExactResult => ({
+    sets: best?.sets ?? null,
+    metrics: best?.metrics ?? null,
+    foundByModel: !!best?.fromModel,
+    bound: null,
+    provenOptimal: false,
+    infeasible: false,
+    solverAnswered: answered,
+    method,
+    notes,
+    ...extra,
+  });
+  let horizonRegs = incumbentRegs;
+  if (horizonRegs === null) {
     // No plan known: ask first whether any exists (no lifetimes, so no horizon to limit the proof).
     // windows wide enough for the shortest-path solution of any feasible placement's constraints
     let widest = 0;
     for (const arc of p.arcs) widest = Math.max(widest, Math.abs(arc.base));
     let stagesMax = 0;
     for (const x of p.unitStages) stagesMax = Math.max(stagesMax, x);
-    const model = buildExactModel(p, objective, N + p.scheduleNodes * (widest + stagesMax + 1), null, [], true);
-    try {
-      const sol = await o.solver.solve(model.lp, { timeLimitSeconds: Math.max(0.1, (o.deadline - o.now()) / 1000) });
-      if (sol.status === 'infeasible') {
-        notes.push('the exact model proves that no placement admits a retiming');
-        return { sets: null, metrics: null, bound: null, provenOptimal: false, infeasible: true, method: `${EXACT_METHOD} (${solverName})`, notes };
-      }
-      const decoded = Object.keys(sol.values).length ? decodeAssignment(p, model, sol.values) : null;
-      if (decoded) {
-        const sets = setsFromAssignment(p, decoded.unitOf, decoded.slotOf);
-        const ev = evaluateDesign(designWithSets(p.design, N, p.units, sets));
-        if (ev.feasible && ev.metrics) {
-          best = { sets, metrics: ev.metrics };
-          incumbentRegs2 = ev.metrics.registers;
-        }
-      }
-    } catch (err) {
-      notes.push(`the solver failed: ${err instanceof Error ? err.message : String(err)}`);
+    const model = buildExactModel(p, objective, N + p.scheduleNodes * (widest + stagesMax + 1), null, [], { mode: 'feasibility' });
+    const sol = await solve(model.lp, left(), 'feasibility model');
+    if (sol?.status === 'infeasible') {
+      notes.push('the exact model proves that no placement admits a retiming');
+      return result({ infeasible: true });
     }
-    if (incumbentRegs2 === null) return { sets: null, metrics: null, bound: null, provenOptimal: false, infeasible: false, method: `${EXACT_METHOD} (${solverName})`, notes };
+    const decoded = sol && Object.keys(sol.values).length ? decodeAssignment(p, model, sol.values) : null;
+    if (decoded) {
+      const sets = setsFromAssignment(p, decoded.unitOf, decoded.slotOf);
+      const ev = evaluateDesign(designWithSets(p.design, N, p.units, sets));
+      if (ev.feasible && ev.metrics) {
+        best = { sets, metrics: ev.metrics, assignment: decoded, fromModel: true };
+        horizonRegs = ev.metrics.registers;
+      }
+    }
+    if (horizonRegs === null) return result();
   }
-  // horizon: with the registers objective no plan as good as the incumbent (K registers) has a
-  // lifetime above K * N, since one variable of lifetime L alone keeps ceil(L / N) registers busy
-  const horizonRegs = incumbentRegs2!;
-  const maxLifetime2 = Math.max(1, objective === 'registers' ? horizonRegs : horizonRegs + 2) * N;
-  const maxRegisters2 = objective !== 'registers' ? horizonRegs + 2 : null;
+  // horizon: with the registers objective no plan as good as the known one (K registers) has a
+  // lifetime above K * N, since one variable of lifetime L alone keeps ceil(L / N) registers busy;
+  // other objectives search plans with at most K + 2 registers (a restriction, docs/planning.md)
+  const K = horizonRegs;
+  if (objective === 'registers' && best && K <= 0) return result({ bound: 0, provenOptimal: true });
+  const maxLifetime = Math.max(1, objective === 'registers' ? K : K + 2) * N;
+  const maxRegisters = objective !== 'registers' ? K + 2 : null;
+
+  // The lifetime bound: registers >= ceil(sum of lifetimes / N), the sum at least the optimum of
+  // the relaxation of the lengths model (an LP, far smaller than the full model). Its reduced
+  // costs fix start binaries: a start whose reduced cost exceeds K * N - optimum is in no plan
+  // whose lifetimes sum to at most K * N, so in no plan as good as the known one.
+  let lifetimeBound: number | null = null;
+  let fixedOff: Set<string> | undefined;
+  if (objective === 'registers') {
+    const L = buildExactModel(p, objective, maxLifetime, null, [], { mode: 'lengths', relax: true });
+    const sol = await solve(L.lp, left() / 2, 'lifetime bound', undefined, true);
+    if (sol && sol.status === 'optimal' && sol.objective !== null) {
+      lifetimeBound = Math.max(0, Math.ceil(sol.objective / N - 1e-6));
+      modelBound = lifetimeBound;
+      notes.push(`lifetime bound (linear relaxation of the sum of lifetimes): ${lifetimeBound} register${lifetimeBound === 1 ? '' : 's'}`);
+      if (best && K <= lifetimeBound) {
+        notes.push('the known plan meets the lifetime bound, so it is optimal');
+        return result({ bound: K, provenOptimal: true });
+      }
+      if (best && sol.reducedCosts) {
+        const slack = K * N - sol.objective;
+        fixedOff = new Set<string>();
+        for (const [name, d] of Object.entries(sol.reducedCosts)) if ((name.startsWith('y') || name.startsWith('ro')) && d > slack + 1e-6) fixedOff.add(name);
+        notes.push(`${fixedOff.size} start binaries fixed at 0 by the reduced costs of that relaxation`);
+      }
+    }
+  }
+
   for (let round = 0; round <= maxCuts; round++) {
     if (o.signal?.aborted) break;
-    const left = (o.deadline - o.now()) / 1000;
-    if (left <= 0.05) {
-      notes.push('the exact model ran out of time');
-      break;
-    }
-    const model = buildExactModel(p, objective, maxLifetime2, maxRegisters2, cuts);
+    const model = buildExactModel(p, objective, maxLifetime, maxRegisters, cuts, { minRegisters: lifetimeBound ?? undefined, fixedOff });
     if (round === 0) notes.push(`exact model: ${model.columns} columns, ${model.rows} rows, lifetime horizon ${model.horizon} cycles`);
-    let sol: MilpSolution;
-    try {
-      // keep a sixth of the time for the relaxation bound in case the solver stops at its limit
-      sol = await o.solver.solve(model.lp, { timeLimitSeconds: Math.max(0.1, objective === 'registers' ? left * 0.83 : left) });
-    } catch (err) {
-      notes.push(`the solver failed: ${err instanceof Error ? err.message : String(err)}`);
-      break;
+    let start: Record<string, number> | undefined;
+    // the known plan is where the search starts (HiGHS completes the columns not given)
+    if (round === 0 && best) {
+      const assignment = best.assignment ?? assignmentOf(p, best.sets);
+      const ev = evaluateDesign(designWithSets(p.design, N, p.units, best.sets), { mux: false });
+      if (assignment && ev.feasible) start = startFromPlan(p, model, assignment.unitOf, assignment.slotOf, ev.analysis.retiming.values) ?? undefined;
     }
+    const sol = await solve(model.lp, left(), 'exact model', start);
+    if (!sol) break;
     if (sol.status === 'infeasible') {
       // round 0: cannot be, the incumbent is a plan within the horizon; later: every class left is cut off
       if (round === 0) notes.push('the exact model found no plan within the horizon set by the known plan');
-      else solvedOptimal = true;
+      else solvedOptimal = objective === 'registers' && best !== null;
       break;
     }
-    if (sol.status === 'error') {
-      notes.push(`the solver reported an error${sol.message ? `: ${sol.message}` : ''}`);
-      break;
-    }
-    const fromBound = sol.bound !== null ? Math.floor(sol.bound / model.primaryWeight + 1e-6) : null;
+    // registers alone are integral: a bound b proves ceil(b); weighted levels: floor(b / weight)
+    const level = (x: number) => (model.integral ? Math.ceil(x - 1e-6) : Math.floor(x / model.primaryWeight + 1e-6));
+    const fromBound = sol.bound !== null ? level(sol.bound) : null;
     const objValue = sol.objective !== null ? Math.floor(sol.objective / model.primaryWeight + 1e-6) : null;
     const decoded = Object.keys(sol.values).length ? decodeAssignment(p, model, sol.values) : null;
     if (!decoded) {
       notes.push(`the solver stopped (${sol.status}) without a plan`);
-      if (objective === 'registers') modelBound = fromBound ?? (await relaxationBound(o, model.lp, notes));
+      if (objective === 'registers' && fromBound !== null) modelBound = Math.max(modelBound ?? 0, fromBound);
       break;
     }
     const sets = setsFromAssignment(p, decoded.unitOf, decoded.slotOf);
@@ -770,19 +922,15 @@ export async function exactPlan(p: PlanProblem, o: ExactOptions): Promise<ExactR
       // cannot happen: every edge constraint of the model is the engine's feasibility condition
       notes.push('a decoded plan failed the engine check; it is cut off');
     } else if (!best || compareMetrics(ev.metrics, best.metrics, objective) < 0) {
-      best = { sets, metrics: ev.metrics };
+      best = { sets, metrics: ev.metrics, assignment: decoded, fromModel: true };
     }
     const optimalSolve = sol.status === 'optimal';
     if (objective === 'registers') {
       const b = optimalSolve ? objValue : fromBound;
-      if (b !== null) modelBound = b;
+      if (b !== null) modelBound = Math.max(modelBound ?? 0, b);
     }
     if (!optimalSolve) {
       notes.push(`the solver stopped at its time limit (${sol.status})`);
-      if (objective === 'registers' && fromBound === null) {
-        const rb = await relaxationBound(o, model.lp, notes);
-        if (rb !== null) modelBound = rb;
-      }
       break;
     }
     // proven when the engine agrees with the model on the primary objective
@@ -795,10 +943,40 @@ export async function exactPlan(p: PlanProblem, o: ExactOptions): Promise<ExactR
     cuts.push({ slot: decoded.slotOf, stages });
     notes.push(`the engine's retiming needs ${ev.metrics?.registers} registers where the model found ${objValue}; that assignment is cut off and the model solved again`);
   }
-  const method = `${EXACT_METHOD} (${solverName})`;
+  // A plan of the model has its registers minimised, not what comes after: swaps scored by the
+  // engine improve the lower levels (never the registers' count upwards), within a fifth of the time left.
+  if (best?.fromModel && best.assignment && p.ops.length <= 300 && !o.signal?.aborted) {
+    const until = o.now() + Math.max(0, o.deadline - o.now()) / 5;
+    const r = engineSearch(p, best.assignment, best.metrics, objective, until, o.now, o.signal);
+    if (compareMetrics(r.metrics, best.metrics, objective) < 0) {
+      best = { sets: setsFromAssignment(p, r.assignment.unitOf, r.assignment.slotOf), metrics: r.metrics, assignment: r.assignment, fromModel: true };
+      notes.push(`the model's plan improved by ${r.evaluations} swaps and moves scored by the engine`);
+    }
+  }
   let bound = objective === 'registers' ? modelBound : null;
   if (bound !== null && best) bound = Math.min(bound, best.metrics.registers);
   if (bound !== null && incumbentRegs !== null) bound = Math.min(bound, incumbentRegs);
   const provenOptimal = !!best && objective === 'registers' && (solvedOptimal || (bound !== null && primary(best.metrics, objective) <= bound));
-  return { sets: best?.sets ?? null, metrics: best?.metrics ?? null, bound, provenOptimal, infeasible: false, method, notes };
+  if (provenOptimal && best) bound = best.metrics.registers;
+  return result({ bound, provenOptimal });
+}
+
+/** Unit index and slot of every operation in complete sets, or null when some operation is missing. */
+function assignmentOf(p: PlanProblem, sets: Record<string, (string | null)[]>): { unitOf: Int32Array; slotOf: Int32Array } | null {
+  const n = p.ops.length;
+  const unitOf = new Int32Array(n).fill(-1);
+  const slotOf = new Int32Array(n).fill(-1);
+  for (const [unit, list] of Object.entries(sets)) {
+    const k = p.unitIndex.get(unit);
+    if (k === undefined) continue;
+    list.forEach((id, t) => {
+      if (id === null) return;
+      const v = p.nodeIndex.get(id);
+      if (v === undefined || p.opOf[v] < 0) return;
+      unitOf[p.opOf[v]] = k;
+      slotOf[p.opOf[v]] = t;
+    });
+  }
+  for (let q = 0; q < n; q++) if (unitOf[q] < 0) return null;
+  return { unitOf, slotOf };
 }

@@ -720,7 +720,7 @@ class LocalChart {
  * scored by the full engine (evaluate.ts) and kept only when the plan stays feasible and gets
  * better in the objective's order. First improvement, round-robin, until the deadline.
  */
-function engineSearch(
+export function engineSearch(
   p: PlanProblem,
   a: Assignment,
   start: PlanMetrics,

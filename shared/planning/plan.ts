@@ -83,7 +83,7 @@ export async function planDesign(design: Design, options: PlanOptions): Promise<
     const ex = await exactPlan(p, {
       objective,
       solver: options.solver,
-      timeLimitSeconds: Math.max(1, (deadline - now()) / 1000),
+      timeLimitSeconds: Math.max(0, (deadline - now()) / 1000),
       incumbent: best ? best.metrics : null,
       incumbentSets: best ? best.sets : null,
       now,
@@ -91,9 +91,11 @@ export async function planDesign(design: Design, options: PlanOptions): Promise<
       signal: options.signal,
     });
     notes.push(...ex.notes);
-    if (ex.sets && ex.metrics && (!best || compareMetrics(ex.metrics, best.metrics, objective) <= 0)) {
+    // The method names what found the plan: the model only when its own plan is returned.
+    if (ex.foundByModel && ex.sets && ex.metrics && (!best || compareMetrics(ex.metrics, best.metrics, objective) <= 0)) {
       best = { sets: ex.sets, metrics: ex.metrics, method: ex.method };
     }
+    if (ex.provenOptimal && best && !ex.foundByModel && ex.sets === best.sets) notes.push(`the plan is the heuristic's; the ${ex.method.replace(/^exact: /, '')} proves it optimal`);
     if (ex.bound !== null) {
       const key = objective === 'registers' ? 'registers' : objective === 'muxes' ? 'muxInputs' : 'latencyAdded';
       const prev = bound[key];
@@ -115,6 +117,7 @@ export async function planDesign(design: Design, options: PlanOptions): Promise<
       };
     }
     provenOptimal = ex.provenOptimal && !!best && best.sets === ex.sets;
+    if (!ex.solverAnswered) notes.push('the exact model gave no answer (see the notes above); the plan is the heuristic\'s');
   }
 
   if (!best) {

@@ -42,12 +42,16 @@ export async function sweepDesign(design: Design, options: SweepOptions): Promis
   const perKind = opsPerKind(design);
   const rows: SweepRow[] = [];
   const factors = [...new Set(options.factors)].filter((f) => Number.isInteger(f) && f >= 1).sort((a, b) => a - b);
-  const perFactor = options.timeLimitSeconds / Math.max(1, factors.length);
+  // The time limit is the sweep's: each factor gets an even share of what is left, and the unit
+  // counts tried at one factor share that factor's time (the first half of it, then half of the rest ...).
+  const now = options.now ?? (() => Date.now());
+  const deadline = now() + Math.max(0, options.timeLimitSeconds) * 1000;
   const maxExtra = options.maxExtraUnits ?? 8;
   let done = 0;
   const totalOps = [...perKind.values()].reduce((a, b) => a + b, 0);
-  for (const N of factors) {
+  for (const [index, N] of factors.entries()) {
     if (options.signal?.aborted) break;
+    const factorDeadline = now() + Math.max(0, deadline - now()) / (factors.length - index);
     options.onProgress?.({ phase: `sweep N = ${N}`, done, total: factors.length });
     const counts: Record<string, number> = {};
     for (const [kind, ops] of perKind) {
@@ -56,9 +60,10 @@ export async function sweepDesign(design: Design, options: SweepOptions): Promis
     let plan: PlanResult | null = null;
     for (let extra = 0; extra <= (options.units === 'auto' ? maxExtra : 0); extra++) {
       const units = unitsFor(design, counts, options.stages);
+      const left = Math.max(0, factorDeadline - now()) / 1000;
       plan = await planDesign(design, {
         objective: options.objective,
-        timeLimitSeconds: perFactor / (options.units === 'auto' ? 2 : 1),
+        timeLimitSeconds: options.units === 'auto' && extra < maxExtra ? left / 2 : left,
         solver: options.solver,
         now: options.now,
         signal: options.signal,

@@ -22,14 +22,25 @@ export interface MilpSolution {
   bound: number | null;
   /** Column values by the names used in the LP text. */
   values: Record<string, number>;
+  /** Reduced costs by column name (linear programs solved to optimality, when asked for). */
+  reducedCosts?: Record<string, number>;
   message?: string;
+}
+
+export interface MilpSolveOptions {
+  /** Wall time for the whole call, loading the solver and reading the model included. */
+  timeLimitSeconds: number;
+  /** A known solution, by column name (may be partial): the solver may start from it or ignore it. */
+  start?: Record<string, number>;
+  /** For a linear program solved to optimality: also return the reduced costs of the columns. */
+  duals?: boolean;
 }
 
 /** Reads a model in CPLEX LP format and solves it (the CLI wraps the `highs` npm package). */
 export interface MilpSolver {
   /** Shown in the method, e.g. 'HiGHS'. */
   name?: string;
-  solve(lp: string, options: { timeLimitSeconds: number }): Promise<MilpSolution>;
+  solve(lp: string, options: MilpSolveOptions): Promise<MilpSolution>;
 }
 
 export interface PlanProgress {

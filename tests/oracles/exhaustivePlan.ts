@@ -10,10 +10,14 @@ const isOp = (kind: string) => kind !== 'input' && kind !== 'output';
  * scored by analyze: the fewest registers (lifetime-analysis minimum) over the feasible ones,
  * Infinity when none is feasible. null when there are more than `limit` assignments.
  */
-export function exhaustiveMinimum(d: Design, limit: number): { registers: number; count: number } | null {
+export function exhaustiveMinimum(d: Design, limit: number, pins: Record<string, (string | null)[]> = {}): { registers: number; count: number } | null {
   const N = d.folding.factor;
   const ops = d.nodes.filter((n) => isOp(n.kind));
-  const cells = ops.map((op) => d.units.filter((u) => u.kind === op.kind).flatMap((u) => Array.from({ length: N }, (_, t) => [u.id, t] as const)));
+  const pinOf = new Map<string, readonly [string, number]>();
+  for (const [u, list] of Object.entries(pins)) list.forEach((id, t) => id !== null && pinOf.set(id, [u, t] as const));
+  const cells = ops.map((op) =>
+    pinOf.has(op.id) ? [pinOf.get(op.id)!] : d.units.filter((u) => u.kind === op.kind).flatMap((u) => Array.from({ length: N }, (_, t) => [u.id, t] as const)),
+  );
   let total = 1;
   for (const c of cells) {
     total *= c.length;

@@ -4,7 +4,6 @@
 // Planned designs are checked by the checking engine itself (shared/analyze.ts through
 // server/engine.ts, the code behind `pleat check`), and the written file by js-yaml, a parser
 // independent of the yaml package that wrote it.
-import { readFileSync } from 'node:fs';
 import { load as yamlLoad } from 'js-yaml';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { JobDetail } from '../../../shared/report/api';
@@ -12,13 +11,11 @@ import { checkDesignText } from '../../engine';
 import { loadPlanner } from '../../jobs/planner';
 import { startWorker, type WorkerHandle } from '../../jobs/worker';
 import { cookieFor, makeMember, makeProject, makeReport } from '../../test/factories';
-import { startTestServer, type TestServer } from '../../test/server';
-import { TEST_JOB_SETTINGS } from '../../test/workers';
+import type { TestServer } from '../../test/server';
+import { EXAMPLE as example, startJobTestServer, UNPLACED } from '../../test/jobs';
 import { ingestRun } from '../runs/ingest';
 import type { Project, User } from '../../db/models';
 
-const example = readFileSync(new URL('../../../examples/sensor-frontend.fold.yaml', import.meta.url), 'utf8');
-const UNPLACED = example.replace(/\n {2}sets:\n( {4}.*\n?)+/, '\n');
 
 let t: TestServer;
 let project: Project;
@@ -27,10 +24,7 @@ let viewer: User;
 let worker: WorkerHandle | null = null;
 
 beforeAll(async () => {
-  t = await startTestServer({ config: { jobs: { ...TEST_JOB_SETTINGS, queueSchema: '' } } });
-  t.ctx.config.jobs.queueSchema = t.db.queueSchema;
-  project = await makeProject(t.ctx);
-  engineer = await makeMember(t.ctx, project, 'engineer');
+  ({ t, project, engineer } = await startJobTestServer());
   viewer = await makeMember(t.ctx, project, 'viewer');
 }, 60_000);
 

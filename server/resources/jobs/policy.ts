@@ -9,3 +9,10 @@ export const canCancelJob = (role: ProjectRole): boolean => isAtLeast(role, 'eng
 
 /** Every member, viewers too, sees the project's jobs, their progress and results. CI tokens do not. */
 export const canReadJobs = (role: ProjectRole): boolean => isAtLeast(role, 'viewer');
+
+/**
+ * A person has at most this many jobs queued or running at once, over all projects: workers are
+ * shared, and one person's batch should not keep everyone else's plans waiting. The next start
+ * is refused (429) until one of them ends or is cancelled.
+ */
+export const MAX_ACTIVE_JOBS_PER_PERSON = 4;

@@ -14,7 +14,7 @@ import { HttpError, allow, badRequest, conflict, notFound } from '../../http/err
 import { checker, idParam } from '../../http/validate';
 import { expireSeconds } from '../../jobs/worker';
 import { findJob, insertJob, jobDetail, listJobs, presentJob, requestCancel, setQueueId } from '../../jobs/store';
-import { canCancelJob, canReadJobs, canStartJob } from './policy';
+import { MAX_ACTIVE_JOBS_PER_PERSON, canCancelJob, canReadJobs, canStartJob } from './policy';
 
 interface StartBody {
   kind: JobKind;
@@ -102,7 +102,10 @@ export function jobRoutes(ctx: AppContext): Router {
       const name = nameOfInvalidDesign(body.design.text);
       source = { runId: null, file, name, text: body.design.text };
     }
-    const id = await insertJob(q, { projectId: project.id, kind: body.kind, runId: source.runId, file: source.file, name: source.name, text: source.text, params, userId: user.id });
+    const id = await insertJob(q, { projectId: project.id, kind: body.kind, runId: source.runId, file: source.file, name: source.name, text: source.text, params, userId: user.id }, { maxActivePerUser: MAX_ACTIVE_JOBS_PER_PERSON });
+    if (id === null) {
+      throw new HttpError(429, 'too-many-jobs', `You have ${MAX_ACTIVE_JOBS_PER_PERSON} plans or sweeps queued or running, the most one person may have at once; start this one when one of them has ended, or cancel one.`);
+    }
     try {
       await setQueueId(q, id, await ctx.queue.send(id, expireSeconds(ctx.config, body.kind, params)));
     } catch (err) {

@@ -4,17 +4,14 @@
 // back after the queue gave its job away cannot complete it. The expectations are the queue's
 // contract of docs/server.md (section Jobs): at-least-once delivery with an exactly-once record
 // of completion (common practice for job queues, no source).
-import { readFileSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { JobDetail } from '../../../shared/report/api';
-import { cookieFor, makeMember, makeProject } from '../../test/factories';
-import { startTestServer, type TestServer } from '../../test/server';
+import { cookieFor } from '../../test/factories';
+import type { TestServer } from '../../test/server';
+import { startJobTestServer, UNPLACED } from '../../test/jobs';
 import { startWorkerProcess, TEST_JOB_SETTINGS, type WorkerProcess } from '../../test/workers';
 import type { Project, User } from '../../db/models';
 
-const example = readFileSync(new URL('../../../examples/sensor-frontend.fold.yaml', import.meta.url), 'utf8');
-/** The example without its folding sets: the planner places every operation. */
-export const UNPLACED = example.replace(/\n {2}sets:\n( {4}.*\n?)+/, '\n');
 
 let t: TestServer;
 let project: Project;
@@ -22,11 +19,7 @@ let engineer: User;
 const workers: WorkerProcess[] = [];
 
 beforeAll(async () => {
-  t = await startTestServer({ config: { jobs: { ...TEST_JOB_SETTINGS, queueSchema: '' } } });
-  // The queue schema is the test file's own (server/test/db.ts).
-  t.ctx.config.jobs.queueSchema = t.db.queueSchema;
-  project = await makeProject(t.ctx);
-  engineer = await makeMember(t.ctx, project, 'engineer');
+  ({ t, project, engineer } = await startJobTestServer());
 }, 60_000);
 
 afterAll(async () => {
