@@ -11,17 +11,14 @@ import { cpus, loadavg, tmpdir } from 'node:os';
 import path from 'node:path';
 import { spawnSync } from 'node:child_process';
 import { fileURLToPath } from 'node:url';
+import { parseArgs } from 'node:util';
 import { generateDesign } from './gen-design.mjs';
 
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
-const argv = process.argv.slice(2);
-const opt = (name, dflt) => {
-  const i = argv.indexOf(name);
-  return i >= 0 ? argv[i + 1] : dflt;
-};
-const RUNS = opt('--runs', null);
-const EDGES = Number(opt('--edges', 100_000));
-const JSON_OUT = opt('--json', null);
+const { values: args } = parseArgs({ options: { runs: { type: 'string' }, edges: { type: 'string', default: '100000' }, json: { type: 'string' } } });
+const RUNS = args.runs ?? null;
+const EDGES = Number(args.edges);
+const JSON_OUT = args.json ?? null;
 const work = mkdtempSync(path.join(tmpdir(), 'pleat-bench-plan-'));
 const node = process.execPath;
 

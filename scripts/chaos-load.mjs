@@ -10,14 +10,14 @@ import { existsSync, readFileSync, writeFileSync } from 'node:fs';
 import { cpus, loadavg } from 'node:os';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
+import { parseArgs } from 'node:util';
 import pg from 'pg';
 import { buildAndMigrate, dropDatabase, freshDatabase, load, loginCookie, postgres, seedProject, serverEnv, startServer } from './server-load.mjs';
 
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
-const argv = process.argv.slice(2);
-const opt = (name, dflt) => { const i = argv.indexOf(name); return i >= 0 ? argv[i + 1] : dflt; };
-const DURATION = Number(opt('--duration', 10));
-const WRITE_DOCS = !argv.includes('--no-docs');
+const { values: args } = parseArgs({ options: { duration: { type: 'string', default: '10' }, 'no-docs': { type: 'boolean', default: false } } });
+const DURATION = Number(args.duration);
+const WRITE_DOCS = !args['no-docs'];
 const say = (m) => process.stderr.write(`chaos-load: ${m}\n`);
 const loadAtStart = loadavg()[0];
 

@@ -343,3 +343,38 @@ export interface JobDetail extends JobSummary {
   attempts: JobAttempt[];
   result: JobResult | null;
 }
+
+// ---------------------------------------------------------------- envelopes of single answers
+
+/** GET /api/health (with the database) and /api/health/live (the process only). */
+export interface Health {
+  ok: boolean;
+  database?: boolean;
+}
+
+export interface TokenList {
+  tokens: CiToken[];
+}
+
+/** POST .../tokens: the secret is in this answer only. */
+export interface TokenCreated {
+  token: CiToken;
+  secret: string;
+}
+
+export interface TokenAnswer {
+  token: CiToken;
+}
+
+export interface JobStarted {
+  job: JobSummary;
+}
+
+export interface JobList {
+  jobs: JobSummary[];
+}
+
+export interface JobAnswer {
+  job: JobDetail;
+}
+

@@ -4,13 +4,10 @@
 
 import type {
   AnalyzeResult,
-  JobDetail,
   JobKind,
   JobObjective,
-  JobSummary,
   ApiErrorBody,
   BranchList,
-  CiToken,
   HostConnection,
   HostKind,
   Invitation,
@@ -25,6 +22,12 @@ import type {
   RunPage,
   Rules,
   TeamRules,
+  TokenAnswer,
+  TokenCreated,
+  TokenList,
+  JobAnswer,
+  JobList,
+  JobStarted,
   WatchState,
 } from './types';
 
@@ -177,10 +180,10 @@ export const api = {
     request<RuleHistory>(`/api/projects/${seg(slug)}/rules/history`, { query: { before }, signal }),
 
   // CI tokens
-  tokens: (slug: string, signal?: AbortSignal) => request<{ tokens: CiToken[] }>(`/api/projects/${seg(slug)}/tokens`, { signal }),
+  tokens: (slug: string, signal?: AbortSignal) => request<TokenList>(`/api/projects/${seg(slug)}/tokens`, { signal }),
   createToken: (slug: string, name: string) =>
-    request<{ token: CiToken; secret: string }>(`/api/projects/${seg(slug)}/tokens`, { method: 'POST', body: { name } }),
-  revokeToken: (slug: string, id: number) => request<{ token: CiToken }>(`/api/projects/${seg(slug)}/tokens/${id}`, { method: 'DELETE' }),
+    request<TokenCreated>(`/api/projects/${seg(slug)}/tokens`, { method: 'POST', body: { name } }),
+  revokeToken: (slug: string, id: number) => request<TokenAnswer>(`/api/projects/${seg(slug)}/tokens/${id}`, { method: 'DELETE' }),
 
   // the git host of the pull-request feedback (leads)
   host: (slug: string, signal?: AbortSignal) => request<{ host: HostConnection | null }>(`/api/projects/${seg(slug)}/host`, { signal }),
@@ -225,10 +228,10 @@ export const api = {
   },
 
   // plan and sweep jobs (server/resources/jobs/routes.ts)
-  startJob: (slug: string, body: StartJob) => request<{ job: JobSummary }>(`/api/projects/${seg(slug)}/jobs`, { method: 'POST', body }),
-  jobs: (slug: string, signal?: AbortSignal) => request<{ jobs: JobSummary[] }>(`/api/projects/${seg(slug)}/jobs`, { signal }),
-  job: (id: number, signal?: AbortSignal) => request<{ job: JobDetail }>(`/api/jobs/${id}`, { signal }),
-  cancelJob: (id: number) => request<{ job: JobDetail }>(`/api/jobs/${id}/cancel`, { method: 'POST' }),
+  startJob: (slug: string, body: StartJob) => request<JobStarted>(`/api/projects/${seg(slug)}/jobs`, { method: 'POST', body }),
+  jobs: (slug: string, signal?: AbortSignal) => request<JobList>(`/api/projects/${seg(slug)}/jobs`, { signal }),
+  job: (id: number, signal?: AbortSignal) => request<JobAnswer>(`/api/jobs/${id}`, { signal }),
+  cancelJob: (id: number) => request<JobAnswer>(`/api/jobs/${id}/cancel`, { method: 'POST' }),
 };
 
 /** The run page's downloads (GET /api/runs/:id/download/:file): plain links, the session cookie goes along. */

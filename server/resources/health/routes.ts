@@ -4,12 +4,14 @@ import { Router } from 'express';
 import type { AppContext } from '../../context';
 import { allow } from '../../http/errors';
 import { canAskHealth } from './policy';
+import { send } from '../../http/present';
+import type { Health } from '../../../shared/report/api';
 
 export function healthRoutes(ctx: AppContext): Router {
   const router = Router();
   router.get('/api/health/live', (_req, res) => {
     allow(canAskHealth());
-    res.json({ ok: true });
+    send<Health>(res, { ok: true });
   });
   router.get('/api/health', async (_req, res) => {
     allow(canAskHealth());
@@ -20,7 +22,7 @@ export function healthRoutes(ctx: AppContext): Router {
     } catch {
       database = false;
     }
-    res.status(database ? 200 : 503).json({ ok: database, database });
+    send<Health>(res.status(database ? 200 : 503), { ok: database, database });
   });
   return router;
 }

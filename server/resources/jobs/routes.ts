@@ -4,7 +4,8 @@
 // enqueues; worker processes run the engine (server/jobs/worker.ts).
 import express, { Router, type NextFunction, type Request, type Response } from 'express';
 import { QueryTypes } from 'sequelize';
-import type { JobKind, JobObjective, JobParams } from '../../../shared/report/api';
+import type { JobAnswer, JobKind, JobList, JobObjective, JobParams, JobStarted } from '../../../shared/report/api';
+import { send } from '../../http/present';
 import { nameOfInvalidDesign } from '../../../shared/design/load';
 import type { AppContext } from '../../context';
 import type { Project } from '../../db/models';
@@ -113,14 +114,14 @@ export function jobRoutes(ctx: AppContext): Router {
       await q.query(`UPDATE jobs SET status = 'failed', error = $2, finished_at = now() WHERE id = $1`, { bind: [id, 'The job queue could not be reached; the job was not started.'] });
       throw new HttpError(503, 'queue-unavailable', 'The job queue could not be reached; try again in a moment.');
     }
-    res.status(201).json({ job: presentJob((await findJob(q, id))!) });
+    send<JobStarted>(res.status(201), { job: presentJob((await findJob(q, id))!) });
   });
 
   router.get('/api/projects/:slug/jobs', async (req, res) => {
     const { project, role } = await projectAccess(ctx, req, { slug: req.params.slug });
     allow(canReadJobs(role));
     const rows = await listJobs(q, project.id, 50);
-    res.json({ jobs: rows.map(presentJob) });
+    send<JobList>(res, { jobs: rows.map(presentJob) });
   });
 
   const jobOf = async (req: Request) => {
@@ -136,7 +137,7 @@ export function jobRoutes(ctx: AppContext): Router {
   router.get('/api/jobs/:id', async (req, res) => {
     const { row, role } = await jobOf(req);
     allow(canReadJobs(role));
-    res.json({ job: await jobDetail(q, row) });
+    send<JobAnswer>(res, { job: await jobDetail(q, row) });
   });
 
   router.post('/api/jobs/:id/cancel', async (req, res) => {
@@ -146,7 +147,7 @@ export function jobRoutes(ctx: AppContext): Router {
     const status = await requestCancel(q, row.id);
     // A queued job leaves the queue at once; a running one stops at its worker's next check.
     if (status === 'cancelled' && row.queue_id) await ctx.queue.cancel(row.queue_id).catch((e) => ctx.log(`job ${row.id}: queue cancel: ${(e as Error).message}`));
-    res.json({ job: await jobDetail(q, (await findJob(q, row.id))!) });
+    send<JobAnswer>(res, { job: await jobDetail(q, (await findJob(q, row.id))!) });
   });
 
   return router;

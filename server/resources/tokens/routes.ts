@@ -6,8 +6,8 @@ import { projectAccess } from '../../http/access';
 import { CI_TOKEN_PREFIX, hashSecret, newSecret, requireUser } from '../../http/auth';
 import { allow, notFound } from '../../http/errors';
 import { checker, idParam } from '../../http/validate';
-import type { Sent } from '../../http/present';
-import type { CiToken as ApiCiToken } from '../../../shared/report/api';
+import { send, type Sent } from '../../http/present';
+import type { CiToken as ApiCiToken, TokenAnswer, TokenCreated, TokenList } from '../../../shared/report/api';
 import { canCreateToken, canListTokens, canRevokeToken } from './policy';
 
 const json = express.json({ limit: '16kb' });
@@ -39,7 +39,7 @@ export function tokenRoutes(ctx: AppContext): Router {
     const { project, role } = await projectAccess(ctx, req, { slug: req.params.slug });
     allow(canListTokens(role), 'Only a lead manages CI tokens.');
     const tokens = await CiToken.findAll({ where: { projectId: project.id }, include: [{ model: User, as: 'creator' }], order: [['id', 'DESC']] });
-    res.json({ tokens: tokens.map(presentToken) });
+    send<TokenList>(res, { tokens: tokens.map(presentToken) });
   });
 
   router.post('/api/projects/:slug/tokens', json, async (req, res) => {
@@ -53,7 +53,7 @@ export function tokenRoutes(ctx: AppContext): Router {
     });
     token.creator = user;
     // The only time the secret leaves the server; only its hash is stored.
-    res.status(201).json({ token: presentToken(token), secret });
+    send<TokenCreated>(res.status(201), { token: presentToken(token), secret });
   });
 
   router.delete('/api/projects/:slug/tokens/:id', async (req, res) => {
@@ -63,7 +63,7 @@ export function tokenRoutes(ctx: AppContext): Router {
     const token = id === null ? null : await CiToken.findOne({ where: { id, projectId: project.id }, include: [{ model: User, as: 'creator' }] });
     if (!token) throw notFound('No such token in this project.');
     if (!token.revokedAt) await token.update({ revokedAt: new Date() });
-    res.json({ token: presentToken(token) });
+    send<TokenAnswer>(res, { token: presentToken(token) });
   });
 
   return router;
