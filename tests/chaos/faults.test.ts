@@ -72,7 +72,11 @@ describe('kill -9 during concurrent uploads, then a restart', () => {
     const a = await start();
     const commits = Array.from({ length: N }, () => randomCommit());
     let answered = 0;
-    const first = commits.map((c) => upload(a.url, c).then((s) => { if (s) answered++; return s; }));
+    // Sent a few milliseconds apart, as CI jobs arrive: the server writes uploads that arrive
+    // together in one statement, so sent all at once they could all be answered before the kill.
+    const first = commits.map((c, i) =>
+      new Promise((r) => setTimeout(r, i * 15)).then(() => upload(a.url, c)).then((s) => { if (s) answered++; return s; }),
+    );
     // Kill once a quarter has been answered: the rest are in flight or not yet sent.
     while (answered < Math.max(1, Math.floor(N / 4))) await new Promise((r) => setTimeout(r, 5));
     a.child.kill('SIGKILL');
