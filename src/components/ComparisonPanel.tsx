@@ -222,7 +222,9 @@ export function ComparisonPanel({ comparison: c, slug, design, onSelectDesign }:
       {c.baseRun && rows.length > 0 && !design && (
         <p className="text-sm font-medium text-ink-900" data-testid="comparison-summary">
           {changed.length === 0
-            ? `Every design folds as it did on ${c.baseBranch}.`
+            ? added.length || removed.length
+              ? `The designs this run shares with ${c.baseBranch} fold as they did there.`
+              : `Every design folds as it did on ${c.baseBranch}.`
             : `${plural(changed.length, 'design')} changed ${changed.length === 1 ? 'its' : 'their'} plan or verdict${past ? `, ${past} of them past the project's allowance of ${pct(c.tolerance, 1)}` : `, none past the project's allowance of ${pct(c.tolerance, 1)}`}.`}
         </p>
       )}
