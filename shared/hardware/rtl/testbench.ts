@@ -143,23 +143,7 @@ export function generateTestbench(bundle: RtlBundle, control: ControlTables, vec
     );
   }
   L.push('    end');
-  for (const p of outPorts) {
-    const n = vectors.outputs[p.node].length;
-    L.push(
-      `    if (${seen.get(p.port)} < ${n}) begin`,
-      `      ${errors} = ${errors} + 1;`,
-      `      $display("MISMATCH ${p.port}: %0d of ${n} samples arrived", ${seen.get(p.port)});`,
-      '    end',
-    );
-  }
-  L.push(
-    `    if (${errors} == 0) $display("PASS ${bundle.top}: %0d samples on ${outPorts.length} outputs, 0 mismatches", ${checked});`,
-    `    else $display("FAIL ${bundle.top}: %0d mismatches in %0d samples", ${errors}, ${checked});`,
-    '    $finish;',
-    '  end',
-    'endmodule',
-    '',
-  );
+  L.push(...closing(outPorts, vectors, seen, errors, checked, bundle.top));
   return { name: `${tb}.v`, text: L.join('\n') };
 }
 
@@ -263,22 +247,29 @@ function streamTestbench(bundle: RtlBundle, control: ControlTables, vectors: Tes
   }
   for (const p of outPorts) L.push(`      ${p.ready} = ($random(${seed}) % 3) != 0;`);
   L.push('      @(negedge clk);', '    end');
+  L.push(...closing(outPorts, vectors, got, errors, checked, bundle.top));
+  return { name: `${tb}.v`, text: L.join('\n') };
+}
+
+/** The end of both testbenches: every output got all its samples, then the one PASS or FAIL line. */
+function closing(outPorts: readonly PortTiming[], vectors: TestVectors, count: Map<string, string>, errors: string, checked: string, top: string): string[] {
+  const L: string[] = [];
   for (const p of outPorts) {
     const n = vectors.outputs[p.node].length;
     L.push(
-      `    if (${got.get(p.port)} < ${n}) begin`,
+      `    if (${count.get(p.port)} < ${n}) begin`,
       `      ${errors} = ${errors} + 1;`,
-      `      $display("MISMATCH ${p.port}: %0d of ${n} samples arrived", ${got.get(p.port)});`,
+      `      $display("MISMATCH ${p.port}: %0d of ${n} samples arrived", ${count.get(p.port)});`,
       '    end',
     );
   }
   L.push(
-    `    if (${errors} == 0) $display("PASS ${bundle.top}: %0d samples on ${outPorts.length} outputs, 0 mismatches", ${checked});`,
-    `    else $display("FAIL ${bundle.top}: %0d mismatches in %0d samples", ${errors}, ${checked});`,
+    `    if (${errors} == 0) $display("PASS ${top}: %0d samples on ${outPorts.length} outputs, 0 mismatches", ${checked});`,
+    `    else $display("FAIL ${top}: %0d mismatches in %0d samples", ${errors}, ${checked});`,
     '    $finish;',
     '  end',
     'endmodule',
     '',
   );
-  return { name: `${tb}.v`, text: L.join('\n') };
+  return L;
 }
