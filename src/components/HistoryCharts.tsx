@@ -1,16 +1,9 @@
 import { Bar, BarChart, CartesianGrid, Line, LineChart, ResponsiveContainer, Tooltip, XAxis, YAxis } from 'recharts';
-import type { Status } from '../api/types';
+import type { Status, TrendPoint } from '../api/types';
 import { pct, shortCommit } from './format';
 
-/** One run on the branch history charts. */
-export interface HistoryPoint {
-  runId: number;
-  commit: string;
-  verdict: Status;
-  utilization: number | null;
-  registerMinimum: number | null;
-  violations: number;
-  createdAt: string;
+/** One run on the branch history charts: the API's trend point, with what the charts add. */
+export interface HistoryPoint extends TrendPoint {
   /** min_utilization the run was checked against, when one was in force. */
   floor?: number | null;
   message?: string | null;
