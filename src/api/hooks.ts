@@ -190,11 +190,10 @@ function useHostMutation<V, R>(slug: string, fn: (v: V) => Promise<R>) {
   const qc = useQueryClient();
   return useMutation({
     mutationFn: fn,
-    onSuccess: () => {
-      // The project carries the host's status too (shown on every page of the project).
-      void qc.invalidateQueries({ queryKey: keys.host(slug) });
-      void qc.invalidateQueries({ queryKey: keys.project(slug) });
-    },
+    // Awaited, so "Saved" shows only once the form holds the stored connection (its token hint).
+    // The project carries the host's status too (shown on every page of the project).
+    onSuccess: () =>
+      Promise.all([qc.invalidateQueries({ queryKey: keys.host(slug) }), qc.invalidateQueries({ queryKey: keys.project(slug) })]),
   });
 }
 
