@@ -78,6 +78,15 @@ export interface Design {
   folding: Folding;
   /** Defaults of the number formats; absent: every signal Q(W-1).0 with W = --width, truncate, wrap. */
   fixedPoint?: FixedPointDefaults;
+  /** Serial ports of the stream interface (docs/format.md, "Serial ports"), in file order; absent when none. */
+  serial?: SerialPort[];
+}
+
+/** Inputs or outputs sharing one port of the stream interface, one sample per handshake in `nodes` order. */
+export interface SerialPort {
+  id: string;
+  direction: 'input' | 'output';
+  nodes: string[];
 }
 
 export interface LoadResult {

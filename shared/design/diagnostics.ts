@@ -57,6 +57,7 @@ export const CODES = {
   'edge-into-input': { severity: E, rule: 'An edge ends at an input node.' },
   'edge-out-of-output': { severity: E, rule: 'An edge starts at an output node.' },
   'number-format': { severity: E, rule: 'A fixed-point `format` is not Qm.n or UQm.n of 1 to 64 bits.' },
+  'serial-port': { severity: E, rule: 'A serial port lists no node, a node that is not of its direction, a node twice or in two ports, or takes an id already used.' },
   'rounding-on-input': { severity: E, rule: '`rounding` or `overflow` is given on an input, which takes its samples as they come.' },
   'format-too-narrow': { severity: W, rule: 'The worst-case range of a signal (bit growth from the input formats and coefficients) exceeds its format.' },
   'op-arity': { severity: E, rule: 'The arithmetic of a node does not fit its number of inputs or lacks its coefficient.' },

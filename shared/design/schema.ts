@@ -167,6 +167,20 @@ export const designSchema = {
         },
       },
     },
+    serial: {
+      type: 'array',
+      description: 'Serial ports of the stream interface (`pleat rtl --interface stream`): several inputs, or several outputs, that share one port and move one sample per handshake in the order listed.',
+      items: {
+        type: 'object',
+        required: ['id'],
+        additionalProperties: false,
+        properties: {
+          id: id('Name of the shared port; unique among units, nodes and serial ports.'),
+          inputs: { type: 'array', items: { type: 'string', minLength: 1 }, description: 'Input nodes whose samples arrive on this port, in this order, one set per iteration.' },
+          outputs: { type: 'array', items: { type: 'string', minLength: 1 }, description: 'Output nodes whose samples leave on this port, in this order, one set per iteration.' },
+        },
+      },
+    },
     folding: {
       type: 'object',
       required: ['factor'],

@@ -3,7 +3,7 @@
 import { Ajv, type ErrorObject, type ValidateFunction } from 'ajv';
 import type { Design, DfgNode, Diagnostic, Edge, FixedPointDefaults, NodeOp, Unit } from '../types';
 import { designSchema, MAX_FACTOR } from './schema';
-import { diag, formatPath, showValue, typeWord, type DiagnosticCode } from './diagnostics';
+import { diag, formatPath, showValue, typeWord, withArticle, type DiagnosticCode } from './diagnostics';
 import { stronglyConnected } from '../graphAlgorithms';
 import { closest } from '../didYouMean';
 import { nodeOp } from './operations';
@@ -285,6 +285,7 @@ function semanticChecks(doc: Record<string, unknown>, out: Collector, options: V
   foldingSetChecks(s);
   arityChecks(s, e.inDeg);
   numberFormatChecks(s);
+  serialChecks(s);
   zeroDelayLoops(s.nodes, s.nN, e.nE, e.eFrom, e.eTo, e.eDelays, out);
   reachability(s.nodes, s.nodeClass, s.shadowed, s.nN, e.nE, e.eFrom, e.eTo, e.outDeg, out);
 }
@@ -600,6 +601,62 @@ function numberFormatChecks(s: Scope): void {
   }
 }
 
+/**
+ * Serial ports: each lists inputs or outputs (not both, not none), nodes of that kind that exist,
+ * each node in one port once; the port's id is free among units, nodes and other ports.
+ */
+function serialChecks(s: Scope): void {
+  const { doc, out, nodes } = s;
+  if (!Array.isArray(doc.serial)) return;
+  const ports = new Set<string>();
+  const taken = new Map<string, string>();
+  doc.serial.forEach((p, i) => {
+    if (!isObj(p)) return;
+    const id = typeof p.id === 'string' ? p.id : null;
+    if (id !== null) {
+      const prev = s.owner.get(id);
+      if (prev !== undefined) out.add('serial-port', `serial port id \`${id}\` is already used by ${ownerName(prev)}; it names a port of the top module, so it must be new`, ['serial', i, 'id']);
+      else if (ports.has(id)) out.add('serial-port', `serial port id \`${id}\` is given twice`, ['serial', i, 'id']);
+      ports.add(id);
+    }
+    const hasIn = has(p, 'inputs');
+    const hasOut = has(p, 'outputs');
+    if (hasIn && hasOut) {
+      out.add('serial-port', `serial port \`${label(p.id)}\` lists both inputs and outputs; a port carries one direction: split it in two`, ['serial', i, 'outputs']);
+      return;
+    }
+    if (!hasIn && !hasOut) {
+      out.add('serial-port', `serial port \`${label(p.id)}\` lists no nodes; give \`inputs: [...]\` or \`outputs: [...]\``, ['serial', i]);
+      return;
+    }
+    const field = hasIn ? 'inputs' : 'outputs';
+    const want = hasIn ? INPUT : OUTPUT;
+    const list = p[field];
+    if (!Array.isArray(list)) return; // the schema says it
+    if (list.length === 0) out.add('serial-port', `serial port \`${label(p.id)}\` has an empty \`${field}\` list`, ['serial', i, field]);
+    list.forEach((name, k) => {
+      if (typeof name !== 'string') return;
+      const at: Path = ['serial', i, field, k];
+      const ni = nodeAt(s.owner, name);
+      if (ni === undefined) {
+        out.add('serial-port', () => unknownNodeMessage(name, `serial[${i}].${field}`, s.unitIndex, s.nodeIds), at);
+        return;
+      }
+      if (s.nodeClass[ni] !== want) {
+        const kind = isObj(nodes[ni]) ? label((nodes[ni] as Record<string, unknown>).kind) : '?';
+        out.add('serial-port', `\`${name}\` is ${withArticle(`\`${kind}\``, kind)} node; serial port \`${label(p.id)}\` lists ${field}, so every entry must be ${hasIn ? 'an input' : 'an output'}`, at);
+        return;
+      }
+      const prev = taken.get(name);
+      if (prev !== undefined) {
+        out.add('serial-port', prev === label(p.id) ? `\`${name}\` is listed twice in serial port \`${prev}\`; each sample has one place in the order` : `\`${name}\` is already on serial port \`${prev}\`; a node has one port`, at);
+        return;
+      }
+      taken.set(name, label(p.id));
+    });
+  });
+}
+
 /** Index of the node with this id, or undefined (unit ids live in the same map with negative values). */
 function nodeAt(owner: Map<string, number>, id: string): number | undefined {
   const v = owner.get(id);
@@ -837,6 +894,13 @@ function normalise(doc: Record<string, unknown>, options: ValidateOptions): Desi
   if (typeof doc.description === 'string') design.description = doc.description;
   if (typeof doc.clock_ns === 'number') design.clockNs = doc.clock_ns;
   if (isObj(doc.fixed_point)) design.fixedPoint = { ...(doc.fixed_point as FixedPointDefaults) };
+  if (Array.isArray(doc.serial) && doc.serial.length) {
+    design.serial = (doc.serial as Record<string, unknown>[]).map((p) => ({
+      id: p.id as string,
+      direction: Array.isArray(p.inputs) ? ('input' as const) : ('output' as const),
+      nodes: ((Array.isArray(p.inputs) ? p.inputs : p.outputs) as string[]).slice(),
+    }));
+  }
   return design;
 }
 

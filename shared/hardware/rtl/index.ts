@@ -19,11 +19,13 @@ import { topModuleText } from './top';
 import type { RtlBundle, RtlOptions } from './types';
 import { combinationalLoops, loopWarnings, unitInstances } from './units';
 import { streamParts } from './stream';
+import { alignSerialOutputs } from './serial';
 
 export { verilogIdent } from './names';
 export type { PortTiming, RtlBundle, RtlOptions, RtlRename } from './types';
 export { generateTestbench, testVectors, type TestVectors } from './testbench';
 export { parallelDesign } from './parallel';
+export { alignSerialOutputs } from './serial';
 
 /**
  * Generates the folded datapath as Verilog-2001: a top module with clk, rst, one W-bit signed
@@ -31,7 +33,10 @@ export { parallelDesign } from './parallel';
  * partition counter; the multiplexers and registers of the control tables; one behavioural
  * module per unit.
  */
-export function generateRtl(design: Design, control: ControlTables, opts: RtlOptions = {}): RtlBundle {
+export function generateRtl(design: Design, tables: ControlTables, opts: RtlOptions = {}): RtlBundle {
+  // Serial ports exist on the stream interface only; the strobe datapath is built as it always was.
+  const serialPorts = opts.interface === 'stream' ? (design.serial ?? []) : [];
+  const control = serialPorts.length ? alignSerialOutputs(design, tables) : tables;
   const plan = formatPlan(design, opts.width ?? DEFAULT_FIXED.width);
   // With number formats the data word holds every format; without, it is --width as always.
   const W = plan.container;
@@ -58,7 +63,7 @@ export function generateRtl(design: Design, control: ControlTables, opts: RtlOpt
   const n = interfaceNames(design, control, opts);
   const coef = coefficientParams(n.activeUnits, n.names, F);
   const timing = counterTiming(control);
-  const stream = opts.interface === 'stream' ? streamParts(control, n, timing) : null;
+  const stream = opts.interface === 'stream' ? streamParts(control, n, timing, serialPorts) : null;
   const read = new SignalReader(n, stream?.inputSignal);
   // 0-stage units that feed each other's operands directly form a loop through multiplexers:
   // never active in one cycle (the partitions differ), but a loop in the netlist all the same.
@@ -76,12 +81,27 @@ export function generateRtl(design: Design, control: ControlTables, opts: RtlOpt
   });
   const regBlocks = registerFile(control, n, timing, read, stream?.ce);
   const outputs = outputRegisters(control, n, timing, read, outQuantOf, W, stream?.outputs);
-  const inputs = inputTimings(control, n).map((p) =>
-    stream
-      ? { ...p, valid: stream.inValid.get(p.node)!, ready: stream.inReady.get(p.node)!, timing: `stream: a sample moves in a cycle with ${stream.inValid.get(p.node)} and ${stream.inReady.get(p.node)} high; sample l feeds iteration l` }
-      : p,
-  );
-  const ports = [...inputs, ...outputs.ports];
+  const serialOf = new Map<string, { port: string; index: number; of: number }>();
+  for (const sp of stream?.serial ?? []) sp.nodes.forEach((node, index) => serialOf.set(node, { port: sp.port, index, of: sp.nodes.length }));
+  const inputs = inputTimings(control, n).map((p) => {
+    if (!stream) return p;
+    const s = serialOf.get(p.node);
+    return {
+      ...p,
+      valid: stream.inValid.get(p.node)!,
+      ready: stream.inReady.get(p.node)!,
+      timing: s
+        ? `serial on ${s.port}: sample ${s.index} of every ${s.of} moved on ${s.port}; sample l feeds iteration l`
+        : `stream: a sample moves in a cycle with ${stream.inValid.get(p.node)} and ${stream.inReady.get(p.node)} high; sample l feeds iteration l`,
+      ...(s ? { serial: s.port, serialIndex: s.index } : {}),
+    };
+  });
+  const outs = outputs.ports.map((p) => {
+    const s = serialOf.get(p.node);
+    if (!s) return p;
+    return { ...p, serial: s.port, serialIndex: s.index, timing: `serial on ${s.port}: sample ${s.index} of every ${s.of} moved on ${s.port} is sample ${p.firstSample} + k of ${p.port}` };
+  });
+  const ports = [...inputs, ...outs];
   const topText = topModuleText(design, control, n, read, {
     W,
     F,
@@ -108,5 +128,6 @@ export function generateRtl(design: Design, control: ControlTables, opts: RtlOpt
     factor: N,
     warnings,
     ...(stream ? { interface: 'stream' as const, start: stream.start, busy: stream.busy } : {}),
+    ...(stream?.serial.length ? { serial: stream.serial.map((sp) => ({ id: sp.id, direction: sp.direction, port: sp.port, valid: sp.valid, ready: sp.ready, nodes: sp.nodes })) } : {}),
   };
 }

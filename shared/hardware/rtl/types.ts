@@ -31,6 +31,9 @@ export interface PortTiming {
   valid?: string;
   /** stream: the ready of the handshake (an input's output, an output's input). */
   ready?: string;
+  /** stream: the serial port that carries this node's samples, and its place in the port's order. */
+  serial?: string;
+  serialIndex?: number;
 }
 
 /** A name of the interface that differs from the one the convention gives (docs/rtl.md). */
@@ -67,6 +70,8 @@ export interface RtlBundle {
   /** stream: the start input and busy output. */
   start?: string;
   busy?: string;
+  /** stream: the serial ports (docs/rtl.md, "Serial ports"), with their Verilog names and members in order. */
+  serial?: { id: string; direction: 'input' | 'output'; port: string; valid: string; ready: string; nodes: string[] }[];
   /** Things an engineer should know about this netlist (e.g. a combinational loop through multiplexers). */
   warnings: string[];
 }
