@@ -372,6 +372,13 @@ describe('number formats', () => {
     expect(r.diagnostics[0].message).toMatch(/81 bits wide; formats have at most 64 bits/);
   });
 
+  it('serial-port: a serial port of inputs that lists an output, at that entry', () => {
+    // Common practice: an error points at the value at fault (docs/format.md, "Serial ports").
+    const r = loadDesign(VALID.replace('folding:\n', 'serial:\n  - { id: link, inputs: [mic, level] }\nfolding:\n'));
+    expect(brief(r.diagnostics)).toEqual(['serial-port@25:31']);
+    expect(r.diagnostics[0].message).toMatch(/`level` is an `output` node; serial port `link` lists inputs/);
+  });
+
   it('rounding-on-input: an input takes no rounding mode', () => {
     const r = loadDesign(VALID.replace('  - { id: mic, kind: input }', '  - { id: mic, kind: input, format: Q0.15, overflow: saturate }'));
     expect(brief(r.diagnostics)).toEqual(['rounding-on-input@12:54']);
