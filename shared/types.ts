@@ -240,6 +240,28 @@ export interface Analysis {
   control?: ControlTables | null;
   /** Why `control` was left out of a report (too large), when it was. */
   controlOmitted?: string;
+  /** Latency of each output and what forces the outputs' shared retiming (docs/analysis.md); absent without a feasible datapath or a fed output. */
+  outputLatency?: OutputLatencyReport;
+}
+
+/** One output's latency: its samples lag the inputs by `latency` iterations; alone it would need `needs`. */
+export interface OutputLatency {
+  node: string;
+  mode: 'slot' | 'tap';
+  /** Cycle of the iteration at whose end it is read (a slot), or in which its producer delivers (a tap; may exceed N-1). */
+  cycle: number;
+  /** Iterations its samples lag the inputs: r(outputs) for a slot, r(producer) - w(e) for a tap. */
+  latency: number;
+  /** The least r(o) its edge allows with the operations' retiming as chosen. */
+  needs: number;
+}
+
+export interface OutputLatencyReport {
+  /** r(outputs) - r(inputs): the one retiming value all outputs share (latencyAdded). */
+  shared: number;
+  outputs: OutputLatency[];
+  /** The output that alone sets the shared value, the iterations it adds over the others' needs, and what would lower it; null when none does. */
+  forcedBy: { node: string; by: number; options: string[] } | null;
 }
 
 // ---------------------------------------------------------------- rules and report

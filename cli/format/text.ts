@@ -196,6 +196,17 @@ function designLines(d: DesignReport, report: Report, c: ChalkInstance, file: st
         const shown = moved.slice(0, MAX_MOVES).map(([n, v]) => `${n} ${v > 0 ? '+' : ''}${v}`);
         out.push(`${label('moved', c)}${shown.join(', ')}${moved.length > MAX_MOVES ? `, ... and ${moved.length - MAX_MOVES} more` : ''}`);
       }
+      // Each output's latency, and the output that sets the shared retiming of the outputs.
+      const ol = d.outputLatency;
+      if (ol) {
+        const shown = ol.outputs.slice(0, MAX_MOVES).map((o) => `${o.node} ${o.latency} (${o.mode === 'slot' ? `slot ${o.cycle}` : `tap, cycle ${o.cycle}`}${o.needs !== o.latency ? `, needs ${o.needs}` : ''})`);
+        out.push(`${label('latency', c)}${shown.join(', ')}${ol.outputs.length > MAX_MOVES ? `, ... and ${ol.outputs.length - MAX_MOVES} more` : ''}`);
+        if (ol.forcedBy) {
+          const f = ol.forcedBy;
+          const lower = f.options.length ? `; to lower it: ${f.options.join('; or ')}` : '';
+          out.push(`${label('forced', c)}${f.node} sets the outputs' retiming to ${ol.shared}, ${plural(f.by, 'iteration')} above what the others need${lower}`);
+        }
+      }
     }
   }
   out.push(...diagLines.slice(errorCount));

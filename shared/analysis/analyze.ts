@@ -1,5 +1,6 @@
 // Method: runs every analysis of the folding methods (docs/engine.md) on one validated design.
 // Convention: the datapath is the retimed one when retiming was needed and exists, else the original.
+import { outputLatency } from './outputLatency';
 import type { Analysis, Design, EdgeResult, ScheduleRow } from '../types';
 import { buildGraph, type IndexedGraph } from './graph';
 import { asNullable, foldedDelays } from './foldedDelay';
@@ -110,6 +111,10 @@ export function analyzeDatapath(design: Design, options: AnalyzeOptions = {}): {
     sampleRateMHz: samplePeriodNs !== null ? 1000 / samplePeriodNs : null,
   };
   if (allocationOmitted !== undefined) result.allocationOmitted = allocationOmitted;
+  if (retiming.feasible && !notApplied) {
+    const lat = outputLatency(g, folded, retiming.needed ? nodeRetiming : null, design.folding.latency ?? 'free');
+    if (lat) result.outputLatency = lat;
+  }
   return { analysis: result, datapath: retiming.feasible && !notApplied ? { graph: g, delays: finalDelays, folded: finalFolded } : null };
 }
 

@@ -66,6 +66,7 @@ export function designReport(input: DesignReportInput): DesignReport {
     ...(a && a.allocationOmitted !== undefined ? { allocationOmitted: a.allocationOmitted } : {}),
     ...(a && a.control !== undefined ? { control: a.control } : {}),
     ...(a && a.controlOmitted !== undefined ? { controlOmitted: a.controlOmitted } : {}),
+    ...(a && a.outputLatency !== undefined ? { outputLatency: a.outputLatency } : {}),
     violations,
   };
   if (!hasError && !a) {

@@ -79,6 +79,16 @@ export const uploadReportSchema = {
           utilization: nullable({ type: 'object', required: ['overall'], properties: { overall: { type: 'number', minimum: 0, maximum: 1 } } }),
           registers: nullable({ type: 'object', required: ['minimum'], properties: { minimum: count } }),
           retiming: nullable({ type: 'object', properties: { feasible: { type: 'boolean' } } }),
+          // Each output's latency and the output that forces the shared value (docs/analysis.md).
+          outputLatency: {
+            type: 'object',
+            required: ['shared', 'outputs', 'forcedBy'],
+            properties: {
+              shared: { type: 'number' },
+              outputs: { type: 'array', items: { type: 'object', required: ['node', 'latency', 'needs'], properties: { node: { type: 'string' }, latency: { type: 'number' }, needs: { type: 'number' } } } },
+              forcedBy: nullable({ type: 'object', required: ['node', 'by', 'options'], properties: { node: { type: 'string' }, by: { type: 'number' }, options: { type: 'array', items: { type: 'string' } } } }),
+            },
+          },
         },
       },
     },
