@@ -186,7 +186,15 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
     }
   }
 
-  const report = { ...out.manifest, verify, area: area ? { tool: area.tool, folded: area.folded, parallel: area.parallel } : null };
+  // Each output's latency and what forces the outputs' shared retiming (docs/analysis.md), as `pleat check` reports it.
+  const latency = loaded.analysis.outputLatency;
+  const report = {
+    ...out.manifest,
+    ...(bundle.serial ? { serial: bundle.serial } : {}),
+    ...(latency ? { outputLatency: latency } : {}),
+    verify,
+    area: area ? { tool: area.tool, folded: area.folded, parallel: area.parallel } : null,
+  };
   // Written in chunks: the manifest of a large plan (its control tables) outgrows one string.
   const { writeJsonFile, writeJson } = await import('../format/json');
   writeJsonFile(report, path.join(dir, `${bundle.top}.rtl.json`));
@@ -206,6 +214,10 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   for (const p of bundle.ports) lines.push(`  ${p.direction === 'input' ? 'in ' : 'out'} ${p.port}: ${p.timing}`);
   // Node ids and the design name come from the file: escaped before colours are added.
   for (const r of escapeControlsDeep(bundle.renamed)) lines.push(`  renamed ${r.role === 'module' ? 'top module' : r.role === 'strobe' ? `strobe of ${r.of}` : `port of ${r.of}`}: ${r.wanted} -> ${r.name} (${r.reason})`);
+  if (latency && loaded.analysis.retiming.needed) {
+    const each = latency.outputs.map((o) => `${o.node} ${o.latency}`).join(', ');
+    lines.push(escapeControls(`latency of the outputs in iterations: ${each}${latency.forcedBy ? `; ${latency.forcedBy.node} sets the shared retiming to ${latency.shared}, ${latency.forcedBy.by} above the others' need${latency.forcedBy.options.length ? `; to lower it: ${latency.forcedBy.options.join('; or ')}` : ''}` : ''}`));
+  }
   for (const w of bundle.warnings) lines.push(`${color.yellow('warning')}: ${escapeControls(w)}`);
   for (const d of narrow) lines.push(`${color.yellow('warning')}: ${loaded.file}${d.line ? `:${d.line}:${d.column}` : ''}: ${escapeControls(d.message)} [${d.code}]`);
   if (out.overflows.length) {
