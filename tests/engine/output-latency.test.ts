@@ -9,6 +9,9 @@ import { describe, expect, it } from 'vitest';
 import { loadDesign } from '../../shared/design/load';
 import { analyze } from '../../shared/analysis/analyze';
 import { designReport } from '../../shared/report/report';
+import { runDesignText } from '../../shared/pipeline';
+import { formatText } from '../../cli/format/text';
+import type { Report } from '../../shared/types';
 
 const doc = readFileSync(fileURLToPath(new URL('../../docs/format.md', import.meta.url)), 'utf8');
 const start = doc.indexOf('```yaml\nformat: pleat/1\nname: load-cell-smoother');
@@ -67,5 +70,13 @@ describe('latency of each output', () => {
     if (a.retiming.feasible) expect(a.outputLatency!.forcedBy).toBeNull();
     const d = designReport({ file: 'x.fold.yaml', name: 'x', diagnostics: [], analysis: analysed(LOAD_CELL) });
     expect(d.outputLatency!.forcedBy!.node).toBe('weight');
+  });
+
+  it('the text report: a latency line per design and the forcing output in the block layout', () => {
+    const run = runDesignText(LOAD_CELL.replace('{ id: weight, kind: output, slot: 3 }', '{ id: weight, kind: output, slot: 0 }'), 'load-cell.fold.yaml');
+    const report = { format: 'pleat-report/1', tool: { name: 'pleat', version: '0' }, git: { branch: null, commit: null }, verdict: 'pass', rules: {}, designs: [run.report] } as unknown as Report;
+    const text = formatText(report);
+    expect(text).toMatch(/^ {2}latency {3}weight 2 \(slot 0\), raw 0 \(tap, cycle 2\)$/m);
+    expect(text).toMatch(/^ {2}forced {4}weight sets the outputs' retiming to 2, 2 iterations above what the others need; to lower it: take weight as a tap \(no slot\): it would need 1; or read weight in slot 3/m);
   });
 });
