@@ -35,7 +35,9 @@ export function brokenRules(violations: Violation[]): RuleName[] {
 
 export function formatText(raw: Report, ctx: FormatContext = {}): string {
   // Ids, names and paths come from files: their control characters must not reach the terminal.
-  const report = escapeControlsDeep(raw);
+  // Only what the text can print is escaped: the lifetime chart, the allocation and control
+  // tables and the schedule are most of a large report's strings and never shown here.
+  const report = escapeControlsDeep({ ...raw, designs: raw.designs.map(printable) });
   const c = ctx.color ?? NO_COLOR;
   const display = ctx.displayFile ?? ((f: string) => f);
   const show = (f: string) => escapeControls(display(f));
@@ -56,6 +58,12 @@ export function formatText(raw: Report, ctx: FormatContext = {}): string {
     lines.push(gateLine(report, c, ctx.baseline));
   }
   return lines.length ? `${lines.join('\n')}\n` : '';
+}
+
+/** A design's report without the parts the text never prints. */
+function printable(d: DesignReport): DesignReport {
+  const { lifetimes, allocation, control, schedule, ...shown } = d;
+  return shown;
 }
 
 /** `gate holds|broken|invalid: ...`: the verdict of the whole check, naming who broke what. */

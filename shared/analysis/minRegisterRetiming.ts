@@ -159,198 +159,290 @@ export function minCostPotentials(
   budget: number = minRegisterWorkBudget(tails.length),
 ): { values: Float64Array; work: number } | null {
   const m = tails.length;
-  const excess = new Float64Array(n);
+  const s = new FlowState(n, m, budget);
+  const { excess, adjStart, adj, adjTo, adjCost, r } = s;
   for (let v = 0; v < n; v++) excess[v] = -coef[v];
-  // Residual arcs: 2k forward (unbounded), 2k+1 backward (capacity = flow on k).
-  const adjStart = new Int32Array(n + 1);
+  // Residual arcs: 2k forward (unbounded), 2k+1 backward (capacity = flow on k). Each is stored
+  // in adjacency order with its other end and its signed cost beside it, so the searches read
+  // memory in order instead of going through the arc's number.
   for (let k = 0; k < m; k++) {
     adjStart[tails[k] + 1]++;
     adjStart[heads[k] + 1]++;
   }
   for (let v = 0; v < n; v++) adjStart[v + 1] += adjStart[v];
   const fill = adjStart.slice(0, n);
-  const adj = new Int32Array(2 * m);
   for (let k = 0; k < m; k++) {
-    adj[fill[tails[k]]++] = 2 * k;
-    adj[fill[heads[k]]++] = 2 * k + 1;
+    let i = fill[tails[k]]++;
+    adj[i] = 2 * k;
+    adjTo[i] = heads[k];
+    adjCost[i] = costs[k];
+    i = fill[heads[k]]++;
+    adj[i] = 2 * k + 1;
+    adjTo[i] = tails[k];
+    adjCost[i] = -costs[k];
   }
-  const flow = new Float64Array(m);
-  const r = Float64Array.from(start);
+  r.set(start.subarray(0, n));
   for (let k = 0; k < m; k++) if (costs[k] - r[tails[k]] + r[heads[k]] < 0) return null; // start infeasible
-
-  const dist = new Float64Array(n);
-  const seen = new Int32Array(n); // search number that last labelled v
-  const done = new Int32Array(n);
-  const settled = new Int32Array(n);
-  const heap = new BinaryHeap(n);
-  // Max-flow on the arcs of reduced cost 0: BFS levels, current arcs, the path of the search.
-  const level = new Int32Array(n);
-  const queue = new Int32Array(n);
-  const current = new Int32Array(n);
-  const pathNode = new Int32Array(n + 1);
-  const pathArc = new Int32Array(n + 1);
-  let work = 0;
   let remaining = 0;
   for (let v = 0; v < n; v++) if (excess[v] > 0) remaining += excess[v];
+  s.remaining = remaining;
   let round = 0;
-
-  /** The other end of residual arc a leaving u, or -1 when a is not admissible (reduced cost 0, room left). */
-  const admissible = (u: number, a: number): number => {
-    const k = a >> 1;
-    if ((a & 1) === 0) {
-      const v = heads[k];
-      return costs[k] - r[u] + r[v] === 0 ? v : -1;
-    }
-    if (flow[k] <= 0) return -1;
-    const v = tails[k];
-    return -costs[k] - r[u] + r[v] === 0 ? v : -1;
-  };
 
   // Primal-dual: one Dijkstra raises the potentials to the distance of the nearest deficit, then
   // a maximum flow on the arcs of reduced cost 0 ships everything those shortest paths can carry.
   // Each round raises that distance, so there are as many rounds as distinct distances (few:
   // the costs are small integers), not one per unit of flow as with single shortest paths.
-  while (remaining > 0) {
+  // Each step is its own small function: V8 optimises small functions soon and quickly, where
+  // one large function ran unoptimised for most of a first (CLI) run.
+  while (s.remaining > 0) {
     round++;
-    heap.clear();
-    for (let v = 0; v < n; v++) {
-      if (excess[v] > 0) {
-        dist[v] = 0;
-        seen[v] = round;
-        heap.push(v, 0);
-      }
-    }
-    work += n;
-    let target = -1;
-    let settledCount = 0;
-    while (heap.size > 0) {
-      const u = heap.pop();
-      work++;
-      done[u] = round;
-      if (excess[u] < 0) {
-        target = u;
-        break;
-      }
-      settled[settledCount++] = u;
-      const du = dist[u];
-      for (let i = adjStart[u], end = adjStart[u + 1]; i < end; i++) {
-        const a = adj[i];
-        const k = a >> 1;
-        let v: number;
-        let reduced: number;
-        if ((a & 1) === 0) {
-          v = heads[k];
-          reduced = costs[k] - r[u] + r[v];
-        } else {
-          if (flow[k] <= 0) continue;
-          v = tails[k];
-          reduced = -costs[k] - r[u] + r[v];
-        }
-        if (done[v] === round) continue;
-        const dv = du + reduced;
-        if (seen[v] !== round || dv < dist[v]) {
-          dist[v] = dv;
-          if (seen[v] !== round) {
-            seen[v] = round;
-            heap.push(v, dv);
-          } else heap.decrease(v, dv);
-        }
-      }
-      work += adjStart[u + 1] - adjStart[u];
-      if (work > budget) return null;
-    }
+    const target = nearestDeficit(s, round);
+    if (target === OUT_OF_BUDGET) return null;
     if (target < 0) return null; // a deficit no excess reaches: the LP is unbounded
-    // Raise the settled variables so that every arc of the shortest paths has reduced cost 0.
-    const D = dist[target];
-    for (let i = 0; i < settledCount; i++) {
-      const v = settled[i];
-      r[v] += D - dist[v];
-    }
-    work += settledCount;
-
+    raisePotentials(s, s.dist[target]);
     // Maximum flow from the excesses to the deficits over admissible arcs (Dinic's phases).
     for (;;) {
-      level.fill(-1);
-      let qh = 0;
-      let qt = 0;
-      for (let v = 0; v < n; v++) {
-        if (excess[v] > 0) {
-          level[v] = 0;
-          queue[qt++] = v;
-        }
-      }
-      let reached = false;
-      while (qh < qt) {
-        const u = queue[qh++];
-        if (excess[u] < 0) {
-          reached = true;
-          continue; // a deficit ends a path
-        }
-        for (let i = adjStart[u], end = adjStart[u + 1]; i < end; i++) {
-          const v = admissible(u, adj[i]);
-          if (v >= 0 && level[v] < 0) {
-            level[v] = level[u] + 1;
-            queue[qt++] = v;
-          }
-        }
-        work += adjStart[u + 1] - adjStart[u];
-      }
-      work += n;
-      if (work > budget) return null;
-      if (!reached) break;
-      for (let v = 0; v < n; v++) current[v] = adjStart[v];
-      // Blocking flow: from each excess, depth-first along level + 1, without recursion.
-      for (let s = 0; s < n && remaining > 0; s++) {
-        while (excess[s] > 0 && level[s] === 0) {
-          let depth = 0;
-          pathNode[0] = s;
-          let found = false;
-          while (depth >= 0) {
-            const u = pathNode[depth];
-            if (excess[u] < 0 && depth > 0) {
-              found = true;
-              break;
-            }
-            let advanced = false;
-            for (let end = adjStart[u + 1]; current[u] < end; current[u]++) {
-              work++;
-              const a = adj[current[u]];
-              const v = admissible(u, a);
-              if (v >= 0 && level[v] === level[u] + 1) {
-                pathArc[depth] = a;
-                pathNode[++depth] = v;
-                advanced = true;
-                break;
-              }
-            }
-            if (advanced) continue;
-            // dead end: no path to a deficit through u in this phase
-            level[u] = -1;
-            depth--;
-            if (depth >= 0) current[pathNode[depth]]++;
-          }
-          if (work > budget) return null;
-          if (!found) break;
-          const t = pathNode[depth];
-          let amount = Math.min(excess[s], -excess[t]);
-          for (let d = 0; d < depth; d++) {
-            const a = pathArc[d];
-            if (a & 1 && flow[a >> 1] < amount) amount = flow[a >> 1];
-          }
-          for (let d = 0; d < depth; d++) {
-            const a = pathArc[d];
-            if (a & 1) flow[a >> 1] -= amount;
-            else flow[a >> 1] += amount;
-          }
-          excess[s] -= amount;
-          excess[t] += amount;
-          remaining -= amount;
-          work += depth;
-        }
-      }
+      const sources = levels(s);
+      if (s.work > budget) return null;
+      if (sources < 0) break;
+      if (!blockingFlow(s, sources)) return null;
     }
   }
-  return { values: r, work };
+  return { values: r, work: s.work };
+}
+
+const OUT_OF_BUDGET = -2;
+
+/** The arrays of one minCostPotentials run, allocated once. */
+class FlowState {
+  readonly excess: Float64Array;
+  readonly adjStart: Int32Array;
+  readonly adj: Int32Array;
+  readonly adjTo: Int32Array;
+  readonly adjCost: Float64Array;
+  readonly flow: Float64Array;
+  readonly r: Float64Array;
+  readonly dist: Float64Array;
+  /** Search number that last labelled v, and that settled it. */
+  readonly seen: Int32Array;
+  readonly done: Int32Array;
+  readonly settled: Int32Array;
+  settledCount = 0;
+  readonly heap: BinaryHeap;
+  // Max-flow on the arcs of reduced cost 0: BFS levels, current arcs, the path of the search.
+  readonly level: Int32Array;
+  readonly queue: Int32Array;
+  readonly current: Int32Array;
+  readonly pathNode: Int32Array;
+  readonly pathArc: Int32Array;
+  remaining = 0;
+  work = 0;
+  constructor(
+    readonly n: number,
+    m: number,
+    readonly budget: number,
+  ) {
+    this.excess = new Float64Array(n);
+    this.adjStart = new Int32Array(n + 1);
+    this.adj = new Int32Array(2 * m);
+    this.adjTo = new Int32Array(2 * m);
+    this.adjCost = new Float64Array(2 * m);
+    this.flow = new Float64Array(m);
+    this.r = new Float64Array(n);
+    this.dist = new Float64Array(n);
+    this.seen = new Int32Array(n);
+    this.done = new Int32Array(n);
+    this.settled = new Int32Array(n);
+    this.heap = new BinaryHeap(n);
+    this.level = new Int32Array(n);
+    this.queue = new Int32Array(n);
+    this.current = new Int32Array(n);
+    this.pathNode = new Int32Array(n + 1);
+    this.pathArc = new Int32Array(n + 1);
+  }
+}
+
+// A residual arc i leaving u is admissible when it has room (forward, or backward with flow)
+// and reduced cost adjCost[i] - r[u] + r[adjTo[i]] of 0.
+
+/**
+ * Dijkstra on reduced costs from every excess until the first deficit is settled: that deficit,
+ * -1 when none is reachable, OUT_OF_BUDGET. The variables settled before it are in `settled`.
+ */
+function nearestDeficit(s: FlowState, round: number): number {
+  const { n, excess, dist, seen, done, settled, heap, adjStart, adj, adjTo, adjCost, flow, r, budget } = s;
+  heap.clear();
+  for (let v = 0; v < n; v++) {
+    if (excess[v] > 0) {
+      dist[v] = 0;
+      seen[v] = round;
+      heap.push(v, 0);
+    }
+  }
+  let work = s.work + n;
+  let target = -1;
+  let settledCount = 0;
+  while (heap.size > 0) {
+    const u = heap.pop();
+    work++;
+    done[u] = round;
+    if (excess[u] < 0) {
+      target = u;
+      break;
+    }
+    settled[settledCount++] = u;
+    const du = dist[u];
+    const ru = r[u];
+    const end = adjStart[u + 1];
+    for (let i = adjStart[u]; i < end; i++) {
+      const a = adj[i];
+      if (a & 1 && flow[a >> 1] <= 0) continue;
+      const v = adjTo[i];
+      if (done[v] === round) continue;
+      const dv = du + (adjCost[i] - ru + r[v]);
+      if (seen[v] !== round) {
+        dist[v] = dv;
+        seen[v] = round;
+        heap.push(v, dv);
+      } else if (dv < dist[v]) {
+        dist[v] = dv;
+        heap.decrease(v, dv);
+      }
+    }
+    work += end - adjStart[u];
+    if (work > budget) {
+      s.work = work;
+      return OUT_OF_BUDGET;
+    }
+  }
+  s.work = work;
+  s.settledCount = settledCount;
+  return target;
+}
+
+/** Raises the settled variables so that every arc of the shortest paths has reduced cost 0. */
+function raisePotentials(s: FlowState, D: number): void {
+  const { settled, settledCount, r, dist } = s;
+  for (let i = 0; i < settledCount; i++) {
+    const v = settled[i];
+    r[v] += D - dist[v];
+  }
+  s.work += settledCount;
+}
+
+/**
+ * BFS levels over admissible arcs from every excess; a deficit ends a path. Returns how many
+ * sources start the queue (queue[0 .. sources): the excesses in increasing order), or -1 when
+ * no deficit is reached.
+ */
+function levels(s: FlowState): number {
+  const { n, excess, level, queue, adjStart, adj, adjTo, adjCost, flow, r } = s;
+  level.fill(-1);
+  let qh = 0;
+  let qt = 0;
+  for (let v = 0; v < n; v++) {
+    if (excess[v] > 0) {
+      level[v] = 0;
+      queue[qt++] = v;
+    }
+  }
+  const sources = qt;
+  let reached = false;
+  let work = s.work;
+  while (qh < qt) {
+    const u = queue[qh++];
+    if (excess[u] < 0) {
+      reached = true;
+      continue;
+    }
+    const ru = r[u];
+    const next = level[u] + 1;
+    const end = adjStart[u + 1];
+    for (let i = adjStart[u]; i < end; i++) {
+      const v = adjTo[i];
+      if (level[v] >= 0) continue;
+      const a = adj[i];
+      if (a & 1 && flow[a >> 1] <= 0) continue;
+      if (adjCost[i] - ru + r[v] !== 0) continue;
+      level[v] = next;
+      queue[qt++] = v;
+    }
+    work += end - adjStart[u];
+  }
+  s.work = work + n;
+  return reached ? sources : -1;
+}
+
+/** Blocking flow: from each excess, depth-first along level + 1, without recursion. False when out of budget. */
+function blockingFlow(s: FlowState, sources: number): boolean {
+  const { n, excess, level, queue, current, pathNode, pathArc, adjStart, adj, adjTo, adjCost, flow, r, budget } = s;
+  for (let v = 0; v < n; v++) current[v] = adjStart[v];
+  let work = s.work;
+  for (let q = 0; q < sources && s.remaining > 0; q++) {
+    const src = queue[q];
+    while (excess[src] > 0 && level[src] === 0) {
+      let depth = 0;
+      pathNode[0] = src;
+      let found = false;
+      while (depth >= 0) {
+        const u = pathNode[depth];
+        if (excess[u] < 0 && depth > 0) {
+          found = true;
+          break;
+        }
+        const ru = r[u];
+        const next = level[u] + 1;
+        const end = adjStart[u + 1];
+        let i = current[u];
+        let advanced = false;
+        for (; i < end; i++) {
+          work++;
+          const v = adjTo[i];
+          if (level[v] !== next) continue;
+          const a = adj[i];
+          if (a & 1 && flow[a >> 1] <= 0) continue;
+          if (adjCost[i] - ru + r[v] !== 0) continue;
+          pathArc[depth] = a;
+          pathNode[++depth] = v;
+          advanced = true;
+          break;
+        }
+        current[u] = i;
+        if (advanced) continue;
+        // dead end: no path to a deficit through u in this phase
+        level[u] = -1;
+        depth--;
+        if (depth >= 0) current[pathNode[depth]]++;
+      }
+      if (work > budget) {
+        s.work = work;
+        return false;
+      }
+      if (!found) break;
+      work += depth;
+      augment(s, src, pathNode[depth], depth);
+    }
+  }
+  s.work = work;
+  return true;
+}
+
+/** Sends as much as the path from excess `src` to deficit `t` carries. */
+function augment(s: FlowState, src: number, t: number, depth: number): void {
+  const { excess, flow, pathArc } = s;
+  let amount = Math.min(excess[src], -excess[t]);
+  for (let d = 0; d < depth; d++) {
+    const a = pathArc[d];
+    if (a & 1 && flow[a >> 1] < amount) amount = flow[a >> 1];
+  }
+  for (let d = 0; d < depth; d++) {
+    const a = pathArc[d];
+    if (a & 1) flow[a >> 1] -= amount;
+    else flow[a >> 1] += amount;
+  }
+  excess[src] -= amount;
+  excess[t] += amount;
+  s.remaining -= amount;
 }
 
 /** Min-heap of vertex ids keyed by distance, with decrease-key. */

@@ -53,24 +53,7 @@ export function liveCounts(factor: number, variables: readonly Lifetime[]): numb
   const N = factor;
   const diff = new Float64Array(N + 1);
   let whole = 0;
-  for (const x of variables) {
-    const length = x.tOut - x.tIn;
-    if (length <= 0) continue;
-    whole += Math.floor(length / N);
-    const rest = length % N;
-    if (rest === 0) continue;
-    const first = (x.tIn + 1) % N;
-    const last = first + rest; // exclusive, may run past N
-    if (last <= N) {
-      diff[first]++;
-      diff[last]--;
-    } else {
-      diff[first]++;
-      diff[N]--;
-      diff[0]++;
-      diff[last - N]--;
-    }
-  }
+  for (const x of variables) whole += addLifetime(diff, N, x.tIn, x.tOut);
   const live = new Array<number>(N);
   let running = whole;
   for (let t = 0; t < N; t++) {
@@ -78,6 +61,75 @@ export function liveCounts(factor: number, variables: readonly Lifetime[]): numb
     live[t] = running;
   }
   return live;
+}
+
+/** Adds one lifetime's partial turn to the circular difference array; returns its whole turns. */
+function addLifetime(diff: Float64Array, N: number, tIn: number, tOut: number): number {
+  const length = tOut - tIn;
+  if (length <= 0) return 0;
+  const whole = Math.floor(length / N);
+  const rest = length % N;
+  if (rest === 0) return whole;
+  const first = (tIn + 1) % N;
+  const last = first + rest; // exclusive, may run past N
+  if (last <= N) {
+    diff[first]++;
+    diff[last]--;
+  } else {
+    diff[first]++;
+    diff[N]--;
+    diff[0]++;
+    diff[last - N]--;
+  }
+  return whole;
+}
+
+/**
+ * Per-edge registers and the lifetime minimum, as registerCounts counts them, without the chart:
+ * the fewest-register search scores each candidate retiming with it, and only the kept one gets
+ * its chart (no variable objects, names or live array per candidate).
+ */
+export function registerFigures(g: IndexedGraph, folded: Float64Array, delays: Float64Array): { perEdge: number; minimum: number } {
+  const N = g.factor;
+  let perEdge = 0;
+  for (let e = 0; e < g.edgeCount; e++) {
+    const d = folded[e];
+    if (!Number.isNaN(d)) perEdge += d;
+  }
+  // The variables of lifetimeVariables, in the same order, added as they are found.
+  const diff = new Float64Array(N + 1);
+  let whole = 0;
+  for (let u = 0; u < g.nodeCount; u++) {
+    const start = g.outStart[u];
+    const end = g.outStart[u + 1];
+    if (start === end) continue;
+    if (g.role[u] === INPUT && g.slot[u] === NO_SLOT) {
+      for (let k = start; k < end; k++) {
+        const e = g.outEdge[k];
+        const d = folded[e];
+        if (Number.isNaN(d) || !(delays[e] > 0)) continue;
+        const tIn = g.slot[g.edgeTo[e]];
+        whole += addLifetime(diff, N, tIn, tIn + d);
+      }
+      continue;
+    }
+    let longest = 0;
+    for (let k = start; k < end; k++) {
+      const d = folded[g.outEdge[k]];
+      if (d > longest) longest = d;
+    }
+    if (longest > 0 && g.slot[u] !== NO_SLOT) {
+      const tIn = g.slot[u] + g.stages[u];
+      whole += addLifetime(diff, N, tIn, tIn + longest);
+    }
+  }
+  let running = whole;
+  let minimum = 0;
+  for (let t = 0; t < N; t++) {
+    running += diff[t];
+    if (running > minimum) minimum = running;
+  }
+  return { perEdge, minimum };
 }
 
 /** perEdge, delayLines and the lifetime minimum, with the chart they come from. */

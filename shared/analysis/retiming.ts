@@ -3,7 +3,7 @@
 import type { ConflictEdge, RetimingConflict, RetimingResult } from '../types';
 import { NO_SLOT, OPERATION, shortestPathsFromAll, type IndexedGraph } from './graph';
 import { foldedDelays, hasNegative } from './foldedDelay';
-import { registerCounts } from './registers';
+import { registerFigures } from './registers';
 import { retimingConstraints, satisfiesConstraints, type ConstraintGraph, type Latency, type RetimingVariables } from './constraints';
 import { MAX_FANOUT_EDGES, MAX_MIN_REGISTER_EDGES, minRegisterRetiming, type RegisterObjective } from './minRegisterRetiming';
 
@@ -116,9 +116,9 @@ function chooseRetiming(
     if (!satisfiesConstraints(cg, values)) return null;
     const r = nodeValues(g, vars, values);
     const delays = retimedDelays(g, r);
-    const counts = registerCounts(g, foldedDelays(g, delays), delays);
+    const counts = registerFigures(g, foldedDelays(g, delays), delays);
     const lat = vars.hasInputs && vars.hasOutputs ? values[vars.outputVar] - values[vars.inputVar] : 0;
-    return { values, minimum: counts.registers.minimum, perEdge: counts.registers.perEdge, latency: lat };
+    return { values, minimum: counts.minimum, perEdge: counts.perEdge, latency: lat };
   };
   const base = score(shortest) as Candidate;
   const twoBoundaries = vars.hasInputs && vars.hasOutputs && vars.inputVar !== vars.outputVar;
