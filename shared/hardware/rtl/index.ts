@@ -23,7 +23,7 @@ import { streamParts } from './stream';
 export { verilogIdent } from './names';
 export type { PortTiming, RtlBundle, RtlOptions, RtlRename } from './types';
 export { generateTestbench, testVectors, type TestVectors } from './testbench';
-export { parallelDesign } from './parallel';
+export { parallelDesign, parallelReference, type ParallelOptions, type ParallelReference } from './parallel';
 
 /**
  * Generates the folded datapath as Verilog-2001: a top module with clk, rst, one W-bit signed
