@@ -6,6 +6,7 @@
 // beyond the 32-bit columns. docs/server.md lists the limits.
 import { Ajv, type ErrorObject, type ValidateFunction } from 'ajv';
 import type { Report } from '../types';
+import { hardwareSummarySchema } from './hardwareSummary';
 
 /** PostgreSQL's `integer`: counts the server files in integer columns stay at or below this. */
 export const MAX_INT32 = 2_147_483_647;
@@ -79,6 +80,8 @@ export const uploadReportSchema = {
           utilization: nullable({ type: 'object', required: ['overall'], properties: { overall: { type: 'number', minimum: 0, maximum: 1 } } }),
           registers: nullable({ type: 'object', required: ['minimum'], properties: { minimum: count } }),
           retiming: nullable({ type: 'object', properties: { feasible: { type: 'boolean' } } }),
+          // Attached by `--hardware-summary` (docs/cli.md): area and depth of `pleat rtl --area`.
+          hardware: nullable(hardwareSummarySchema),
         },
       },
     },
