@@ -1,5 +1,6 @@
 // Plain data shared by the engine, the CLI, the server and the web report.
 // Nothing here does I/O; every type is JSON-serialisable.
+import type { HardwareSummary } from './report/hardwareSummary';
 
 /** A problem found in a design file or a config file. Line and column are 1-based. */
 export interface Diagnostic {
@@ -315,6 +316,8 @@ export interface DesignReport extends Partial<Analysis> {
   status: Status;
   diagnostics: Diagnostic[];
   violations: Violation[];
+  /** Only in an upload (`--hardware-summary`, docs/cli.md): the summary of `pleat rtl --area`. */
+  hardware?: HardwareSummary | null;
 }
 
 export interface Report {

@@ -13,6 +13,7 @@ import { formatText } from '../format/text';
 import { gitRoot } from '../git';
 import { detectBuild, reportGit } from '../ci/index';
 import { loadTeamRules, requireGit, serverSettings, uploadAfterCheck, uploadTarget } from '../upload/index';
+import { attachHardware, collect, readHardwareSummaries } from '../upload/hardware';
 import { mergeRules } from '../../shared/report/rules';
 import { buildReport, designReport, exitCodeOf } from '../../shared/report/report';
 import type { Diagnostic, DesignReport, EffectiveRules, Report } from '../../shared/types';
@@ -30,6 +31,8 @@ export interface CheckOptions {
   upload?: boolean;
   /** A pleat-baseline/1 file: only broken rules that are new or worse fail. */
   baseline?: string;
+  /** `<top>.hardware.json` files of `pleat rtl --area` to attach to the upload (docs/cli.md). */
+  hardwareSummary?: string[];
 }
 
 export const register: RegisterCommand = (program: Command, ctx: CliContext) => {
@@ -44,6 +47,7 @@ export const register: RegisterCommand = (program: Command, ctx: CliContext) => 
     .option('--no-color', 'never colour the output')
     .option('--baseline <file>', 'fail only on broken rules that are new or worse than in this baseline file (written by `pleat baseline`)')
     .option('--upload', 'send the report to the Pleat server (token in PLEAT_TOKEN); exit 3 when that fails after retries')
+    .option('--hardware-summary <file>', 'with --upload: attach this <top>.hardware.json of `pleat rtl --area` to its design (repeatable)', collect)
     .action(async (paths: string[], opts: CheckOptions) => {
       process.exitCode = await runCheck(paths, opts, ctx);
     });
@@ -181,6 +185,10 @@ export interface CheckRun {
 }
 
 export async function runCheck(paths: string[], opts: CheckOptions, ctx: CliContext): Promise<number> {
+  const summaryFiles = opts.hardwareSummary ?? [];
+  if (summaryFiles.length && !opts.upload) throw new CliError('--hardware-summary goes with --upload: it attaches the summary to the uploaded report');
+  // Read before the check, so a bad summary stops the command before any work (exit 2).
+  const summaries = summaryFiles.length ? readHardwareSummaries(summaryFiles, process.cwd()) : [];
   const run = await checkToReport(paths, opts, ctx);
   const { report, fctx, cwd, root, target, server, timing } = run;
   const err = (s: string) => process.stderr.write(s);
@@ -223,7 +231,7 @@ export async function runCheck(paths: string[], opts: CheckOptions, ctx: CliCont
   let code: number = baselineCode ?? exitCodeOf(report);
   if (target) {
     const uploaded = await uploadAfterCheck({
-      report, cwd, root, target, policy: server.policy, quiet: !!opts.quiet, version: ctx.version,
+      report: attachHardware(report, summaries, summaryFiles), cwd, root, target, policy: server.policy, quiet: !!opts.quiet, version: ctx.version,
       jsonOutput: opts.output && format === 'json' ? opts.output : null,
       say: (line) => err(`${line}\n`),
     });

@@ -9,7 +9,10 @@ import { colorLevel, makeChalk } from '../color';
 import { CliError, type CliContext, type RegisterCommand } from '../context';
 import { infeasible, intOption, loadForHardware } from './simulate';
 import { escapeControls, escapeControlsDeep, escapeTerminal } from '../format/escape';
-import type { RtlBundle } from '../../shared/hardware/rtl';
+import { synthesize, yosysVersion, type AreaFigures } from '../rtl/area';
+import { HARDWARE_SUMMARY_FORMAT, HARDWARE_SUMMARY_VERSION, type HardwareSummary } from '../../shared/report/hardwareSummary';
+
+export { parseYosysLtp, parseYosysStat, type AreaFigures } from '../rtl/area';
 
 interface RtlOptions {
   out: string;
@@ -37,7 +40,7 @@ export const register: RegisterCommand = (program: Command, ctx: CliContext) => 
     .option('-s, --seed <S>', 'seed of the testbench\'s random inputs', intOption(0, 2 ** 32 - 1), 1)
     .option('--verify', 'compile and run the testbench with Icarus Verilog (iverilog, vvp)')
     .option('--force', 'write into a folder that holds files Pleat did not write')
-    .option('--area', 'synthesize the folded RTL and a fully parallel RTL of the same graph with Yosys and compare cells and flip-flops')
+    .option('--area', 'synthesize the folded RTL and a pipelined parallel RTL of the same graph with Yosys; compare cells, flip-flops and logic depth, and write <top>.hardware.json')
     .addOption(new Option('--interface <kind>', 'strobe: timed ports with one-cycle valid strobes; stream: valid/ready handshakes, start/busy, a clock enable').choices(['strobe', 'stream']).default('strobe'))
     .addOption(new Option('-f, --format <format>', 'output format').choices(['text', 'json']).default('text'))
     .option('--no-color', 'never colour the output')
@@ -55,18 +58,6 @@ function tool(cmd: string, args: string[], cwd: string): { ok: boolean; out: str
 function writeBundle(dir: string, files: { name: string; text: string }[]): void {
   mkdirSync(dir, { recursive: true });
   for (const f of files) writeFileSync(path.join(dir, f.name), f.text);
-}
-
-/** Synthesizes one bundle to generic cells; returns its figures or throws a CliError. */
-async function synthesize(bundle: RtlBundle, dir: string): Promise<AreaFigures> {
-  const stat = path.join(dir, `${bundle.top}.yosys-stat.txt`);
-  const script = `read_verilog ${bundle.files.map((f) => f.name).join(' ')}; synth -flatten -top ${bundle.top}; tee -q -o ${path.basename(stat)} stat`;
-  const r = tool('yosys', ['-q', '-p', script], dir);
-  if (r.missing) throw new CliError('--area needs Yosys on the PATH (Debian: apt-get install yosys, or bash scripts/ensure-hdl-tools.sh)');
-  if (!r.ok) throw new CliError(`yosys failed on ${bundle.top}: ${r.out.trim().split('\n').slice(-3).join(' ')}`);
-  const figures = parseYosysStat(readFileSync(stat, 'utf8'));
-  if (!figures) throw new CliError(`could not read Yosys statistics for ${bundle.top}`);
-  return figures;
 }
 
 /**
@@ -93,7 +84,7 @@ function outputFolderState(dir: string): { kind: 'absent' | 'empty' | 'earlier' 
       earlier = name;
       known.add(name);
       for (const f of j.files) if (typeof f === 'string') known.add(f);
-      if (typeof j.top === 'string') known.add(`${j.top}_tb.vvp`);
+      if (typeof j.top === 'string') known.add(`${j.top}_tb.vvp`).add(`${j.top}.hardware.json`);
       known.add('parallel');
     } catch {
       /* not ours */
@@ -108,11 +99,10 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   const color = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stdout.isTTY, env: process.env }));
   const errColor = makeChalk(colorLevel({ flag: opts.color, isTTY: !!process.stderr.isTTY, env: process.env }));
   const loaded = await loadForHardware(file, errColor);
-  const [{ controlTables }, rtl, { resolveArithmetic }, { runDesignModel }] = await Promise.all([
+  const [{ controlTables }, rtl, { resolveArithmetic }] = await Promise.all([
     import('../../shared/hardware/control'),
     import('../../shared/hardware/rtl'),
     import('../../shared/hardware/reference'),
-    import('../../shared/pipeline'),
   ]);
   const built = controlTables(loaded.design, loaded.analysis, loaded.datapath);
   const { control } = built;
@@ -165,25 +155,38 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
     verify = { passed: /^PASS .* 0 mismatches/.test(line), summary: line.trim() };
   }
 
-  let area: { folded: AreaFigures; parallel: AreaFigures; tool: string } | null = null;
+  let area: AreaRun | null = null;
   if (opts.area) {
-    const par = rtl.parallelDesign(loaded.design);
-    const parRun = runDesignModel(par, `${loaded.file} (parallel)`, { withControl: false });
-    const parControl = parRun.analysis ? controlTables(par, parRun.analysis, parRun.datapath).control : null;
-    if (!parControl) throw new CliError('internal: the fully parallel graph has no datapath');
-    const parBundle = rtl.generateRtl(par, parControl, { width: opts.width, coefFrac: opts.coefFrac, generator, topName: `${bundle.top}_parallel` });
+    // The reference keeps every operation's pipeline stages (docs/rtl.md, "Does sharing pay?").
+    const ref = rtl.parallelReference(loaded.design);
+    if (!ref) throw new CliError('internal: the pipelined parallel graph has no datapath up to the folded factor');
+    const parBundle = rtl.generateRtl(ref.design, ref.control, { width: opts.width, coefFrac: opts.coefFrac, generator, topName: `${bundle.top}_parallel` });
     const parDir = path.join(dir, 'parallel');
     writeBundle(parDir, parBundle.files);
     const scratch = mkdtempSync(path.join(tmpdir(), 'pleat-area-'));
     try {
       writeBundle(scratch, bundle.files);
-      const folded = await synthesize(bundle, scratch);
-      const parallel = await synthesize(parBundle, parDir);
-      const version = tool('yosys', ['-V'], dir).out.trim();
-      area = { folded, parallel, tool: version };
+      const folded = synthesize({ top: bundle.top, files: bundle.files.map((f) => f.name), dir: scratch });
+      const parallel = synthesize({ top: parBundle.top, files: parBundle.files.map((f) => f.name), dir: parDir });
+      area = { folded, parallel, tool: yosysVersion(dir), parallelFactor: ref.factor, parallelNote: ref.note };
     } finally {
       rmSync(scratch, { recursive: true, force: true });
     }
+  }
+  let summary: HardwareSummary | null = null;
+  if (area) {
+    summary = {
+      format: HARDWARE_SUMMARY_FORMAT,
+      version: HARDWARE_SUMMARY_VERSION,
+      design: loaded.design.name,
+      file: loaded.file,
+      top: bundle.top,
+      tool: area.tool,
+      compared: { stages: 'folded', multipliers: 'general', width: bundle.fixed.width, coefFrac: bundle.fixed.coefFrac },
+      folded: { cells: area.folded.cells, flipFlops: area.folded.registers, depth: area.folded.depth, factor: bundle.factor },
+      parallel: { cells: area.parallel.cells, flipFlops: area.parallel.registers, depth: area.parallel.depth, factor: area.parallelFactor },
+    };
+    writeFileSync(path.join(dir, `${bundle.top}.hardware.json`), `${JSON.stringify(summary, null, 2)}\n`);
   }
 
   // Each output's latency and what forces the outputs' shared retiming (docs/analysis.md), as `pleat check` reports it.
@@ -193,7 +196,9 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
     ...(bundle.serial ? { serial: bundle.serial } : {}),
     ...(latency ? { outputLatency: latency } : {}),
     verify,
-    area: area ? { tool: area.tool, folded: area.folded, parallel: area.parallel } : null,
+    area: area
+      ? { tool: area.tool, compared: summary!.compared, summary: `${bundle.top}.hardware.json`, folded: { ...area.folded, factor: bundle.factor }, parallel: { ...area.parallel, factor: area.parallelFactor } }
+      : null,
   };
   // Written in chunks: the manifest of a large plan (its control tables) outgrows one string.
   const { writeJsonFile, writeJson } = await import('../format/json');
@@ -228,34 +233,26 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   if (verify) lines.push(`testbench: ${verify.passed ? color.green(verify.summary) : color.red(verify.summary || 'no PASS line')}`);
   if (area) {
     const pad = (s: string | number, n: number) => String(s).padStart(n);
-    lines.push(`area (${area.tool}; synth -flatten to generic cells):`);
-    lines.push(`  ${''.padEnd(12)}${pad('folded', 10)}${pad('parallel', 12)}`);
-    lines.push(`  ${'cells'.padEnd(12)}${pad(area.folded.cells, 10)}${pad(area.parallel.cells, 12)}`);
-    lines.push(`  ${'flip-flops'.padEnd(12)}${pad(area.folded.registers, 10)}${pad(area.parallel.registers, 12)}`);
-    lines.push(`  the parallel RTL (one unit per operation, one sample per cycle) is in ${shownDir}/parallel/; the folded one takes a sample every ${bundle.factor} cycles`);
+    const depth = (f: AreaFigures) => (f.depth === null ? 'loop' : f.depth);
+    lines.push(`area and timing (${area.tool}; synth to generic cells, units kept whole so every multiplier is a general one; depth = ltp -noff, levels of generic cells, not ns):`);
+    lines.push(`  ${''.padEnd(18)}${pad('folded', 10)}${pad('parallel', 12)}`);
+    lines.push(`  ${'cells'.padEnd(18)}${pad(area.folded.cells, 10)}${pad(area.parallel.cells, 12)}`);
+    lines.push(`  ${'flip-flops'.padEnd(18)}${pad(area.folded.registers, 10)}${pad(area.parallel.registers, 12)}`);
+    lines.push(`  ${'logic depth'.padEnd(18)}${pad(depth(area.folded), 10)}${pad(depth(area.parallel), 12)}`);
+    lines.push(`  ${'cycles per sample'.padEnd(18)}${pad(bundle.factor, 10)}${pad(area.parallelFactor, 12)}`);
+    lines.push(`  compared: one unit per operation with the pipeline stages of its folded unit, multipliers general on both sides; the parallel RTL is in ${shownDir}/parallel/, the summary in ${bundle.top}.hardware.json`);
+    if (area.parallelNote) lines.push(`  parallel: ${area.parallelNote}`);
+    if (area.folded.depth === null || area.parallel.depth === null) lines.push('  depth "loop": the netlist has a combinational loop (a false path through multiplexers), so it has no longest path');
   }
   lines.push('The RTL is a starting point: timing closure and sign-off verification remain the engineer\'s.');
   process.stdout.write(`${lines.join('\n')}\n`);
   return failed ? 1 : 0;
 }
 
-// Yosys's log format belongs to this command, which runs Yosys; the engine never sees it.
-export interface AreaFigures {
-  cells: number;
-  /** Flip-flop bits (every $_*DFF*_ cell of the generic netlist). */
-  registers: number;
-  /** Cell counts by type. */
-  byType: Record<string, number>;
-}
-
-/** Reads the last `stat` block of a Yosys log: total cells and flip-flops. */
-export function parseYosysStat(text: string): AreaFigures | null {
-  const at = text.lastIndexOf('Number of cells:');
-  if (at < 0) return null;
-  const cells = Number(/Number of cells:\s+(\d+)/.exec(text.slice(at))![1]);
-  const byType: Record<string, number> = {};
-  for (const m of text.slice(at).matchAll(/^\s+(\$\S+)\s+(\d+)\s*$/gm)) byType[m[1]] = Number(m[2]);
-  let registers = 0;
-  for (const [t, n] of Object.entries(byType)) if (/DFF/i.test(t)) registers += n;
-  return { cells, registers, byType };
+interface AreaRun {
+  folded: AreaFigures;
+  parallel: AreaFigures;
+  tool: string;
+  parallelFactor: number;
+  parallelNote: string | null;
 }

@@ -8,11 +8,13 @@ import { findConfig, loadConfig, type PleatConfig } from '../config';
 import { CliError, type CliContext, type RegisterCommand } from '../context';
 import { diagnosticLine } from '../format/common';
 import { requireGit, sendReport, serverSettings, uploadProblem, uploadTarget, withSources } from '../upload/index';
+import { attachHardware, collect, readHardwareSummaries } from '../upload/hardware';
 import type { Report } from '../../shared/types';
 
 interface UploadOptions {
   config?: string;
   quiet?: boolean;
+  hardwareSummary?: string[];
 }
 
 /** The server refuses more than this by default (PLEAT_MAX_REPORT_MB); reading a far bigger file is pointless. */
@@ -25,6 +27,7 @@ export const register: RegisterCommand = (program: Command, ctx: CliContext) => 
     .argument('<report>', 'the JSON report file')
     .option('-c, --config <file>', 'read server.url and server.project from this config instead of pleat.config.yaml')
     .option('-q, --quiet', 'print only failures')
+    .option('--hardware-summary <file>', 'attach this <top>.hardware.json of `pleat rtl --area` to its design (repeatable)', collect)
     .action(async (file: string, opts: UploadOptions) => {
       process.exitCode = await runUpload(file, opts, ctx);
     });
@@ -34,6 +37,8 @@ export async function runUpload(file: string, opts: UploadOptions, ctx: CliConte
   const cwd = process.cwd();
   const say = (line: string) => process.stderr.write(`${line}\n`);
 
+  const summaryFiles = opts.hardwareSummary ?? [];
+  const summaries = summaryFiles.length ? readHardwareSummaries(summaryFiles, cwd) : [];
   const config = await readConfig(cwd, opts.config, say);
   const server = serverSettings(config);
   const target = uploadTarget(server);
@@ -77,6 +82,7 @@ export async function runUpload(file: string, opts: UploadOptions, ctx: CliConte
     if (!opts.quiet) for (const n of c.notes) say(`pleat: note: ${n}`);
   }
   requireGit(report.git);
+  if (summaries.length) report = attachHardware(report, summaries, summaryFiles);
   const problem = uploadProblem(report);
   if (problem) throw new CliError(`${file}: ${problem}; nothing was uploaded`);
 
@@ -84,7 +90,7 @@ export async function runUpload(file: string, opts: UploadOptions, ctx: CliConte
   // read from where check found them: report paths are relative to the config's folder, else cwd.
   const root = config ? config.dir : cwd;
   const body = withSources(report, root);
-  const attached = body.designs.some((d, i) => d !== report.designs[i]);
+  const attached = summaries.length > 0 || body.designs.some((d, i) => d !== report.designs[i]);
   const ok = await sendReport(attached || needsLookup ? JSON.stringify(body) : text, target, server.policy, {
     say,
     quiet: !!opts.quiet,

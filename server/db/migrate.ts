@@ -11,6 +11,7 @@ import * as m005 from './migrations/005-rule-change-reasons';
 import * as m006 from './migrations/006-run-commit-meta';
 import * as m007 from './migrations/007-run-design-plan';
 import * as m008 from './migrations/008-history-indexes';
+import * as m009 from './migrations/009-run-design-hardware';
 import type { Migration } from './migrations/types';
 
 const MIGRATIONS: { name: string; up: Migration; down: Migration }[] = [
@@ -22,6 +23,7 @@ const MIGRATIONS: { name: string; up: Migration; down: Migration }[] = [
   { name: '006-run-commit-meta', ...m006 },
   { name: '007-run-design-plan', ...m007 },
   { name: '008-history-indexes', ...m008 },
+  { name: '009-run-design-hardware', ...m009 },
 ];
 
 /** Keeps applied migration names in a table of the connection's own schema (search_path). */

@@ -32,6 +32,23 @@ export interface RunDesignRow {
   factor: number | null;
   units: number | null;
   latencyAdded: number | null;
+  /** Area and logic depth of `pleat rtl --area` uploaded with the run (docs/rtl.md); in the branch history, and only when a summary was attached. */
+  hardware?: DesignHardware;
+}
+
+/** One side of a hardware summary as the server keeps it (generic cells of Yosys; depth in levels of cells, null for a combinational loop). */
+export interface HardwareFigures {
+  cells: number;
+  flipFlops: number;
+  depth: number | null;
+  factor: number;
+}
+
+/** The figures of a design's hardware summary (shared/report/hardwareSummary.ts) stored with a run. */
+export interface DesignHardware {
+  version: number;
+  folded: HardwareFigures;
+  parallel: HardwareFigures;
 }
 
 /** A number of this run beside the same number of the base run. */

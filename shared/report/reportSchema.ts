@@ -6,6 +6,7 @@
 // beyond the 32-bit columns. docs/server.md lists the limits.
 import { Ajv, type ErrorObject, type ValidateFunction } from 'ajv';
 import type { Report } from '../types';
+import { hardwareSummarySchema } from './hardwareSummary';
 
 /** PostgreSQL's `integer`: counts the server files in integer columns stay at or below this. */
 export const MAX_INT32 = 2_147_483_647;
@@ -89,6 +90,8 @@ export const uploadReportSchema = {
               forcedBy: nullable({ type: 'object', required: ['node', 'by', 'options'], properties: { node: { type: 'string' }, by: { type: 'number' }, options: { type: 'array', items: { type: 'string' } } } }),
             },
           },
+          // Attached by `--hardware-summary` (docs/cli.md): area and depth of `pleat rtl --area`.
+          hardware: nullable(hardwareSummarySchema),
         },
       },
     },

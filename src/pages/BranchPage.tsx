@@ -4,6 +4,7 @@ import { useBranches, useRunPage } from '../api/hooks';
 import { can } from '../api/roles';
 import type { RunListItem } from '../api/types';
 import { HistoryCharts, type DesignSeries, type HistoryPoint } from '../components/HistoryCharts';
+import { HardwareTrends } from '../components/HardwareTrends';
 import { useProjectContext } from '../components/ProjectLayout';
 import { PageHeader, buttonClass, inputClass, tableClass, ScrollRegion } from '../components/Panel';
 import { StatusBadge } from '../components/StatusBadge';
@@ -134,6 +135,7 @@ export default function BranchPage() {
               {design ? '' : `Utilization is the mean over the designs; registers are drawn per design${hiddenSeries ? ` (the ${MAX_SERIES} of the latest run; choose a design above for the others)` : ''}. `}
               The dashed line is the utilization floor the runs were checked against. Dots: circle pass, diamond fail, square invalid; a dot opens its run.
             </p>
+            <HardwareTrends runs={oldestFirst} maxSeries={MAX_SERIES} />
           </>
         ) : null}
       </section>

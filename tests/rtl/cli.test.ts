@@ -4,6 +4,7 @@ import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { execa } from 'execa';
 import { cleanupTemps, ensureBuilt, EXAMPLES, pleat, ROOT, tempDir, write } from '../cli/helpers';
+import { hardwareSummaryProblem } from '../../shared/report/hardwareSummary';
 
 beforeAll(async () => {
   await ensureBuilt();
@@ -138,13 +139,22 @@ describe('pleat rtl', () => {
     for (const side of ['folded', 'parallel']) {
       expect(j.area[side].cells, side).toBeGreaterThan(0);
       expect(j.area[side].registers, side).toBeGreaterThan(0);
+      expect(j.area[side].depth, side).toBeGreaterThan(0);
     }
+    expect(j.area.compared).toMatchObject({ stages: 'folded', multipliers: 'general' });
+    // The summary beside the RTL passes the schema the upload and the server use.
+    const summary = JSON.parse(readFileSync(path.join(out, 'pressure_smoothing.hardware.json'), 'utf8'));
+    expect(hardwareSummaryProblem(summary)).toBeNull();
+    expect(summary).toMatchObject({ format: 'pleat-hardware', version: 1, top: 'pressure_smoothing' });
+    expect(summary.folded).toEqual({ cells: j.area.folded.cells, flipFlops: j.area.folded.registers, depth: j.area.folded.depth, factor: j.factor });
     // No claim that sharing pays here: constant gains of a parallel datapath synthesize to
     // shift-and-add, while a shared multiplier with a coefficient multiplexer is a full one.
     expect(existsSync(path.join(out, 'parallel', 'pressure_smoothing_parallel.v'))).toBe(true);
     const text = await pleat(['rtl', retimed, '--out', out, '--area']);
     expect(text.stdout).toMatch(/^ {2}cells +\d+ +\d+$/m);
     expect(text.stdout).toMatch(/^ {2}flip-flops +\d+ +\d+$/m);
+    expect(text.stdout).toMatch(/^ {2}logic depth +\d+ +\d+$/m);
+    expect(text.stdout).toMatch(/multipliers general on both sides/);
   }, 300_000);
 
   it('exits 1 for a plan without a feasible datapath and writes nothing', async () => {

@@ -10,7 +10,7 @@ import { loadDesign } from '../../shared/design/load';
 import { analyze } from '../../shared/analysis/analyze';
 import { controlTables } from '../../shared/hardware/control';
 import { resolveArithmetic } from '../../shared/hardware/reference';
-import { generateRtl, generateTestbench, parallelDesign, testVectors, type RtlBundle } from '../../shared/hardware/rtl';
+import { generateRtl, generateTestbench, parallelDesign, parallelReference, testVectors, type RtlBundle } from '../../shared/hardware/rtl';
 import type { ControlTables, Design } from '../../shared/types';
 import { randomDesignFile as randomDesign } from '../support/randomDesign';
 
@@ -135,7 +135,7 @@ describe('the stream interface', () => {
   ];
   for (const seed of [3001, 3004, 3006]) designs.push([`random design ${seed}`, randomDesign(seed, { maxOps: 6 }).design]);
   // N = 1: the parallel graph has no partition counter; every iteration waits for its inputs.
-  designs.push(['the parallel graph of smoothing-retimed (N = 1)', parallelDesign(designs[0][1])]);
+  designs.push(['the parallel graph of smoothing-retimed (N = 1)', parallelDesign(designs[0][1], { stages: 'none' })]);
   for (const [name, design] of designs) {
     it(`${name}: every sample arrives, in order and bit-exact, under random stalls on both sides; lint clean`, async () => {
       const b = build(design, { iterations: 20, stream: true });
@@ -217,13 +217,43 @@ describe('RTL with a combinational loop through multiplexers', () => {
 describe('fully parallel RTL (the area reference)', () => {
   it('computes the same outputs as the folded plan and lints clean', async () => {
     const { design } = loadDesign(readFileSync(FIXTURE, 'utf8'));
-    const par = parallelDesign(design!);
+    const par = parallelDesign(design!, { stages: 'none' });
     expect(par.folding.factor).toBe(1);
     expect(par.units.length).toBe(design!.nodes.filter((n) => n.kind !== 'input' && n.kind !== 'output').length);
     const b = build(par, { topName: 'pressure_smoothing_parallel' });
     expect(await lint(b)).toBe('');
     await expectBitExact(b);
   }, 120_000);
+});
+
+describe('the pipelined parallel reference (what --area compares)', () => {
+  // Like with like (common practice in area/timing comparisons, no source): every operation of
+  // the reference has as many pipeline stages as the unit that runs it in the folded plan.
+  for (const file of [FIXTURE, path.join(EXAMPLES, 'equaliser-retimed.fold.yaml'), path.join(EXAMPLES, 'butterfly-stage.fold.yaml')]) {
+    it(`${path.basename(file)}: same stages per operation as the folded plan, a datapath, bit-exact`, async () => {
+      const { design } = loadDesign(readFileSync(file, 'utf8'));
+      const ref = parallelReference(design!)!;
+      expect(ref).not.toBeNull();
+      const foldedStages = new Map<string, number>();
+      for (const [unit, nodes] of Object.entries(design!.folding.sets)) {
+        for (const n of nodes) if (n) foldedStages.set(n, design!.units.find((u) => u.id === unit)!.stages);
+      }
+      const ops = design!.nodes.filter((n) => n.kind !== 'input' && n.kind !== 'output');
+      expect(ref.design.units.length).toBe(ops.length);
+      for (const op of ops) {
+        const [unit] = Object.entries(ref.design.folding.sets).find(([, nodes]) => nodes.includes(op.id))!;
+        expect(ref.design.units.find((u) => u.id === unit)!.stages, op.id).toBe(foldedStages.get(op.id));
+        // The control tables (and so the unit modules) carry the same latency.
+        expect(ref.control.units.find((u) => u.unit === unit)!.stages, op.id).toBe(foldedStages.get(op.id));
+      }
+      // The factor is the smallest with a datapath, never above the folded plan's.
+      expect(ref.factor).toBeLessThanOrEqual(design!.folding.factor);
+      if (ref.factor > 1) expect(parallelReference(design!, { maxFactor: ref.factor - 1 })).toBeNull();
+      const b = build(ref.design, { control: ref.control, topName: 'pipelined_parallel' });
+      expect(await lint(b)).toBe('');
+      await expectBitExact(b);
+    }, 120_000);
+  }
 });
 
 describe('the testbench can fail', () => {

@@ -7,6 +7,10 @@ import type { Report } from '../../shared/types';
 import { axeViolations, ensureChromium, ensureWebBuild, openBrowser, screenshot, signIn, type Session } from './browser';
 import { demoAccount, demoProject } from './demo';
 import { startWebServer, type WebServer } from './server';
+import { ingestRun } from '../../server/resources/runs/ingest';
+import { storeHardware } from '../../server/resources/runs/hardware';
+import { designEntry, makeReport, randomCommit } from '../../server/test/factories';
+import type { HardwareSummary } from '../../shared/report/hardwareSummary';
 
 let web: WebServer;
 let s: Session;
@@ -31,6 +35,33 @@ afterAll(async () => {
 const api = <T,>(path: string) => s.page.evaluate(async (p) => (await fetch(p)).json(), path) as Promise<T>;
 
 describe('a branch history', () => {
+  it('shows the area and timing trend of the folded design from the uploaded hardware summaries', async () => {
+    // Two runs with made-up summaries of pleat rtl --area, stored as an upload stores them.
+    const project = (await web.ctx.db.models.Project.findOne({ where: { slug } }))!;
+    const branch = 'feature/area-trend';
+    const at = Date.now() - 3_600_000;
+    for (const [i, [cells, ff, depth]] of [[900, 40, 31], [850, 38, 29]].entries()) {
+      const hardware: HardwareSummary = {
+        format: 'pleat-hardware', version: 1, design: 'notch', file: 'hw/notch.fold.yaml', top: 'notch', tool: 'Yosys 0.23',
+        compared: { stages: 'folded', multipliers: 'general', width: 16, coefFrac: 14 },
+        folded: { cells: cells!, flipFlops: ff!, depth: depth!, factor: 4 }, parallel: { cells: 3000, flipFlops: 90, depth: 20, factor: 1 },
+      };
+      const report = makeReport({ branch, commit: randomCommit(), designs: [{ ...designEntry('notch'), hardware }] });
+      const stored = await ingestRun(web.ctx, project, report, { createdAt: new Date(at + i * 60_000) });
+      await storeHardware(web.ctx, stored.id, report);
+    }
+    const { page } = s;
+    await page.goto(`${web.url}/projects/${slug}/branches/${encodeURIComponent(branch)}`);
+    const trends = page.getByTestId('hardware-trends');
+    await trends.locator('.recharts-surface').first().waitFor();
+    expect(await page.getByTestId('hardware-cells').textContent()).toBe('notch 900 → 850');
+    expect(await page.getByTestId('hardware-flipFlops').textContent()).toBe('notch 40 → 38');
+    expect(await page.getByTestId('hardware-depth').textContent()).toBe('notch 31 → 29');
+    expect(await trends.locator('path.recharts-curve').count()).toBe(3);
+    expect(await axeViolations(page)).toEqual([]);
+    expect(s.errors).toEqual([]);
+  }, LONG);
+
   it('draws the rule floor and the base branch on the utilization chart, and registers per design', async () => {
     const { page } = s;
     await page.goto(`${web.url}/projects/${slug}/branches/${BRANCH}`);

@@ -1,7 +1,7 @@
 // What changed between a run and the run of its base branch. The base is the base branch's run at
 // the merge-base commit the CLI sent; else the base branch's nearest run uploaded before this one.
 import { QueryTypes } from 'sequelize';
-import type { Basis, Comparison, DesignDelta, Metric, Regression } from '../../../shared/report/api';
+import type { Basis, Comparison, DesignDelta, DesignHardware, Metric, Regression } from '../../../shared/report/api';
 import type { Status } from '../../../shared/types';
 import type { AppContext } from '../../context';
 
@@ -41,6 +41,8 @@ export interface DesignRow {
   factor: number | null;
   unit_count: number | null;
   latency_added: number | null;
+  /** Only where the query joins run_design_hardware (the branch history): the design's summary of pleat rtl --area. */
+  hardware?: DesignHardware | null;
 }
 
 /** The columns of run_designs a DesignRow holds. */

@@ -15,6 +15,7 @@ import { afterResponse } from '../../mail/mailer';
 import { compareRun, RUN_COLUMNS, type DesignRow, type RunRow } from './compare';
 import { DOWNLOADS, edgesCsv, fileStem, rtlZip, scheduleCsv, type Download } from './downloads';
 import { ingestRun } from './ingest';
+import { HARDWARE_JSON, storeHardware } from './hardware';
 import { notifyWatchers } from './notify';
 import { postHostFeedback } from '../hosts/feedback';
 import { canReadRuns, canUploadRun } from './policy';
@@ -64,6 +65,8 @@ export function presentDesign(d: DesignRow): RunDesignRow {
     factor: d.factor,
     units: d.unit_count,
     latencyAdded: d.latency_added,
+    // Only when a summary was attached, so a row without one reads as it always did.
+    ...(d.hardware ? { hardware: d.hardware } : {}),
   };
 }
 
@@ -134,7 +137,7 @@ export function runRoutes(ctx: AppContext): Router {
          SELECT json_agg(json_build_object('run_id', rd.run_id, 'design_name', rd.design_name, 'file', rd.file, 'status', rd.status,
                   'utilization', rd.utilization, 'register_minimum', rd.register_minimum, 'negative_edge_count', rd.negative_edge_count,
                   'retiming_feasible', rd.retiming_feasible, 'violation_count', rd.violation_count, 'factor', rd.factor,
-                  'unit_count', rd.unit_count, 'latency_added', rd.latency_added) ORDER BY rd.id) AS designs
+                  'unit_count', rd.unit_count, 'latency_added', rd.latency_added, 'hardware', ${HARDWARE_JSON}) ORDER BY rd.id) AS designs
          FROM run_designs rd WHERE rd.run_id = r.id${designFilter}
        ) d ON true
        ORDER BY r.created_at DESC, r.id DESC`,
@@ -223,6 +226,8 @@ export function runRoutes(ctx: AppContext): Router {
     const project = res.locals.project as Project;
     const report = checkUpload(req.body);
     const stored = await ingestRun(ctx, project, report);
+    // Summaries of pleat rtl --area, when the upload has any (also for a repeat: it fills gaps).
+    await storeHardware(ctx, stored.id, report);
     const run = stored.row;
     if (stored.created) {
       afterResponse(res, ctx.mail, () => notifyWatchers(ctx, project, stored.row, report));

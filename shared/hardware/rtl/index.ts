@@ -24,7 +24,7 @@ import { alignSerialOutputs } from './serial';
 export { verilogIdent } from './names';
 export type { PortTiming, RtlBundle, RtlOptions, RtlRename } from './types';
 export { generateTestbench, testVectors, type TestVectors } from './testbench';
-export { parallelDesign } from './parallel';
+export { parallelDesign, parallelReference, type ParallelOptions, type ParallelReference } from './parallel';
 export { alignSerialOutputs } from './serial';
 
 /**
