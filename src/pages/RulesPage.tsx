@@ -455,7 +455,7 @@ function History({ slug, mayEdit }: { slug: string; mayEdit: boolean }) {
                   {ago(c.at)}
                 </td>
                 <td className={tableClass.td}>{c.by?.name ?? <span className="text-ink-500">a removed account</span>}</td>
-                <td className={tableClass.td}>{(label as Record<string, string>)[c.rule] ?? (c.rule === 'regression_tolerance' ? 'Regression tolerance' : c.rule)}</td>
+                <td className={tableClass.td}>{(label as Record<string, string>)[c.rule] ?? (c.rule === 'regression_tolerance' ? 'Regression tolerance' : c.rule === 'branch_run_days' ? 'Keeping runs (days)' : c.rule)}</td>
                 <td className={tableClass.td}>
                   <span className="text-ink-600">{ruleValueText(c.rule, c.oldValue)}</span> <span aria-label="changed to">→</span>{' '}
                   <span className="font-bold">{ruleValueText(c.rule, c.newValue)}</span>

@@ -137,10 +137,14 @@ describe('keeping runs (retention of non-base branches)', () => {
     await field.fill('0');
     expect(await save.isDisabled()).toBe(true);
     await field.fill('30');
+    // The change carries a reason into the rules history, as every other rule change does.
+    await page.locator('#retention').getByLabel('Reason (kept in the history)').fill('the disk of the server is filling up');
     await save.click();
     await page.locator('#retention').getByRole('status').filter({ hasText: 'Saved' }).waitFor();
     const days = await page.evaluate(async (slug) => (await (await fetch(`/api/projects/${slug}`)).json()).project.branchRunDays, slug);
     expect(days).toBe(30);
+    const change = await page.evaluate(async (slug) => (await (await fetch(`/api/projects/${slug}/rules/history?limit=1`)).json()).changes[0], slug);
+    expect(change).toMatchObject({ rule: 'branch_run_days', newValue: 30, reason: 'the disk of the server is filling up' });
     expect(s.errors).toEqual([]);
   });
 });
