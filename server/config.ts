@@ -49,6 +49,8 @@ export interface Config {
   secretKey: Buffer | null;
   /** How long one call to a git host may take before the pull-request feedback gives up on it. */
   hostTimeoutMs: number;
+  /** Which git-host API addresses may be called (server/resources/hosts/address.ts): PLEAT_HOST_HTTP_LOOPBACK, PLEAT_HOST_ALLOW. */
+  hostAddress: { httpLoopback: boolean; allow: string[] };
 }
 
 /** The plan and sweep jobs (docs/server.md, section Jobs). */
@@ -189,6 +191,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env, overrides: Part
     // Production gets no made-up key: a key that is lost with the machine loses every stored token.
     secretKey: n.PLEAT_SECRET_KEY ?? (mode === 'development' ? Buffer.from(devSecret(root, 'secret-key'), 'hex') : null),
     hostTimeoutMs: n.PLEAT_HOST_TIMEOUT_S * 1000,
+    hostAddress: { httpLoopback: env.PLEAT_HOST_HTTP_LOOPBACK === '1', allow: (env.PLEAT_HOST_ALLOW ?? '').split(',').map((s) => s.trim()).filter(Boolean) },
     ...overrides,
   };
 }

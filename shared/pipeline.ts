@@ -7,6 +7,9 @@ import { loadDesign, nameOfInvalidDesign, syntaxOfFile, type Limits } from './de
 import { locate } from './design/positions';
 import { analyzeDatapath, type AnalyzeOptions, type FoldedDatapath } from './analysis/analyze';
 import { DEFAULT_MAX_CONTROL_CELLS, withControl } from './hardware/control';
+import { resolveArithmetic } from './hardware/reference';
+import { formatPlan } from './hardware/formats';
+import { bitGrowth } from './hardware/range';
 import { applyRules, mergeRules } from './report/rules';
 import { designReport } from './report/report';
 
@@ -79,9 +82,41 @@ export function runDesignModel(
   // stages use it.
   const { violations, ruleWarnings, analysis: placed } =
     text !== undefined ? placeFindings(text, raw, warnings, analysis) : { violations: raw, ruleWarnings: warnings, analysis };
-  const diagnostics = options.diagnostics ?? [];
+  const diagnostics = [...(options.diagnostics ?? []), ...(text !== undefined ? narrowFormats(design, text) : [])];
   const report = designReport({ file, name: design.name, diagnostics, analysis: placed, violations, ruleWarnings });
   return { report, design, analysis, datapath, control, diagnostics: [...diagnostics, ...ruleWarnings], violations };
+}
+
+/** Data width of the signals a file leaves without a format: `pleat simulate`'s default (Q15.0). */
+const CHECK_DEFAULT_WIDTH = 16;
+
+/**
+ * `format-too-narrow` warnings of bit growth (docs/analysis.md, "Bit growth"), for a design that
+ * declares number formats; a design without any is an integer datapath whose width is chosen at
+ * simulate or rtl time, so there is nothing to judge and its report stays as it was. Only signals
+ * whose format the file gives (their own or `fixed_point.format`) are judged; each finding points
+ * at the node's own `format` when it has one, else at the node.
+ */
+function narrowFormats(design: Design, text: string): Diagnostic[] {
+  const declaresFormat = design.fixedPoint?.format !== undefined || design.nodes.some((n) => n.format !== undefined);
+  if (!declaresFormat) return [];
+  const { graph, diagnostics: unresolved } = resolveArithmetic(design);
+  // A node without usable arithmetic has no range; simulate and rtl say why when asked to run it.
+  if (!graph || unresolved.length > 0) return [];
+  const growth = bitGrowth(design, graph, formatPlan(design, CHECK_DEFAULT_WIDTH));
+  const judged = growth.diagnostics.flatMap((d): Diagnostic[] => {
+    const i = d.path?.[1];
+    if (typeof i !== 'number') return [];
+    const own = design.nodes[i].format !== undefined;
+    if (!own && design.fixedPoint?.format === undefined) return [];
+    return [{ ...d, path: own ? ['nodes', i, 'format'] : ['nodes', i] }];
+  });
+  if (judged.length === 0) return [];
+  try {
+    return locate(text, judged, () => false);
+  } catch {
+    return judged;
+  }
 }
 
 /**

@@ -1,6 +1,7 @@
 // Markdown for a CI job summary (a file the CI shows on the job's page, e.g. GitHub's
 // $GITHUB_STEP_SUMMARY): the gate verdict, one line per design with its folding figures, then
-// per design that does not fold what broke, where, and what would fix it.
+// per design that does not fold what broke, where, and what would fix it (and per design that
+// folds with warnings, those).
 import { designFindings } from '../../shared/report/findings';
 import type { DesignReport, Report } from '../../shared/types';
 import { fraction, pct, type FormatContext } from './common';
@@ -45,8 +46,9 @@ export function formatMarkdown(raw: Report, ctx: FormatContext = {}): string {
     out.push(`| ${mdText(d.name ?? '(unnamed)')} | ${mdText(verdictWord(d))} | ${n} | ${u} | ${r} | ${b} | ${code(shown(d.file))} |`);
   }
   for (const d of report.designs) {
-    if (d.status === 'pass') continue;
     const findings = designFindings(d).filter((f) => f.severity === 'error' || !ctx.quiet);
+    // A design that folds gets a section only for its warnings (a format too narrow for its bit growth).
+    if (d.status === 'pass' && findings.length === 0) continue;
     out.push('', `#### ${mdText(d.name ?? d.file)}: ${mdText(verdictWord(d))}`, '');
     for (const f of findings) {
       const where = f.line ? `${shown(f.file)}:${f.line}:${f.column ?? 1}` : shown(f.file);

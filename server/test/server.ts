@@ -38,6 +38,8 @@ export async function startTestServer(opts: { mail?: boolean; config?: Partial<C
     // The key of host tokens at rest (tests only; 32 bytes as hex).
     PLEAT_SECRET_KEY: '00112233445566778899aabbccddeeff00112233445566778899aabbccddeeff',
     PLEAT_HOST_TIMEOUT_S: '5',
+    // The fake git host (server/test/fakeGitHost.ts) listens on http://127.0.0.1.
+    PLEAT_HOST_HTTP_LOOPBACK: '1',
     ...(smtp ? { PLEAT_SMTP_HOST: '127.0.0.1', PLEAT_SMTP_PORT: String(smtp.port) } : { PLEAT_SMTP_HOST: 'none' }),
   }, opts.config);
   const logs: string[] = [];

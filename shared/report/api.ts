@@ -1,7 +1,7 @@
 // The JSON shapes of the server's API: the server's presenters build them (server/http/present.ts
 // `send` checks each response against its type) and the web report reads them (src/api/types.ts
 // re-exports this module). Types only. Times travel as ISO 8601 strings.
-import type { DesignReport, EffectiveRules, Report, Rules, Status, Unit } from '../types';
+import type { DesignReport, EffectiveRules, Report, Rules, SimulationRules, Status, Unit } from '../types';
 import type { PlanMetrics, PlanResult, SweepRow } from '../planning/types';
 
 /** The body of every error response. */
@@ -208,8 +208,11 @@ export interface RunDetail {
   report: Report;
 }
 
+/** A team's rules: the gate's and the two that `pleat simulate` gates on (both in RULES_SCHEMA). */
+export type TeamRuleSet = Rules & SimulationRules;
+
 export interface TeamRules {
-  rules: Rules;
+  rules: TeamRuleSet;
   regressionTolerance: number;
   updatedAt: string | null;
   updatedBy: { id: number; name: string } | null;

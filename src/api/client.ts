@@ -20,8 +20,8 @@ import type {
   RuleHistory,
   RunDetail,
   RunPage,
-  Rules,
   TeamRules,
+  TeamRuleSet,
   TokenAnswer,
   TokenCreated,
   TokenList,
@@ -172,7 +172,7 @@ export const api = {
 
   // rules
   rules: (slug: string, signal?: AbortSignal) => request<TeamRules>(`/api/projects/${seg(slug)}/rules`, { signal }),
-  saveRules: (slug: string, rules: Rules, reason?: string) =>
+  saveRules: (slug: string, rules: TeamRuleSet, reason?: string) =>
     request<TeamRules & { changed: string[] }>(`/api/projects/${seg(slug)}/rules`, { method: 'PUT', body: { rules, ...(reason ? { reason } : {}) } }),
   revertRules: (slug: string, to: number, reason?: string) =>
     request<TeamRules & { changed: string[] }>(`/api/projects/${seg(slug)}/rules/revert`, { method: 'POST', body: { to, ...(reason ? { reason } : {}) } }),

@@ -2,7 +2,7 @@
 // which cached answers it makes stale.
 import { keepPreviousData, useInfiniteQuery, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { api, type StartJob } from './client';
-import type { HostKind, Me, Role, Rules } from './types';
+import type { HostKind, Me, Role, TeamRuleSet } from './types';
 
 export const keys = {
   me: ['me'] as const,
@@ -137,7 +137,7 @@ export function useRuleHistory(slug: string) {
 export function useSaveRules(slug: string) {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: (v: { rules: Rules; reason?: string }) => api.saveRules(slug, v.rules, v.reason),
+    mutationFn: (v: { rules: TeamRuleSet; reason?: string }) => api.saveRules(slug, v.rules, v.reason),
     onSuccess: (data) => {
       qc.setQueryData(keys.rules(slug), data);
       void qc.invalidateQueries({ queryKey: keys.ruleHistory(slug) });

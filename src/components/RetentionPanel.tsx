@@ -13,6 +13,8 @@ export function RetentionPanel({ project, mayEdit }: { project: Project; mayEdit
   const update = useUpdateProject(project.slug);
   const [days, setDays] = useState(project.branchRunDays === null ? '' : String(project.branchRunDays));
   const [saved, setSaved] = useState(false);
+  // Kept with the change in the rules history, as every other rule change (migration 005).
+  const [reason, setReason] = useState('');
   const text = days.trim();
   const value = text === '' ? null : Number(text);
   const invalid = value !== null && !(Number.isInteger(value) && value >= 1 && value <= 36500);
@@ -22,7 +24,8 @@ export function RetentionPanel({ project, mayEdit }: { project: Project; mayEdit
     e.preventDefault();
     setSaved(false);
     if (invalid) return;
-    await update.mutateAsync({ branchRunDays: value });
+    await update.mutateAsync({ branchRunDays: value, reason: reason.trim() || undefined });
+    setReason('');
     setSaved(true);
   }
 
@@ -40,6 +43,16 @@ export function RetentionPanel({ project, mayEdit }: { project: Project; mayEdit
               placeholder="empty: keep them all"
               aria-invalid={invalid}
               aria-describedby="retention-help"
+            />
+          </label>
+          <label className="grid min-w-[16rem] flex-1 gap-1 text-sm font-medium">
+            Reason (kept in the history)
+            <input
+              className={inputClass}
+              maxLength={500}
+              placeholder="e.g. the disk of the server is filling up"
+              value={reason}
+              onChange={(e) => { setReason(e.target.value); setSaved(false); }}
             />
           </label>
           <button type="submit" className={buttonClass.accent} disabled={invalid || update.isPending}>

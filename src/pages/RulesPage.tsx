@@ -2,13 +2,14 @@ import { useEffect, useState, type FormEvent } from 'react';
 import { errorMessage } from '../api/client';
 import { useRevertRules, useRuleHistory, useRules, useSaveRules, useUpdateProject } from '../api/hooks';
 import { can } from '../api/roles';
-import type { NegativeDelayPolicy, RuleName, Rules } from '../../shared/types';
-import type { RuleChange, TeamRules } from '../api/types';
+import type { NegativeDelayPolicy, RuleName, SimulationRuleName } from '../../shared/types';
+import type { RuleChange, TeamRules, TeamRuleSet } from '../api/types';
 import { FormError } from '../components/AuthFrame';
 import { RetentionPanel } from '../components/RetentionPanel';
 import { useProjectContext } from '../components/ProjectLayout';
 import { ColumnHeads, PageHeader, Panel, buttonClass, inputClass, tableClass, ScrollRegion } from '../components/Panel';
 import { ruleLabel } from '../components/ViolationsList';
+import { RULES_SCHEMA } from '../../shared/report/rules';
 import { EmptyState, ErrorState, Loading, QueryState } from '../components/States';
 import { ago, dateTime, pct } from '../components/format';
 import { useDocumentTitle } from '../components/useDocumentTitle';
@@ -19,12 +20,28 @@ const policyText: Record<NegativeDelayPolicy, string> = {
   warn: 'warn: report them, never fail',
 };
 
-const help: Record<RuleName, string> = {
+/** Every rule the page sets: the gate's (`pleat check`) and the two that `pleat simulate` gates on. */
+type PageRule = RuleName | SimulationRuleName;
+
+/** The gate's labels, and the simulate gates' in the same voice. */
+const label: Record<PageRule, string> = {
+  ...ruleLabel,
+  max_overflows: 'Overflow ceiling',
+  min_sqnr_db: 'SQNR floor',
+};
+
+const help: Record<PageRule, string> = {
   negative_delays: 'What a negative folded delay does to the verdict.',
   min_utilization: 'The whole design must keep its units at least this busy.',
   min_unit_utilization: 'Every unit must be at least this busy.',
   max_registers: 'The lifetime-analysis register minimum may not exceed this.',
+  max_overflows: 'A pleat simulate run may count at most this many fixed-point overflows.',
+  min_sqnr_db: 'Every output of a pleat simulate --arithmetic fixed run must reach at least this signal-to-quantisation-noise ratio.',
 };
+
+/** The same bounds as the rules schema of the engine, which the server checks again. */
+const MAX_OVERFLOWS_LIMIT = RULES_SCHEMA.properties.max_overflows as { maximum: number };
+const SQNR_LIMITS = RULES_SCHEMA.properties.min_sqnr_db as { minimum: number; maximum: number };
 
 /** Form state: text as typed, so that an empty field means “not set”. */
 interface Draft {
@@ -32,6 +49,8 @@ interface Draft {
   min_utilization: string;
   min_unit_utilization: string;
   max_registers: string;
+  max_overflows: string;
+  min_sqnr_db: string;
 }
 
 /** A fraction as the per-cent text of the form, exact (no rounding to one decimal). */
@@ -39,12 +58,14 @@ function percentText(f: number): string {
   return String(Number((f * 100).toPrecision(12)));
 }
 
-function toDraft(r: Rules): Draft {
+function toDraft(r: TeamRuleSet): Draft {
   return {
     negative_delays: r.negative_delays ?? '',
     min_utilization: r.min_utilization === undefined ? '' : percentText(r.min_utilization),
     min_unit_utilization: r.min_unit_utilization === undefined ? '' : percentText(r.min_unit_utilization),
     max_registers: r.max_registers === undefined ? '' : String(r.max_registers),
+    max_overflows: r.max_overflows === undefined ? '' : String(r.max_overflows),
+    min_sqnr_db: r.min_sqnr_db === undefined ? '' : String(r.min_sqnr_db),
   };
 }
 
@@ -72,9 +93,9 @@ export function readPercent(typed: string, max: number): PercentReading {
 
 const PERCENT_RULES = ['min_utilization', 'min_unit_utilization'] as const;
 
-function fromDraft(d: Draft): { rules: Rules; problems: Partial<Record<RuleName, string>> } {
-  const rules: Rules = {};
-  const problems: Partial<Record<RuleName, string>> = {};
+function fromDraft(d: Draft): { rules: TeamRuleSet; problems: Partial<Record<PageRule, string>> } {
+  const rules: TeamRuleSet = {};
+  const problems: Partial<Record<PageRule, string>> = {};
   if (d.negative_delays) rules.negative_delays = d.negative_delays;
   for (const k of PERCENT_RULES) {
     const r = readPercent(d[k], 100);
@@ -88,6 +109,18 @@ function fromDraft(d: Draft): { rules: Rules; problems: Partial<Record<RuleName,
     if (!/^[0-9]+$/.test(t) || !Number.isSafeInteger(v)) problems.max_registers = 'A whole number, 0 or more.';
     else rules.max_registers = v;
   }
+  if (d.max_overflows.trim() !== '') {
+    const t = d.max_overflows.trim();
+    const v = Number(t);
+    if (!/^[0-9]+$/.test(t) || v > MAX_OVERFLOWS_LIMIT.maximum) problems.max_overflows = `A whole number from 0 to ${MAX_OVERFLOWS_LIMIT.maximum.toLocaleString('en-US')}.`;
+    else rules.max_overflows = v;
+  }
+  if (d.min_sqnr_db.trim() !== '') {
+    const t = d.min_sqnr_db.trim().replace(/\s*dB$/i, '');
+    const v = Number(t);
+    if (!/^-?([0-9]*\.?[0-9]+|[0-9]+\.)$/.test(t) || v < SQNR_LIMITS.minimum || v > SQNR_LIMITS.maximum) problems.min_sqnr_db = `A number of dB from ${SQNR_LIMITS.minimum} to ${SQNR_LIMITS.maximum}, such as 60.`;
+    else rules.min_sqnr_db = v;
+  }
   return { rules, problems };
 }
 
@@ -99,6 +132,7 @@ function fractionNote(v: number, where: string): string {
 export function ruleValueText(rule: string, v: unknown): string {
   if (v === null || v === undefined) return 'not set';
   if ((rule === 'min_utilization' || rule === 'min_unit_utilization' || rule === 'regression_tolerance') && typeof v === 'number') return `${percentText(v)}%`;
+  if (rule === 'min_sqnr_db' && typeof v === 'number') return `${v} dB`;
   return String(v);
 }
 
@@ -138,14 +172,14 @@ export default function RulesPage() {
 }
 
 function RulesReadOnly({ data }: { data: TeamRules }) {
-  const names = Object.keys(ruleLabel) as RuleName[];
+  const names = Object.keys(label) as PageRule[];
   return (
     <div>
       <dl className="divide-y divide-ink-100" data-testid="rules-readonly">
         {names.map((n) => (
           <div key={n} className="grid grid-cols-[1fr_auto] gap-3 py-2.5">
             <dt>
-              <div className="font-medium">{ruleLabel[n]}</div>
+              <div className="font-medium">{label[n]}</div>
               <div className="text-xs text-ink-600">{help[n]}</div>
             </dt>
             <dd className="self-center text-right font-bold">{ruleValueText(n, data.rules[n])}</dd>
@@ -169,7 +203,7 @@ function RulesForm({ slug, data }: { slug: string; data: TeamRules }) {
   const updateProject = useUpdateProject(slug);
   const [draft, setDraft] = useState<Draft>(() => toDraft(data.rules));
   const [tolerance, setTolerance] = useState(percentText(data.regressionTolerance));
-  const [problems, setProblems] = useState<Partial<Record<RuleName | 'tolerance', string>>>({});
+  const [problems, setProblems] = useState<Partial<Record<PageRule | 'tolerance', string>>>({});
   const [saved, setSaved] = useState<string | null>(null);
   const [reason, setReason] = useState('');
   useEffect(() => setDraft(toDraft(data.rules)), [data.rules]);
@@ -178,11 +212,11 @@ function RulesForm({ slug, data }: { slug: string; data: TeamRules }) {
   const pending = fromDraft(draft);
   const tol = readPercent(tolerance, 1000);
   const changes: { label: string; from: string; to: string }[] = [];
-  for (const k of Object.keys(ruleLabel) as RuleName[]) {
+  for (const k of Object.keys(label) as PageRule[]) {
     if (pending.problems[k]) continue;
     const before = data.rules[k];
     const after = pending.rules[k];
-    if (before !== after) changes.push({ label: ruleLabel[k], from: ruleValueText(k, before), to: ruleValueText(k, after) });
+    if (before !== after) changes.push({ label: label[k], from: ruleValueText(k, before), to: ruleValueText(k, after) });
   }
   if (tol.kind === 'ok' && Math.abs(tol.fraction - data.regressionTolerance) > 1e-12)
     changes.push({ label: 'Regression tolerance', from: ruleValueText('regression_tolerance', data.regressionTolerance), to: ruleValueText('regression_tolerance', tol.fraction) });
@@ -270,6 +304,40 @@ function RulesForm({ slug, data }: { slug: string; data: TeamRules }) {
     );
   };
 
+  /** A field of a whole number or a number with a unit (registers, overflows, dB), checked on saving. */
+  const plainField = (k: 'max_registers' | 'max_overflows' | 'min_sqnr_db', inputMode: 'numeric' | 'decimal', unit: string) => (
+    <div className="grid grid-cols-[minmax(0,1fr)_9rem] sm:grid-cols-[minmax(0,1fr)_11rem] items-start gap-3 py-2.5">
+      <label htmlFor={`rule-${k}`}>
+        <span className="block font-medium">{label[k]}</span>
+        <span className="block text-xs text-ink-600">
+          {help[k]}
+          {unit ? ` In ${unit}.` : ''} Empty: not set.
+        </span>
+      </label>
+      <div>
+        <div className="flex items-center gap-1.5">
+          <input
+            id={`rule-${k}`}
+            name={k}
+            inputMode={inputMode}
+            className={`${inputClass} text-right`}
+            value={draft[k]}
+            aria-invalid={!!problems[k]}
+            aria-describedby={problems[k] ? `rule-${k}-problem` : undefined}
+            onChange={(e) => setDraft({ ...draft, [k]: e.target.value })}
+          />
+          {/* The width of the `%` of the per-cent fields, so the inputs line up. */}
+          {unit ? <span className="w-4 text-sm text-ink-600">{unit}</span> : <span className="w-4" aria-hidden="true" />}
+        </div>
+        {problems[k] && (
+          <p id={`rule-${k}-problem`} className="mt-1 text-xs text-fail-700">
+            {problems[k]}
+          </p>
+        )}
+      </div>
+    </div>
+  );
+
   const error = save.error ?? updateProject.error;
   return (
     <form onSubmit={submit} aria-label="Team rules" className="divide-y divide-ink-100">
@@ -295,33 +363,10 @@ function RulesForm({ slug, data }: { slug: string; data: TeamRules }) {
       </div>
       {percentField('min_utilization')}
       {percentField('min_unit_utilization')}
-      <div className="grid grid-cols-[minmax(0,1fr)_9rem] sm:grid-cols-[minmax(0,1fr)_11rem] items-start gap-3 py-2.5">
-        <label htmlFor="rule-max_registers">
-          <span className="block font-medium">{ruleLabel.max_registers}</span>
-          <span className="block text-xs text-ink-600">{help.max_registers} Empty: not set.</span>
-        </label>
-        <div>
-          <div className="flex items-center gap-1.5">
-          <input
-            id="rule-max_registers"
-            name="max_registers"
-            inputMode="numeric"
-            className={`${inputClass} text-right`}
-            value={draft.max_registers}
-            aria-invalid={!!problems.max_registers}
-            aria-describedby={problems.max_registers ? 'rule-max_registers-problem' : undefined}
-            onChange={(e) => setDraft({ ...draft, max_registers: e.target.value })}
-          />
-            {/* The same width as the `%` of the other fields, so the inputs line up. */}
-            <span className="w-4" aria-hidden="true" />
-          </div>
-          {problems.max_registers && (
-            <p id="rule-max_registers-problem" className="mt-1 text-xs text-fail-700">
-              {problems.max_registers}
-            </p>
-          )}
-        </div>
-      </div>
+      {plainField('max_registers', 'numeric', '')}
+      <div className="pt-3 text-xs font-medium uppercase tracking-wide text-ink-600">Gates of pleat simulate (a check does not simulate)</div>
+      {plainField('max_overflows', 'numeric', '')}
+      {plainField('min_sqnr_db', 'decimal', 'dB')}
       <div className="grid grid-cols-[minmax(0,1fr)_9rem] sm:grid-cols-[minmax(0,1fr)_11rem] items-start gap-3 py-2.5">
         <label htmlFor="regression-tolerance">
           <span className="block font-medium">Regression tolerance</span>
@@ -410,7 +455,7 @@ function History({ slug, mayEdit }: { slug: string; mayEdit: boolean }) {
                   {ago(c.at)}
                 </td>
                 <td className={tableClass.td}>{c.by?.name ?? <span className="text-ink-500">a removed account</span>}</td>
-                <td className={tableClass.td}>{(ruleLabel as Record<string, string>)[c.rule] ?? (c.rule === 'regression_tolerance' ? 'Regression tolerance' : c.rule)}</td>
+                <td className={tableClass.td}>{(label as Record<string, string>)[c.rule] ?? (c.rule === 'regression_tolerance' ? 'Regression tolerance' : c.rule === 'branch_run_days' ? 'Keeping runs (days)' : c.rule)}</td>
                 <td className={tableClass.td}>
                   <span className="text-ink-600">{ruleValueText(c.rule, c.oldValue)}</span> <span aria-label="changed to">→</span>{' '}
                   <span className="font-bold">{ruleValueText(c.rule, c.newValue)}</span>

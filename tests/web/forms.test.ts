@@ -74,6 +74,55 @@ describe('the team rules form', () => {
     await page.getByRole('button', { name: 'Save the rules' }).waitFor();
     expect((await rulesNow()).min_unit_utilization).not.toBe(1.5);
   });
+
+  it('sets the simulate gates max_overflows and min_sqnr_db: refused before saving when out of range, saved with the reason', async () => {
+    const { page } = s;
+    await page.goto(`${web.url}/projects/${slug}/rules`);
+    const overflows = page.getByLabel(/^Overflow ceiling/);
+    const sqnr = page.getByLabel(/^SQNR floor/);
+    await overflows.waitFor();
+    const before = await rulesNow();
+
+    // Out of the rules schema's range (overflows a whole number >= 0, SQNR -1000 to 1000 dB): nothing is sent.
+    const sent: string[] = [];
+    const watch = (r: { method(): string; url(): string }) => {
+      if (r.method() === 'PUT' && r.url().endsWith('/rules')) sent.push(r.url());
+    };
+    page.on('request', watch);
+    await overflows.fill('-1');
+    await sqnr.fill('2000');
+    await page.getByRole('button', { name: 'Save the rules' }).click();
+    await page.getByText('A whole number from 0 to 2,147,483,647.').waitFor();
+    await page.getByText('A number of dB from -1000 to 1000, such as 60.').waitFor();
+    expect(await overflows.getAttribute('aria-invalid')).toBe('true');
+    expect(sent).toEqual([]);
+    page.off('request', watch);
+    expect(await rulesNow()).toEqual(before);
+
+    await overflows.fill('3');
+    await sqnr.fill('60.5');
+    const pending = await page.getByTestId('rules-pending').textContent();
+    expect(pending).toContain('Overflow ceiling');
+    expect(pending).toContain('60.5 dB');
+    await page.getByLabel('Reason for the change').fill('the new DAC takes 14 bits');
+    await page.getByRole('button', { name: 'Save the rules' }).click();
+    await page.locator('#current-rules').getByRole('status').filter({ hasText: 'Saved 2 changes' }).waitFor();
+    const now = await rulesNow();
+    expect(now.max_overflows).toBe(3);
+    expect(now.min_sqnr_db).toBe(60.5);
+    // The other rules are kept as they were.
+    expect({ ...now, max_overflows: undefined, min_sqnr_db: undefined }).toEqual({ ...before, max_overflows: undefined, min_sqnr_db: undefined });
+    const history = page.getByTestId('rule-history');
+    await history.getByText('SQNR floor').waitFor();
+    expect(await history.locator('tr', { hasText: 'Overflow ceiling' }).first().textContent()).toContain('the new DAC takes 14 bits');
+
+    // Saving another rule keeps the simulate gates (the form sends every rule it holds).
+    await page.reload();
+    await page.getByLabel(/^Register ceiling/).fill('5000');
+    await page.getByRole('button', { name: 'Save the rules' }).click();
+    await page.locator('#current-rules').getByRole('status').filter({ hasText: 'Saved' }).waitFor();
+    expect(await rulesNow()).toMatchObject({ max_overflows: 3, min_sqnr_db: 60.5, max_registers: 5000 });
+  });
 });
 
 describe('keeping runs (retention of non-base branches)', () => {
@@ -88,10 +137,14 @@ describe('keeping runs (retention of non-base branches)', () => {
     await field.fill('0');
     expect(await save.isDisabled()).toBe(true);
     await field.fill('30');
+    // The change carries a reason into the rules history, as every other rule change does.
+    await page.locator('#retention').getByLabel('Reason (kept in the history)').fill('the disk of the server is filling up');
     await save.click();
     await page.locator('#retention').getByRole('status').filter({ hasText: 'Saved' }).waitFor();
     const days = await page.evaluate(async (slug) => (await (await fetch(`/api/projects/${slug}`)).json()).project.branchRunDays, slug);
     expect(days).toBe(30);
+    const change = await page.evaluate(async (slug) => (await (await fetch(`/api/projects/${slug}/rules/history?limit=1`)).json()).changes[0], slug);
+    expect(change).toMatchObject({ rule: 'branch_run_days', newValue: 30, reason: 'the disk of the server is filling up' });
     expect(s.errors).toEqual([]);
   });
 });

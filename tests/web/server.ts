@@ -45,6 +45,8 @@ export async function startWebServer(o: { seed?: boolean } = {}): Promise<WebSer
     PLEAT_SMTP_PORT: String(smtp.port),
     // The key of git-host tokens at rest (tests only).
     PLEAT_SECRET_KEY: 'ffeeddccbbaa99887766554433221100ffeeddccbbaa99887766554433221100',
+    // The fake git host of the browser tests listens on http://127.0.0.1.
+    PLEAT_HOST_HTTP_LOOPBACK: '1',
   });
   const logs: string[] = [];
   const log = (m: string) => logs.push(m);

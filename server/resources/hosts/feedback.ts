@@ -8,6 +8,7 @@ import type { Report } from '../../../shared/types';
 import type { AppContext } from '../../context';
 import type { Project } from '../../db/models';
 import { compareRun, type RunRow } from '../runs/compare';
+import { refuseHostAddress } from './address';
 import type { HostClient, HostSettings, OpenRequest } from './client';
 import { githubClient } from './github';
 import { gitlabClient } from './gitlab';
@@ -42,6 +43,9 @@ export async function postHostFeedback(ctx: AppContext, project: Project, run: R
     if (!key) throw new Error('the server has no PLEAT_SECRET_KEY, so the stored token cannot be read');
     const token = openToken(key, project.id, conn.token_sealed);
     if (token === null) throw new Error('the stored token does not open with this server\'s PLEAT_SECRET_KEY; a lead enters it again');
+    // Checked again before every call: a name may resolve elsewhere than when it was saved.
+    const refused = await refuseHostAddress(conn.api_url, ctx.config.hostAddress, 'refuse');
+    if (refused) throw new Error(refused);
     const client = hostClient({ kind: conn.kind, apiUrl: conn.api_url, repository: conn.repository, token, timeoutMs: ctx.config.hostTimeoutMs });
     const request = await step(`finding the open request of ${run.branch}`, () => client.findOpenRequest(run.branch));
     if (request) {

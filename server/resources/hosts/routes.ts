@@ -7,6 +7,7 @@ import { requireUser } from '../../http/auth';
 import { HttpError, allow, badRequest, notFound } from '../../http/errors';
 import { send } from '../../http/present';
 import { checker } from '../../http/validate';
+import { refuseHostAddress } from './address';
 import { canManageHost } from './policy';
 import { sealToken } from './secret';
 import { deleteConnection, loadConnection, presentConnection, saveConnection } from './store';
@@ -51,6 +52,9 @@ export function hostRoutes(ctx: AppContext): Router {
     if (!repo.pattern.test(body.repository)) throw badRequest(`The repository of a ${body.kind === 'github' ? 'GitHub' : 'GitLab'} project is ${repo.example}, not "${body.repository}".`);
     const apiUrl = (body.apiUrl ?? DEFAULT_API_URL[body.kind]).replace(/\/+$/, '');
     try { new URL(apiUrl); } catch { throw badRequest(`The API address "${apiUrl}" is not a URL.`); }
+    // The server will call this address with the token: https to public hosts only (SSRF).
+    const refused = await refuseHostAddress(apiUrl, ctx.config.hostAddress, 'accept');
+    if (refused) throw badRequest(refused);
     const key = ctx.config.secretKey;
     if (!key) throw new HttpError(503, 'no-secret-key', 'The server has no PLEAT_SECRET_KEY to encrypt host tokens with; an administrator sets it (docs/server.md, Git hosts).');
     const existing = await loadConnection(ctx, project.id);

@@ -116,6 +116,30 @@ describe('team rules', () => {
     expect((await t.http().post(`/api/projects/${p.slug}/rules/revert`).set('Cookie', cookieFor(t.ctx, v)).send({ to: target })).status).toBe(403);
   });
 
+  it('stores the simulate gates max_overflows and min_sqnr_db with their reason, and refuses them out of range', async () => {
+    const p = await makeProject(t.ctx);
+    const l = await makeMember(t.ctx, p, 'lead');
+    const putP = (body: object) => t.http().put(`/api/projects/${p.slug}/rules`).set('Cookie', cookieFor(t.ctx, l)).send(body);
+    const res = await putP({ rules: { max_overflows: 0, min_sqnr_db: 72.5 }, reason: 'Tape-out: no overflow at all' });
+    expect(res.status).toBe(200);
+    expect(res.body.changed).toEqual(['max_overflows', 'min_sqnr_db']);
+    expect(res.body.rules).toEqual({ max_overflows: 0, min_sqnr_db: 72.5 });
+    const h = (await t.http().get(`/api/projects/${p.slug}/rules/history`).set('Cookie', cookieFor(t.ctx, l))).body.changes;
+    expect(h.map((c: { rule: string; newValue: unknown; reason: string }) => [c.rule, c.newValue, c.reason])).toEqual([
+      ['min_sqnr_db', 72.5, 'Tape-out: no overflow at all'],
+      ['max_overflows', 0, 'Tape-out: no overflow at all'],
+    ]);
+    // The bounds of RULES_SCHEMA: overflows a whole number from 0, SQNR -1000 to 1000 dB.
+    for (const bad of [{ max_overflows: -1 }, { max_overflows: 1.5 }, { min_sqnr_db: 1001 }, { min_sqnr_db: '60' }]) {
+      const r = await putP({ rules: bad });
+      expect(r.status, JSON.stringify(bad)).toBe(400);
+      expect(r.body.error.details.length).toBeGreaterThan(0);
+    }
+    // The CLI's floor carries them (simulate gates on them).
+    const now = await t.http().get(`/api/projects/${p.slug}/rules`).set('Cookie', cookieFor(t.ctx, l));
+    expect(now.body.rules).toEqual({ max_overflows: 0, min_sqnr_db: 72.5 });
+  });
+
   it('does not let a viewer change them', async () => {
     const res = await put({ min_utilization: 0.1 }, viewer);
     expect(res.status).toBe(403);
