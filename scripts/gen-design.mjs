@@ -4,7 +4,7 @@
 // people write designs by hand. Every loop keeps a retimable placement, so retiming is feasible.
 //
 //   node scripts/gen-design.mjs --edges 100000 [--seed 7] [--factor 8] [--name NAME] [--out FILE]
-//   node scripts/gen-design.mjs --fir 10000 --factor 1000 [--out FILE]   (a direct-form FIR instead)
+//   node scripts/gen-design.mjs --fir 10000 --factor 1000 [--out FILE]   (a transposed-form FIR instead)
 //
 // One section (4 nodes, 6 edges), fed by `prev` (the channel input or the previous section):
 //   a = prev + m          (add)      m = 0.9 * a[n-1]   (mul, the resonator's feedback)
@@ -158,9 +158,10 @@ export function generateDesign(opts = {}) {
 }
 
 /**
- * A direct-form FIR filter of `taps` taps, folded by `factor`: x feeds tap k through k delays,
- * each tap is a gain, an adder chain sums them. A graph without loops, so every placement is
- * retimable; taps and adders fill their units in order.
+ * A transposed-form FIR filter of `taps` taps, folded by `factor`: x feeds every tap (a gain),
+ * and a chain of adders sums them with one delay between adders, s_k = t_k + s_{k+1}[n-1] (the
+ * form hardware uses: one register per tap, not a delay line per tap). A graph without loops,
+ * so every placement is retimable; taps and adders fill their units in order.
  * @param {{ taps: number, factor?: number, seed?: number, name?: string }} opts
  * @returns {{ text: string, nodes: number, edges: number, units: number }}
  */
@@ -172,15 +173,15 @@ export function generateFir(opts) {
   const edges = [];
   for (let k = 0; k < T; k++) {
     nodes.push(`  - { id: t${k}, kind: mul, coefficient: ${((rnd() - 0.5) / 4).toFixed(5)} }`);
-    edges.push(`  - { from: x, to: t${k}${k ? `, delays: ${k}` : ''} }`);
+    edges.push(`  - { from: x, to: t${k} }`);
   }
-  // s1 = t0 + t1, s_k = s_{k-1} + t_k; the last sum is the output.
-  for (let k = 1; k < T; k++) {
+  // s_{T-2} = t_{T-2} + t_{T-1}[n-1]; s_k = t_k + s_{k+1}[n-1]; y = s_0.
+  for (let k = T - 2; k >= 0; k--) {
     nodes.push(`  - { id: s${k}, kind: add }`);
-    edges.push(`  - { from: ${k === 1 ? 't0' : `s${k - 1}`}, to: s${k} }`, `  - { from: t${k}, to: s${k}, port: 1 }`);
+    edges.push(`  - { from: t${k}, to: s${k} }`, `  - { from: ${k === T - 2 ? `t${T - 1}` : `s${k + 1}`}, to: s${k}, delays: 1, port: 1 }`);
   }
   nodes.push('  - { id: y, kind: output }');
-  edges.push(`  - { from: s${T - 1}, to: y }`);
+  edges.push('  - { from: s0, to: y }');
   const units = [];
   const sets = [];
   const place = (prefix, kind, stages, ids) => {
@@ -191,12 +192,12 @@ export function generateFir(opts) {
     }
   };
   place('MUL', 'mul', 2, Array.from({ length: T }, (_, k) => `t${k}`));
-  place('ADD', 'add', 1, Array.from({ length: T - 1 }, (_, k) => `s${k + 1}`));
+  place('ADD', 'add', 1, Array.from({ length: T - 1 }, (_, k) => `s${T - 2 - k}`));
   const name = opts.name ?? `fir-${T}`;
   const text = [
     'format: pleat/1',
     `name: ${name}`,
-    `description: ${JSON.stringify(`Generated direct-form FIR filter of ${T} taps, folding factor ${N}, seed ${opts.seed ?? 1}.`)}`,
+    `description: ${JSON.stringify(`Generated transposed-form FIR filter of ${T} taps, folding factor ${N}, seed ${opts.seed ?? 1}.`)}`,
     'clock_ns: 2',
     'kinds:',
     '  add: { time: 1 }',
