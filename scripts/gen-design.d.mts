@@ -2,3 +2,6 @@
 export function generateDesign(opts?: { edges?: number; seed?: number; factor?: number; name?: string; sectionsPerChannel?: number }): {
   text: string; nodes: number; edges: number; units: number; channels: number;
 };
+export function generateFir(opts: { taps: number; factor?: number; seed?: number; name?: string }): {
+  text: string; nodes: number; edges: number; units: number;
+};

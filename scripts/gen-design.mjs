@@ -4,6 +4,7 @@
 // people write designs by hand. Every loop keeps a retimable placement, so retiming is feasible.
 //
 //   node scripts/gen-design.mjs --edges 100000 [--seed 7] [--factor 8] [--name NAME] [--out FILE]
+//   node scripts/gen-design.mjs --fir 10000 --factor 1000 [--out FILE]   (a transposed-form FIR instead)
 //
 // One section (4 nodes, 6 edges), fed by `prev` (the channel input or the previous section):
 //   a = prev + m          (add)      m = 0.9 * a[n-1]   (mul, the resonator's feedback)
@@ -156,8 +157,69 @@ export function generateDesign(opts = {}) {
   return { text, nodes: nodes.length, edges: edges.length, units: units.length, channels };
 }
 
+/**
+ * A transposed-form FIR filter of `taps` taps, folded by `factor`: x feeds every tap (a gain),
+ * and a chain of adders sums them with one delay between adders, s_k = t_k + s_{k+1}[n-1] (the
+ * form hardware uses: one register per tap, not a delay line per tap). A graph without loops,
+ * so every placement is retimable; taps and adders fill their units in order.
+ * @param {{ taps: number, factor?: number, seed?: number, name?: string }} opts
+ * @returns {{ text: string, nodes: number, edges: number, units: number }}
+ */
+export function generateFir(opts) {
+  const T = Math.max(2, Math.floor(opts.taps));
+  const N = opts.factor ?? 8;
+  const rnd = random(opts.seed ?? 1);
+  const nodes = ['  - { id: x, kind: input }'];
+  const edges = [];
+  for (let k = 0; k < T; k++) {
+    nodes.push(`  - { id: t${k}, kind: mul, coefficient: ${((rnd() - 0.5) / 4).toFixed(5)} }`);
+    edges.push(`  - { from: x, to: t${k} }`);
+  }
+  // s_{T-2} = t_{T-2} + t_{T-1}[n-1]; s_k = t_k + s_{k+1}[n-1]; y = s_0.
+  for (let k = T - 2; k >= 0; k--) {
+    nodes.push(`  - { id: s${k}, kind: add }`);
+    edges.push(`  - { from: t${k}, to: s${k} }`, `  - { from: ${k === T - 2 ? `t${T - 1}` : `s${k + 1}`}, to: s${k}, delays: 1, port: 1 }`);
+  }
+  nodes.push('  - { id: y, kind: output }');
+  edges.push('  - { from: s0, to: y }');
+  const units = [];
+  const sets = [];
+  const place = (prefix, kind, stages, ids) => {
+    for (let u = 0; u * N < ids.length; u++) {
+      const row = Array.from({ length: N }, (_, s) => ids[u * N + s] ?? '~');
+      units.push(`  - { id: ${prefix}${u}, kind: ${kind}, stages: ${stages} }`);
+      sets.push(`    ${prefix}${u}: [${row.join(', ')}]`);
+    }
+  };
+  place('MUL', 'mul', 2, Array.from({ length: T }, (_, k) => `t${k}`));
+  place('ADD', 'add', 1, Array.from({ length: T - 1 }, (_, k) => `s${T - 2 - k}`));
+  const name = opts.name ?? `fir-${T}`;
+  const text = [
+    'format: pleat/1',
+    `name: ${name}`,
+    `description: ${JSON.stringify(`Generated transposed-form FIR filter of ${T} taps, folding factor ${N}, seed ${opts.seed ?? 1}.`)}`,
+    'clock_ns: 2',
+    'kinds:',
+    '  add: { time: 1 }',
+    '  mul: { time: 2 }',
+    'units:',
+    ...units,
+    'nodes:',
+    ...nodes,
+    'edges:',
+    ...edges,
+    'folding:',
+    `  factor: ${N}`,
+    '  sets:',
+    ...sets,
+    '',
+  ].join('\n');
+  return { text, nodes: nodes.length, edges: edges.length, units: units.length };
+}
+
 function main(argv) {
   const opts = {};
+  let fir = 0;
   let out = null;
   for (let i = 0; i < argv.length; i++) {
     const [k, v] = [argv[i], argv[i + 1]];
@@ -168,13 +230,14 @@ function main(argv) {
     else if (k === '--description') opts.description = v;
     else if (k === '--sections') opts.sectionsPerChannel = Number(v);
     else if (k === '--out') out = v;
+    else if (k === '--fir') fir = Number(v);
     else {
       console.error(`gen-design: unknown argument ${k}`);
       process.exit(2);
     }
     i++;
   }
-  const d = generateDesign(opts);
+  const d = fir > 0 ? generateFir({ ...opts, taps: fir }) : generateDesign(opts);
   if (out) {
     writeFileSync(out, d.text);
     console.error(`gen-design: ${out}: ${d.nodes} nodes, ${d.edges} edges, ${d.units} units`);

@@ -1,6 +1,6 @@
 // `pleat simulate DESIGN`: builds the folded datapath from the plan, runs it cycle by cycle on
 // seeded random inputs and compares every output sample with the unfolded graph.
-import { readFileSync, statSync, mkdirSync, writeFileSync } from 'node:fs';
+import { readFileSync, statSync, mkdirSync } from 'node:fs';
 import path from 'node:path';
 import { InvalidArgumentError, Option, type Command } from 'commander';
 import { colorLevel, makeChalk } from '../color';
@@ -163,17 +163,19 @@ export async function runSimulate(file: string, opts: SimulateOptions, ctx: CliC
     gates,
     control,
   };
+  // Written in chunks, as pleat rtl's manifest: the control tables of a large plan outgrow one string.
+  const { writeJsonFile, writeJson } = await import('../format/json');
   if (opts.output) {
     const out = path.resolve(process.cwd(), opts.output);
     try {
       mkdirSync(path.dirname(out), { recursive: true });
-      writeFileSync(out, `${JSON.stringify(json, null, 2)}\n`);
+      writeJsonFile(json, out);
     } catch (e) {
       throw new CliError(`cannot write ${opts.output}: ${(e as Error).message}`);
     }
   }
   if (opts.format === 'json') {
-    process.stdout.write(`${JSON.stringify(json, null, 2)}\n`);
+    writeJson(json, (chunk) => process.stdout.write(chunk));
     return report.match && gates.every((g) => g.passed) ? 0 : 1;
   }
 

@@ -141,6 +141,55 @@ export function decimalBits(a: Decimal): number {
   return n.toString(2).length + Math.ceil(a.e * 3.33);
 }
 
+/**
+ * decimalBits(a) > maxBits, by one shift instead of a binary string: the guard runs on every
+ * value of an exact simulation. The bit count of |m| (1 for zero) exceeds k exactly when
+ * |m| >= 2^k, for k >= 1.
+ */
+export function decimalExceedsBits(a: Decimal, maxBits: number): boolean {
+  const k = maxBits - Math.ceil(a.e * 3.33);
+  if (k < 1) return true;
+  const n = a.m < 0n ? -a.m : a.m;
+  return n >> BigInt(k) !== 0n;
+}
+
+/**
+ * Whether exact decimals fall outside [min, max], exactly: each bound is scaled to a value's
+ * exponent once per exponent and kept, so a check costs a comparison of two integers.
+ */
+export class DecimalRange {
+  private readonly scaledMin = new Map<number, bigint>();
+  private readonly scaledMax = new Map<number, bigint>();
+  constructor(
+    readonly min: Decimal,
+    readonly max: Decimal,
+  ) {}
+  outside(x: Decimal): boolean {
+    // A bound of the other sign cannot be crossed.
+    if (!(x.m >= 0n && this.min.m <= 0n) && less(x, this.min, this.scaledMin, true)) return true;
+    if (!(x.m <= 0n && this.max.m >= 0n) && less(x, this.max, this.scaledMax, false)) return true;
+    return false;
+  }
+}
+
+/** x < bound (below) or bound < x (!below), with the bound scaled to x's exponent when it is the smaller. */
+function less(x: Decimal, bound: Decimal, cache: Map<number, bigint>, below: boolean): boolean {
+  let xm = x.m;
+  let bm: bigint;
+  if (x.e >= bound.e) {
+    let c = cache.get(x.e);
+    if (c === undefined) {
+      c = bound.m * pow10(x.e - bound.e);
+      cache.set(x.e, c);
+    }
+    bm = c;
+  } else {
+    xm = x.m * pow10(bound.e - x.e);
+    bm = bound.m;
+  }
+  return below ? xm < bm : bm < xm;
+}
+
 // ---------------------------------------------------------------- fixed point (the RTL's numbers)
 
 export interface FixedFormat {

@@ -3,7 +3,8 @@
 // Convention: cycle 0 is the first cycle after reset, in partition 0; registers load at the end of a cycle.
 import {
   exactArithmetic,
-  decimalBits,
+  decimalExceedsBits,
+  DecimalRange,
   randomStreams,
   evalNode,
   DEFAULT_FIXED,
@@ -17,7 +18,7 @@ import { formatArithmetic } from './formatArithmetic';
 import { bitGrowth, type BitGrowth } from './range';
 import { formatName, rawRange } from '../design/numberFormat';
 import type { Decimal } from './arith';
-import type { Analysis, ControlTables, Design, Diagnostic, SignalSource } from '../types';
+import type { Analysis, ControlTables, Design, Diagnostic, MuxTable, SignalSource, UnitSlot } from '../types';
 
 /** A value, or null where the hardware would carry garbage (an input outside its valid cycle, an idle unit). */
 type Val<T> = T | null;
@@ -35,26 +36,104 @@ export interface FoldedRun<T> {
 }
 
 /**
- * Runs the folded datapath for `cycles` cycles. Input streams are indexed by iteration: a held
- * input shows sample l during the whole of iteration l, an input with a slot only in that
- * partition (garbage otherwise); samples past the end of a stream are zero.
+ * The cycle model of a folded datapath, built once from the control tables as flat arrays: every
+ * signal a multiplexer, a register load or an output can read is a slot of one value array
+ * (units' results, registers, inputs, zero), so a cycle only indexes arrays and allocates nothing
+ * beyond the arithmetic's own values and the strobes it records.
  */
-export function runFolded<T>(control: ControlTables, ar: Arithmetic<T>, inputs: Record<string, T[]>, cycles: number): FoldedRun<T> {
+interface FoldedModel {
+  N: number;
+  U: number;
+  /** Value slots: units 0..U-1, registers U..U+R-1, zero at U+R, then the inputs. */
+  slots: number;
+  regBase: number;
+  inputBase: number;
+  zeroSlot: number;
+  /** Pipelined units and where each one's stages start in the flat pipeline array. */
+  piped: Int32Array;
+  stagesOf: Int32Array;
+  pipeBase: Int32Array;
+  pipeLength: number;
+  /** Per partition: units set to null first (idle, or no arithmetic), then the active ones in dependency order. */
+  idle: Int32Array[];
+  active: Int32Array[];
+  /** Per partition, per active unit (in `active` order): the offset of its operand slots in `operandSlots`. */
+  operandStart: Int32Array[];
+  operandSlots: Int32Array[];
+  slotsAt: (UnitSlot | null)[][];
+  /** Per input (value slot inputBase + k): its node and partition (-1 when held). */
+  inputNodes: string[];
+  inputPartition: Int32Array;
+  /** Per partition: the outputs that load at its end (indices into control.outputs), and their source slots. */
+  outputsAt: Int32Array[];
+  outputSlot: Int32Array;
+  /** Per partition: the registers that load at its end and the slots they read. */
+  loadRegister: Int32Array[];
+  loadSlot: Int32Array[];
+  maxLoads: number;
+  maxArity: number;
+}
+
+function buildFoldedModel(control: ControlTables): FoldedModel {
   const N = control.factor;
   const units = control.units;
   const U = units.length;
+  const R = control.registers;
   const unitIndex = new Map(units.map((u, i) => [u.unit, i]));
-  const slotOf = new Map(control.inputs.map((x) => [x.node, x.slot]));
+  const inputIndex = new Map(control.inputs.map((x, i) => [x.node, i]));
+  const regBase = U;
+  const zeroSlot = U + R;
+  const inputBase = zeroSlot + 1;
+  const inputNodes = control.inputs.map((x) => x.node);
+  const inputPartition = control.inputs.map((x) => (x.slot === null || x.slot === undefined ? -1 : x.slot));
+  const slotOfSource = (s: SignalSource): number => {
+    switch (s.kind) {
+      case 'unit':
+        return unitIndex.get(s.unit)!;
+      case 'input': {
+        let k = inputIndex.get(s.node);
+        if (k === undefined) {
+          // A source the input table does not list reads its stream in every partition.
+          k = inputNodes.length;
+          inputIndex.set(s.node, k);
+          inputNodes.push(s.node);
+          inputPartition.push(-1);
+        }
+        return inputBase + k;
+      }
+      case 'register':
+        return regBase + s.register;
+      case 'zero':
+        return zeroSlot;
+    }
+  };
   // Mux of unit i, port p.
-  const mux = units.map((u) => new Array(u.ports));
+  const mux: MuxTable[][] = units.map((u) => new Array(u.ports));
   for (const m of control.muxes) mux[unitIndex.get(m.unit)!][m.port] = m;
+
+  const stagesOf = Int32Array.from(units, (u) => u.stages);
+  const pipedList: number[] = [];
+  const pipeBase = new Int32Array(U);
+  let pipeLength = 0;
+  units.forEach((u, i) => {
+    if (u.stages > 0) {
+      pipedList.push(i);
+      pipeBase[i] = pipeLength;
+      pipeLength += u.stages;
+    }
+  });
 
   // Per partition, an order of the units in which every combinational (0-stage) producer comes
   // before the units that read it in the same cycle.
-  const order: number[][] = [];
+  const idle: Int32Array[] = [];
+  const active: Int32Array[] = [];
+  const operandStart: Int32Array[] = [];
+  const operandSlots: Int32Array[] = [];
+  const slotsAt: (UnitSlot | null)[][] = [];
+  let maxArity = 0;
   for (let t = 0; t < N; t++) {
     const deps: number[][] = units.map(() => []);
-    const indeg = new Array(U).fill(0);
+    const indeg = new Int32Array(U);
     units.forEach((u, i) => {
       if (!u.partitions[t]) return;
       for (let p = 0; p < u.ports; p++) {
@@ -70,91 +149,160 @@ export function runFolded<T>(control: ControlTables, ar: Arithmetic<T>, inputs: 
       }
     });
     const seq: number[] = [];
-    const queue = indeg.map((d, i) => (d === 0 ? i : -1)).filter((i) => i >= 0);
-    while (queue.length) {
-      const i = queue.shift()!;
-      seq.push(i);
-      for (const k of deps[i]) if (--indeg[k] === 0) queue.push(k);
-    }
+    for (let i = 0; i < U; i++) if (indeg[i] === 0) seq.push(i);
+    for (let head = 0; head < seq.length; head++) for (const k of deps[seq[head]]) if (--indeg[k] === 0) seq.push(k);
     if (seq.length < U) throw new Error(`combinational loop among 0-stage units in partition ${t}`);
-    order.push(seq);
+    const idleT: number[] = [];
+    const activeT: number[] = [];
+    const starts: number[] = [];
+    const opSlots: number[] = [];
+    const slotList: (UnitSlot | null)[] = [];
+    for (const i of seq) {
+      const slot = units[i].partitions[t];
+      if (!slot || !slot.op) {
+        idleT.push(i);
+        continue;
+      }
+      activeT.push(i);
+      slotList.push(slot);
+      starts.push(opSlots.length);
+      for (let p = 0; p < slot.arity; p++) {
+        const m = mux[i][p];
+        opSlots.push(slotOfSource(m.sources[m.select[t]!]));
+      }
+      maxArity = Math.max(maxArity, slot.arity);
+    }
+    starts.push(opSlots.length);
+    idle.push(Int32Array.from(idleT));
+    active.push(Int32Array.from(activeT));
+    operandStart.push(Int32Array.from(starts));
+    operandSlots.push(Int32Array.from(opSlots));
+    slotsAt.push(slotList);
   }
 
-  const pipes: Val<T>[][] = units.map((u) => new Array<Val<T>>(u.stages).fill(ar.zero));
-  const unitOut: Val<T>[] = new Array(U).fill(null);
-  const regs: Val<T>[] = new Array(control.registers).fill(ar.zero);
+  const outputsAt: number[][] = Array.from({ length: N }, () => []);
+  control.outputs.forEach((o, k) => outputsAt[o.cycle % N].push(k));
+  const outputSlot = Int32Array.from(control.outputs, (o) => slotOfSource(o.source));
   // The loads of each partition, listed once: a cycle then costs its loads, not the whole file.
-  const loadsAt: { register: number; source: SignalSource }[][] = Array.from({ length: N }, () => []);
+  const loadRegister: number[][] = Array.from({ length: N }, () => []);
+  const loadSlot: number[][] = Array.from({ length: N }, () => []);
   for (const rt of control.registerTables) {
     for (let p = 0; p < N; p++) {
       const load = rt.loads[p];
-      if (load) loadsAt[p].push({ register: rt.register, source: load.source });
+      if (!load) continue;
+      loadRegister[p].push(regBase + rt.register);
+      loadSlot[p].push(slotOfSource(load.source));
     }
   }
-  const loaded: Val<T>[] = [];
+  return {
+    N,
+    U,
+    slots: inputBase + inputNodes.length,
+    regBase,
+    inputBase,
+    zeroSlot,
+    piped: Int32Array.from(pipedList),
+    stagesOf,
+    pipeBase,
+    pipeLength,
+    idle,
+    active,
+    operandStart,
+    operandSlots,
+    slotsAt,
+    inputNodes,
+    inputPartition: Int32Array.from(inputPartition),
+    outputsAt: outputsAt.map((l) => Int32Array.from(l)),
+    outputSlot,
+    loadRegister: loadRegister.map((l) => Int32Array.from(l)),
+    loadSlot: loadSlot.map((l) => Int32Array.from(l)),
+    maxLoads: loadSlot.reduce((m, l) => Math.max(m, l.length), 0),
+    maxArity,
+  };
+}
+
+/**
+ * Runs the folded datapath for `cycles` cycles. Input streams are indexed by iteration: a held
+ * input shows sample l during the whole of iteration l, an input with a slot only in that
+ * partition (garbage otherwise); samples past the end of a stream are zero.
+ */
+export function runFolded<T>(control: ControlTables, ar: Arithmetic<T>, inputs: Record<string, T[]>, cycles: number): FoldedRun<T> {
+  const m = buildFoldedModel(control);
+  const { N, piped, stagesOf, pipeBase, inputBase, zeroSlot } = m;
+  const outputs = control.outputs;
+  // Every readable signal in one array; registers start at zero, units and inputs as the cycle sets them.
+  const vals: Val<T>[] = new Array<Val<T>>(m.slots).fill(null);
+  for (let r = m.regBase; r <= zeroSlot; r++) vals[r] = ar.zero;
+  const pipes: Val<T>[] = new Array<Val<T>>(m.pipeLength).fill(ar.zero);
+  const streams: (T[] | undefined)[] = m.inputNodes.map((id) => inputs[id]);
+  const loaded: Val<T>[] = new Array<Val<T>>(m.maxLoads).fill(null);
+  // One operand array per arity, reused: evalNode reads the operands and keeps none of them.
+  const operandsOf: T[][] = Array.from({ length: m.maxArity + 1 }, (_, a) => new Array<T>(a));
   const strobes: Record<string, Strobe<T>[]> = {};
-  for (const o of control.outputs) strobes[o.node] = [];
+  for (const o of outputs) strobes[o.node] = [];
+  const strobeLists = outputs.map((o) => strobes[o.node]);
+  const outputMode = outputs.map((o) => (ar.output && o.mode !== 'none' ? true : false));
 
-  let cycle = 0;
-  let iteration = 0;
-  let t = 0;
-  const inputValue = (node: string): Val<T> => {
-    const slot = slotOf.get(node);
-    if (slot !== null && slot !== undefined && slot !== t) return null;
-    const s = inputs[node];
-    return s && iteration < s.length ? s[iteration] : ar.zero;
-  };
-  const read = (s: SignalSource): Val<T> => {
-    switch (s.kind) {
-      case 'unit':
-        return unitOut[unitIndex.get(s.unit)!];
-      case 'input':
-        return inputValue(s.node);
-      case 'register':
-        return regs[s.register];
-      case 'zero':
-        return ar.zero;
-    }
-  };
-  const operands: T[] = [];
-
-  for (; cycle < cycles; cycle++) {
-    iteration = Math.floor(cycle / N);
-    t = cycle - iteration * N;
-    // Pipelined units show what they started `stages` cycles ago.
-    for (let i = 0; i < U; i++) if (units[i].stages > 0) unitOut[i] = pipes[i][cycle % units[i].stages];
-    for (const i of order[t]) {
-      const u = units[i];
-      const slot = u.partitions[t];
-      let result: Val<T> = null;
-      if (slot && slot.op) {
-        operands.length = 0;
-        let ok = true;
-        for (let p = 0; p < slot.arity; p++) {
-          const m = mux[i][p];
-          const v = read(m.sources[m.select[t]!]);
-          if (v === null) {
-            ok = false;
-            break;
-          }
-          operands.push(v);
-        }
-        result = ok ? evalNode(ar, slot.node, slot.op, operands, slot.coefficientText ?? slot.coefficient, cycle) : null;
+  for (let cycle = 0; cycle < cycles; cycle++) {
+    const iteration = Math.floor(cycle / N);
+    const t = cycle - iteration * N;
+    // Inputs: a held input shows its sample all iteration, a slotted one only in its partition.
+    for (let k = 0; k < streams.length; k++) {
+      const p = m.inputPartition[k];
+      if (p >= 0 && p !== t) vals[inputBase + k] = null;
+      else {
+        const s = streams[k];
+        vals[inputBase + k] = s && iteration < s.length ? s[iteration] : ar.zero;
       }
-      if (u.stages === 0) unitOut[i] = result;
-      else pipes[i][cycle % u.stages] = result;
+    }
+    // Pipelined units show what they started `stages` cycles ago.
+    for (let k = 0; k < piped.length; k++) {
+      const i = piped[k];
+      vals[i] = pipes[pipeBase[i] + (cycle % stagesOf[i])];
+    }
+    const idle = m.idle[t];
+    for (let k = 0; k < idle.length; k++) {
+      const i = idle[k];
+      if (stagesOf[i] === 0) vals[i] = null;
+      else pipes[pipeBase[i] + (cycle % stagesOf[i])] = null;
+    }
+    const active = m.active[t];
+    const starts = m.operandStart[t];
+    const opSlots = m.operandSlots[t];
+    const slots = m.slotsAt[t];
+    for (let k = 0; k < active.length; k++) {
+      const i = active[k];
+      const slot = slots[k]!;
+      const from = starts[k];
+      const arity = starts[k + 1] - from;
+      const operands = operandsOf[arity];
+      let result: Val<T> = null;
+      let ok = true;
+      for (let p = 0; p < arity; p++) {
+        const v = vals[opSlots[from + p]];
+        if (v === null) {
+          ok = false;
+          break;
+        }
+        operands[p] = v;
+      }
+      if (ok) result = evalNode(ar, slot.node, slot.op!, operands, slot.coefficientText ?? slot.coefficient, cycle);
+      if (stagesOf[i] === 0) vals[i] = result;
+      else pipes[pipeBase[i] + (cycle % stagesOf[i])] = result;
     }
     // End of the cycle: output ports and registers load together.
-    for (const o of control.outputs) {
-      if (o.cycle % N !== t || iteration < o.validAfterIterations) continue;
-      const v = read(o.source);
-      strobes[o.node].push({ cycle: cycle + 1, value: v !== null && ar.output && o.mode !== 'none' ? ar.output(o.node, v, cycle) : v });
+    const outs = m.outputsAt[t];
+    for (let k = 0; k < outs.length; k++) {
+      const o = outs[k];
+      if (iteration < outputs[o].validAfterIterations) continue;
+      const v = vals[m.outputSlot[o]];
+      strobeLists[o].push({ cycle: cycle + 1, value: v !== null && outputMode[o] ? ar.output!(outputs[o].node, v, cycle) : v });
     }
     // Every load reads the values of this cycle before any register changes.
-    const loads = loadsAt[t];
-    loaded.length = loads.length;
-    for (let k = 0; k < loads.length; k++) loaded[k] = read(loads[k].source);
-    for (let k = 0; k < loads.length; k++) regs[loads[k].register] = loaded[k];
+    const regs = m.loadRegister[t];
+    const srcs = m.loadSlot[t];
+    for (let k = 0; k < srcs.length; k++) loaded[k] = vals[srcs[k]];
+    for (let k = 0; k < regs.length; k++) vals[regs[k]] = loaded[k];
   }
   return { cycles, strobes };
 }
@@ -349,19 +497,24 @@ function compare<T>(
   let refIterations = H;
   for (const o of control.outputs) refIterations = Math.max(refIterations, o.firstSample + K);
   const maxBits = opts.maxBits ?? 4096;
-  const guard = ar.name === 'exact' ? (v: T) => decimalBits(v as never) > maxBits : undefined;
+  const guard = ar.name === 'exact' ? (v: T) => decimalExceedsBits(v as never, maxBits) : undefined;
   // Exact runs: every exact value outside its signal's format is what fixed point would overflow on.
   const outOfRange = new Map<number, { count: number; first: number }>();
+  // One range per distinct format, so signals of one format share its scaled bounds.
+  const ranges = new Map<string, DecimalRange>();
   const limits = plan.signals.map((sf) => {
     const { min, max } = rawRange(sf.format);
-    return { min: rawToDecimal(min, sf.format.frac), max: rawToDecimal(max, sf.format.frac) };
+    const key = `${min}/${max}/${sf.format.frac}`;
+    let r = ranges.get(key);
+    if (!r) ranges.set(key, (r = new DecimalRange(rawToDecimal(min, sf.format.frac), rawToDecimal(max, sf.format.frac))));
+    return r;
   });
   const observe =
     ar.name === 'exact'
       ? (v: number, it: number, value: T) => {
           if (graph.nodes[v].kind === 'input') return;
           const x = value as unknown as Decimal;
-          if (decimalLess(x, limits[v].min) || decimalLess(limits[v].max, x)) {
+          if (limits[v].outside(x)) {
             const o = outOfRange.get(v);
             if (o) o.count++;
             else outOfRange.set(v, { count: 1, first: it });
@@ -445,11 +598,6 @@ function decimalNumber(d: Decimal): number {
   return Number.parseFloat(`${d.m}e-${d.e}`);
 }
 
-function decimalLess(a: Decimal, b: Decimal): boolean {
-  const e = Math.max(a.e, b.e);
-  return a.m * 10n ** BigInt(e - a.e) < b.m * 10n ** BigInt(e - b.e);
-}
-
 /**
  * Overflows of the run, and for fixed runs the outputs against the exact model driven by the
  * same samples (each raw input read as the number its format stands for).
@@ -485,7 +633,7 @@ function fixedPointReport<T>(
     const ex = exactArithmetic();
     const streams: Record<string, Decimal[]> = {};
     for (const [id, s] of Object.entries(raw)) streams[id] = s.map((v) => rawToDecimal(v, fmtOf(id).frac));
-    const exact = evaluateReference(design, graph, ex, streams, refIterations, (v) => decimalBits(v) > 4096);
+    const exact = evaluateReference(design, graph, ex, streams, refIterations, (v) => decimalExceedsBits(v, 4096));
     accuracy = [];
     for (const o of control.outputs) {
       const f = fmtOf(o.node);

@@ -22,9 +22,14 @@ export function shiftRound(x: bigint, d: number, mode: RoundingMode): bigint {
   }
 }
 
+// The range of each format object, computed once: fitFormat runs on every fixed-point result.
+const ranges = new WeakMap<NumberFormat, { min: bigint; max: bigint }>();
+
 /** x fitted into the range of f: wrapped modulo 2^bits or saturated; `overflow` when x was outside. */
 export function fitFormat(x: bigint, f: NumberFormat, mode: OverflowMode): { value: bigint; overflow: boolean } {
-  const { min, max } = rawRange(f);
+  let range = ranges.get(f);
+  if (!range) ranges.set(f, (range = rawRange(f)));
+  const { min, max } = range;
   if (x >= min && x <= max) return { value: x, overflow: false };
   if (mode === 'saturate') return { value: x < min ? min : max, overflow: true };
   return { value: f.signed ? BigInt.asIntN(f.bits, x) : BigInt.asUintN(f.bits, x), overflow: true };

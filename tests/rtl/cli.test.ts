@@ -116,7 +116,8 @@ describe('pleat rtl', () => {
     const out = path.join(dir, 'rtl');
     const r = await pleat(['rtl', retimed, '--out', out, '--verify', '--iterations', '40']);
     expect(r.exitCode, r.stderr + r.stdout).toBe(0);
-    for (const f of ['pressure_smoothing.v', 'pressure_smoothing_unit_MUL.v', 'pressure_smoothing_unit_ADD.v', 'pressure_smoothing_tb.v', 'pressure_smoothing.rtl.json']) {
+    // One module file per unit kind and stages (docs/rtl.md): add with 1 stage, mul with 2.
+    for (const f of ['pressure_smoothing.v', 'pressure_smoothing_mul_s2.v', 'pressure_smoothing_add_s1.v', 'pressure_smoothing_tb.v', 'pressure_smoothing.rtl.json']) {
       expect(existsSync(path.join(out, f)), f).toBe(true);
     }
     expect(r.stdout).toMatch(/testbench: PASS pressure_smoothing: 80 samples on 2 outputs, 0 mismatches/);

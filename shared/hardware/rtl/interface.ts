@@ -4,12 +4,11 @@ import type { ControlTables, Design, UnitControl } from '../../types';
 import { boundedIdent, identReason, MAX_IDENT, Names, verilogIdent } from './names';
 import type { RtlOptions, RtlRename } from './types';
 
-/** The signals of one active unit in the top module, and its module name. */
+/** The signals of one active unit in the top module (its module is shared by kind, stages and operations: units.ts). */
 export interface UnitSignals {
   base: string;
   y: string;
   inst: string;
-  module: string;
 }
 
 /** The names of one generated top module. */
@@ -29,6 +28,8 @@ export interface RtlNames {
   /** Units that run something in some partition: only these get a module. */
   activeUnits: UnitControl[];
   unitSig: Map<string, UnitSignals>;
+  /** The scope of module names (the top's and the testbench's are taken); units.ts claims the unit modules'. */
+  moduleNames: Names;
 }
 
 export function interfaceNames(design: Design, control: ControlTables, opts: RtlOptions): RtlNames {
@@ -89,8 +90,7 @@ export function interfaceNames(design: Design, control: ControlTables, opts: Rtl
       base,
       y: names.claim(`${base}_y`),
       inst: names.claim(`${base}_u`),
-      module: moduleNames.claim(boundedIdent(`${top}_unit_${verilogIdent(u.unit)}`, 2 * MAX_IDENT)),
     });
   }
-  return { renamed, names, portOf, validOf, top, tbName, part, iter, regName, activeUnits, unitSig };
+  return { renamed, names, portOf, validOf, top, tbName, part, iter, regName, activeUnits, unitSig, moduleNames };
 }

@@ -60,7 +60,7 @@ export class Names {
 }
 
 /**
- * Longest module name Pleat writes: module files are `<top>_unit_<UNIT>.v`, and file systems
+ * Longest module name Pleat writes: module files are `<top>_<kind>_s<stages>.v`, and file systems
  * refuse names past 255 bytes. Longer identifiers keep their start and a hash of the whole.
  */
 export const MAX_IDENT = 64;
