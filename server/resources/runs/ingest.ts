@@ -29,7 +29,7 @@ export interface StoredRun {
  * every upload to a branch updates is locked only for that statement: uploads to one branch do not
  * queue behind each other's round trips.
  */
-async function ingestOne(ctx: AppContext, project: Project, report: Report, opts: { createdAt?: Date } = {}): Promise<StoredRun> {
+async function ingestOne(ctx: AppContext, project: Project, report: Report, opts: IngestOptions = {}): Promise<StoredRun> {
   const { designs, run } = summarizeReport(report);
   const git = report.git;
   const branch = git.branch!;
@@ -61,7 +61,7 @@ async function ingestOne(ctx: AppContext, project: Project, report: Report, opts
       bind: [
         project.id, branch, commit, git.baseBranch ?? null, git.baseCommit?.toLowerCase() ?? null, report.verdict,
         report.tool.version, run.designCount, run.failedCount, run.errorCount, run.utilization, run.registerMinimum,
-        run.violationCount, JSON.stringify(report), opts.createdAt ?? null,
+        run.violationCount, opts.reportText ?? JSON.stringify(report), opts.createdAt ?? null,
         designs.map((d) => d.designName), designs.map((d) => d.file), designs.map((d) => d.status),
         designs.map((d) => d.utilization), designs.map((d) => d.registerMinimum), designs.map((d) => d.negativeEdgeCount),
         designs.map((d) => d.retimingFeasible), designs.map((d) => d.violationCount),
@@ -81,10 +81,15 @@ async function ingestOne(ctx: AppContext, project: Project, report: Report, opts
   return { id: existing!.id, created: false, createdAt: existing!.created_at, row: existing! };
 }
 
-interface Pending {
+export interface IngestOptions {
+  createdAt?: Date;
+  /** The report as it was sent, when it is at hand: stored as it is instead of serialised again. */
+  reportText?: string;
+}
+
+interface Pending extends IngestOptions {
   project: Project;
   report: Report;
-  createdAt?: Date;
   resolve: (r: StoredRun) => void;
   reject: (e: unknown) => void;
 }
@@ -97,14 +102,14 @@ const queues = new WeakMap<AppContext, { items: Pending[]; running: boolean }>()
  * Stores one report as a run. Alone, it is one statement; with other uploads waiting, they are
  * written by one statement together (ingestBatch), each still with its own result.
  */
-export function ingestRun(ctx: AppContext, project: Project, report: Report, opts: { createdAt?: Date } = {}): Promise<StoredRun> {
+export function ingestRun(ctx: AppContext, project: Project, report: Report, opts: IngestOptions = {}): Promise<StoredRun> {
   return new Promise<StoredRun>((resolve, reject) => {
     let q = queues.get(ctx);
     if (!q) {
       q = { items: [], running: false };
       queues.set(ctx, q);
     }
-    q.items.push({ project, report, createdAt: opts.createdAt, resolve, reject });
+    q.items.push({ project, report, createdAt: opts.createdAt, reportText: opts.reportText, resolve, reject });
     if (!q.running) void drain(ctx, q);
   });
 }
@@ -116,14 +121,14 @@ async function drain(ctx: AppContext, q: { items: Pending[]; running: boolean })
       const batch = q.items.splice(0, MAX_BATCH);
       if (batch.length === 1) {
         const p = batch[0]!;
-        await ingestOne(ctx, p.project, p.report, { createdAt: p.createdAt }).then(p.resolve, p.reject);
+        await ingestOne(ctx, p.project, p.report, p).then(p.resolve, p.reject);
         continue;
       }
       try {
         await ingestBatch(ctx, batch);
       } catch {
         // One bad upload must not fail the others: write them one by one, each with its own outcome.
-        for (const p of batch) await ingestOne(ctx, p.project, p.report, { createdAt: p.createdAt }).then(p.resolve, p.reject);
+        for (const p of batch) await ingestOne(ctx, p.project, p.report, p).then(p.resolve, p.reject);
       }
     }
   } finally {
@@ -184,7 +189,7 @@ async function ingestBatch(ctx: AppContext, batch: Pending[]): Promise<void> {
         col((r) => r.p.report.git.baseBranch ?? null), col((r) => r.p.report.git.baseCommit?.toLowerCase() ?? null),
         col((r) => r.p.report.verdict), col((r) => r.p.report.tool.version), col((r) => r.run.designCount),
         col((r) => r.run.failedCount), col((r) => r.run.errorCount), col((r) => r.run.utilization), col((r) => r.run.registerMinimum),
-        col((r) => r.run.violationCount), col((r) => JSON.stringify(r.p.report)), col((r) => r.p.createdAt ?? null), runs.map((_, i) => i),
+        col((r) => r.run.violationCount), col((r) => r.p.reportText ?? JSON.stringify(r.p.report)), col((r) => r.p.createdAt ?? null), runs.map((_, i) => i),
         dcol((x) => x.ord), dcol((x) => x.k), dcol((x) => x.d.designName), dcol((x) => x.d.file), dcol((x) => x.d.status),
         dcol((x) => x.d.utilization), dcol((x) => x.d.registerMinimum), dcol((x) => x.d.negativeEdgeCount),
         dcol((x) => x.d.retimingFeasible), dcol((x) => x.d.violationCount),
@@ -206,7 +211,7 @@ async function ingestBatch(ctx: AppContext, batch: Pending[]): Promise<void> {
       settledKeys.add(k);
       p.resolve({ id: row.id, created: true, createdAt: row.created_at, row });
     } else {
-      await ingestOne(ctx, p.project, p.report, { createdAt: p.createdAt }).then(p.resolve, p.reject);
+      await ingestOne(ctx, p.project, p.report, p).then(p.resolve, p.reject);
     }
   }
 }

@@ -10,7 +10,7 @@ import type { Project } from '../../db/models';
 import { projectAccess } from '../../http/access';
 import { resolveCaller } from '../../http/auth';
 import { HttpError, allow, badRequest, notFound, unauthorized } from '../../http/errors';
-import { pgLimiter } from '../../http/limits';
+import { pgLimits } from '../../http/limits';
 import { idParam } from '../../http/validate';
 import { afterResponse } from '../../mail/mailer';
 import { compareRun, RUN_COLUMNS, type DesignRow, type RunRow } from './compare';
@@ -26,6 +26,17 @@ function checkUpload(body: unknown): Report {
   const checked = checkUploadReport(body);
   if (!checked.ok) throw badRequest(`The report is not valid: ${checked.message}.`, checked.problems);
   return checked.report;
+}
+
+/** JSON.parse as express.json does it (strict: an object or an array), with its 400 invalid-json. */
+function parseJson(text: string): unknown {
+  const first = /^[\x20\x09\x0a\x0d]*(.)/.exec(text)?.[1];
+  try {
+    if (first !== '{' && first !== '[') throw new SyntaxError('not an object or array');
+    return JSON.parse(text);
+  } catch {
+    throw new HttpError(400, 'invalid-json', 'The request body is not valid JSON.');
+  }
 }
 
 export function presentRun(r: RunRow): Sent<Omit<RunListItem, 'designs'>> {
@@ -225,20 +236,23 @@ export function runOneQueryRoutes(ctx: AppContext): Router {
     res.locals.project = project;
     next();
   };
-  // Per CI token: a burst limit per minute and a quota per day, counted in PostgreSQL.
+  // Per CI token: a burst limit per minute and a quota per day, counted in PostgreSQL by one statement.
   const tokenKey = (req: Request) => String(req.actor?.kind === 'ci' ? req.actor.token.id : 0);
-  const perMinute = pgLimiter(q, {
-    prefix: 'upload-minute:', windowMs: 60_000, limit: ctx.config.upload.perMinute, key: tokenKey,
-    message: `At most ${ctx.config.upload.perMinute} uploads a minute per CI token.`,
+  const limits = pgLimits(q, {
+    key: tokenKey,
+    windows: [
+      { prefix: 'upload-minute:', windowMs: 60_000, limit: ctx.config.upload.perMinute, message: `At most ${ctx.config.upload.perMinute} uploads a minute per CI token.` },
+      { prefix: 'upload-day:', windowMs: 24 * 3600_000, limit: ctx.config.upload.perDay, message: `This CI token has used its quota of ${ctx.config.upload.perDay} uploads a day.` },
+    ],
   });
-  const perDay = pgLimiter(q, {
-    prefix: 'upload-day:', windowMs: 24 * 3600_000, limit: ctx.config.upload.perDay, key: tokenKey,
-    message: `This CI token has used its quota of ${ctx.config.upload.perDay} uploads a day.`,
-  });
-  router.post('/api/projects/:slug/runs', uploadAccess, perMinute, perDay, express.json({ limit: ctx.config.maxReportBytes }), async (req, res) => {
+  // The body is kept as text: it is parsed once for the checks and stored as sent (PostgreSQL
+  // parses it into jsonb), not serialised again from the parsed objects.
+  const bodyText = express.text({ type: 'application/json', limit: ctx.config.maxReportBytes });
+  router.post('/api/projects/:slug/runs', uploadAccess, limits, bodyText, async (req, res) => {
     const project = res.locals.project as Project;
-    const report = checkUpload(req.body);
-    const stored = await ingestRun(ctx, project, report);
+    const text = typeof req.body === 'string' ? req.body : null;
+    const report = checkUpload(text === null ? req.body : parseJson(text));
+    const stored = await ingestRun(ctx, project, report, { reportText: text ?? undefined });
     const run = stored.row;
     if (stored.created) {
       afterResponse(res, ctx.mail, () => notifyWatchers(ctx, project, stored.row, report));
