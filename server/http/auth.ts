@@ -153,16 +153,17 @@ export function callerSql(ctx: AppContext, p: Presented, first: number): { from:
 
 type ModelClass = ModelStatic<Model>;
 
-/** `alias.column AS "caller.attribute"` for every attribute of a model. */
-function columnsOf(model: ModelClass, alias: string): string {
-  return Object.entries(model.getAttributes() as Record<string, { field?: string }>).map(([attr, a]) => `${alias}.${a.field ?? attr} AS "caller.${attr}"`).join(', ');
+/** `alias.column AS "prefix.attribute"` for every attribute of a model: its columns beside another table's in one row. */
+export function columnsOf(model: ModelClass, alias: string, prefix = 'caller'): string {
+  return Object.entries(model.getAttributes() as Record<string, { field?: string }>)
+    .map(([attr, a]) => `${alias}.${a.field ?? attr} AS "${prefix}.${attr}"`).join(', ');
 }
 
-/** The model instance of the `caller.*` columns of a row, or null when the credential was refused. */
-function modelFrom<T>(model: ModelClass, row: Record<string, unknown> | undefined): T | null {
-  if (!row || row['caller.id'] === null || row['caller.id'] === undefined) return null;
+/** The model instance of the `prefix.*` columns of a row, or null when there is none (its id is null). */
+export function modelFrom<T>(model: ModelClass, row: Record<string, unknown> | undefined, prefix = 'caller'): T | null {
+  if (!row || row[`${prefix}.id`] === null || row[`${prefix}.id`] === undefined) return null;
   const values: Record<string, unknown> = {};
-  for (const attr of Object.keys(model.getAttributes())) values[attr] = row[`caller.${attr}`];
+  for (const attr of Object.keys(model.getAttributes())) values[attr] = row[`${prefix}.${attr}`];
   return model.build(values, { isNewRecord: false, raw: true }) as unknown as T;
 }
 

@@ -5,7 +5,8 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Project, User } from '../../db/models';
 import { SESSION_COOKIE } from '../../http/auth';
-import { cookieFor, makeCiToken, makeMember, makeProject, makeReport, makeUser } from '../../test/factories';
+import { cookieFor, makeCiToken, makeMember, makeProject, makeReport, makeUser, randomCommit } from '../../test/factories';
+import { ingestRun } from './ingest';
 import { startTestServer, type TestServer } from '../../test/server';
 
 let t: TestServer;
@@ -58,6 +59,27 @@ describe('history page: the session is checked with the project', () => {
     expect((await history(cookie)).status).toBe(200);
     expect((await t.http().delete(`/api/projects/${project.slug}/members/${engineer.id}`).set('Cookie', asLead)).status).toBe(204);
     expect((await history(cookie)).status).toBe(404);
+  });
+
+  it('gives the page read in the same query to a member and to an admin who is not one, cursor included', async () => {
+    const p = await makeProject(t.ctx);
+    for (let i = 0; i < 3; i++) await ingestRun(t.ctx, p, makeReport({ branch: 'main', commit: randomCommit() }));
+    const admin = await makeUser(t.ctx, { isAdmin: true });
+    const viewer = await makeMember(t.ctx, p, 'viewer');
+    const read = (u: User, q = '') => t.http().get(`/api/projects/${p.slug}/branches/main/runs?limit=2${q}`).set('Cookie', cookieFor(t.ctx, u));
+    for (const who of [admin, viewer]) {
+      const first = await read(who);
+      expect(first.status).toBe(200);
+      expect(first.body.runs).toHaveLength(2);
+      expect(first.body.runs[0].designs.length).toBeGreaterThan(0);
+      const second = await read(who, `&cursor=${encodeURIComponent(first.body.nextCursor)}`);
+      expect(second.body.runs).toHaveLength(1);
+      expect(second.body.nextCursor).toBeNull();
+    }
+    // An empty branch is an empty page, not a refusal.
+    const none = await t.http().get(`/api/projects/${p.slug}/branches/nothing-here/runs`).set('Cookie', cookieFor(t.ctx, viewer));
+    expect(none.status).toBe(200);
+    expect(none.body).toEqual({ runs: [], nextCursor: null });
   });
 
   it('anonymous, a forged cookie and a CI token are refused as on every route', async () => {

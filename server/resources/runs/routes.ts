@@ -177,8 +177,7 @@ export function runOneQueryRoutes(ctx: AppContext): Router {
   const q = ctx.db.sequelize;
 
   router.get('/api/projects/:slug/branches/:branch/runs', async (req, res) => {
-    const { project, role } = await projectAccess(ctx, req, { slug: req.params.slug });
-    allow(canReadRuns(role));
+    // The request's own parameters are checked before the query that reads the page.
     const limit = limitParam(req.query.limit, 50, 200);
     const cursor = queryString(req, 'cursor');
     const design = queryString(req, 'design');
@@ -187,37 +186,34 @@ export function runOneQueryRoutes(ctx: AppContext): Router {
     const offset = offsetText === undefined ? 0 : Number(offsetText);
     if (!Number.isInteger(offset) || offset < 0 || offset > 1_000_000 || (offsetText !== undefined && !/^\d+$/.test(offsetText))) throw badRequest('offset must be an integer from 0 to 1000000.');
     if (cursor && offset) throw badRequest('Give either cursor or offset, not both.');
-    const bind: unknown[] = [project.id, req.params.branch];
-    let where = 'project_id = $1 AND branch = $2';
-    if (cursor) {
-      const c = decodeCursor(cursor);
-      bind.push(c.at, c.id);
-      where += ` AND (created_at, id) < ($${bind.length - 1}, $${bind.length})`;
-    }
-    let designParam = '';
-    if (design) {
-      bind.push(design);
-      designParam = `$${bind.length}`;
-      where += ` AND EXISTS (SELECT 1 FROM run_designs d WHERE d.run_id = runs.id AND d.design_name = ${designParam})`;
-    }
-    bind.push(limit + 1);
-    // One round trip: the page of runs and, beside each, its design rows; both scans can be
-    // index-only on the covering indexes of migration 008.
-    const designFilter = designParam ? ` AND rd.design_name = ${designParam}` : '';
-    const rows = await q.query<RunRow & { designs: DesignRow[] | null }>(
-      `SELECT r.*, d.designs FROM (
-         SELECT ${RUN_COLUMNS} FROM runs WHERE ${where} ORDER BY created_at DESC, id DESC LIMIT $${bind.length} OFFSET ${offset}
-       ) r
-       LEFT JOIN LATERAL (
-         SELECT json_agg(json_build_object('run_id', rd.run_id, 'design_name', rd.design_name, 'file', rd.file, 'status', rd.status,
-                  'utilization', rd.utilization, 'register_minimum', rd.register_minimum, 'negative_edge_count', rd.negative_edge_count,
-                  'retiming_feasible', rd.retiming_feasible, 'violation_count', rd.violation_count, 'factor', rd.factor,
-                  'unit_count', rd.unit_count, 'latency_added', rd.latency_added) ORDER BY rd.id) AS designs
-         FROM run_designs rd WHERE rd.run_id = r.id${designFilter}
-       ) d ON true
-       ORDER BY r.created_at DESC, r.id DESC`,
-      { bind, type: QueryTypes.SELECT },
-    );
+    const at = cursor ? decodeCursor(cursor) : null;
+    const branch = req.params.branch;
+    // The page of runs and, beside each, its design rows (both scans can be index-only on the
+    // covering indexes of migration 008), read in the same round trip as the caller and the project.
+    const pageOf = (projectId: string, bind: unknown[]) => {
+      const param = (v: unknown) => `$${bind.push(v)}`;
+      let where = `project_id = ${projectId} AND branch = ${param(branch)}`;
+      if (at) where += ` AND (created_at, id) < (${param(at.at)}::timestamptz, ${param(at.id)}::int)`;
+      const designParam = design ? param(design) : '';
+      if (design) where += ` AND EXISTS (SELECT 1 FROM run_designs d WHERE d.run_id = runs.id AND d.design_name = ${designParam})`;
+      const designFilter = designParam ? ` AND rd.design_name = ${designParam}` : '';
+      return {
+        sql: `SELECT r.*, d.designs FROM (
+           SELECT ${RUN_COLUMNS} FROM runs WHERE ${where} ORDER BY created_at DESC, id DESC LIMIT ${param(limit + 1)}::int OFFSET ${offset}
+         ) r
+         LEFT JOIN LATERAL (
+           SELECT json_agg(json_build_object('run_id', rd.run_id, 'design_name', rd.design_name, 'file', rd.file, 'status', rd.status,
+                    'utilization', rd.utilization, 'register_minimum', rd.register_minimum, 'negative_edge_count', rd.negative_edge_count,
+                    'retiming_feasible', rd.retiming_feasible, 'violation_count', rd.violation_count, 'factor', rd.factor,
+                    'unit_count', rd.unit_count, 'latency_added', rd.latency_added) ORDER BY rd.id) AS designs
+           FROM run_designs rd WHERE rd.run_id = r.id${designFilter}
+         ) d ON true`,
+        orderBy: 'r.created_at DESC, r.id DESC',
+      };
+    };
+    const { role, rows: found } = await projectAccess(ctx, req, { slug: req.params.slug }, pageOf);
+    allow(canReadRuns(role));
+    const rows = found as unknown as (RunRow & { designs: DesignRow[] | null })[];
     const page = rows.slice(0, limit);
     send<RunPage>(res, {
       runs: page.map((r) => ({ ...presentRun(r), designs: (r.designs ?? []).map(presentDesign) })),
