@@ -22,6 +22,20 @@ export interface StoredRun {
   created: boolean;
   createdAt: Date;
   row: RunRow;
+  /**
+   * Read by the statement that wrote a new run: whether anyone watches its branch and whether the
+   * project has a git host, so that an upload with neither (the usual case) costs no queries after it.
+   */
+  watched?: boolean;
+  hosted?: boolean;
+}
+
+type WrittenRow = RunRow & { watched: boolean; hosted: boolean };
+
+/** A new run as written, its two flags apart from its row. */
+function written(r: WrittenRow): StoredRun {
+  const { watched, hosted, ...row } = r;
+  return { id: row.id, created: true, createdAt: row.created_at, row, watched, hosted };
 }
 
 /**
@@ -36,7 +50,7 @@ async function ingestOne(ctx: AppContext, project: Project, report: Report, opts
   const commit = git.commit!.toLowerCase();
   const floor = report.rules?.min_utilization?.value;
   const q = ctx.db.sequelize;
-  const inserted = await q.query<RunRow>(
+  const inserted = await q.query<WrittenRow>(
     `WITH ins AS (
        INSERT INTO runs (project_id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count,
                          failed_count, error_count, utilization, register_minimum, violation_count, report, created_at,
@@ -56,7 +70,8 @@ async function ingestOne(ctx: AppContext, project: Project, report: Report, opts
        ON CONFLICT (project_id, name) DO UPDATE SET last_run_id = EXCLUDED.last_run_id, last_run_at = EXCLUDED.last_run_at
        WHERE (branches.last_run_at, coalesce(branches.last_run_id, 0)) < (EXCLUDED.last_run_at, EXCLUDED.last_run_id)
      )
-     SELECT * FROM ins`,
+     SELECT ins.*, EXISTS (SELECT 1 FROM watches w WHERE w.project_id = ins.project_id AND w.branch = ins.branch) AS watched,
+            EXISTS (SELECT 1 FROM host_connections h WHERE h.project_id = ins.project_id) AS hosted FROM ins`,
     {
       bind: [
         project.id, branch, commit, git.baseBranch ?? null, git.baseCommit?.toLowerCase() ?? null, report.verdict,
@@ -72,7 +87,7 @@ async function ingestOne(ctx: AppContext, project: Project, report: Report, opts
     },
   );
   const row = inserted[0];
-  if (row) return { id: row.id, created: true, createdAt: row.created_at, row };
+  if (row) return written(row);
   // Uploaded before (or by a concurrent request that committed first): keep the first run.
   const [existing] = await q.query<RunRow>(
     `SELECT ${RUN_COLUMNS} FROM runs WHERE project_id = $1 AND branch = $2 AND commit = $3`,
@@ -151,7 +166,7 @@ async function ingestBatch(ctx: AppContext, batch: Pending[]): Promise<void> {
   const col = <T>(f: (r: (typeof runs)[number]) => T) => runs.map(f);
   const designRows = runs.flatMap((r, ord) => r.designs.map((d, k) => ({ ord, k, d })));
   const dcol = <T>(f: (x: (typeof designRows)[number]) => T) => designRows.map(f);
-  const rows = await ctx.db.sequelize.query<RunRow & { ord: number }>(
+  const rows = await ctx.db.sequelize.query<WrittenRow & { ord: number }>(
     `WITH input AS (
        SELECT * FROM unnest($1::int[], $2::text[], $3::text[], $4::text[], $5::text[], $6::text[], $7::text[], $8::int[], $9::int[],
                             $10::int[], $11::float8[], $12::int[], $13::int[], $14::text[], $15::timestamptz[], $16::int[])
@@ -182,7 +197,8 @@ async function ingestBatch(ctx: AppContext, batch: Pending[]): Promise<void> {
        ON CONFLICT (project_id, name) DO UPDATE SET last_run_id = EXCLUDED.last_run_id, last_run_at = EXCLUDED.last_run_at
        WHERE (branches.last_run_at, coalesce(branches.last_run_id, 0)) < (EXCLUDED.last_run_at, EXCLUDED.last_run_id)
      )
-     SELECT * FROM matched`,
+     SELECT m.*, EXISTS (SELECT 1 FROM watches w WHERE w.project_id = m.project_id AND w.branch = m.branch) AS watched,
+            EXISTS (SELECT 1 FROM host_connections h WHERE h.project_id = m.project_id) AS hosted FROM matched m`,
     {
       bind: [
         col((r) => r.p.project.id), col((r) => r.p.report.git.branch!), col((r) => r.p.report.git.commit!.toLowerCase()),
@@ -197,10 +213,10 @@ async function ingestBatch(ctx: AppContext, batch: Pending[]): Promise<void> {
       type: QueryTypes.SELECT,
     },
   );
-  const created = new Map<string, RunRow>();
+  const created = new Map<string, WrittenRow>();
   for (const row of rows) {
     const { ord, ...run } = row;
-    created.set(key(runs[ord]!.p), run as RunRow);
+    created.set(key(runs[ord]!.p), run);
   }
   // Settled in upload order; a run another request wrote first is read back as before.
   const settledKeys = new Set<string>();
@@ -209,7 +225,7 @@ async function ingestBatch(ctx: AppContext, batch: Pending[]): Promise<void> {
     const row = created.get(k);
     if (row && !settledKeys.has(k)) {
       settledKeys.add(k);
-      p.resolve({ id: row.id, created: true, createdAt: row.created_at, row });
+      p.resolve(written(row));
     } else {
       await ingestOne(ctx, p.project, p.report, p).then(p.resolve, p.reject);
     }

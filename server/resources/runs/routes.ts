@@ -250,11 +250,11 @@ export function runOneQueryRoutes(ctx: AppContext): Router {
     const report = checkUpload(text === null ? req.body : parseJson(text));
     const stored = await ingestRun(ctx, project, report, { reportText: text ?? undefined });
     const run = stored.row;
-    if (stored.created) {
-      afterResponse(res, ctx.mail, () => notifyWatchers(ctx, project, stored.row, report));
-      // The pull request's status and summary: after the response, so the host never delays or fails the upload.
-      afterResponse(res, ctx.mail, () => postHostFeedback(ctx, project, stored.row, report));
-    }
+    // Only when the write found someone watching the branch or a git host (the flags are unset,
+    // hence true, for a caller that did not read them).
+    if (stored.created && stored.watched !== false) afterResponse(res, ctx.mail, () => notifyWatchers(ctx, project, stored.row, report));
+    // The pull request's status and summary: after the response, so the host never delays or fails the upload.
+    if (stored.created && stored.hosted !== false) afterResponse(res, ctx.mail, () => postHostFeedback(ctx, project, stored.row, report));
     res.status(stored.created ? 201 : 200);
     send<UploadResult>(res, {
       created: stored.created,
