@@ -8,9 +8,14 @@
 //    (default 100,000, bulk-inserted with generate_series), first page and a deep cursor page, of
 //    the branch list and of one run with its comparison, each against the bare route's p95 at the
 //    same concurrency.
+//  - analysis beside reads: the history page's p95 while POST /api/analyze works through a
+//    100,000-edge design (one after another for the whole measurement), against the same page
+//    measured just before without it: the worker threads must keep the request thread free.
 // Options: --runs N (stored runs, default 100000), --duration S (seconds per measurement,
 // default 5), --connections C (default 10), --json FILE, --no-docs (do not write docs/performance.md),
-// --keep-db (keep the database pleat_bench afterwards).
+// --keep-db (keep the database pleat_bench afterwards), --analyze-edges N (the design's size, default
+// 100000; 0 leaves the measurement out), --cpu-prof DIR (the server runs under node --cpu-prof and
+// writes its profile there when it stops).
 import { execFileSync } from 'node:child_process';
 import { readFileSync, writeFileSync, existsSync } from 'node:fs';
 import { cpus, loadavg } from 'node:os';
@@ -18,6 +23,8 @@ import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { parseArgs } from 'node:util';
 import pg from 'pg';
+import bcrypt from 'bcryptjs';
+import { generateDesign } from './gen-design.mjs';
 import { buildAndMigrate, dropDatabase, freshDatabase, load, loginCookie, postgres, seedProject, serverEnv, startServer } from './server-load.mjs';
 
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
@@ -30,12 +37,15 @@ const { values: args } = parseArgs({
     json: { type: 'string' },
     'no-docs': { type: 'boolean', default: false },
     'keep-db': { type: 'boolean', default: false },
+    'analyze-edges': { type: 'string', default: '100000' },
+    'cpu-prof': { type: 'string' },
   },
 });
 const STORED = Number(args.runs);
 const DURATION = Number(args.duration);
 const CONNECTIONS = Number(args.connections);
 const JSON_OUT = args.json ?? null;
+const ANALYZE_EDGES = Number(args['analyze-edges']);
 const WRITE_DOCS = !args['no-docs'];
 const say = (m) => process.stderr.write(`bench-server: ${m}\n`);
 const loadAtStart = loadavg()[0];
@@ -64,6 +74,11 @@ const password = 'bench password';
 const ciToken = 'pleat_ci_bench_' + 'x'.repeat(40);
 const { projectId, email } = await seedProject(client, { slug: 'bench', name: 'Bench', password, token: ciToken });
 const project = { id: projectId };
+// An engineer for POST /api/analyze (the viewer may not try designs).
+const engineerEmail = 'engineer@bench.test';
+const { rows: [engineer] } = await client.query(
+  `INSERT INTO users (email, name, password_hash) VALUES ($1, 'Engineer', $2) RETURNING id`, [engineerEmail, bcrypt.hashSync(password, 4)]);
+await client.query(`INSERT INTO memberships (project_id, user_id, role) VALUES ($1, $2, 'engineer')`, [projectId, engineer.id]);
 
 // N stored runs on one branch, one a minute back in time, two designs each; a small report body
 // (history pages never read it).
@@ -106,14 +121,27 @@ const deepCursor = `${mid.created_at.toISOString()},${mid.id}`;
 say(`inserted in ${insertSeconds.toFixed(1)} s`);
 
 // ---------------------------------------------------------------- the server
-const { base, stop } = await startServer(root, env);
+const nodeArgs = args['cpu-prof'] ? ['--cpu-prof', '--cpu-prof-dir', path.resolve(args['cpu-prof'])] : [];
+const { base, stop, server } = await startServer(root, env, { nodeArgs });
 const cookie = await loginCookie(base, email, password);
+const engineerCookie = await loginCookie(base, engineerEmail, password);
+
+// A figure that a loaded machine disturbs far less than latency: the server process's CPU time
+// per answered request (utime + stime of /proc/<pid>/stat, in clock ticks of 10 ms). Requests
+// still in flight when a measurement ends are counted but not answered, so at a few requests a
+// second it reads high.
+const serverCpuMs = () => {
+  const f = readFileSync(`/proc/${server.pid}/stat`, 'utf8').split(') ')[1].split(' ');
+  return (Number(f[11]) + Number(f[12])) * 10;
+};
 
 /** One autocannon measurement at the benchmark's connection count. */
 async function measure(name, { duration = DURATION, ...request }) {
+  const c0 = serverCpuMs();
   const out = { name, ...(await load(base, { connections: CONNECTIONS, duration, request })) };
+  out.cpuMsPerRequest = (serverCpuMs() - c0) / out.requests;
   if (out.errors) throw new Error(`${name}: unexpected statuses ${JSON.stringify(out.statuses)}`);
-  say(`${name}: ${out.perSecond.toFixed(0)}/s, p95 ${out.p95.toFixed(2)} ms (${JSON.stringify(out.statuses)})`);
+  say(`${name}: ${out.perSecond.toFixed(0)}/s, p95 ${out.p95.toFixed(2)} ms, ${out.cpuMsPerRequest.toFixed(2)} ms server CPU per request (${JSON.stringify(out.statuses)})`);
   return out;
 }
 
@@ -134,17 +162,18 @@ async function paired(name, o) {
 
 const bareDb = await paired('GET /api/health (one SELECT 1)', { path: '/api/health' });
 let n = 0;
-const body = JSON.stringify(report);
+const body = JSON.stringify({ ...report, git: { branch: 'ingest', commit: 'c'.repeat(40) } });
+const [bodyHead, bodyTail] = body.split('c'.repeat(40));
 const ingest = await paired('ingestion POST /api/projects/bench/runs', {
   path: '/api/projects/bench/runs',
   method: 'POST',
   headers: { 'content-type': 'application/json', authorization: `Bearer ${ciToken}` },
   body,
+  // The commit spliced into the text: parsing and serialising 29 KiB per request here would take
+  // the server's CPU on a small machine and be measured as the server's cost.
   setupRequest: (req) => {
     n++;
-    const r = JSON.parse(body);
-    r.git = { branch: 'ingest', commit: n.toString(16).padStart(40, 'a') };
-    return { ...req, body: JSON.stringify(r) };
+    return { ...req, body: `${bodyHead}${n.toString(16).padStart(40, 'a')}${bodyTail}` };
   },
 });
 const hdr = { cookie };
@@ -160,6 +189,37 @@ const deep = await paired('history page at a deep cursor (middle of the branch)'
 const filtered = await paired('history page filtered by design', {
   path: '/api/projects/bench/branches/main/runs?limit=50&design=fir', headers: hdr,
 });
+// The history page while the analysis threads work through a large design, one request after
+// another for the whole measurement, against the same page measured just before without it.
+let analysis = null;
+if (ANALYZE_EDGES > 0) {
+  const text = generateDesign({ edges: ANALYZE_EDGES, seed: 7 }).text;
+  const form = () => {
+    const f = new FormData();
+    f.set('design', new Blob([text], { type: 'application/yaml' }), 'big.fold.yaml');
+    return f;
+  };
+  const page = { path: '/api/projects/bench/branches/main/runs?limit=50', headers: hdr };
+  const quiet = await measure('history page, no analysis running', page);
+  let running = true;
+  const answers = [];
+  const loop = (async () => {
+    while (running) {
+      const t1 = performance.now();
+      const r = await fetch(`${base}/api/analyze`, { method: 'POST', headers: { cookie: engineerCookie }, body: form() });
+      await r.arrayBuffer();
+      answers.push({ status: r.status, ms: performance.now() - t1 });
+    }
+  })();
+  // The first analysis has begun before the reads are measured.
+  await new Promise((r) => setTimeout(r, 500));
+  const busy = await measure(`history page while ${ANALYZE_EDGES.toLocaleString('en')}-edge designs are analysed`, page);
+  running = false;
+  await loop;
+  if (answers.some((a) => a.status !== 200)) throw new Error(`analysis: statuses ${answers.map((a) => a.status).join(', ')}`);
+  analysis = { quiet, busy, analyses: answers };
+  say(`analyses: ${answers.length}, each ${answers.map((a) => (a.ms / 1000).toFixed(1)).join(', ')} s`);
+}
 const branches = await paired('branch list with trends', { path: '/api/projects/bench/branches', headers: hdr });
 const oneRun = await paired('one run with its comparison', { path: `/api/runs/${mid.id}`, headers: hdr });
 
@@ -173,13 +233,14 @@ if (!args['keep-db']) await dropDatabase(pgUrl, DB);
 const results = {
   machine: { cpus: cpus().length, cpu: cpus()[0]?.model ?? '?', node: process.version },
   stored: STORED, insertSeconds, durationSeconds: DURATION, connections: CONNECTIONS, reportBytes: body.length,
-  ingestedRuns: Number(ingested), pairs,
+  ingestedRuns: Number(ingested), pairs, analysis,
 };
 const fmt = (x, d = 1) => x.toLocaleString('en', { maximumFractionDigits: d, minimumFractionDigits: d });
 const line = (label, p, unit, rate) => [
   label,
   `${fmt(p.target.perSecond, 0)} ${unit}`,
   `${fmt(p.target.p95, 2)} ms`,
+  `${fmt(p.target.cpuMsPerRequest, 2)} ms`,
   `${fmt(p.bare.perSecond, 0)} req/s, p95 ${fmt(p.bare.p95, 2)} ms`,
   rate ? `${fmt(p.target.perSecond / p.bare.perSecond, 3)} of bare req/s` : `${fmt(p.target.p95 / p.bare.p95, 1)}x bare p95`,
 ];
@@ -193,7 +254,17 @@ const rowsMd = [
   line('branch list with 12-run trends', branches, 'req/s', false),
   line('one run with its comparison against the base branch', oneRun, 'req/s', false),
 ];
-const table = ['| measurement | throughput | p95 latency | bare route just before | ratio |', '| --- | --- | --- | --- | --- |', ...rowsMd.map((r) => `| ${r.join(' | ')} |`)].join('\n');
+if (analysis) {
+  rowsMd.push([
+    `branch history while ${ANALYZE_EDGES.toLocaleString('en')}-edge designs are analysed (${analysis.analyses.length} analyses)`,
+    `${fmt(analysis.busy.perSecond, 0)} req/s`,
+    `${fmt(analysis.busy.p95, 2)} ms`,
+    `${fmt(analysis.busy.cpuMsPerRequest, 2)} ms`,
+    `without analysis just before: ${fmt(analysis.quiet.perSecond, 0)} req/s, p95 ${fmt(analysis.quiet.p95, 2)} ms`,
+    `${fmt(analysis.busy.p95 / analysis.quiet.p95, 1)}x the p95 without`,
+  ]);
+}
+const table = ['| measurement | throughput | p95 latency | server CPU per request | bare route just before | ratio |', '| --- | --- | --- | --- | --- | --- |', ...rowsMd.map((r) => `| ${r.join(' | ')} |`)].join('\n');
 process.stdout.write(`\n${table}\n\n`);
 if (JSON_OUT) writeFileSync(JSON_OUT, JSON.stringify(results, null, 2));
 

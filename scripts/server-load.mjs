@@ -93,10 +93,10 @@ function freePort() {
   });
 }
 
-/** Starts `dist/server/main.js serve` and waits for its liveness route; `log()` is what it wrote on standard error. */
-export async function startServer(root, env) {
+/** Starts `dist/server/main.js serve` (with `nodeArgs` for node, e.g. --cpu-prof) and waits for its liveness route; `log()` is what it wrote on standard error. */
+export async function startServer(root, env, { nodeArgs = [] } = {}) {
   const port = await freePort();
-  const server = spawn(process.execPath, ['dist/server/main.js', 'serve'], {
+  const server = spawn(process.execPath, [...nodeArgs, 'dist/server/main.js', 'serve'], {
     cwd: root, env: { ...env, PLEAT_PORT: String(port), PLEAT_MIGRATE: '0' }, stdio: ['ignore', 'ignore', 'pipe'],
   });
   let log = '';

@@ -4,11 +4,13 @@
 import { availableParallelism } from 'node:os';
 import { fileURLToPath } from 'node:url';
 import { Piscina } from 'piscina';
-import type { DesignReport, EffectiveRules } from '../shared/types';
+import type { AnalyzeResult } from '../shared/report/api';
+import type { JsonText } from './http/present';
 import type { AnalyzeTask } from './analyze-worker';
 
 export interface AnalyzePool {
-  run(task: AnalyzeTask, signal?: AbortSignal): Promise<{ design: DesignReport; rules: EffectiveRules }>;
+  /** The answer's JSON text, made in the worker thread. */
+  run(task: AnalyzeTask, signal?: AbortSignal): Promise<JsonText<AnalyzeResult>>;
   /** Tasks waiting for a thread. */
   readonly queued: number;
   close(): Promise<void>;

@@ -7,7 +7,7 @@ import cookieParser from 'cookie-parser';
 import express, { type Express } from 'express';
 import helmet from 'helmet';
 import type { AppContext } from './context';
-import { authenticate } from './http/auth';
+import { lookUpCaller, readCredentials } from './http/auth';
 import { apiNotFound, errorHandler } from './http/errors';
 import { sameOriginOnly } from './http/origin';
 import { outageMonitor } from './http/outage';
@@ -21,7 +21,7 @@ import { jobRoutes } from './resources/jobs/routes';
 import { memberRoutes } from './resources/members/routes';
 import { projectRoutes } from './resources/projects/routes';
 import { ruleRoutes } from './resources/rules/routes';
-import { runRoutes } from './resources/runs/routes';
+import { runOneQueryRoutes, runRoutes } from './resources/runs/routes';
 import { tokenRoutes } from './resources/tokens/routes';
 import { userRoutes } from './resources/users/routes';
 import { watchRoutes } from './resources/watches/routes';
@@ -69,7 +69,11 @@ export function createApp(ctx: AppContext): Express {
     }
     next();
   });
-  app.use('/api', cookieParser(), sameOriginOnly(ctx), authenticate(ctx));
+  app.use('/api', cookieParser(), sameOriginOnly(ctx), readCredentials(ctx));
+  // The routes under load find their caller together with their project, in one query
+  // (projectAccess); every route after lookUpCaller has req.actor from its own query.
+  app.use(runOneQueryRoutes(ctx));
+  app.use('/api', lookUpCaller(ctx));
   for (const routes of [authRoutes, projectRoutes, branchRoutes, runRoutes, ruleRoutes, tokenRoutes, hostRoutes, memberRoutes, userRoutes, watchRoutes, analyzeRoutes, jobRoutes, devRoutes]) {
     app.use(routes(ctx));
   }

@@ -115,7 +115,7 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   ]);
   const out = buildRtlOutput(loaded.design, loaded.file, graph, control, {
     width: opts.width, coefFrac: opts.coefFrac, iterations: opts.iterations, seed: opts.seed, interface: opts.interface, version: ctx.version,
-  });
+  }, loaded.analysis.outputLatency);
   const { bundle, testbench: tb } = out;
   let narrow = out.narrow;
   try {
@@ -193,8 +193,6 @@ export async function runRtl(file: string, opts: RtlOptions, ctx: CliContext): P
   const latency = loaded.analysis.outputLatency;
   const report = {
     ...out.manifest,
-    ...(bundle.serial ? { serial: bundle.serial } : {}),
-    ...(latency ? { outputLatency: latency } : {}),
     verify,
     area: area
       ? { tool: area.tool, compared: summary!.compared, summary: `${bundle.top}.hardware.json`, folded: { ...area.folded, factor: bundle.factor }, parallel: { ...area.parallel, factor: area.parallelFactor } }

@@ -3,7 +3,7 @@
 import { createHash, createSecretKey, randomBytes, randomUUID, type KeyObject } from 'node:crypto';
 import type { CookieOptions, RequestHandler, Response } from 'express';
 import jwt from 'jsonwebtoken';
-import { QueryTypes } from 'sequelize';
+import { QueryTypes, type Model, type ModelStatic } from 'sequelize';
 import type { AppContext } from '../context';
 import type { CiToken, User } from '../db/models';
 import { HttpError, unauthorized } from './errors';
@@ -85,53 +85,134 @@ export function clearSessionCookie(ctx: AppContext, res: Response): void {
   res.clearCookie(SESSION_COOKIE, cookieOptions(ctx));
 }
 
-/** Reads the credentials of every request; never rejects by itself (the routes decide). */
-export function authenticate(ctx: AppContext): RequestHandler {
-  const { User, CiToken } = ctx.db.models;
-  return async (req, _res, next) => {
-    req.actor = null;
+/** What a request presented, checked as far as can be done without the database. */
+export type Presented =
+  | { kind: 'ci'; tokenHash: string }
+  | { kind: 'session'; userId: number; jti: string; epoch: number; expiresAt: Date };
+
+declare global {
+  // eslint-disable-next-line @typescript-eslint/no-namespace
+  namespace Express {
+    interface Request {
+      /** Set by readCredentials; looked up in the database by lookUpCaller or by projectAccess. */
+      presented?: Presented | null;
+    }
+  }
+}
+
+/**
+ * Reads the credentials of every request without the database: a CI token's hash, or a session
+ * whose signature and expiry hold. A malformed credential is refused here (authProblem); the
+ * caller stays unknown (`req.actor` undefined) until one of the two look-ups below runs.
+ */
+export function readCredentials(ctx: AppContext): RequestHandler {
+  return (req, _res, next) => {
+    req.presented = null;
+    req.actor = undefined;
     const header = req.get('authorization');
     if (header) {
       const m = /^Bearer\s+(\S+)$/i.exec(header);
       const secret = m?.[1] ?? '';
-      const token = secret.startsWith(CI_TOKEN_PREFIX)
-        ? await CiToken.findOne({ where: { tokenHash: hashSecret(secret) } })
-        : null;
-      if (!token) req.authProblem = 'The CI token is not valid.';
-      else if (token.revokedAt) req.authProblem = 'The CI token has been revoked.';
-      else {
-        req.actor = { kind: 'ci', token };
-        // Recorded at most once a minute per token, off the request's path.
-        if (!token.lastUsedAt || Date.now() - token.lastUsedAt.getTime() > 60_000) {
-          void ctx.db.sequelize.query(
-            `UPDATE ci_tokens SET last_used_at = now() WHERE id = $1 AND (last_used_at IS NULL OR last_used_at < now() - interval '1 minute')`,
-            { bind: [token.id], type: QueryTypes.UPDATE },
-          ).catch(() => {});
-        }
-      }
+      if (secret.startsWith(CI_TOKEN_PREFIX)) req.presented = { kind: 'ci', tokenHash: hashSecret(secret) };
+      else req.authProblem = 'The CI token is not valid.';
       return next();
     }
     const cookie = (req.cookies as Record<string, string> | undefined)?.[SESSION_COOKIE];
     if (cookie) {
       const claims = verifySession(ctx, cookie);
       const userId = claims && /^\d{1,9}$/.test(claims.sub) ? Number(claims.sub) : null;
-      if (!claims || userId === null) {
-        req.authProblem = 'Your session is not valid or has expired; sign in again.';
-        return next();
-      }
-      // One round trip: the account, unless it is deactivated, was deactivated after this session
-      // began (its epoch moved on), or this session was signed out.
-      const [user] = await ctx.db.sequelize.query<User>(
-        `SELECT * FROM users WHERE id = $1 AND deactivated_at IS NULL AND session_epoch = $3
-           AND NOT EXISTS (SELECT 1 FROM revoked_sessions WHERE jti = $2)`,
-        { bind: [userId, claims.jti, claims.ep], model: User, mapToModel: true },
-      );
-      if (!user) {
-        req.authProblem = 'Your session has ended; sign in again.';
-        return next();
-      }
-      req.actor = { kind: 'user', user, jti: claims.jti, expiresAt: new Date(claims.exp * 1000) };
+      if (!claims || userId === null) req.authProblem = 'Your session is not valid or has expired; sign in again.';
+      else req.presented = { kind: 'session', userId, jti: claims.jti, epoch: claims.ep, expiresAt: new Date(claims.exp * 1000) };
     }
+    next();
+  };
+}
+
+/**
+ * The SQL that finds the presented credential's account or token, refusing one that is revoked:
+ * a session whose account is deactivated, was deactivated after the session began (its epoch moved
+ * on) or that was signed out; a revoked CI token. Used alone (lookUpCaller) and inside the
+ * project's query (access.ts), so a credential is checked the same way on both paths and at every
+ * request: nothing about a caller is kept between requests.
+ * `$n` numbering starts at `first`; the result is a FROM item named `caller`.
+ */
+export function callerSql(ctx: AppContext, p: Presented, first: number): { from: string; bind: unknown[] } {
+  if (p.kind === 'ci') {
+    return {
+      from: `(SELECT ${columnsOf(ctx.db.models.CiToken, 't')} FROM ci_tokens t WHERE t.token_hash = $${first}) caller`,
+      bind: [p.tokenHash],
+    };
+  }
+  return {
+    from: `(SELECT ${columnsOf(ctx.db.models.User, 'u')} FROM users u
+             WHERE u.id = $${first} AND u.deactivated_at IS NULL AND u.session_epoch = $${first + 2}
+               AND NOT EXISTS (SELECT 1 FROM revoked_sessions WHERE jti = $${first + 1})) caller`,
+    bind: [p.userId, p.jti, p.epoch],
+  };
+}
+
+type ModelClass = ModelStatic<Model>;
+
+/** `alias.column AS "prefix.attribute"` for every attribute of a model: its columns beside another table's in one row. */
+export function columnsOf(model: ModelClass, alias: string, prefix = 'caller'): string {
+  return Object.entries(model.getAttributes() as Record<string, { field?: string }>)
+    .map(([attr, a]) => `${alias}.${a.field ?? attr} AS "${prefix}.${attr}"`).join(', ');
+}
+
+/** The model instance of the `prefix.*` columns of a row, or null when there is none (its id is null). */
+export function modelFrom<T>(model: ModelClass, row: Record<string, unknown> | undefined, prefix = 'caller'): T | null {
+  if (!row || row[`${prefix}.id`] === null || row[`${prefix}.id`] === undefined) return null;
+  const values: Record<string, unknown> = {};
+  for (const attr of Object.keys(model.getAttributes())) values[attr] = row[`${prefix}.${attr}`];
+  return model.build(values, { isNewRecord: false, raw: true }) as unknown as T;
+}
+
+/**
+ * Turns the `caller.*` columns of a row into req.actor (or the reason the credential was refused).
+ * `row` undefined or its caller columns null: refused.
+ */
+export function settleCaller(ctx: AppContext, req: Express.Request, row: Record<string, unknown> | undefined): void {
+  const p = req.presented;
+  req.actor = null;
+  if (!p) return;
+  if (p.kind === 'ci') {
+    const token = modelFrom<CiToken>(ctx.db.models.CiToken, row);
+    if (!token) req.authProblem = 'The CI token is not valid.';
+    else if (token.revokedAt) req.authProblem = 'The CI token has been revoked.';
+    else {
+      req.actor = { kind: 'ci', token };
+      // Recorded at most once a minute per token, off the request's path.
+      if (!token.lastUsedAt || Date.now() - token.lastUsedAt.getTime() > 60_000) {
+        void ctx.db.sequelize.query(
+          `UPDATE ci_tokens SET last_used_at = now() WHERE id = $1 AND (last_used_at IS NULL OR last_used_at < now() - interval '1 minute')`,
+          { bind: [token.id], type: QueryTypes.UPDATE },
+        ).catch(() => {});
+      }
+    }
+    return;
+  }
+  const user = modelFrom<User>(ctx.db.models.User, row);
+  if (!user) req.authProblem = 'Your session has ended; sign in again.';
+  else req.actor = { kind: 'user', user, jti: p.jti, expiresAt: p.expiresAt };
+}
+
+/** Looks up the presented credential (one round trip); after it, req.actor is the caller or null. */
+export async function resolveCaller(ctx: AppContext, req: Express.Request): Promise<void> {
+  if (req.actor !== undefined) return;
+  const p = req.presented;
+  if (!p) {
+    req.actor = null;
+    return;
+  }
+  const c = callerSql(ctx, p, 1);
+  const rows = await ctx.db.sequelize.query<Record<string, unknown>>(`SELECT * FROM ${c.from}`, { bind: c.bind, type: QueryTypes.SELECT });
+  settleCaller(ctx, req, rows[0]);
+}
+
+/** Middleware: the caller looked up for every route mounted after it. */
+export function lookUpCaller(ctx: AppContext): RequestHandler {
+  return async (req, _res, next) => {
+    await resolveCaller(ctx, req);
     next();
   };
 }

@@ -3,7 +3,7 @@
 // section 10.2.3) in seconds, which the CLI's retry honours.
 import type { Request, RequestHandler } from 'express';
 import { rateLimit } from 'express-rate-limit';
-import type { Sequelize } from 'sequelize';
+import { QueryTypes, type Sequelize } from 'sequelize';
 import { PgRateLimitStore } from './rateLimitStore';
 
 export function pgLimiter(sequelize: Sequelize, o: {
@@ -23,4 +23,42 @@ export function pgLimiter(sequelize: Sequelize, o: {
       res.status(429).json({ error: { code: 'rate-limited', message: `${o.message} Try again in ${seconds} s.` } });
     },
   });
+}
+
+export interface LimitWindow { prefix: string; windowMs: number; limit: number; message: string }
+
+/**
+ * Several counters of one caller (a burst limit and a daily quota) in one statement, so a request
+ * pays one round trip for all of them. Each window counts as pgLimiter's store does (a new window
+ * starts when the old one has run out), and, as with pgLimiter middlewares in a row, a window is
+ * counted only when the windows before it let the request through. A refused request gets the
+ * same 429 with Retry-After.
+ */
+export function pgLimits(sequelize: Sequelize, o: { key: (req: Request) => string; windows: LimitWindow[] }): RequestHandler {
+  const ctes = o.windows.map((w, i) => {
+    const after = i === 0 ? '' : ` FROM w${i - 1} WHERE w${i - 1}.hits <= ${o.windows[i - 1]!.limit}`;
+    return `w${i} AS (
+      INSERT INTO rate_limits (key, hits, reset_at) SELECT $${2 * i + 1}::text, 1, now() + $${2 * i + 2}::int * interval '1 millisecond'${after}
+      ON CONFLICT (key) DO UPDATE SET
+        hits = CASE WHEN rate_limits.reset_at <= now() THEN 1 ELSE rate_limits.hits + 1 END,
+        reset_at = CASE WHEN rate_limits.reset_at <= now() THEN EXCLUDED.reset_at ELSE rate_limits.reset_at END
+      RETURNING hits, reset_at)`;
+  });
+  const sql = `WITH ${ctes.join(',\n')}
+    SELECT ${o.windows.map((_, i) => `(SELECT hits FROM w${i}) AS h${i}, (SELECT reset_at FROM w${i}) AS r${i}`).join(', ')}`;
+  return async (req, res, next) => {
+    const key = o.key(req);
+    const bind = o.windows.flatMap((w) => [w.prefix + key, w.windowMs]);
+    const [row] = await sequelize.query<Record<string, number | Date | null>>(sql, { bind, type: QueryTypes.SELECT });
+    for (const [i, w] of o.windows.entries()) {
+      const hits = row?.[`h${i}`] as number | null;
+      if (hits === null || hits === undefined || hits <= w.limit) continue;
+      const reset = row![`r${i}`] as Date;
+      const seconds = Math.max(1, Math.ceil((reset.getTime() - Date.now()) / 1000));
+      res.set('Retry-After', String(seconds));
+      res.status(429).json({ error: { code: 'rate-limited', message: `${w.message} Try again in ${seconds} s.` } });
+      return;
+    }
+    next();
+  };
 }

@@ -30,3 +30,15 @@ export type Sent<T> = T extends string
 export function send<T>(res: Response, body: Sent<T>): void {
   res.json(body);
 }
+
+/** JSON text of a value of type T, made where the value was (a worker thread), sent as it is. */
+export type JsonText<T> = string & { readonly __json: T };
+
+export function jsonText<T>(body: Sent<T>): JsonText<T> {
+  return JSON.stringify(body) as JsonText<T>;
+}
+
+/** Sends JSON text made by jsonText: the request thread neither copies the objects nor serialises them. */
+export function sendText<T>(res: Response, text: JsonText<T>): void {
+  res.type('application/json').send(text);
+}

@@ -10,7 +10,7 @@ import { generateRtl, generateTestbench, testVectors, type RtlOptions } from './
 import { formatPlan } from './formats';
 import { bitGrowth } from './range';
 import type { ResolvedGraph } from './reference';
-import type { ControlTables, Design, Diagnostic } from '../types';
+import type { ControlTables, Design, Diagnostic, OutputLatencyReport } from '../types';
 
 /** The defaults of `pleat rtl` (docs/cli.md): W = 16, 14 fractional coefficient bits, 32 samples, seed 1. */
 export const RTL_DEFAULTS = { width: 16, coefFrac: 14, iterations: 32, seed: 1 } as const;
@@ -37,7 +37,10 @@ export interface RtlOutput {
   overflows: ReturnType<typeof testVectors>['overflows'];
 }
 
-export function buildRtlOutput(design: Design, file: string, graph: ResolvedGraph, control: ControlTables, o: RtlOutputOptions): RtlOutput {
+/** `latency` is the analysis's report of each output's latency (docs/analysis.md), recorded in the manifest. */
+export function buildRtlOutput(
+  design: Design, file: string, graph: ResolvedGraph, control: ControlTables, o: RtlOutputOptions, latency?: OutputLatencyReport,
+): RtlOutput {
   // Bit growth before writing: a format too narrow for its worst case is worth a warning.
   const growth = bitGrowth(design, graph, formatPlan(design, o.width));
   const bundle = generateRtl(design, control, { width: o.width, coefFrac: o.coefFrac, generator: `pleat ${o.version}`, interface: o.interface });
@@ -66,6 +69,8 @@ export function buildRtlOutput(design: Design, file: string, graph: ResolvedGrap
     verify: null as unknown,
     area: null as unknown,
     control,
+    ...(bundle.serial ? { serial: bundle.serial } : {}),
+    ...(latency ? { outputLatency: latency } : {}),
   };
   return { bundle, testbench: tb, manifest, narrow: growth.diagnostics, overflows: vectors.overflows };
 }
@@ -98,7 +103,7 @@ export function rtlFilesOfText(text: string, file: string, version: string): Rtl
         : 'The plan has no feasible folded datapath: no retiming makes every folded delay nonnegative.',
     };
   }
-  const out = buildRtlOutput(design, file, arithmetic.graph, built.control, { ...RTL_DEFAULTS, version });
+  const out = buildRtlOutput(design, file, arithmetic.graph, built.control, { ...RTL_DEFAULTS, version }, analysis.outputLatency);
   return {
     ok: true,
     top: out.bundle.top,

@@ -11,7 +11,7 @@ import { createAnalyzePool } from '../../analyzePool';
 import { HttpError, allow, badRequest } from '../../http/errors';
 import { pgLimiter } from '../../http/limits';
 import { canAnalyze } from './policy';
-import { send } from '../../http/present';
+import { sendText } from '../../http/present';
 import type { AnalyzeResult } from '../../../shared/report/api';
 
 export function analyzeRoutes(ctx: AppContext): Router {
@@ -54,7 +54,7 @@ export function analyzeRoutes(ctx: AppContext): Router {
     ctx.analyzer ??= createAnalyzePool({ threads: ctx.config.analyzeThreads || undefined });
     const signal = AbortSignal.timeout(ctx.config.analyze.timeoutMs);
     try {
-      send<AnalyzeResult>(res, await ctx.analyzer.run({ text: file.buffer.toString('utf8'), file: name, teamRules }, signal));
+      sendText<AnalyzeResult>(res, await ctx.analyzer.run({ text: file.buffer.toString('utf8'), file: name, teamRules }, signal));
     } catch (err) {
       if (signal.aborted) throw new HttpError(422, 'analysis-timeout', `The analysis took longer than ${ctx.config.analyze.timeoutMs / 1000} s and was stopped; check the design with the CLI.`);
       if (err instanceof Error && /queue is at limit/i.test(err.message)) {

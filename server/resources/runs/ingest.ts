@@ -22,6 +22,20 @@ export interface StoredRun {
   created: boolean;
   createdAt: Date;
   row: RunRow;
+  /**
+   * Read by the statement that wrote a new run: whether anyone watches its branch and whether the
+   * project has a git host, so that an upload with neither (the usual case) costs no queries after it.
+   */
+  watched?: boolean;
+  hosted?: boolean;
+}
+
+type WrittenRow = RunRow & { watched: boolean; hosted: boolean };
+
+/** A new run as written, its two flags apart from its row. */
+function written(r: WrittenRow): StoredRun {
+  const { watched, hosted, ...row } = r;
+  return { id: row.id, created: true, createdAt: row.created_at, row, watched, hosted };
 }
 
 /**
@@ -29,14 +43,14 @@ export interface StoredRun {
  * every upload to a branch updates is locked only for that statement: uploads to one branch do not
  * queue behind each other's round trips.
  */
-async function ingestOne(ctx: AppContext, project: Project, report: Report, opts: { createdAt?: Date } = {}): Promise<StoredRun> {
+async function ingestOne(ctx: AppContext, project: Project, report: Report, opts: IngestOptions = {}): Promise<StoredRun> {
   const { designs, run } = summarizeReport(report);
   const git = report.git;
   const branch = git.branch!;
   const commit = git.commit!.toLowerCase();
   const floor = report.rules?.min_utilization?.value;
   const q = ctx.db.sequelize;
-  const inserted = await q.query<RunRow>(
+  const inserted = await q.query<WrittenRow>(
     `WITH ins AS (
        INSERT INTO runs (project_id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count,
                          failed_count, error_count, utilization, register_minimum, violation_count, report, created_at,
@@ -56,12 +70,13 @@ async function ingestOne(ctx: AppContext, project: Project, report: Report, opts
        ON CONFLICT (project_id, name) DO UPDATE SET last_run_id = EXCLUDED.last_run_id, last_run_at = EXCLUDED.last_run_at
        WHERE (branches.last_run_at, coalesce(branches.last_run_id, 0)) < (EXCLUDED.last_run_at, EXCLUDED.last_run_id)
      )
-     SELECT * FROM ins`,
+     SELECT ins.*, EXISTS (SELECT 1 FROM watches w WHERE w.project_id = ins.project_id AND w.branch = ins.branch) AS watched,
+            EXISTS (SELECT 1 FROM host_connections h WHERE h.project_id = ins.project_id) AS hosted FROM ins`,
     {
       bind: [
         project.id, branch, commit, git.baseBranch ?? null, git.baseCommit?.toLowerCase() ?? null, report.verdict,
         report.tool.version, run.designCount, run.failedCount, run.errorCount, run.utilization, run.registerMinimum,
-        run.violationCount, JSON.stringify(report), opts.createdAt ?? null,
+        run.violationCount, opts.reportText ?? JSON.stringify(report), opts.createdAt ?? null,
         designs.map((d) => d.designName), designs.map((d) => d.file), designs.map((d) => d.status),
         designs.map((d) => d.utilization), designs.map((d) => d.registerMinimum), designs.map((d) => d.negativeEdgeCount),
         designs.map((d) => d.retimingFeasible), designs.map((d) => d.violationCount),
@@ -72,7 +87,7 @@ async function ingestOne(ctx: AppContext, project: Project, report: Report, opts
     },
   );
   const row = inserted[0];
-  if (row) return { id: row.id, created: true, createdAt: row.created_at, row };
+  if (row) return written(row);
   // Uploaded before (or by a concurrent request that committed first): keep the first run.
   const [existing] = await q.query<RunRow>(
     `SELECT ${RUN_COLUMNS} FROM runs WHERE project_id = $1 AND branch = $2 AND commit = $3`,
@@ -81,10 +96,15 @@ async function ingestOne(ctx: AppContext, project: Project, report: Report, opts
   return { id: existing!.id, created: false, createdAt: existing!.created_at, row: existing! };
 }
 
-interface Pending {
+export interface IngestOptions {
+  createdAt?: Date;
+  /** The report as it was sent, when it is at hand: stored as it is instead of serialised again. */
+  reportText?: string;
+}
+
+interface Pending extends IngestOptions {
   project: Project;
   report: Report;
-  createdAt?: Date;
   resolve: (r: StoredRun) => void;
   reject: (e: unknown) => void;
 }
@@ -97,14 +117,14 @@ const queues = new WeakMap<AppContext, { items: Pending[]; running: boolean }>()
  * Stores one report as a run. Alone, it is one statement; with other uploads waiting, they are
  * written by one statement together (ingestBatch), each still with its own result.
  */
-export function ingestRun(ctx: AppContext, project: Project, report: Report, opts: { createdAt?: Date } = {}): Promise<StoredRun> {
+export function ingestRun(ctx: AppContext, project: Project, report: Report, opts: IngestOptions = {}): Promise<StoredRun> {
   return new Promise<StoredRun>((resolve, reject) => {
     let q = queues.get(ctx);
     if (!q) {
       q = { items: [], running: false };
       queues.set(ctx, q);
     }
-    q.items.push({ project, report, createdAt: opts.createdAt, resolve, reject });
+    q.items.push({ project, report, createdAt: opts.createdAt, reportText: opts.reportText, resolve, reject });
     if (!q.running) void drain(ctx, q);
   });
 }
@@ -116,14 +136,14 @@ async function drain(ctx: AppContext, q: { items: Pending[]; running: boolean })
       const batch = q.items.splice(0, MAX_BATCH);
       if (batch.length === 1) {
         const p = batch[0]!;
-        await ingestOne(ctx, p.project, p.report, { createdAt: p.createdAt }).then(p.resolve, p.reject);
+        await ingestOne(ctx, p.project, p.report, p).then(p.resolve, p.reject);
         continue;
       }
       try {
         await ingestBatch(ctx, batch);
       } catch {
         // One bad upload must not fail the others: write them one by one, each with its own outcome.
-        for (const p of batch) await ingestOne(ctx, p.project, p.report, { createdAt: p.createdAt }).then(p.resolve, p.reject);
+        for (const p of batch) await ingestOne(ctx, p.project, p.report, p).then(p.resolve, p.reject);
       }
     }
   } finally {
@@ -146,7 +166,7 @@ async function ingestBatch(ctx: AppContext, batch: Pending[]): Promise<void> {
   const col = <T>(f: (r: (typeof runs)[number]) => T) => runs.map(f);
   const designRows = runs.flatMap((r, ord) => r.designs.map((d, k) => ({ ord, k, d })));
   const dcol = <T>(f: (x: (typeof designRows)[number]) => T) => designRows.map(f);
-  const rows = await ctx.db.sequelize.query<RunRow & { ord: number }>(
+  const rows = await ctx.db.sequelize.query<WrittenRow & { ord: number }>(
     `WITH input AS (
        SELECT * FROM unnest($1::int[], $2::text[], $3::text[], $4::text[], $5::text[], $6::text[], $7::text[], $8::int[], $9::int[],
                             $10::int[], $11::float8[], $12::int[], $13::int[], $14::text[], $15::timestamptz[], $16::int[])
@@ -177,14 +197,15 @@ async function ingestBatch(ctx: AppContext, batch: Pending[]): Promise<void> {
        ON CONFLICT (project_id, name) DO UPDATE SET last_run_id = EXCLUDED.last_run_id, last_run_at = EXCLUDED.last_run_at
        WHERE (branches.last_run_at, coalesce(branches.last_run_id, 0)) < (EXCLUDED.last_run_at, EXCLUDED.last_run_id)
      )
-     SELECT * FROM matched`,
+     SELECT m.*, EXISTS (SELECT 1 FROM watches w WHERE w.project_id = m.project_id AND w.branch = m.branch) AS watched,
+            EXISTS (SELECT 1 FROM host_connections h WHERE h.project_id = m.project_id) AS hosted FROM matched m`,
     {
       bind: [
         col((r) => r.p.project.id), col((r) => r.p.report.git.branch!), col((r) => r.p.report.git.commit!.toLowerCase()),
         col((r) => r.p.report.git.baseBranch ?? null), col((r) => r.p.report.git.baseCommit?.toLowerCase() ?? null),
         col((r) => r.p.report.verdict), col((r) => r.p.report.tool.version), col((r) => r.run.designCount),
         col((r) => r.run.failedCount), col((r) => r.run.errorCount), col((r) => r.run.utilization), col((r) => r.run.registerMinimum),
-        col((r) => r.run.violationCount), col((r) => JSON.stringify(r.p.report)), col((r) => r.p.createdAt ?? null), runs.map((_, i) => i),
+        col((r) => r.run.violationCount), col((r) => r.p.reportText ?? JSON.stringify(r.p.report)), col((r) => r.p.createdAt ?? null), runs.map((_, i) => i),
         dcol((x) => x.ord), dcol((x) => x.k), dcol((x) => x.d.designName), dcol((x) => x.d.file), dcol((x) => x.d.status),
         dcol((x) => x.d.utilization), dcol((x) => x.d.registerMinimum), dcol((x) => x.d.negativeEdgeCount),
         dcol((x) => x.d.retimingFeasible), dcol((x) => x.d.violationCount),
@@ -192,10 +213,10 @@ async function ingestBatch(ctx: AppContext, batch: Pending[]): Promise<void> {
       type: QueryTypes.SELECT,
     },
   );
-  const created = new Map<string, RunRow>();
+  const created = new Map<string, WrittenRow>();
   for (const row of rows) {
     const { ord, ...run } = row;
-    created.set(key(runs[ord]!.p), run as RunRow);
+    created.set(key(runs[ord]!.p), run);
   }
   // Settled in upload order; a run another request wrote first is read back as before.
   const settledKeys = new Set<string>();
@@ -204,9 +225,9 @@ async function ingestBatch(ctx: AppContext, batch: Pending[]): Promise<void> {
     const row = created.get(k);
     if (row && !settledKeys.has(k)) {
       settledKeys.add(k);
-      p.resolve({ id: row.id, created: true, createdAt: row.created_at, row });
+      p.resolve(written(row));
     } else {
-      await ingestOne(ctx, p.project, p.report, { createdAt: p.createdAt }).then(p.resolve, p.reject);
+      await ingestOne(ctx, p.project, p.report, p).then(p.resolve, p.reject);
     }
   }
 }

@@ -8,8 +8,9 @@ import type { Report } from '../../../shared/types';
 import type { AppContext } from '../../context';
 import type { Project } from '../../db/models';
 import { projectAccess } from '../../http/access';
+import { resolveCaller } from '../../http/auth';
 import { HttpError, allow, badRequest, notFound, unauthorized } from '../../http/errors';
-import { pgLimiter } from '../../http/limits';
+import { pgLimits } from '../../http/limits';
 import { idParam } from '../../http/validate';
 import { afterResponse } from '../../mail/mailer';
 import { compareRun, RUN_COLUMNS, type DesignRow, type RunRow } from './compare';
@@ -26,6 +27,17 @@ function checkUpload(body: unknown): Report {
   const checked = checkUploadReport(body);
   if (!checked.ok) throw badRequest(`The report is not valid: ${checked.message}.`, checked.problems);
   return checked.report;
+}
+
+/** JSON.parse as express.json does it (strict: an object or an array), with its 400 invalid-json. */
+function parseJson(text: string): unknown {
+  const first = /^[\x20\x09\x0a\x0d]*(.)/.exec(text)?.[1];
+  try {
+    if (first !== '{' && first !== '[') throw new SyntaxError('not an object or array');
+    return JSON.parse(text);
+  } catch {
+    throw new HttpError(400, 'invalid-json', 'The request body is not valid JSON.');
+  }
 }
 
 export function presentRun(r: RunRow): Sent<Omit<RunListItem, 'designs'>> {
@@ -101,55 +113,6 @@ export function runRoutes(ctx: AppContext): Router {
   const router = Router();
   const q = ctx.db.sequelize;
 
-  router.get('/api/projects/:slug/branches/:branch/runs', async (req, res) => {
-    const { project, role } = await projectAccess(ctx, req, { slug: req.params.slug });
-    allow(canReadRuns(role));
-    const limit = limitParam(req.query.limit, 50, 200);
-    const cursor = queryString(req, 'cursor');
-    const design = queryString(req, 'design');
-    // A page by number (the web's ?page= in the address) skips whole pages; the cursor stays the way for scripts.
-    const offsetText = queryString(req, 'offset');
-    const offset = offsetText === undefined ? 0 : Number(offsetText);
-    if (!Number.isInteger(offset) || offset < 0 || offset > 1_000_000 || (offsetText !== undefined && !/^\d+$/.test(offsetText))) throw badRequest('offset must be an integer from 0 to 1000000.');
-    if (cursor && offset) throw badRequest('Give either cursor or offset, not both.');
-    const bind: unknown[] = [project.id, req.params.branch];
-    let where = 'project_id = $1 AND branch = $2';
-    if (cursor) {
-      const c = decodeCursor(cursor);
-      bind.push(c.at, c.id);
-      where += ` AND (created_at, id) < ($${bind.length - 1}, $${bind.length})`;
-    }
-    let designParam = '';
-    if (design) {
-      bind.push(design);
-      designParam = `$${bind.length}`;
-      where += ` AND EXISTS (SELECT 1 FROM run_designs d WHERE d.run_id = runs.id AND d.design_name = ${designParam})`;
-    }
-    bind.push(limit + 1);
-    // One round trip: the page of runs and, beside each, its design rows; both scans can be
-    // index-only on the covering indexes of migration 008.
-    const designFilter = designParam ? ` AND rd.design_name = ${designParam}` : '';
-    const rows = await q.query<RunRow & { designs: DesignRow[] | null }>(
-      `SELECT r.*, d.designs FROM (
-         SELECT ${RUN_COLUMNS} FROM runs WHERE ${where} ORDER BY created_at DESC, id DESC LIMIT $${bind.length} OFFSET ${offset}
-       ) r
-       LEFT JOIN LATERAL (
-         SELECT json_agg(json_build_object('run_id', rd.run_id, 'design_name', rd.design_name, 'file', rd.file, 'status', rd.status,
-                  'utilization', rd.utilization, 'register_minimum', rd.register_minimum, 'negative_edge_count', rd.negative_edge_count,
-                  'retiming_feasible', rd.retiming_feasible, 'violation_count', rd.violation_count, 'factor', rd.factor,
-                  'unit_count', rd.unit_count, 'latency_added', rd.latency_added, 'hardware', ${HARDWARE_JSON}) ORDER BY rd.id) AS designs
-         FROM run_designs rd WHERE rd.run_id = r.id${designFilter}
-       ) d ON true
-       ORDER BY r.created_at DESC, r.id DESC`,
-      { bind, type: QueryTypes.SELECT },
-    );
-    const page = rows.slice(0, limit);
-    send<RunPage>(res, {
-      runs: page.map((r) => ({ ...presentRun(r), designs: (r.designs ?? []).map(presentDesign) })),
-      nextCursor: rows.length > limit ? encodeCursor(page[page.length - 1]!) : null,
-    });
-  });
-
   /** A run that the caller may read, with its stored report as text (one round trip). */
   const readableRun = async (req: Request) => {
     if (!req.actor) throw unauthorized(req.authProblem ?? 'Sign in first.', req.authProblem ? 'invalid-credentials' : 'unauthorized');
@@ -204,36 +167,99 @@ export function runRoutes(ctx: AppContext): Router {
     }
   });
 
+  return router;
+}
+
+/**
+ * The history page and the CI upload: the two routes under load. They are mounted before the
+ * caller's look-up (app.ts) and find their caller with their project in one query (projectAccess);
+ * nothing in them reads req.actor before projectAccess has run.
+ */
+export function runOneQueryRoutes(ctx: AppContext): Router {
+  const router = Router();
+  const q = ctx.db.sequelize;
+
+  router.get('/api/projects/:slug/branches/:branch/runs', async (req, res) => {
+    // The request's own parameters are checked before the query that reads the page.
+    const limit = limitParam(req.query.limit, 50, 200);
+    const cursor = queryString(req, 'cursor');
+    const design = queryString(req, 'design');
+    // A page by number (the web's ?page= in the address) skips whole pages; the cursor stays the way for scripts.
+    const offsetText = queryString(req, 'offset');
+    const offset = offsetText === undefined ? 0 : Number(offsetText);
+    if (!Number.isInteger(offset) || offset < 0 || offset > 1_000_000 || (offsetText !== undefined && !/^\d+$/.test(offsetText))) throw badRequest('offset must be an integer from 0 to 1000000.');
+    if (cursor && offset) throw badRequest('Give either cursor or offset, not both.');
+    const at = cursor ? decodeCursor(cursor) : null;
+    const branch = req.params.branch;
+    // The page of runs and, beside each, its design rows (both scans can be index-only on the
+    // covering indexes of migration 008), read in the same round trip as the caller and the project.
+    const pageOf = (projectId: string, bind: unknown[]) => {
+      const param = (v: unknown) => `$${bind.push(v)}`;
+      let where = `project_id = ${projectId} AND branch = ${param(branch)}`;
+      if (at) where += ` AND (created_at, id) < (${param(at.at)}::timestamptz, ${param(at.id)}::int)`;
+      const designParam = design ? param(design) : '';
+      if (design) where += ` AND EXISTS (SELECT 1 FROM run_designs d WHERE d.run_id = runs.id AND d.design_name = ${designParam})`;
+      const designFilter = designParam ? ` AND rd.design_name = ${designParam}` : '';
+      return {
+        sql: `SELECT r.*, d.designs FROM (
+           SELECT ${RUN_COLUMNS} FROM runs WHERE ${where} ORDER BY created_at DESC, id DESC LIMIT ${param(limit + 1)}::int OFFSET ${offset}
+         ) r
+         LEFT JOIN LATERAL (
+           SELECT json_agg(json_build_object('run_id', rd.run_id, 'design_name', rd.design_name, 'file', rd.file, 'status', rd.status,
+                    'utilization', rd.utilization, 'register_minimum', rd.register_minimum, 'negative_edge_count', rd.negative_edge_count,
+                    'retiming_feasible', rd.retiming_feasible, 'violation_count', rd.violation_count, 'factor', rd.factor,
+                    'unit_count', rd.unit_count, 'latency_added', rd.latency_added, 'hardware', ${HARDWARE_JSON}) ORDER BY rd.id) AS designs
+           FROM run_designs rd WHERE rd.run_id = r.id${designFilter}
+         ) d ON true`,
+        orderBy: 'r.created_at DESC, r.id DESC',
+      };
+    };
+    const { role, rows: found } = await projectAccess(ctx, req, { slug: req.params.slug }, pageOf);
+    allow(canReadRuns(role));
+    const rows = found as unknown as (RunRow & { designs: DesignRow[] | null })[];
+    const page = rows.slice(0, limit);
+    send<RunPage>(res, {
+      runs: page.map((r) => ({ ...presentRun(r), designs: (r.designs ?? []).map(presentDesign) })),
+      nextCursor: rows.length > limit ? encodeCursor(page[page.length - 1]!) : null,
+    });
+  });
+
   // Authorise before reading a body of up to maxReportBytes.
   const uploadAccess = async (req: Request, res: express.Response, next: express.NextFunction) => {
+    // A person is told to use a token before anything about the project is said (their session is
+    // looked up on its own here: people do not upload, so this is off the path under load).
+    if (req.presented?.kind === 'session') await resolveCaller(ctx, req);
     if (req.actor?.kind === 'user') throw new HttpError(403, 'token-required', 'Runs are uploaded by CI with a project token (Authorization: Bearer ...).');
     const { project, role } = await projectAccess(ctx, req, { slug: String(req.params.slug) });
     allow(canUploadRun(role));
     res.locals.project = project;
     next();
   };
-  // Per CI token: a burst limit per minute and a quota per day, counted in PostgreSQL.
+  // Per CI token: a burst limit per minute and a quota per day, counted in PostgreSQL by one statement.
   const tokenKey = (req: Request) => String(req.actor?.kind === 'ci' ? req.actor.token.id : 0);
-  const perMinute = pgLimiter(q, {
-    prefix: 'upload-minute:', windowMs: 60_000, limit: ctx.config.upload.perMinute, key: tokenKey,
-    message: `At most ${ctx.config.upload.perMinute} uploads a minute per CI token.`,
+  const limits = pgLimits(q, {
+    key: tokenKey,
+    windows: [
+      { prefix: 'upload-minute:', windowMs: 60_000, limit: ctx.config.upload.perMinute, message: `At most ${ctx.config.upload.perMinute} uploads a minute per CI token.` },
+      { prefix: 'upload-day:', windowMs: 24 * 3600_000, limit: ctx.config.upload.perDay, message: `This CI token has used its quota of ${ctx.config.upload.perDay} uploads a day.` },
+    ],
   });
-  const perDay = pgLimiter(q, {
-    prefix: 'upload-day:', windowMs: 24 * 3600_000, limit: ctx.config.upload.perDay, key: tokenKey,
-    message: `This CI token has used its quota of ${ctx.config.upload.perDay} uploads a day.`,
-  });
-  router.post('/api/projects/:slug/runs', uploadAccess, perMinute, perDay, express.json({ limit: ctx.config.maxReportBytes }), async (req, res) => {
+  // The body is kept as text: it is parsed once for the checks and stored as sent (PostgreSQL
+  // parses it into jsonb), not serialised again from the parsed objects.
+  const bodyText = express.text({ type: 'application/json', limit: ctx.config.maxReportBytes });
+  router.post('/api/projects/:slug/runs', uploadAccess, limits, bodyText, async (req, res) => {
     const project = res.locals.project as Project;
-    const report = checkUpload(req.body);
-    const stored = await ingestRun(ctx, project, report);
+    const text = typeof req.body === 'string' ? req.body : null;
+    const report = checkUpload(text === null ? req.body : parseJson(text));
+    const stored = await ingestRun(ctx, project, report, { reportText: text ?? undefined });
     // Summaries of pleat rtl --area, when the upload has any (also for a repeat: it fills gaps).
     await storeHardware(ctx, stored.id, report);
     const run = stored.row;
-    if (stored.created) {
-      afterResponse(res, ctx.mail, () => notifyWatchers(ctx, project, stored.row, report));
-      // The pull request's status and summary: after the response, so the host never delays or fails the upload.
-      afterResponse(res, ctx.mail, () => postHostFeedback(ctx, project, stored.row, report));
-    }
+    // Only when the write found someone watching the branch or a git host (the flags are unset,
+    // hence true, for a caller that did not read them).
+    if (stored.created && stored.watched !== false) afterResponse(res, ctx.mail, () => notifyWatchers(ctx, project, stored.row, report));
+    // The pull request's status and summary: after the response, so the host never delays or fails the upload.
+    if (stored.created && stored.hosted !== false) afterResponse(res, ctx.mail, () => postHostFeedback(ctx, project, stored.row, report));
     res.status(stored.created ? 201 : 200);
     send<UploadResult>(res, {
       created: stored.created,
