@@ -71,7 +71,7 @@ export function outputLatency(g: IndexedGraph, folded: Float64Array, r: Float64A
     if (best) options.push(`read ${f.node} in slot ${best.slot}: it would need ${Math.max(best.need, floor)}`);
   }
   // Below its producer's own retiming no choice at the output helps: the producer must move less.
-  if (rOf(u) > 0) options.push(`${g.nodeIds[u]} is retimed by +${rOf(u)}; a partition for ${g.nodeIds[u]} that needs less retiming lowers ${f.node} with it`);
+  if (rOf(u) > 0) options.push(`give ${g.nodeIds[u]} (retimed by +${rOf(u)}) a partition that needs less retiming: ${f.node} is lowered with it`);
   report.forcedBy = { node: f.node, by, options };
   return report;
 }

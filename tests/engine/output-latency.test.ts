@@ -39,7 +39,7 @@ describe('latency of each output', () => {
         { node: 'weight', mode: 'slot', cycle: 3, latency: 1, needs: 1 },
         { node: 'raw', mode: 'tap', cycle: 2, latency: 0, needs: 0 },
       ],
-      forcedBy: { node: 'weight', by: 1, options: ['blend is retimed by +1; a partition for blend that needs less retiming lowers weight with it'] },
+      forcedBy: { node: 'weight', by: 1, options: ['give blend (retimed by +1) a partition that needs less retiming: weight is lowered with it'] },
     });
   });
 
@@ -58,7 +58,7 @@ describe('latency of each output', () => {
       options: [
         'take weight as a tap (no slot): it would need 1',
         'read weight in slot 3: it would need 1',
-        'blend is retimed by +1; a partition for blend that needs less retiming lowers weight with it',
+        'give blend (retimed by +1) a partition that needs less retiming: weight is lowered with it',
       ],
     });
   });
