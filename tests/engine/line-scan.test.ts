@@ -11,7 +11,6 @@ import { load } from 'js-yaml';
 import { locate, locateLoaded } from '../../shared/design/positions';
 import { offsetsIn, scanOffsets, scanSections } from '../../shared/design/lineScan';
 import type { Diagnostic } from '../../shared/types';
-// @ts-expect-error plain JavaScript module of the project's scripts
 import { generateDesign } from '../../scripts/gen-design.mjs';
 
 const root = fileURLToPath(new URL('../../', import.meta.url));
