@@ -4,7 +4,7 @@
 // docs/architecture.md draws it; each stage lives in its folder (design/, analysis/, hardware/, report/).
 import type { Analysis, ControlTables, Design, Diagnostic, DesignReport, EffectiveRules, LoadResult, Violation } from './types';
 import { loadDesign, nameOfInvalidDesign, syntaxOfFile, type Limits } from './design/load';
-import { locate } from './design/positions';
+import { locateLoaded } from './design/positions';
 import { analyzeDatapath, type AnalyzeOptions, type FoldedDatapath } from './analysis/analyze';
 import { DEFAULT_MAX_CONTROL_CELLS, withControl } from './hardware/control';
 import { resolveArithmetic } from './hardware/reference';
@@ -152,7 +152,7 @@ function placeFindings(text: string, violations: Violation[], warnings: Diagnost
   ];
   let placed: Diagnostic[];
   try {
-    placed = locate(text, probes);
+    placed = locateLoaded(text, probes);
   } catch {
     return { violations, ruleWarnings: warnings, analysis };
   }

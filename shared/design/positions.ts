@@ -7,6 +7,7 @@
 import { parseEvents, getScalarValue, type Event, type ScalarEvent } from 'js-yaml-5';
 import type { Diagnostic } from '../types';
 import { KEY_CODES } from './diagnostics';
+import { scanOffsets } from './lineScan';
 
 // Event type ids of js-yaml's parser (EVENT_ID in its typings).
 const DOCUMENT = 1;
@@ -231,5 +232,28 @@ export function locate(text: string, diagnostics: Diagnostic[], atKey: (d: Diagn
     const off = chosen.get(d)!;
     const pos = off >= 0 ? positions.get(off) : undefined;
     return { ...d, line: pos ? pos[0] : 1, column: pos ? pos[1] : 1 };
+  });
+}
+
+/**
+ * locate() for a text that loaded: the line scan of lineScan.ts places findings on the items of
+ * top-level sequences (the negative edges of a check) without parsing the text again; anything
+ * it declines goes through the event parser, so the positions are the same either way.
+ */
+export function locateLoaded(text: string, diagnostics: Diagnostic[], atKey: (d: Diagnostic) => boolean = (d) => KEY_CODES.has(d.code)): Diagnostic[] {
+  const wanted = diagnostics.filter((d) => d.line === null || d.column === null);
+  if (wanted.length === 0) return diagnostics;
+  const offsets = scanOffsets(
+    text,
+    wanted.map((d) => ({ path: d.path ?? [], atKey: atKey(d) })),
+  );
+  if (!offsets) return locate(text, diagnostics, atKey);
+  const chosen = new Map<Diagnostic, number>();
+  wanted.forEach((d, i) => chosen.set(d, offsets[i]));
+  const positions = lineColumns(text, offsets);
+  return diagnostics.map((d) => {
+    if (!chosen.has(d)) return d;
+    const pos = positions.get(chosen.get(d)!)!;
+    return { ...d, line: pos[0], column: pos[1] };
   });
 }
