@@ -4,7 +4,7 @@
 // docs/architecture.md draws it; each stage lives in its folder (design/, analysis/, hardware/, report/).
 import type { Analysis, ControlTables, Design, Diagnostic, DesignReport, EffectiveRules, LoadResult, Violation } from './types';
 import { loadDesign, nameOfInvalidDesign, syntaxOfFile, type Limits } from './design/load';
-import { locateLoaded } from './design/positions';
+import { locate, locateLoaded } from './design/positions';
 import { analyzeDatapath, type AnalyzeOptions, type FoldedDatapath } from './analysis/analyze';
 import { DEFAULT_MAX_CONTROL_CELLS, withControl } from './hardware/control';
 import { resolveArithmetic } from './hardware/reference';
