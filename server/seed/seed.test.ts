@@ -4,6 +4,7 @@ import { mkdtempSync, rmSync, symlinkSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { hardwareSummaryProblem } from '../../shared/report/hardwareSummary';
 import { cookieFor } from '../test/factories';
 import { startTestServer, type TestServer } from '../test/server';
 import { DEMO_ACCOUNTS, DEMO_PASSWORD, DEMO_PROJECT, seedDemo } from './seed';
@@ -50,5 +51,17 @@ describe('seedDemo', () => {
     const eq = regressing.comparison.designs.find((d: { name: string }) => d.name === 'cabin-eq-peak');
     expect(eq.regressions).toContain('utilization');
     expect(eq.utilization.current).toBeLessThan(eq.utilization.base);
+
+    // The hardware trend: main's history carries summaries, and the channelizer tightened from
+    // N = 6 to 4 shows it on the folded side's factor.
+    const history = (await get(`/api/projects/${DEMO_PROJECT.slug}/branches/main/runs?limit=100`)).body.runs as { designs: { name: string; hardware: { folded: { factor: number; cells: number }; parallel: { factor: number } } | null }[] }[];
+    const ddc = history.map((r) => r.designs.find((d) => d.name === 'ddc-tap-bank')?.hardware).filter((h) => h != null);
+    expect(ddc.length).toBe(history.length);
+    expect(new Set(ddc.map((h) => h.folded.factor))).toEqual(new Set([6, 5, 4]));
+    expect(ddc.every((h) => h.parallel.factor === 1)).toBe(true);
+    // Every stored summary is one the upload schema accepts.
+    const [stored] = await t.ctx.db.sequelize.query('SELECT summary FROM run_design_hardware');
+    expect(stored.length).toBeGreaterThan(0);
+    for (const row of stored as { summary: unknown }[]) expect(hardwareSummaryProblem(row.summary)).toBeNull();
   });
 });

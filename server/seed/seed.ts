@@ -13,7 +13,9 @@ import type { AppContext } from '../context';
 import type { Project, Role, User } from '../db/models';
 import { CI_TOKEN_PREFIX, hashSecret, newSecret } from '../http/auth';
 import { checkDesignText } from '../engine';
+import { storeHardware } from '../resources/runs/hardware';
 import { ingestRun } from '../resources/runs/ingest';
+import { demoHardware } from './hardware';
 
 /** The demo password: it exists only in a locally seeded demo database. */
 export const DEMO_PASSWORD = 'pleat-demo';
@@ -182,6 +184,9 @@ export async function seedDemo(ctx: AppContext, log: (msg: string) => void = () 
     if (!d) {
       // The design's text travels with the run (designs[].source), so the run page can plan it.
       d = { ...checkDesignText(text, `hw/${FILES[key]}`, TEAM_RULES, REPO_RULES).design, source: text } as DesignReport;
+      // As if CI ran pleat rtl --area and uploaded with --hardware-summary (designs[].hardware).
+      const hardware = demoHardware(d, d.file, (d.name ?? key).replace(/\W/g, '_'));
+      if (hardware) d.hardware = hardware;
       cache.set(cacheKey, d);
     }
     return d;
@@ -209,6 +214,7 @@ export async function seedDemo(ctx: AppContext, log: (msg: string) => void = () 
       // Spread over the past weeks, a few hours apart, so charts have a time axis.
       const createdAt = new Date(now - plan.startDay * day + i * 3 * day + (i % 3) * 3600 * 1000);
       const stored = await ingestRun(ctx, project, report, { createdAt });
+      await storeHardware(ctx, stored.id, report);
       if (stored.created) runsAdded++;
     }
   }
