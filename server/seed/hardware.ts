@@ -43,7 +43,7 @@ export function demoHardware(d: DesignReport, file: string, top: string): Hardwa
     design: d.name,
     file,
     top,
-    tool: 'Yosys 0.38',
+    tool: 'demo estimate (not synthesized)',
     compared: { stages: 'folded', multipliers: 'general', width: WIDTH, coefFrac: COEF_FRAC },
     // The counter and its slot decoder grow with log2 N; the multiplexers add levels in front of a unit.
     folded: { cells: foldedCells + foldedFlipFlops + 6 * log2(n), flipFlops: foldedFlipFlops, depth: stageDepth + 2 * log2(n) + 2, factor: n },
