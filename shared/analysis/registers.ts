@@ -5,29 +5,24 @@ import { INPUT, NO_SLOT, OUTPUT, type IndexedGraph } from './graph';
 
 /**
  * The variables of lifetime analysis, from the folded delays the datapath uses (all >= 0 or
- * NaN for taps). A node is a variable when its largest folded delay is positive; a held input
- * gives one variable per out-edge with delays, named `input->consumer`.
+ * NaN for taps), in the order both lifetimeVariables and registerFigures use. A node is a
+ * variable when its largest folded delay is positive (`edge` -1); a held input gives one variable
+ * per out-edge with delays (`edge` that edge).
  */
-export function lifetimeVariables(g: IndexedGraph, folded: Float64Array, delays: Float64Array): Lifetime[] {
-  const out: Lifetime[] = [];
+function eachLifetime(
+  g: IndexedGraph, folded: Float64Array, delays: Float64Array, visit: (node: number, edge: number, tIn: number, tOut: number) => void,
+): void {
   for (let u = 0; u < g.nodeCount; u++) {
     const start = g.outStart[u];
     const end = g.outStart[u + 1];
     if (start === end) continue;
-    const id = g.nodeIds[u];
     if (g.role[u] === INPUT && g.slot[u] === NO_SLOT) {
-      const seen = new Map<string, number>();
       for (let k = start; k < end; k++) {
         const e = g.outEdge[k];
         const d = folded[e];
         if (Number.isNaN(d) || !(delays[e] > 0)) continue;
-        const v = g.edgeTo[e];
-        let name = `${id}->${g.nodeIds[v]}`;
-        const again = (seen.get(name) ?? 0) + 1;
-        seen.set(name, again);
-        if (again > 1) name += `#${again}`; // a second edge to the same consumer
-        const tIn = g.slot[v];
-        out.push({ variable: name, node: id, tIn, tOut: tIn + d });
+        const tIn = g.slot[g.edgeTo[e]];
+        visit(u, e, tIn, tIn + d);
       }
       continue;
     }
@@ -38,9 +33,27 @@ export function lifetimeVariables(g: IndexedGraph, folded: Float64Array, delays:
     }
     if (longest > 0 && g.slot[u] !== NO_SLOT) {
       const tIn = g.slot[u] + g.stages[u];
-      out.push({ variable: id, node: id, tIn, tOut: tIn + longest });
+      visit(u, -1, tIn, tIn + longest);
     }
   }
+}
+
+/** The variables of lifetime analysis (eachLifetime); a held input's are named `input->consumer`. */
+export function lifetimeVariables(g: IndexedGraph, folded: Float64Array, delays: Float64Array): Lifetime[] {
+  const out: Lifetime[] = [];
+  const seen = new Map<string, number>();
+  eachLifetime(g, folded, delays, (u, e, tIn, tOut) => {
+    const id = g.nodeIds[u];
+    if (e < 0) {
+      out.push({ variable: id, node: id, tIn, tOut });
+      return;
+    }
+    let name = `${id}->${g.nodeIds[g.edgeTo[e]]}`;
+    const again = (seen.get(name) ?? 0) + 1;
+    seen.set(name, again);
+    if (again > 1) name += `#${again}`; // a second edge to the same consumer
+    out.push({ variable: name, node: id, tIn, tOut });
+  });
   return out;
 }
 
@@ -96,33 +109,12 @@ export function registerFigures(g: IndexedGraph, folded: Float64Array, delays: F
     const d = folded[e];
     if (!Number.isNaN(d)) perEdge += d;
   }
-  // The variables of lifetimeVariables, in the same order, added as they are found.
+  // The variables of lifetimeVariables, added as they are found.
   const diff = new Float64Array(N + 1);
   let whole = 0;
-  for (let u = 0; u < g.nodeCount; u++) {
-    const start = g.outStart[u];
-    const end = g.outStart[u + 1];
-    if (start === end) continue;
-    if (g.role[u] === INPUT && g.slot[u] === NO_SLOT) {
-      for (let k = start; k < end; k++) {
-        const e = g.outEdge[k];
-        const d = folded[e];
-        if (Number.isNaN(d) || !(delays[e] > 0)) continue;
-        const tIn = g.slot[g.edgeTo[e]];
-        whole += addLifetime(diff, N, tIn, tIn + d);
-      }
-      continue;
-    }
-    let longest = 0;
-    for (let k = start; k < end; k++) {
-      const d = folded[g.outEdge[k]];
-      if (d > longest) longest = d;
-    }
-    if (longest > 0 && g.slot[u] !== NO_SLOT) {
-      const tIn = g.slot[u] + g.stages[u];
-      whole += addLifetime(diff, N, tIn, tIn + longest);
-    }
-  }
+  eachLifetime(g, folded, delays, (_u, _e, tIn, tOut) => {
+    whole += addLifetime(diff, N, tIn, tOut);
+  });
   let running = whole;
   let minimum = 0;
   for (let t = 0; t < N; t++) {
