@@ -1,18 +1,7 @@
 import { CartesianGrid, Line, LineChart, ResponsiveContainer, Tooltip, XAxis, YAxis } from 'recharts';
 import type { HardwareFigures, RunListItem } from '../api/types';
 import { shortCommit } from './format';
-
-const axis = { fontSize: 11, fill: '#4b5280' };
-/** Lines of designs differ by dash as well as colour (as on the other history charts). */
-const SERIES = [
-  { color: '#c4551a', dash: undefined },
-  { color: '#353b62', dash: '6 3' },
-  { color: '#1d7a5c', dash: '2 3' },
-  { color: '#8d2f99', dash: '10 3 2 3' },
-  { color: '#7a5b12', dash: '4 4' },
-  { color: '#2a6f9b', dash: '1 2' },
-];
-const dayFmt = new Intl.DateTimeFormat('en-GB', { day: 'numeric', month: 'short' });
+import { SERIES, axis, dayFmt } from './chartStyle';
 
 const METRICS: { key: keyof Pick<HardwareFigures, 'cells' | 'flipFlops' | 'depth'>; title: string }[] = [
   { key: 'cells', title: 'Cells (folded)' },

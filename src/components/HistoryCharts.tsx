@@ -1,6 +1,7 @@
 import { Bar, BarChart, CartesianGrid, Line, LineChart, ResponsiveContainer, Tooltip, XAxis, YAxis } from 'recharts';
 import type { Status, TrendPoint } from '../api/types';
 import { pct, shortCommit } from './format';
+import { SERIES, axis, dayFmt } from './chartStyle';
 
 /** One run on the branch history charts: the API's trend point, with what the charts add. */
 export interface HistoryPoint extends TrendPoint {
@@ -16,18 +17,7 @@ export interface DesignSeries {
   values: (number | null)[];
 }
 
-const axis = { fontSize: 11, fill: '#4b5280' };
 const verdictColor: Record<Status, string> = { pass: '#1d7a5c', fail: '#b4232c', error: '#8d2f99' };
-/** Lines of designs differ by dash as well as colour. */
-const SERIES = [
-  { color: '#c4551a', dash: undefined },
-  { color: '#353b62', dash: '6 3' },
-  { color: '#1d7a5c', dash: '2 3' },
-  { color: '#8d2f99', dash: '10 3 2 3' },
-  { color: '#7a5b12', dash: '4 4' },
-  { color: '#2a6f9b', dash: '1 2' },
-];
-const dayFmt = new Intl.DateTimeFormat('en-GB', { day: 'numeric', month: 'short' });
 
 /** A dot in the verdict's own shape (not colour alone) that opens its run. */
 function VerdictDot(props: { cx?: number; cy?: number; payload?: { point?: HistoryPoint }; onOpen?: (id: number) => void }) {
