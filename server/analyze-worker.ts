@@ -4,6 +4,10 @@ import type { AnalyzeResult } from '../shared/report/api';
 import type { Rules } from '../shared/types';
 import { checkDesignText } from './engine';
 import { jsonText, type JsonText } from './http/present';
+import { lowerThreadPriority } from './threadPriority';
+
+// Once per thread, when the pool starts it: an analysis yields the CPU to requests and queries.
+lowerThreadPriority();
 
 export interface AnalyzeTask {
   text: string;

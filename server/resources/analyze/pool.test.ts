@@ -1,6 +1,7 @@
 // POST /api/analyze runs the engine on worker threads, and analyses and uploads are limited per
 // person and per CI token. The first test checks order, not time: health checks sent while a
 // large design is being analysed are all answered before that analysis is.
+import { readdirSync, readFileSync, readlinkSync } from 'node:fs';
 import { request } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -63,6 +64,20 @@ describe('analysis off the request thread', () => {
     expect(r.status, r.body.slice(0, 300)).toBe(200);
     expect(JSON.parse(r.body).design.status).not.toBe('error');
     expect(order).toEqual(['health', 'health', 'health', 'analysis']);
+  });
+
+  // Linux only (setpriority(2): the nice value is per thread there); elsewhere analyses keep the process's priority.
+  it.runIf(process.platform === 'linux')('runs analyses at the lowest CPU priority, and only the analysis threads', async () => {
+    const engineer = await makeMember(t.ctx, project, 'engineer');
+    const small = generateDesign({ edges: 60, seed: 2 }).text;
+    const r = await t.http().post('/api/analyze').set('Cookie', cookieFor(t.ctx, engineer)).attach('design', Buffer.from(small), 'small.fold.yaml');
+    expect(r.status).toBe(200);
+    // The pool keeps its thread for a minute after a task: its nice value is read from /proc (field 19 of stat).
+    const nice = (tid: string) => Number(readFileSync(`/proc/self/task/${tid}/stat`, 'utf8').split(') ')[1]!.split(' ')[16]);
+    const values = readdirSync('/proc/self/task').map(nice);
+    expect(values).toContain(19);
+    expect(nice(readlinkSync('/proc/thread-self').split('/').pop()!)).toBe(0);
+    expect(values.filter((v) => v === 19).length).toBeLessThan(values.length);
   });
 
   it('limits analyses per person with 429 and Retry-After; another person is not affected', async () => {
