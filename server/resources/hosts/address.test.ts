@@ -2,12 +2,15 @@
 // hosts only, http to the loopback only under PLEAT_HOST_HTTP_LOOPBACK=1, private ranges only
 // through PLEAT_HOST_ALLOW. The ranges are those of RFC 1918 (private), RFC 3927 (IPv4
 // link-local, where cloud metadata lives at 169.254.169.254), RFC 6598 (shared), RFC 4193 and
-// RFC 4291 (IPv6 unique-local, link-local, loopback), from memory. No test here connects to any
-// address: the check runs before a call, and names resolve through an injected resolver.
+// RFC 4291 (IPv6 unique-local, link-local, loopback), from memory. Names resolve through an
+// injected resolver; the only sockets opened are to a server of the test's own on 127.0.0.1.
+import { createServer, type Server } from 'node:http';
+import type { AddressInfo } from 'node:net';
+import { Agent, fetch } from 'undici';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { cookieFor, makeMember, makeProject } from '../../test/factories';
 import { startTestServer, type TestServer } from '../../test/server';
-import { refuseHostAddress, type HostAddressPolicy, type Resolve } from './address';
+import { hostLookup, refuseHostAddress, type HostAddressPolicy, type Resolve } from './address';
 
 const strict: HostAddressPolicy = { httpLoopback: false, allow: [] };
 const names: Record<string, string[]> = {
@@ -59,6 +62,49 @@ describe('which API addresses the server calls', () => {
   it('a name that does not resolve: accepted on saving, refused before a call', async () => {
     expect(await refuse('https://nowhere.example.com/', strict, 'accept')).toBeNull();
     expect(await refuse('https://nowhere.example.com/', strict, 'refuse')).toMatch(/does not resolve/);
+  });
+});
+
+describe('the connection itself is judged (DNS rebinding)', () => {
+  let server: Server;
+  let port = 0;
+  let requests = 0;
+  beforeAll(async () => {
+    server = createServer((_req, res) => {
+      requests++;
+      res.end('{}');
+    });
+    await new Promise<void>((r) => server.listen(0, '127.0.0.1', r));
+    port = (server.address() as AddressInfo).port;
+  });
+  afterAll(() => new Promise<void>((r) => server.close(() => r())));
+
+  /** undici's fetch through an agent whose connections resolve by hostLookup, as the host clients' do. */
+  const call = (url: string, policy: HostAddressPolicy, resolver: Resolve) =>
+    fetch(url, { dispatcher: new Agent({ connect: { lookup: hostLookup(new URL(url).protocol, policy, resolver) } }) });
+  const reason = (err: unknown) => String((err as { cause?: Error }).cause?.message ?? err);
+
+  it('refuses at the connection a name that resolved to a public address when checked and to the loopback after', async () => {
+    // The attacker's name server answers a public address first and the loopback from then on.
+    let asked = 0;
+    const rebinding: Resolve = async () => (asked++ === 0 ? ['203.0.113.10'] : ['127.0.0.1']);
+    const url = `https://rebind.example.com:${port}/api/v4/projects`;
+    expect(await refuseHostAddress(url, strict, 'refuse', rebinding)).toBeNull();
+    const before = requests;
+    const err = await call(url, strict, rebinding).then(() => null, (e: unknown) => e);
+    expect(reason(err)).toBe('The API host rebind.example.com is at 127.0.0.1, a private, loopback, link-local or reserved address; the server calls only public hosts unless an administrator allows this one in PLEAT_HOST_ALLOW (docs/server.md, Git hosts).');
+    expect(requests).toBe(before);
+  });
+
+  it('connects where the policy allows the address it resolved to', async () => {
+    const local: Resolve = async () => ['127.0.0.1'];
+    const before = requests;
+    const res = await call(`http://fake-host.test:${port}/api/v4`, { httpLoopback: true, allow: [] }, local);
+    expect(res.status).toBe(200);
+    expect(requests).toBe(before + 1);
+    const refused = await call(`http://fake-host.test:${port}/api/v4`, strict, local).then(() => null, (e: unknown) => e);
+    expect(reason(refused)).toMatch(/^The API address must be https:\/\//);
+    expect(requests).toBe(before + 1);
   });
 });
 

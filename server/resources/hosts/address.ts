@@ -58,6 +58,29 @@ function allowList(entries: string[]): { names: Set<string>; ranges: BlockList }
 }
 
 /**
+ * Why the server may not reach `host` at `addresses` over `protocol` ('http:' or 'https:'), or
+ * null when it may: the one judgement of an address, made on saving, before every call and again
+ * at the connection itself (hostLookup).
+ */
+function refuseAddresses(host: string, protocol: string, addresses: string[], policy: HostAddressPolicy, shown = host): string | null {
+  const loopbackOnly = addresses.every((a) => inList(LOOPBACK, a));
+  if (protocol === 'http:') {
+    if (!(policy.httpLoopback && loopbackOnly)) return `The API address must be https:// (got ${protocol}//${shown}); the token is never sent unencrypted.`;
+    return null;
+  }
+  if (protocol !== 'https:') return `The API address must be https:// (got ${protocol}//).`;
+  const allow = allowList(policy.allow);
+  if (allow.names.has(host)) return null;
+  for (const a of addresses) {
+    if (!inList(NOT_PUBLIC, a)) continue;
+    if (policy.httpLoopback && inList(LOOPBACK, a)) continue;
+    if (inList(allow.ranges, a)) continue;
+    return `The API host ${host} is at ${a}, a private, loopback, link-local or reserved address; the server calls only public hosts unless an administrator allows this one in PLEAT_HOST_ALLOW (docs/server.md, Git hosts).`;
+  }
+  return null;
+}
+
+/**
  * Why the server may not call `url` with a token, or null when it may. `unresolved` says what to
  * do with a host name that does not resolve now: 'accept' on saving (the host may be down; the
  * check runs again before every call), 'refuse' before a call.
@@ -71,7 +94,6 @@ export async function refuseHostAddress(url: string, policy: HostAddressPolicy, 
   }
   if (u.username || u.password) return 'The API address may not carry a user name or password; the token is entered on its own.';
   const host = u.hostname.replace(/^\[|\]$/g, '').toLowerCase();
-  const allow = allowList(policy.allow);
   let addresses: string[];
   if (isIP(host)) addresses = [host];
   else {
@@ -82,18 +104,32 @@ export async function refuseHostAddress(url: string, policy: HostAddressPolicy, 
     }
     if (addresses.length === 0) return unresolved === 'accept' ? null : `The API host ${host} does not resolve to an address.`;
   }
-  const loopbackOnly = addresses.every((a) => inList(LOOPBACK, a));
-  if (u.protocol === 'http:') {
-    if (!(policy.httpLoopback && loopbackOnly)) return `The API address must be https:// (got ${u.protocol}//${u.host}); the token is never sent unencrypted.`;
-    return null;
-  }
-  if (u.protocol !== 'https:') return `The API address must be https:// (got ${u.protocol}//).`;
-  if (allow.names.has(host)) return null;
-  for (const a of addresses) {
-    if (!inList(NOT_PUBLIC, a)) continue;
-    if (policy.httpLoopback && inList(LOOPBACK, a)) continue;
-    if (inList(allow.ranges, a)) continue;
-    return `The API host ${host} is at ${a}, a private, loopback, link-local or reserved address; the server calls only public hosts unless an administrator allows this one in PLEAT_HOST_ALLOW (docs/server.md, Git hosts).`;
-  }
-  return null;
+  return refuseAddresses(host, u.protocol, addresses, policy, u.host);
+}
+
+/** The `lookup` of net.connect: with `all`, every address; without, the first. */
+export type ConnectLookup = (
+  hostname: string,
+  options: { all?: boolean; family?: number | string },
+  callback: (err: NodeJS.ErrnoException | null, address: string | { address: string; family: number }[], family?: number) => void,
+) => void;
+
+/**
+ * The name resolution of the host calls' connections: the addresses the socket will connect to are
+ * the ones judged, in the same step, so a DNS answer that changes after the check before the call
+ * (rebinding) is refused at the connection instead of being called with the token. `protocol` is
+ * the API address's.
+ */
+export function hostLookup(protocol: string, policy: HostAddressPolicy, resolve: Resolve = systemResolve): ConnectLookup {
+  return (hostname, options, callback) => {
+    const host = hostname.replace(/^\[|\]$/g, '').toLowerCase();
+    resolve(host).then((addresses) => {
+      if (addresses.length === 0) throw Object.assign(new Error(`The API host ${host} does not resolve to an address.`), { code: 'ENOTFOUND' });
+      const refused = refuseAddresses(host, protocol, addresses, policy);
+      if (refused) throw Object.assign(new Error(refused), { code: 'EHOSTREFUSED' });
+      const found = addresses.map((address) => ({ address, family: isIP(address) === 6 ? 6 : 4 }));
+      if (options.all) callback(null, found);
+      else callback(null, found[0]!.address, found[0]!.family);
+    }).catch((err: NodeJS.ErrnoException) => callback(err, ''));
+  };
 }

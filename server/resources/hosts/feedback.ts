@@ -46,7 +46,7 @@ export async function postHostFeedback(ctx: AppContext, project: Project, run: R
     // Checked again before every call: a name may resolve elsewhere than when it was saved.
     const refused = await refuseHostAddress(conn.api_url, ctx.config.hostAddress, 'refuse');
     if (refused) throw new Error(refused);
-    const client = hostClient({ kind: conn.kind, apiUrl: conn.api_url, repository: conn.repository, token, timeoutMs: ctx.config.hostTimeoutMs });
+    const client = hostClient({ kind: conn.kind, apiUrl: conn.api_url, repository: conn.repository, token, timeoutMs: ctx.config.hostTimeoutMs, addressPolicy: ctx.config.hostAddress });
     const request = await step(`finding the open request of ${run.branch}`, () => client.findOpenRequest(run.branch));
     if (request) {
       const link = `${ctx.config.publicUrl}/projects/${encodeURIComponent(project.slug)}/runs/${run.id}`;

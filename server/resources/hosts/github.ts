@@ -1,7 +1,7 @@
 // GitHub through its SDK (@octokit/rest): pulls.list, repos.createCommitStatus and the issue
 // comments of the pull request (a pull request's conversation is its issue's).
 import { Octokit } from '@octokit/rest';
-import { STATUS_CONTEXT, timedFetch, type HostClient, type HostSettings } from './client';
+import { STATUS_CONTEXT, hostFetch, type HostClient, type HostSettings } from './client';
 
 const silent = { debug: () => {}, info: () => {}, warn: () => {}, error: () => {} };
 
@@ -9,7 +9,7 @@ export function githubClient(s: HostSettings): HostClient {
   const [owner = '', repo = ''] = s.repository.split('/');
   const octokit = new Octokit({
     auth: s.token, baseUrl: s.apiUrl, userAgent: 'pleat-server', log: silent,
-    request: { fetch: timedFetch(s.timeoutMs) },
+    request: { fetch: hostFetch(s) },
   });
   return {
     async findOpenRequest(branch) {

@@ -1,6 +1,6 @@
 // GitLab through its REST API (v4) with fetch: merge_requests by source branch, commit statuses,
 // and the merge request's notes. The repository is the project's path ("group/name") or its id.
-import { STATUS_CONTEXT, timedFetch, type HostClient, type HostSettings } from './client';
+import { STATUS_CONTEXT, hostFetch, type HostClient, type HostSettings } from './client';
 
 /** A host's answer that was not a success, with its status for the caller to tell 404 apart. */
 export class HostHttpError extends Error {
@@ -11,7 +11,7 @@ export class HostHttpError extends Error {
 
 export function gitlabClient(s: HostSettings): HostClient {
   const base = `${s.apiUrl.replace(/\/+$/, '')}/projects/${encodeURIComponent(s.repository)}`;
-  const get = timedFetch(s.timeoutMs);
+  const get = hostFetch(s);
   async function call<T>(method: string, path: string, body?: object): Promise<{ data: T; headers: Headers }> {
     const res = await get(`${base}${path}`, {
       method,
