@@ -5,6 +5,7 @@ import { rtlUnavailable } from '../../shared/hardware/rtlAvailable';
 import { hostFileUrl } from '../../shared/report/hostLinks';
 import { ComparisonPanel } from '../components/ComparisonPanel';
 import { DesignReportView } from '../components/DesignReportView';
+import { HardwareCard } from '../components/HardwareCard';
 import { PlanActions } from '../components/PlanActions';
 import { can } from '../api/roles';
 import { useProjectContext } from '../components/ProjectLayout';
@@ -132,6 +133,7 @@ export default function RunPage() {
               </Panel>
             )}
             {selected && <DesignFiles runId={run.id} design={selected} />}
+            {selected?.hardware && <HardwareCard summary={selected.hardware} />}
             {selected && (
               <DesignReportView
                 source={(selected as { source?: string }).source}

@@ -1,6 +1,7 @@
 // The branch history in headless Chromium, on the seeded demo: the rule floor and the base branch
 // on the utilization chart, registers per design, the commit's message and author of each run,
-// a trend point that opens its run, and the page of the history in the address.
+// a trend point that opens its run, the page of the history in the address, and the hardware
+// summaries uploaded with the runs (trend on the branch, table on the run page).
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { RunPage } from '../../shared/report/api';
 import type { Report } from '../../shared/types';
@@ -40,6 +41,7 @@ describe('a branch history', () => {
     const project = (await web.ctx.db.models.Project.findOne({ where: { slug } }))!;
     const branch = 'feature/area-trend';
     const at = Date.now() - 3_600_000;
+    let lastRun = 0;
     for (const [i, [cells, ff, depth]] of [[900, 40, 31], [850, 38, 29]].entries()) {
       const hardware: HardwareSummary = {
         format: 'pleat-hardware', version: 1, design: 'notch', file: 'hw/notch.fold.yaml', top: 'notch', tool: 'Yosys 0.23',
@@ -49,6 +51,7 @@ describe('a branch history', () => {
       const report = makeReport({ branch, commit: randomCommit(), designs: [{ ...designEntry('notch'), hardware }] });
       const stored = await ingestRun(web.ctx, project, report, { createdAt: new Date(at + i * 60_000) });
       await storeHardware(web.ctx, stored.id, report);
+      lastRun = stored.id;
     }
     const { page } = s;
     await page.goto(`${web.url}/projects/${slug}/branches/${encodeURIComponent(branch)}`);
@@ -58,6 +61,15 @@ describe('a branch history', () => {
     expect(await page.getByTestId('hardware-flipFlops').textContent()).toBe('notch 40 → 38');
     expect(await page.getByTestId('hardware-depth').textContent()).toBe('notch 31 → 29');
     expect(await trends.locator('path.recharts-curve').count()).toBe(3);
+    expect(await axeViolations(page)).toEqual([]);
+    // The run page shows the summary of the design beside its parallel reference.
+    await page.goto(`${web.url}/projects/${slug}/runs/${lastRun}?design=notch`);
+    const card = page.getByTestId('hardware-card');
+    await card.waitFor();
+    expect(await page.getByTestId('hardware-folded-cells').textContent()).toBe('850');
+    expect(await card.locator('tbody tr').first().locator('td').allTextContents()).toEqual(['850', '3,000', '0.28x']);
+    expect(await page.locator('#run-hardware').textContent()).toContain('figures by Yosys 0.23');
+    await screenshot(page, 'run-hardware');
     expect(await axeViolations(page)).toEqual([]);
     expect(s.errors).toEqual([]);
   }, LONG);
