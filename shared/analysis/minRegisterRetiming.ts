@@ -182,6 +182,10 @@ export function minCostPotentials(
     adjCost[i] = -costs[k];
   }
   r.set(start.subarray(0, n));
+  // The bucket queue of the searches orders by integer keys: the constraints' weights and the
+  // shortest-path start are integers by construction (delays, stages, slots, floorDiv).
+  for (let k = 0; k < m; k++) if (!Number.isInteger(costs[k])) throw new Error(`min-cost flow: arc cost ${costs[k]} is not an integer`);
+  for (let v = 0; v < n; v++) if (!Number.isInteger(r[v])) throw new Error(`min-cost flow: start potential ${r[v]} is not an integer`);
   for (let k = 0; k < m; k++) if (costs[k] - r[tails[k]] + r[heads[k]] < 0) return null; // start infeasible
   let remaining = 0;
   for (let v = 0; v < n; v++) if (excess[v] > 0) remaining += excess[v];
@@ -228,7 +232,7 @@ class FlowState {
   readonly done: Int32Array;
   readonly settled: Int32Array;
   settledCount = 0;
-  readonly heap: BinaryHeap;
+  readonly buckets: BucketQueue;
   // Max-flow on the arcs of reduced cost 0: BFS levels, current arcs, the path of the search.
   readonly level: Int32Array;
   readonly queue: Int32Array;
@@ -253,7 +257,7 @@ class FlowState {
     this.seen = new Int32Array(n);
     this.done = new Int32Array(n);
     this.settled = new Int32Array(n);
-    this.heap = new BinaryHeap(n);
+    this.buckets = new BucketQueue(n);
     this.level = new Int32Array(n);
     this.queue = new Int32Array(n);
     this.current = new Int32Array(n);
@@ -270,20 +274,21 @@ class FlowState {
  * -1 when none is reachable, OUT_OF_BUDGET. The variables settled before it are in `settled`.
  */
 function nearestDeficit(s: FlowState, round: number): number {
-  const { n, excess, dist, seen, done, settled, heap, adjStart, adj, adjTo, adjCost, flow, r, budget } = s;
-  heap.clear();
+  const { n, excess, dist, seen, done, settled, buckets: pq, adjStart, adj, adjTo, adjCost, flow, r, budget } = s;
+  pq.clear();
   for (let v = 0; v < n; v++) {
     if (excess[v] > 0) {
       dist[v] = 0;
       seen[v] = round;
-      heap.push(v, 0);
+      pq.push(v, 0);
     }
   }
   let work = s.work + n;
   let target = -1;
   let settledCount = 0;
-  while (heap.size > 0) {
-    const u = heap.pop();
+  for (;;) {
+    const u = pq.pop();
+    if (u < 0) break;
     work++;
     done[u] = round;
     if (excess[u] < 0) {
@@ -303,10 +308,10 @@ function nearestDeficit(s: FlowState, round: number): number {
       if (seen[v] !== round) {
         dist[v] = dv;
         seen[v] = round;
-        heap.push(v, dv);
+        pq.push(v, dv);
       } else if (dv < dist[v]) {
         dist[v] = dv;
-        heap.decrease(v, dv);
+        pq.decrease(v, dv);
       }
     }
     work += end - adjStart[u];
@@ -445,73 +450,119 @@ function augment(s: FlowState, src: number, t: number, depth: number): void {
   s.remaining -= amount;
 }
 
-/** Min-heap of vertex ids keyed by distance, with decrease-key. */
-class BinaryHeap {
-  private items: Int32Array;
-  private keys: Float64Array;
-  private where: Int32Array;
-  size = 0;
+/**
+ * Monotone priority queue of vertex ids with small integer keys: Dial's bucket queue (R. B. Dial,
+ * "Algorithm 360: shortest-path forest with topological ordering", CACM 12(11), 1969), one
+ * doubly linked list per key in a window of BUCKETS keys from `base`; keys past the window wait
+ * unsorted in `overflow` and are brought into a new window once the window is empty. Dijkstra's
+ * keys never fall below the key last popped, which is all a bucket queue needs. Every step is
+ * O(1) except the refill, which happens only when the distances pass the window (the reduced
+ * distances of these searches are a few units). Among equal keys the last queued comes first.
+ */
+class BucketQueue {
+  private readonly head = new Int32Array(BUCKETS).fill(-1);
+  private readonly next: Int32Array;
+  private readonly prev: Int32Array;
+  /** Bucket of v, IN_OVERFLOW, or NOT_QUEUED. */
+  private readonly where: Int32Array;
+  private readonly keys: Float64Array;
+  private readonly overflow: Int32Array;
+  private overflowCount = 0;
+  private base = 0;
+  /** Every bucket below `cursor` is empty. */
+  private cursor = 0;
   constructor(n: number) {
-    this.items = new Int32Array(n);
+    this.next = new Int32Array(n);
+    this.prev = new Int32Array(n);
+    this.where = new Int32Array(n).fill(NOT_QUEUED);
     this.keys = new Float64Array(n);
-    this.where = new Int32Array(n).fill(-1);
+    this.overflow = new Int32Array(n);
   }
   clear(): void {
-    for (let i = 0; i < this.size; i++) this.where[this.items[i]] = -1;
-    this.size = 0;
+    const { head, next, where, overflow } = this;
+    for (let b = this.cursor; b < BUCKETS; b++) {
+      for (let v = head[b]; v >= 0; v = next[v]) where[v] = NOT_QUEUED;
+      head[b] = -1;
+    }
+    for (let i = 0; i < this.overflowCount; i++) where[overflow[i]] = NOT_QUEUED;
+    this.overflowCount = 0;
+    this.base = 0;
+    this.cursor = 0;
   }
   push(v: number, key: number): void {
     this.keys[v] = key;
-    this.items[this.size] = v;
-    this.where[v] = this.size;
-    this.size++;
-    this.up(this.size - 1);
+    const b = key - this.base;
+    if (b < BUCKETS) this.link(v, b);
+    else {
+      this.where[v] = IN_OVERFLOW;
+      this.overflow[this.overflowCount++] = v;
+    }
   }
   decrease(v: number, key: number): void {
     this.keys[v] = key;
-    this.up(this.where[v]);
+    const at = this.where[v];
+    const b = key - this.base;
+    if (at >= 0) {
+      this.unlink(v, at);
+      this.link(v, b);
+    } else if (b < BUCKETS) this.link(v, b); // its overflow entry goes stale
   }
+  /** The vertex of the smallest key, or -1 when the queue is empty. */
   pop(): number {
-    const top = this.items[0];
-    this.where[top] = -1;
-    this.size--;
-    if (this.size > 0) {
-      const last = this.items[this.size];
-      this.items[0] = last;
-      this.where[last] = 0;
-      this.down(0);
-    }
-    return top;
-  }
-  private up(i: number): void {
-    const { items, keys, where } = this;
-    const v = items[i];
-    const key = keys[v];
-    while (i > 0) {
-      const p = (i - 1) >> 1;
-      const pv = items[p];
-      if (keys[pv] <= key) break;
-      items[i] = pv;
-      where[pv] = i;
-      i = p;
-    }
-    items[i] = v;
-    where[v] = i;
-  }
-  private down(i: number): void {
-    const { items, keys, where } = this;
-    const v = items[i];
-    const key = keys[v];
+    const { head } = this;
     for (;;) {
-      let c = 2 * i + 1;
-      if (c >= this.size) break;
-      if (c + 1 < this.size && keys[items[c + 1]] < keys[items[c]]) c++;
-      if (keys[items[c]] >= key) break;
-      items[i] = items[c];
-      where[items[c]] = i;
-      i = c;
+      while (this.cursor < BUCKETS && head[this.cursor] < 0) this.cursor++;
+      if (this.cursor < BUCKETS) break;
+      if (!this.refill()) return -1;
     }
-    items[i] = v;
-    where[v] = i;
+    const b = this.cursor;
+    const v = head[b];
+    this.unlink(v, b);
+    this.where[v] = NOT_QUEUED;
+    return v;
+  }
+  /** A new window from the smallest key in the overflow; false when the overflow holds nothing. */
+  private refill(): boolean {
+    const { overflow, where, keys } = this;
+    let live = 0;
+    let least = Infinity;
+    for (let i = 0; i < this.overflowCount; i++) {
+      const v = overflow[i];
+      if (where[v] !== IN_OVERFLOW) continue;
+      overflow[live++] = v;
+      if (keys[v] < least) least = keys[v];
+    }
+    this.overflowCount = 0;
+    if (live === 0) return false;
+    this.base = least;
+    this.cursor = 0;
+    // push writes overflow[k] only for k <= i, entries already read
+    for (let i = 0; i < live; i++) {
+      const v = overflow[i];
+      this.push(v, keys[v]);
+    }
+    return true;
+  }
+  private link(v: number, b: number): void {
+    const { head, next, prev } = this;
+    this.where[v] = b;
+    const h = head[b];
+    next[v] = h;
+    prev[v] = -1;
+    if (h >= 0) prev[h] = v;
+    head[b] = v;
+  }
+  private unlink(v: number, b: number): void {
+    const { head, next, prev } = this;
+    const p = prev[v];
+    const q = next[v];
+    if (p >= 0) next[p] = q;
+    else head[b] = q;
+    if (q >= 0) prev[q] = p;
   }
 }
+
+/** Keys a BucketQueue holds in buckets at once; larger ones wait in its overflow. */
+const BUCKETS = 256;
+const NOT_QUEUED = -1;
+const IN_OVERFLOW = -2;
