@@ -190,20 +190,17 @@ export function minCostPotentials(
   let remaining = 0;
   for (let v = 0; v < n; v++) if (excess[v] > 0) remaining += excess[v];
   s.remaining = remaining;
-  let round = 0;
 
-  // Primal-dual: one Dijkstra raises the potentials to the distance of the nearest deficit, then
-  // a maximum flow on the arcs of reduced cost 0 ships everything those shortest paths can carry.
-  // Each round raises that distance, so there are as many rounds as distinct distances (few:
-  // the costs are small integers), not one per unit of flow as with single shortest paths.
+  // Primal-dual: a maximum flow on the arcs of reduced cost 0 ships everything the shortest
+  // paths can carry, then one Dijkstra raises the potentials to the distance of the nearest
+  // deficit, and so on. Each round raises that distance, so there are as many rounds as
+  // distinct distances (few: the costs are small integers), not one per unit of flow as with
+  // single shortest paths. The start makes every reduced cost nonnegative, so the first round
+  // starts with the flow (the Dijkstra before it would raise nothing: its distance is 0 when a
+  // deficit is reachable over arcs of reduced cost 0, and the flow finds nothing otherwise).
   // Each step is its own small function: V8 optimises small functions soon and quickly, where
   // one large function ran unoptimised for most of a first (CLI) run.
-  while (s.remaining > 0) {
-    round++;
-    const target = nearestDeficit(s, round);
-    if (target === OUT_OF_BUDGET) return null;
-    if (target < 0) return null; // a deficit no excess reaches: the LP is unbounded
-    raisePotentials(s, s.dist[target]);
+  for (;;) {
     // Maximum flow from the excesses to the deficits over admissible arcs (Dinic's phases).
     for (;;) {
       const sources = levels(s);
@@ -211,6 +208,11 @@ export function minCostPotentials(
       if (sources < 0) break;
       if (!blockingFlow(s, sources)) return null;
     }
+    if (s.remaining <= 0) break;
+    const target = nearestDeficit(s);
+    if (target === OUT_OF_BUDGET) return null;
+    if (target < 0) return null; // a deficit no excess reaches: the LP is unbounded
+    raisePotentials(s, s.dist[target]);
   }
   return { values: r, work: s.work };
 }
@@ -227,9 +229,15 @@ class FlowState {
   readonly flow: Float64Array;
   readonly r: Float64Array;
   readonly dist: Float64Array;
-  /** Search number that last labelled v, and that settled it. */
+  /** Search number (levels and Dijkstra share the count) that last labelled v, and that settled it. */
   readonly seen: Int32Array;
   readonly done: Int32Array;
+  search = 0;
+  /** Variables the last levels search gave a distance in `dist` but no level, labelledCount of them. */
+  readonly labelled: Int32Array;
+  labelledCount = 0;
+  /** Variables the last levels search reached: queue[0 .. reachedCount). */
+  reachedCount = 0;
   readonly settled: Int32Array;
   settledCount = 0;
   readonly buckets: BucketQueue;
@@ -257,6 +265,7 @@ class FlowState {
     this.seen = new Int32Array(n);
     this.done = new Int32Array(n);
     this.settled = new Int32Array(n);
+    this.labelled = new Int32Array(n);
     this.buckets = new BucketQueue(n);
     this.level = new Int32Array(n);
     this.queue = new Int32Array(n);
@@ -272,25 +281,33 @@ class FlowState {
 /**
  * Dijkstra on reduced costs from every excess until the first deficit is settled: that deficit,
  * -1 when none is reachable, OUT_OF_BUDGET. The variables settled before it are in `settled`.
+ * It runs after a levels search that reached no deficit, with the same flow and potentials, so
+ * it starts where that search ended: the variables it reached are those at distance 0 (settled,
+ * their arcs already scanned), and those it labelled hold their tentative distances.
  */
-function nearestDeficit(s: FlowState, round: number): number {
-  const { n, excess, dist, seen, done, settled, buckets: pq, adjStart, adj, adjTo, adjCost, flow, r, budget } = s;
+function nearestDeficit(s: FlowState): number {
+  const { excess, dist, seen, done, settled, labelled, queue, buckets: pq, adjStart, adj, adjTo, adjCost, flow, r, budget } = s;
+  const search = s.search;
   pq.clear();
-  for (let v = 0; v < n; v++) {
-    if (excess[v] > 0) {
-      dist[v] = 0;
-      seen[v] = round;
-      pq.push(v, 0);
-    }
-  }
-  let work = s.work + n;
-  let target = -1;
   let settledCount = 0;
+  for (let k = 0; k < s.reachedCount; k++) {
+    const v = queue[k];
+    dist[v] = 0;
+    seen[v] = search;
+    done[v] = search;
+    settled[settledCount++] = v;
+  }
+  for (let k = 0; k < s.labelledCount; k++) {
+    const v = labelled[k];
+    if (done[v] !== search) pq.push(v, dist[v]);
+  }
+  let work = s.work + settledCount + s.labelledCount;
+  let target = -1;
   for (;;) {
     const u = pq.pop();
     if (u < 0) break;
     work++;
-    done[u] = round;
+    done[u] = search;
     if (excess[u] < 0) {
       target = u;
       break;
@@ -303,11 +320,11 @@ function nearestDeficit(s: FlowState, round: number): number {
       const a = adj[i];
       if (a & 1 && flow[a >> 1] <= 0) continue;
       const v = adjTo[i];
-      if (done[v] === round) continue;
+      if (done[v] === search) continue;
       const dv = du + (adjCost[i] - ru + r[v]);
-      if (seen[v] !== round) {
+      if (seen[v] !== search) {
         dist[v] = dv;
-        seen[v] = round;
+        seen[v] = search;
         pq.push(v, dv);
       } else if (dv < dist[v]) {
         dist[v] = dv;
@@ -338,10 +355,13 @@ function raisePotentials(s: FlowState, D: number): void {
 /**
  * BFS levels over admissible arcs from every excess; a deficit ends a path. Returns how many
  * sources start the queue (queue[0 .. sources): the excesses in increasing order), or -1 when
- * no deficit is reached.
+ * no deficit is reached. On the way it labels every variable it does not reach but an arc with
+ * room and a positive reduced cost from a reached one does, with the least such reduced cost
+ * (`dist`, `labelled`): when no deficit is reached, that is the start of the next Dijkstra.
  */
 function levels(s: FlowState): number {
-  const { n, excess, level, queue, adjStart, adj, adjTo, adjCost, flow, r } = s;
+  const { n, excess, level, queue, adjStart, adj, adjTo, adjCost, flow, r, dist, seen, labelled } = s;
+  const search = ++s.search;
   level.fill(-1);
   let qh = 0;
   let qt = 0;
@@ -354,6 +374,7 @@ function levels(s: FlowState): number {
   const sources = qt;
   let reached = false;
   let work = s.work;
+  let labelledCount = 0;
   while (qh < qt) {
     const u = queue[qh++];
     if (excess[u] < 0) {
@@ -368,13 +389,23 @@ function levels(s: FlowState): number {
       if (level[v] >= 0) continue;
       const a = adj[i];
       if (a & 1 && flow[a >> 1] <= 0) continue;
-      if (adjCost[i] - ru + r[v] !== 0) continue;
+      const reduced = adjCost[i] - ru + r[v];
+      if (reduced !== 0) {
+        if (seen[v] !== search) {
+          seen[v] = search;
+          dist[v] = reduced;
+          labelled[labelledCount++] = v;
+        } else if (reduced < dist[v]) dist[v] = reduced;
+        continue;
+      }
       level[v] = next;
       queue[qt++] = v;
     }
     work += end - adjStart[u];
   }
   s.work = work + n;
+  s.labelledCount = labelledCount;
+  s.reachedCount = qt;
   return reached ? sources : -1;
 }
 
