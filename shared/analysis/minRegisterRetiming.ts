@@ -1,4 +1,4 @@
-// Method: fewest-register retiming as the LP dual of a min-cost flow, with fan-out mirror nodes (Leiserson & Saxe 1991); primal-dual (Dijkstra on reduced costs, then a maximum flow on the arcs of reduced cost 0).
+// Method: fewest-register retiming as the LP dual of a min-cost flow, with fan-out mirror nodes (Leiserson & Saxe 1991); primal-dual (Ahuja, Magnanti & Orlin 1993, ch. 9: a maximum flow on the arcs of reduced cost 0, then Dijkstra on reduced costs with Dial's bucket queue, 1969).
 // Convention: objective = sum of retimed folded delays (or per-node maxima to within N-1); integer arithmetic; exact, or null past a work budget.
 import type { ConstraintGraph } from './constraints';
 import { INPUT, NO_SLOT, type IndexedGraph } from './graph';
@@ -8,7 +8,7 @@ export const MAX_MIN_REGISTER_EDGES = 1_000_000;
 /** Largest design (edges) on which the fan-out objective is tried too. */
 export const MAX_FANOUT_EDGES = 1_000_000;
 /**
- * Arc scans and heap steps one search may spend before it gives up: a fixed part plus a
+ * Arc scans and queue steps one search may spend before it gives up: a fixed part plus a
  * multiple of the arcs, far above what the primal-dual needs on the designs measured (a few
  * tens of scans per arc), so that only a pathological design stops it.
  */
@@ -27,7 +27,7 @@ export interface MinRegisterOptions {
    * (Leiserson & Saxe's mirror node per multi-fanout node), per edge for held inputs.
    */
   objective?: RegisterObjective;
-  /** Work budget (arc scans + heap steps); default minRegisterWorkBudget of the arcs. */
+  /** Work budget (arc scans + queue steps); default minRegisterWorkBudget of the arcs. */
   budget?: number;
 }
 
@@ -40,7 +40,7 @@ export interface MinRegisterSolution {
    * other edges it counts, with m(u) = max over u's out-edges of r(V) + floor(D_F / N).
    */
   objective: number;
-  /** Work spent (arc scans + heap steps). */
+  /** Work spent (arc scans + queue steps). */
   work: number;
 }
 
