@@ -1,4 +1,4 @@
-// Method: fewest-register retiming as the LP dual of a min-cost flow, with fan-out mirror nodes (Leiserson & Saxe 1991); primal-dual (Dijkstra on reduced costs, then a maximum flow on the arcs of reduced cost 0).
+// Method: fewest-register retiming as the LP dual of a min-cost flow, with fan-out mirror nodes (Leiserson & Saxe 1991); primal-dual (Ahuja, Magnanti & Orlin 1993, ch. 9: a maximum flow on the arcs of reduced cost 0, then Dijkstra on reduced costs with Dial's bucket queue, 1969).
 // Convention: objective = sum of retimed folded delays (or per-node maxima to within N-1); integer arithmetic; exact, or null past a work budget.
 import type { ConstraintGraph } from './constraints';
 import { INPUT, NO_SLOT, type IndexedGraph } from './graph';
@@ -8,7 +8,7 @@ export const MAX_MIN_REGISTER_EDGES = 1_000_000;
 /** Largest design (edges) on which the fan-out objective is tried too. */
 export const MAX_FANOUT_EDGES = 1_000_000;
 /**
- * Arc scans and heap steps one search may spend before it gives up: a fixed part plus a
+ * Arc scans and queue steps one search may spend before it gives up: a fixed part plus a
  * multiple of the arcs, far above what the primal-dual needs on the designs measured (a few
  * tens of scans per arc), so that only a pathological design stops it.
  */
@@ -27,7 +27,7 @@ export interface MinRegisterOptions {
    * (Leiserson & Saxe's mirror node per multi-fanout node), per edge for held inputs.
    */
   objective?: RegisterObjective;
-  /** Work budget (arc scans + heap steps); default minRegisterWorkBudget of the arcs. */
+  /** Work budget (arc scans + queue steps); default minRegisterWorkBudget of the arcs. */
   budget?: number;
 }
 
@@ -40,7 +40,7 @@ export interface MinRegisterSolution {
    * other edges it counts, with m(u) = max over u's out-edges of r(V) + floor(D_F / N).
    */
   objective: number;
-  /** Work spent (arc scans + heap steps). */
+  /** Work spent (arc scans + queue steps). */
   work: number;
 }
 
@@ -182,24 +182,25 @@ export function minCostPotentials(
     adjCost[i] = -costs[k];
   }
   r.set(start.subarray(0, n));
+  // The bucket queue of the searches orders by integer keys: the constraints' weights and the
+  // shortest-path start are integers by construction (delays, stages, slots, floorDiv).
+  for (let k = 0; k < m; k++) if (!Number.isInteger(costs[k])) throw new Error(`min-cost flow: arc cost ${costs[k]} is not an integer`);
+  for (let v = 0; v < n; v++) if (!Number.isInteger(r[v])) throw new Error(`min-cost flow: start potential ${r[v]} is not an integer`);
   for (let k = 0; k < m; k++) if (costs[k] - r[tails[k]] + r[heads[k]] < 0) return null; // start infeasible
   let remaining = 0;
   for (let v = 0; v < n; v++) if (excess[v] > 0) remaining += excess[v];
   s.remaining = remaining;
-  let round = 0;
 
-  // Primal-dual: one Dijkstra raises the potentials to the distance of the nearest deficit, then
-  // a maximum flow on the arcs of reduced cost 0 ships everything those shortest paths can carry.
-  // Each round raises that distance, so there are as many rounds as distinct distances (few:
-  // the costs are small integers), not one per unit of flow as with single shortest paths.
+  // Primal-dual: a maximum flow on the arcs of reduced cost 0 ships everything the shortest
+  // paths can carry, then one Dijkstra raises the potentials to the distance of the nearest
+  // deficit, and so on. Each round raises that distance, so there are as many rounds as
+  // distinct distances (few: the costs are small integers), not one per unit of flow as with
+  // single shortest paths. The start makes every reduced cost nonnegative, so the first round
+  // starts with the flow (the Dijkstra before it would raise nothing: its distance is 0 when a
+  // deficit is reachable over arcs of reduced cost 0, and the flow finds nothing otherwise).
   // Each step is its own small function: V8 optimises small functions soon and quickly, where
   // one large function ran unoptimised for most of a first (CLI) run.
-  while (s.remaining > 0) {
-    round++;
-    const target = nearestDeficit(s, round);
-    if (target === OUT_OF_BUDGET) return null;
-    if (target < 0) return null; // a deficit no excess reaches: the LP is unbounded
-    raisePotentials(s, s.dist[target]);
+  for (;;) {
     // Maximum flow from the excesses to the deficits over admissible arcs (Dinic's phases).
     for (;;) {
       const sources = levels(s);
@@ -207,6 +208,11 @@ export function minCostPotentials(
       if (sources < 0) break;
       if (!blockingFlow(s, sources)) return null;
     }
+    if (s.remaining <= 0) break;
+    const target = nearestDeficit(s);
+    if (target === OUT_OF_BUDGET) return null;
+    if (target < 0) return null; // a deficit no excess reaches: the LP is unbounded
+    raisePotentials(s, s.dist[target]);
   }
   return { values: r, work: s.work };
 }
@@ -223,12 +229,18 @@ class FlowState {
   readonly flow: Float64Array;
   readonly r: Float64Array;
   readonly dist: Float64Array;
-  /** Search number that last labelled v, and that settled it. */
+  /** Search number (levels and Dijkstra share the count) that last labelled v, and that settled it. */
   readonly seen: Int32Array;
   readonly done: Int32Array;
+  search = 0;
+  /** Variables the last levels search gave a distance in `dist` but no level, labelledCount of them. */
+  readonly labelled: Int32Array;
+  labelledCount = 0;
+  /** Variables the last levels search reached: queue[0 .. reachedCount). */
+  reachedCount = 0;
   readonly settled: Int32Array;
   settledCount = 0;
-  readonly heap: BinaryHeap;
+  readonly buckets: BucketQueue;
   // Max-flow on the arcs of reduced cost 0: BFS levels, current arcs, the path of the search.
   readonly level: Int32Array;
   readonly queue: Int32Array;
@@ -253,7 +265,8 @@ class FlowState {
     this.seen = new Int32Array(n);
     this.done = new Int32Array(n);
     this.settled = new Int32Array(n);
-    this.heap = new BinaryHeap(n);
+    this.labelled = new Int32Array(n);
+    this.buckets = new BucketQueue(n);
     this.level = new Int32Array(n);
     this.queue = new Int32Array(n);
     this.current = new Int32Array(n);
@@ -268,24 +281,33 @@ class FlowState {
 /**
  * Dijkstra on reduced costs from every excess until the first deficit is settled: that deficit,
  * -1 when none is reachable, OUT_OF_BUDGET. The variables settled before it are in `settled`.
+ * It runs after a levels search that reached no deficit, with the same flow and potentials, so
+ * it starts where that search ended: the variables it reached are those at distance 0 (settled,
+ * their arcs already scanned), and those it labelled hold their tentative distances.
  */
-function nearestDeficit(s: FlowState, round: number): number {
-  const { n, excess, dist, seen, done, settled, heap, adjStart, adj, adjTo, adjCost, flow, r, budget } = s;
-  heap.clear();
-  for (let v = 0; v < n; v++) {
-    if (excess[v] > 0) {
-      dist[v] = 0;
-      seen[v] = round;
-      heap.push(v, 0);
-    }
-  }
-  let work = s.work + n;
-  let target = -1;
+function nearestDeficit(s: FlowState): number {
+  const { excess, dist, seen, done, settled, labelled, queue, buckets: pq, adjStart, adj, adjTo, adjCost, flow, r, budget } = s;
+  const search = s.search;
+  pq.clear();
   let settledCount = 0;
-  while (heap.size > 0) {
-    const u = heap.pop();
+  for (let k = 0; k < s.reachedCount; k++) {
+    const v = queue[k];
+    dist[v] = 0;
+    seen[v] = search;
+    done[v] = search;
+    settled[settledCount++] = v;
+  }
+  for (let k = 0; k < s.labelledCount; k++) {
+    const v = labelled[k];
+    if (done[v] !== search) pq.push(v, dist[v]);
+  }
+  let work = s.work + settledCount + s.labelledCount;
+  let target = -1;
+  for (;;) {
+    const u = pq.pop();
+    if (u < 0) break;
     work++;
-    done[u] = round;
+    done[u] = search;
     if (excess[u] < 0) {
       target = u;
       break;
@@ -298,15 +320,15 @@ function nearestDeficit(s: FlowState, round: number): number {
       const a = adj[i];
       if (a & 1 && flow[a >> 1] <= 0) continue;
       const v = adjTo[i];
-      if (done[v] === round) continue;
+      if (done[v] === search) continue;
       const dv = du + (adjCost[i] - ru + r[v]);
-      if (seen[v] !== round) {
+      if (seen[v] !== search) {
         dist[v] = dv;
-        seen[v] = round;
-        heap.push(v, dv);
+        seen[v] = search;
+        pq.push(v, dv);
       } else if (dv < dist[v]) {
         dist[v] = dv;
-        heap.decrease(v, dv);
+        pq.decrease(v, dv);
       }
     }
     work += end - adjStart[u];
@@ -333,10 +355,13 @@ function raisePotentials(s: FlowState, D: number): void {
 /**
  * BFS levels over admissible arcs from every excess; a deficit ends a path. Returns how many
  * sources start the queue (queue[0 .. sources): the excesses in increasing order), or -1 when
- * no deficit is reached.
+ * no deficit is reached. On the way it labels every variable it does not reach but an arc with
+ * room and a positive reduced cost from a reached one does, with the least such reduced cost
+ * (`dist`, `labelled`): when no deficit is reached, that is the start of the next Dijkstra.
  */
 function levels(s: FlowState): number {
-  const { n, excess, level, queue, adjStart, adj, adjTo, adjCost, flow, r } = s;
+  const { n, excess, level, queue, adjStart, adj, adjTo, adjCost, flow, r, dist, seen, labelled } = s;
+  const search = ++s.search;
   level.fill(-1);
   let qh = 0;
   let qt = 0;
@@ -349,6 +374,7 @@ function levels(s: FlowState): number {
   const sources = qt;
   let reached = false;
   let work = s.work;
+  let labelledCount = 0;
   while (qh < qt) {
     const u = queue[qh++];
     if (excess[u] < 0) {
@@ -363,13 +389,23 @@ function levels(s: FlowState): number {
       if (level[v] >= 0) continue;
       const a = adj[i];
       if (a & 1 && flow[a >> 1] <= 0) continue;
-      if (adjCost[i] - ru + r[v] !== 0) continue;
+      const reduced = adjCost[i] - ru + r[v];
+      if (reduced !== 0) {
+        if (seen[v] !== search) {
+          seen[v] = search;
+          dist[v] = reduced;
+          labelled[labelledCount++] = v;
+        } else if (reduced < dist[v]) dist[v] = reduced;
+        continue;
+      }
       level[v] = next;
       queue[qt++] = v;
     }
     work += end - adjStart[u];
   }
   s.work = work + n;
+  s.labelledCount = labelledCount;
+  s.reachedCount = qt;
   return reached ? sources : -1;
 }
 
@@ -445,73 +481,119 @@ function augment(s: FlowState, src: number, t: number, depth: number): void {
   s.remaining -= amount;
 }
 
-/** Min-heap of vertex ids keyed by distance, with decrease-key. */
-class BinaryHeap {
-  private items: Int32Array;
-  private keys: Float64Array;
-  private where: Int32Array;
-  size = 0;
+/**
+ * Monotone priority queue of vertex ids with small integer keys: Dial's bucket queue (R. B. Dial,
+ * "Algorithm 360: shortest-path forest with topological ordering", CACM 12(11), 1969), one
+ * doubly linked list per key in a window of BUCKETS keys from `base`; keys past the window wait
+ * unsorted in `overflow` and are brought into a new window once the window is empty. Dijkstra's
+ * keys never fall below the key last popped, which is all a bucket queue needs. Every step is
+ * O(1) except the refill, which happens only when the distances pass the window (the reduced
+ * distances of these searches are a few units). Among equal keys the last queued comes first.
+ */
+class BucketQueue {
+  private readonly head = new Int32Array(BUCKETS).fill(-1);
+  private readonly next: Int32Array;
+  private readonly prev: Int32Array;
+  /** Bucket of v, IN_OVERFLOW, or NOT_QUEUED. */
+  private readonly where: Int32Array;
+  private readonly keys: Float64Array;
+  private readonly overflow: Int32Array;
+  private overflowCount = 0;
+  private base = 0;
+  /** Every bucket below `cursor` is empty. */
+  private cursor = 0;
   constructor(n: number) {
-    this.items = new Int32Array(n);
+    this.next = new Int32Array(n);
+    this.prev = new Int32Array(n);
+    this.where = new Int32Array(n).fill(NOT_QUEUED);
     this.keys = new Float64Array(n);
-    this.where = new Int32Array(n).fill(-1);
+    this.overflow = new Int32Array(n);
   }
   clear(): void {
-    for (let i = 0; i < this.size; i++) this.where[this.items[i]] = -1;
-    this.size = 0;
+    const { head, next, where, overflow } = this;
+    for (let b = this.cursor; b < BUCKETS; b++) {
+      for (let v = head[b]; v >= 0; v = next[v]) where[v] = NOT_QUEUED;
+      head[b] = -1;
+    }
+    for (let i = 0; i < this.overflowCount; i++) where[overflow[i]] = NOT_QUEUED;
+    this.overflowCount = 0;
+    this.base = 0;
+    this.cursor = 0;
   }
   push(v: number, key: number): void {
     this.keys[v] = key;
-    this.items[this.size] = v;
-    this.where[v] = this.size;
-    this.size++;
-    this.up(this.size - 1);
+    const b = key - this.base;
+    if (b < BUCKETS) this.link(v, b);
+    else {
+      this.where[v] = IN_OVERFLOW;
+      this.overflow[this.overflowCount++] = v;
+    }
   }
   decrease(v: number, key: number): void {
     this.keys[v] = key;
-    this.up(this.where[v]);
+    const at = this.where[v];
+    const b = key - this.base;
+    if (at >= 0) {
+      this.unlink(v, at);
+      this.link(v, b);
+    } else if (b < BUCKETS) this.link(v, b); // its overflow entry goes stale
   }
+  /** The vertex of the smallest key, or -1 when the queue is empty. */
   pop(): number {
-    const top = this.items[0];
-    this.where[top] = -1;
-    this.size--;
-    if (this.size > 0) {
-      const last = this.items[this.size];
-      this.items[0] = last;
-      this.where[last] = 0;
-      this.down(0);
-    }
-    return top;
-  }
-  private up(i: number): void {
-    const { items, keys, where } = this;
-    const v = items[i];
-    const key = keys[v];
-    while (i > 0) {
-      const p = (i - 1) >> 1;
-      const pv = items[p];
-      if (keys[pv] <= key) break;
-      items[i] = pv;
-      where[pv] = i;
-      i = p;
-    }
-    items[i] = v;
-    where[v] = i;
-  }
-  private down(i: number): void {
-    const { items, keys, where } = this;
-    const v = items[i];
-    const key = keys[v];
+    const { head } = this;
     for (;;) {
-      let c = 2 * i + 1;
-      if (c >= this.size) break;
-      if (c + 1 < this.size && keys[items[c + 1]] < keys[items[c]]) c++;
-      if (keys[items[c]] >= key) break;
-      items[i] = items[c];
-      where[items[c]] = i;
-      i = c;
+      while (this.cursor < BUCKETS && head[this.cursor] < 0) this.cursor++;
+      if (this.cursor < BUCKETS) break;
+      if (!this.refill()) return -1;
     }
-    items[i] = v;
-    where[v] = i;
+    const b = this.cursor;
+    const v = head[b];
+    this.unlink(v, b);
+    this.where[v] = NOT_QUEUED;
+    return v;
+  }
+  /** A new window from the smallest key in the overflow; false when the overflow holds nothing. */
+  private refill(): boolean {
+    const { overflow, where, keys } = this;
+    let live = 0;
+    let least = Infinity;
+    for (let i = 0; i < this.overflowCount; i++) {
+      const v = overflow[i];
+      if (where[v] !== IN_OVERFLOW) continue;
+      overflow[live++] = v;
+      if (keys[v] < least) least = keys[v];
+    }
+    this.overflowCount = 0;
+    if (live === 0) return false;
+    this.base = least;
+    this.cursor = 0;
+    // push writes overflow[k] only for k <= i, entries already read
+    for (let i = 0; i < live; i++) {
+      const v = overflow[i];
+      this.push(v, keys[v]);
+    }
+    return true;
+  }
+  private link(v: number, b: number): void {
+    const { head, next, prev } = this;
+    this.where[v] = b;
+    const h = head[b];
+    next[v] = h;
+    prev[v] = -1;
+    if (h >= 0) prev[h] = v;
+    head[b] = v;
+  }
+  private unlink(v: number, b: number): void {
+    const { head, next, prev } = this;
+    const p = prev[v];
+    const q = next[v];
+    if (p >= 0) next[p] = q;
+    else head[b] = q;
+    if (q >= 0) prev[q] = p;
   }
 }
+
+/** Keys a BucketQueue holds in buckets at once; larger ones wait in its overflow. */
+const BUCKETS = 256;
+const NOT_QUEUED = -1;
+const IN_OVERFLOW = -2;
