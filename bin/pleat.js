@@ -65,7 +65,9 @@ try {
   internalError(err);
 }
 
-if (mode === 'write' || (mode !== '0' && (cached === undefined || script.cachedDataRejected))) {
+const refresh = mode === 'write' || (mode !== '0' && (cached === undefined || script.cachedDataRejected));
+cached = undefined; // V8 has taken what it needs: the buffer is not kept for the whole run
+if (refresh) {
   // At exit the cache holds every function this run compiled, not only the top level.
   process.once('exit', () => {
     const tmp = `${cacheFile}.${process.pid}.tmp`;
