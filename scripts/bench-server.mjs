@@ -58,7 +58,7 @@ const env = serverEnv(root, dbUrl, 'bench-only-secret'); // upload limits out of
 buildAndMigrate(root, env);
 
 // A real report: what `pleat check` writes for four example designs.
-const cli = existsSync(path.join(root, 'dist/cli/pleat.js')) ? [path.join(root, 'bin/pleat.js')] : [path.join(root, 'node_modules/.bin/tsx'), path.join(root, 'cli/main.ts')];
+const cli = existsSync(path.join(root, 'dist/cli/pleat.cjs')) ? [path.join(root, 'bin/pleat.js')] : [path.join(root, 'node_modules/.bin/tsx'), path.join(root, 'cli/main.ts')];
 const exampleFiles = ['sensor-frontend', 'butterfly-stage', 'channelizer-taps', 'equaliser-retimed'].map((n) => `examples/${n}.fold.yaml`);
 let reportText;
 try {

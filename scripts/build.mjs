@@ -3,7 +3,8 @@
 // the server into dist/server/ (esbuild; npm packages stay external) and the web app with vite
 // into dist/web/. Run by `npm run build` and, with --cli-only, by npm's "prepare" step so
 // `npx pleat` works right after `npm install`; --server-only rebuilds just the server.
-import { existsSync, readdirSync, rmSync } from 'node:fs';
+import { existsSync, mkdirSync, rmSync, renameSync, statSync, writeFileSync } from 'node:fs';
+import { devNull } from 'node:os';
 import path from 'node:path';
 import { spawnSync } from 'node:child_process';
 import { fileURLToPath } from 'node:url';
@@ -42,14 +43,14 @@ async function ajvPrecompilePlugin(esbuild) {
   const schemaFile = path.join(root, 'shared/design/schema.ts');
 
   const shim = `
-import { createRequire } from 'node:module';
 import precompiled from 'pleat-ajv:validator';
 import { designSchema } from ${JSON.stringify(schemaFile)};
 const PRE = ${JSON.stringify(JSON.stringify(VALIDATOR_OPTIONS))};
 let Real = null;
 function real() {
   // Loaded only for a schema or options the build did not precompile.
-  if (!Real) Real = createRequire(import.meta.url)('ajv').Ajv;
+  // (The bundle is a CommonJS script: its require resolves from dist/cli/ as node_modules does.)
+  if (!Real) Real = require('ajv').Ajv;
   return Real;
 }
 export function Ajv(opts) {
@@ -83,49 +84,73 @@ async function buildCli() {
     esbuild = await import('esbuild');
   } catch {
     // Installed without dev dependencies (npm install --omit=dev): nothing can be built here.
-    if (existsSync(path.join(root, 'dist/cli/pleat.js'))) return;
+    if (existsSync(path.join(root, 'dist/cli/pleat.cjs'))) return;
     console.error('pleat build: esbuild is not installed; run `npm install` with dev dependencies');
     // Under npm's "prepare" step a failure would abort the whole install; the CLI then says
     // how to build it when started.
     process.exit(cliOnly ? 0 : 1);
   }
   const outdir = path.join(root, 'dist/cli');
+  const bundle = path.join(outdir, 'pleat.cjs');
   const t0 = Date.now();
   const result = await esbuild.build({
     absWorkingDir: root,
-    entryPoints: { pleat: 'cli/main.ts' },
-    outdir,
+    entryPoints: ['cli/main.ts'],
+    outfile: bundle,
     bundle: true,
-    // Chunks let the entry stay small: the engine and the report formats load when a command needs them.
-    splitting: process.env.PLEAT_SPLIT !== '0',
-    chunkNames: 'chunks/[name]-[hash]',
-    format: 'esm',
+    // One CommonJS script, no chunks: bin/pleat.js compiles it with V8's code cache (vm.Script
+    // cachedData; an ES module cannot take one on Node 20), which saves the parse and compile of
+    // every function a check runs. Modules a command does not need are still only initialised
+    // when it imports them (esbuild keeps each dynamic import() lazy), so --version stays quick.
+    format: 'cjs',
     platform: 'node',
     target: 'node20',
     minify: !args.has('--no-minify'),
     sourcemap: false,
     metafile: true,
+    write: false,
     logLevel: 'warning',
     plugins: [await ajvPrecompilePlugin(esbuild)],
-    // Bundled CommonJS dependencies (commander) call require(); ESM output has none without this.
-    banner: {
-      js: "import { createRequire as __pleatRequire } from 'node:module'; const require = __pleatRequire(import.meta.url);",
-    },
+    // import.meta.url (createRequire of the solver's WebAssembly) is the bundle's own file URL.
+    define: { 'import.meta.url': '__pleatUrl' },
+    // "use strict" first: the sources are ES modules and were always run as strict code.
+    banner: { js: `"use strict";var __pleatUrl=require("node:url").pathToFileURL(__filename).href;` },
   });
-  // Old chunks are removed after the new files are in place (not before), so a `pleat` that is
-  // running while another build happens keeps working.
-  const produced = new Set(Object.keys(result.metafile.outputs).map((f) => path.resolve(root, f)));
-  const chunkDir = path.join(outdir, 'chunks');
-  if (existsSync(chunkDir)) {
-    for (const f of readdirSync(chunkDir)) {
-      const abs = path.join(chunkDir, f);
-      if (!produced.has(abs)) rmSync(abs, { force: true });
-    }
-  }
-  const outputs = Object.entries(result.metafile.outputs).map(([f, o]) => ({ f: path.relative(root, f), bytes: o.bytes }));
-  const total = outputs.reduce((s, o) => s + o.bytes, 0);
-  console.log(`pleat build: CLI -> dist/cli/pleat.js (${outputs.length} files, ${(total / 1024).toFixed(0)} KiB) in ${Date.now() - t0} ms`);
+  const [out] = result.outputFiles;
+  mkdirSync(outdir, { recursive: true });
+  // The old cache goes first: V8 checks a cache only against the script's length, so one made for
+  // another bundle of the same length would be taken. The bundle is renamed into place, so a
+  // `pleat` starting while the build runs reads either the old file or the new one, whole.
+  rmSync(path.join(outdir, 'pleat.cache'), { force: true });
+  writeFileSync(`${bundle}.tmp`, out.contents);
+  renameSync(`${bundle}.tmp`, bundle);
+  // What earlier builds left: the ES module entry and its chunks.
+  rmSync(path.join(outdir, 'chunks'), { recursive: true, force: true });
+  rmSync(path.join(outdir, 'pleat.js'), { force: true });
+  const cache = writeCodeCache(outdir);
+  const kib = (n) => `${(n / 1024).toFixed(0)} KiB`;
+  console.log(`pleat build: CLI -> dist/cli/pleat.cjs (${kib(out.contents.length)}${cache ? `, code cache ${kib(cache)}` : ', no code cache'}) in ${Date.now() - t0} ms`);
   if (analyze) console.log(await esbuild.analyzeMetafile(result.metafile));
+}
+
+/**
+ * The code cache (dist/cli/pleat.cache) is taken from a real run: `pleat check` of the examples,
+ * whose loader writes V8's cached data of the bundle at exit, with the bytecode of every function
+ * that run compiled. Returns its size, or 0 when it could not be made (the CLI then compiles
+ * as usual and writes the cache itself on its first run where dist/cli is writable).
+ */
+function writeCodeCache(outdir) {
+  const r = spawnSync(process.execPath, [path.join(root, 'bin/pleat.js'), 'check', '--format', 'json', '--output', devNull], {
+    cwd: path.join(root, 'examples'),
+    env: { ...process.env, PLEAT_CODE_CACHE: 'write', NO_COLOR: '1' },
+    stdio: ['ignore', 'ignore', 'pipe'],
+    encoding: 'utf8',
+  });
+  const file = path.join(outdir, 'pleat.cache');
+  // Exit 1 is expected: one example fails its rules on purpose.
+  if ((r.status === 0 || r.status === 1) && existsSync(file)) return statSync(file).size;
+  console.warn(`pleat build: no code cache (the examples' check exited ${r.status}: ${String(r.stderr).trim().split('\n')[0]})`);
+  return 0;
 }
 
 /** The server never runs through a TypeScript loader in start-up or benchmarks: one ESM bundle. */

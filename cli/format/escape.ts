@@ -19,6 +19,9 @@ export function escapeTerminal(s: string): string {
 
 /** A JSON text with the unsafe characters that JSON.stringify leaves raw written as \u escapes: the same data. */
 export function escapeJsonText(json: string): string {
+  // JSON.stringify writes every C0 control as an escape, so in its ASCII output (most reports)
+  // DEL is the only unsafe character left: two native scans instead of the expression's walk.
+  if (Buffer.byteLength(json, 'utf8') === json.length && !json.includes('\u007f')) return json;
   return json.replace(UNSAFE, (ch) => `\\u${ch.charCodeAt(0).toString(16).padStart(4, '0')}`);
 }
 

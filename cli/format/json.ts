@@ -49,19 +49,34 @@ function stream(value: unknown, emit: (piece: string) => void, depth: number): v
       emit(']');
       return;
     }
+    // Near the top (the list of designs, a design's edges): members that need walking are
+    // walked, and each run of members that do not goes to one JSON.stringify call of up to
+    // SLICE members, not one call each.
     emit('[');
-    for (let i = 0; i < value.length; i++) {
+    for (let i = 0; i < value.length; ) {
       if (i > 0) emit(',');
       const v = value[i];
-      if (v === undefined || typeof v === 'function' || typeof v === 'symbol') emit('null');
-      else stream(v, emit, depth + 1);
+      if (isWalked(v, depth + 1)) {
+        stream(v, emit, depth + 1);
+        i++;
+        continue;
+      }
+      let end = i + 1;
+      while (end < value.length && end - i < SLICE && !isWalked(value[end], depth + 1)) end++;
+      const part = JSON.stringify(i === 0 && end === value.length ? value : value.slice(i, end));
+      emit(part.slice(1, -1));
+      i = end;
     }
     emit(']');
     return;
   }
+  const obj = value as Record<string, unknown>;
+  if (depth >= WALK_DEPTH) {
+    streamMap(obj, emit, depth);
+    return;
+  }
   emit('{');
   let first = true;
-  const obj = value as Record<string, unknown>;
   for (const k in obj) {
     if (!Object.prototype.hasOwnProperty.call(obj, k)) continue;
     const v = obj[k];
@@ -70,6 +85,44 @@ function stream(value: unknown, emit: (piece: string) => void, depth: number): v
     first = false;
     stream(v, emit, depth + 1);
   }
+  emit('}');
+}
+
+/**
+ * A large map deep in the report (a retiming's value per node): its members copied in runs of
+ * SLICE into objects without a prototype (so a key such as `__proto__` stays a plain member),
+ * one JSON.stringify call per run. Own keys in for...in order, as JSON.stringify takes them; a
+ * member that needs walking itself is walked.
+ */
+function streamMap(obj: Record<string, unknown>, emit: (piece: string) => void, depth: number): void {
+  emit('{');
+  let first = true;
+  let run: Record<string, unknown> | null = null;
+  let size = 0;
+  const flush = () => {
+    const part = JSON.stringify(run);
+    run = null;
+    size = 0;
+    // A run whose members JSON.stringify all leaves out (undefined, functions) writes nothing.
+    if (part.length > 2) {
+      emit(first ? part.slice(1, -1) : `,${part.slice(1, -1)}`);
+      first = false;
+    }
+  };
+  for (const k in obj) {
+    if (!Object.prototype.hasOwnProperty.call(obj, k)) continue;
+    const v = obj[k];
+    if (isWalked(v, depth + 1)) {
+      if (run) flush();
+      emit(first ? `${JSON.stringify(k)}:` : `,${JSON.stringify(k)}:`);
+      first = false;
+      stream(v, emit, depth + 1);
+      continue;
+    }
+    (run ??= Object.create(null) as Record<string, unknown>)[k] = v;
+    if (++size === SLICE) flush();
+  }
+  if (run) flush();
   emit('}');
 }
 

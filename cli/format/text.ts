@@ -37,7 +37,8 @@ export function formatText(raw: Report, ctx: FormatContext = {}): string {
   // Ids, names and paths come from files: their control characters must not reach the terminal.
   // Only what the text can print is escaped: the lifetime chart, the allocation and control
   // tables and the schedule are most of a large report's strings and never shown here.
-  const report = escapeControlsDeep({ ...raw, designs: raw.designs.map(printable) });
+  const shown = { ...raw, designs: raw.designs.map(printable) };
+  const report = mayNeedEscapes(shown) ? escapeControlsDeep(shown) : shown;
   const c = ctx.color ?? NO_COLOR;
   const display = ctx.displayFile ?? ((f: string) => f);
   const show = (f: string) => escapeControls(display(f));
@@ -58,6 +59,39 @@ export function formatText(raw: Report, ctx: FormatContext = {}): string {
     lines.push(gateLine(report, c, ctx.baseline));
   }
   return lines.length ? `${lines.join('\n')}\n` : '';
+}
+
+/** Members of a long list serialised in one call by mayNeedEscapes. */
+const CHECK_SLICE = 512;
+
+/** JSON text that is ASCII without DEL and without a backslash escape. */
+function plainJson(json: string): boolean {
+  return Buffer.byteLength(json, 'utf8') === json.length && !json.includes('\u007f') && !json.includes('\\');
+}
+
+/**
+ * False when no string of `value` (keys included) can hold a character escapeControls changes:
+ * its JSON text is ASCII without DEL and without a backslash (JSON.stringify writes every C0
+ * control, line breaks and tabs included, as a backslash escape). Native serialisation of a few
+ * levels' members and of long lists in slices (no string as long as the report) instead of a
+ * walk of every edge's strings; true sends the value to the walk, as before.
+ */
+function mayNeedEscapes(value: unknown, depth = 0): boolean {
+  if (Array.isArray(value)) {
+    if (depth < 3 && value.length <= CHECK_SLICE) return value.some((v) => mayNeedEscapes(v, depth + 1));
+    for (let i = 0; i < value.length; i += CHECK_SLICE) if (!plainJson(JSON.stringify(value.slice(i, i + CHECK_SLICE)))) return true;
+    return false;
+  }
+  if (depth < 3 && value !== null && typeof value === 'object') {
+    const obj = value as Record<string, unknown>;
+    for (const k in obj) {
+      if (!Object.prototype.hasOwnProperty.call(obj, k)) continue;
+      if (!plainJson(JSON.stringify(k)) || mayNeedEscapes(obj[k], depth + 1)) return true;
+    }
+    return false;
+  }
+  const json = JSON.stringify(value);
+  return json !== undefined && !plainJson(json);
 }
 
 /** A design's report without the parts the text never prints. */

@@ -211,9 +211,11 @@ export function offsetsIn(sections: Map<string, Section>, paths: { path: (string
       out.push(s.keyOffset);
       continue;
     }
-    const seg = String(path[1]);
-    if (!s.items || !/^(0|[1-9][0-9]*)$/.test(seg)) return null;
-    const off = s.items[Number(seg)];
+    // The engine's paths hold numbers: no string and no expression per edge placed.
+    const seg = path[1];
+    const index = typeof seg === 'number' ? (Number.isInteger(seg) && seg >= 0 ? seg : -1) : /^(0|[1-9][0-9]*)$/.test(seg) ? Number(seg) : -1;
+    if (!s.items || index < 0) return null;
+    const off = s.items[index];
     if (off === undefined) return null;
     out.push(off);
   }

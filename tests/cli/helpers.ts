@@ -22,7 +22,7 @@ function newestSource(dir: string): number {
 }
 
 function isFresh(): boolean {
-  const out = path.join(ROOT, 'dist/cli/pleat.js');
+  const out = path.join(ROOT, 'dist/cli/pleat.cjs');
   if (!existsSync(out)) return false;
   const built = statSync(out).mtimeMs;
   const sources = Math.max(
