@@ -31,7 +31,10 @@ export function connectDb({ url, schema, pool = 10 }: DbOptions): Db {
   const models = defineModels(sequelize);
   // The session settings Sequelize gives its connections: the test schema first on the search
   // path, and UTC (Sequelize's SET TIME ZONE '+00:00'), so both pools read the same rows alike.
-  const options = [...(schema ? [`-c search_path=${schema}`] : []), '-c TimeZone=UTC'].join(' ');
+  // The statements there are prepared (raw.ts) and planned once for any parameters (a generic
+  // plan): planning the history page's statement costs more than running it, and its plan (the
+  // covering index, newest first, to the limit) does not depend on the values.
+  const options = [...(schema ? [`-c search_path=${schema}`] : []), '-c TimeZone=UTC', '-c plan_cache_mode=force_generic_plan'].join(' ');
   const raw = new pg.Pool({ connectionString: url, max: pool, idleTimeoutMillis: 10_000, connectionTimeoutMillis: 60_000, options });
   // An idle connection that the database drops (restart, outage) must not end the process: the
   // next query on the pool gets a new connection, or the error that the outage monitor answers.

@@ -4,11 +4,20 @@
 // PostgreSQL's own json_build_object/json_agg cannot be used for that: they put spaces after
 // colons and commas, and write floats in their own notation (1e-05 where JavaScript writes 0.00001).
 
-/** A text value: to_json escapes as JSON.stringify does (\", \\, \b \f \n \r \t, \u00xx for other controls). */
-export const jsonString = (expr: string): string => `coalesce(to_json(${expr})::text, 'null')`;
+/**
+ * A text value: to_json escapes as JSON.stringify does (\", \\, \b \f \n \r \t, \u00xx for other
+ * controls). `notNull` for a NOT NULL column saves the coalesce.
+ */
+export const jsonString = (expr: string, notNull = false): string => (notNull ? `to_json(${expr})::text` : `coalesce(to_json(${expr})::text, 'null')`);
 
 /** An integer or boolean column: its text form is the JSON one (digits; true/false). */
-export const jsonPlain = (expr: string): string => `coalesce((${expr})::text, 'null')`;
+export const jsonPlain = (expr: string, notNull = false): string => (notNull ? `(${expr})::text` : `coalesce((${expr})::text, 'null')`);
+
+/**
+ * A text column that a CHECK constraint keeps to a few plain words (a verdict, a status): no
+ * character of them needs escaping.
+ */
+export const jsonWord = (expr: string): string => `'"' || ${expr} || '"'`;
 
 /**
  * Marks a value that the SQL below cannot write as JSON.stringify does: a control character, which
@@ -47,7 +56,12 @@ export function jsonFloat(expr: string): string {
 export const jsonDate = (expr: string): string =>
   `coalesce('"' || to_char((${expr}) AT TIME ZONE 'UTC', 'YYYY-MM-DD"T"HH24:MI:SS.MS"Z"') || '"', 'null')`;
 
-/** `{"key":value,...}` of [key, JSON-text SQL] pairs, in that order. */
-export function jsonObject(fields: [string, string][]): string {
-  return fields.map(([k, v], i) => `'${i === 0 ? '{' : ','}${JSON.stringify(k)}:' || ${v}`).join(' || ') + ` || '}'`;
+/**
+ * `{"key":value,...}` of [key, JSON-text SQL] pairs, in that order, and `tail` (SQL of text such as
+ * `,"more":...`, or '') before the closing brace. One concat() call per object: PostgreSQL
+ * copies each piece once instead of making a new string at every `||`.
+ */
+export function jsonObject(fields: [string, string][], tail?: string): string {
+  const parts = fields.flatMap(([k, v], i) => [`'${i === 0 ? '{' : ','}${JSON.stringify(k)}:'`, v]);
+  return `concat(${[...parts, ...(tail ? [tail] : []), `'}'`].join(', ')})`;
 }

@@ -3,7 +3,9 @@
 // section 10.2.3) in seconds, which the CLI's retry honours.
 import type { Request, RequestHandler } from 'express';
 import { rateLimit } from 'express-rate-limit';
-import { QueryTypes, type Sequelize } from 'sequelize';
+import type { Sequelize } from 'sequelize';
+import type { Db } from '../db/index';
+import { rawQuery } from '../db/raw';
 import { PgRateLimitStore } from './rateLimitStore';
 
 export function pgLimiter(sequelize: Sequelize, o: {
@@ -34,7 +36,7 @@ export interface LimitWindow { prefix: string; windowMs: number; limit: number; 
  * counted only when the windows before it let the request through. A refused request gets the
  * same 429 with Retry-After.
  */
-export function pgLimits(sequelize: Sequelize, o: { key: (req: Request) => string; windows: LimitWindow[] }): RequestHandler {
+export function pgLimits(db: Db, o: { key: (req: Request) => string; windows: LimitWindow[] }): RequestHandler {
   const ctes = o.windows.map((w, i) => {
     const after = i === 0 ? '' : ` FROM w${i - 1} WHERE w${i - 1}.hits <= ${o.windows[i - 1]!.limit}`;
     return `w${i} AS (
@@ -49,7 +51,8 @@ export function pgLimits(sequelize: Sequelize, o: { key: (req: Request) => strin
   return async (req, res, next) => {
     const key = o.key(req);
     const bind = o.windows.flatMap((w) => [w.prefix + key, w.windowMs]);
-    const [row] = await sequelize.query<Record<string, number | Date | null>>(sql, { bind, type: QueryTypes.SELECT });
+    // On the upload's path: a statement prepared once per connection (server/db/raw.ts).
+    const [row] = await rawQuery<Record<string, number | Date | null>>(db, sql, bind);
     for (const [i, w] of o.windows.entries()) {
       const hits = row?.[`h${i}`] as number | null;
       if (hits === null || hits === undefined || hits <= w.limit) continue;

@@ -6,7 +6,7 @@
 import { QueryTypes } from 'sequelize';
 import type { RunPage } from '../../../shared/report/api';
 import type { AppContext } from '../../context';
-import { jsonDate, jsonFloat, jsonObject, jsonPlain, jsonString } from '../../db/jsonSql';
+import { jsonDate, jsonFloat, jsonObject, jsonPlain, jsonString, jsonWord } from '../../db/jsonSql';
 import { jsonText, type JsonText } from '../../http/present';
 import { RUN_COLUMNS, type DesignRow, type RunRow } from './compare';
 import { HARDWARE_JSON } from './hardware';
@@ -21,47 +21,47 @@ export interface HistoryQuery {
 }
 
 /** presentDesign's fields for a run_designs row `rd` and its hardware row `h` (LEFT JOINed). */
-const DESIGN_ITEM = `${jsonObject([
-  ['name', jsonString('rd.design_name')],
-  ['file', jsonString('rd.file')],
-  ['status', jsonString('rd.status')],
+const DESIGN_ITEM = jsonObject([
+  ['name', jsonString('rd.design_name', true)],
+  ['file', jsonString('rd.file', true)],
+  ['status', jsonWord('rd.status')],
   ['utilization', jsonFloat('rd.utilization')],
   ['registerMinimum', jsonPlain('rd.register_minimum')],
   ['negativeEdges', jsonPlain('rd.negative_edge_count')],
   ['retimingFeasible', jsonPlain('rd.retiming_feasible')],
-  ['violations', jsonPlain('rd.violation_count')],
+  ['violations', jsonPlain('rd.violation_count', true)],
   ['factor', jsonPlain('rd.factor')],
   ['units', jsonPlain('rd.unit_count')],
   ['latencyAdded', jsonPlain('rd.latency_added')],
-]).slice(0, -" || '}'".length)} || CASE WHEN h.run_design_id IS NULL THEN '' ELSE ',"hardware":' || ${jsonObject([
-  ['version', jsonPlain('h.version')],
-  ['folded', jsonObject([['cells', jsonPlain('h.folded_cells')], ['flipFlops', jsonPlain('h.folded_flip_flops')], ['depth', jsonPlain('h.folded_depth')], ['factor', jsonPlain('h.folded_factor')]])],
-  ['parallel', jsonObject([['cells', jsonPlain('h.parallel_cells')], ['flipFlops', jsonPlain('h.parallel_flip_flops')], ['depth', jsonPlain('h.parallel_depth')], ['factor', jsonPlain('h.parallel_factor')]])],
-])} END || '}'`;
+], `CASE WHEN h.run_design_id IS NULL THEN '' ELSE ${jsonObject([
+  ['version', jsonPlain('h.version', true)],
+  ['folded', jsonObject([['cells', jsonPlain('h.folded_cells', true)], ['flipFlops', jsonPlain('h.folded_flip_flops', true)], ['depth', jsonPlain('h.folded_depth')], ['factor', jsonPlain('h.folded_factor', true)]])],
+  ['parallel', jsonObject([['cells', jsonPlain('h.parallel_cells', true)], ['flipFlops', jsonPlain('h.parallel_flip_flops', true)], ['depth', jsonPlain('h.parallel_depth')], ['factor', jsonPlain('h.parallel_factor', true)]])],
+]).replace(/^concat\('\{/, `concat(',"hardware":{`)} END`);
 
 /** presentRun's fields for a runs row `r`, then its designs (the text `d.designs`). */
-const RUN_ITEM = `${jsonObject([
-  ['id', jsonPlain('r.id')],
-  ['branch', jsonString('r.branch')],
-  ['commit', jsonString('r.commit')],
+const RUN_ITEM = jsonObject([
+  ['id', jsonPlain('r.id', true)],
+  ['branch', jsonString('r.branch', true)],
+  ['commit', jsonString('r.commit', true)],
   ['baseBranch', jsonString('r.base_branch')],
   ['baseCommit', jsonString('r.base_commit')],
-  ['verdict', jsonString('r.verdict')],
-  ['toolVersion', jsonString('r.tool_version')],
+  ['verdict', jsonWord('r.verdict')],
+  ['toolVersion', jsonString('r.tool_version', true)],
   ['createdAt', jsonDate('r.created_at')],
   ['message', jsonString('r.commit_message')],
   ['author', jsonString('r.commit_author')],
   ['utilizationFloor', jsonFloat('r.utilization_floor')],
   ['summary', jsonObject([
-    ['designs', jsonPlain('r.design_count')],
-    ['failed', jsonPlain('r.failed_count')],
-    ['errors', jsonPlain('r.error_count')],
+    ['designs', jsonPlain('r.design_count', true)],
+    ['failed', jsonPlain('r.failed_count', true)],
+    ['errors', jsonPlain('r.error_count', true)],
     ['utilization', jsonFloat('r.utilization')],
     ['registerMinimum', jsonPlain('r.register_minimum')],
-    ['violations', jsonPlain('r.violation_count')],
+    ['violations', jsonPlain('r.violation_count', true)],
   ])],
   ['designs', `'[' || coalesce(d.designs, '') || ']'`],
-])}`;
+]);
 
 const PAGE_COLUMNS = `id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count, failed_count, error_count,
   utilization, register_minimum, violation_count, commit_message, commit_author, utilization_floor, created_at`;

@@ -133,7 +133,6 @@ export function runRoutes(ctx: AppContext): Router {
  */
 export function runOneQueryRoutes(ctx: AppContext): Router {
   const router = Router();
-  const q = ctx.db.sequelize;
 
   router.get('/api/projects/:slug/branches/:branch/runs', async (req, res) => {
     // The request's own parameters are checked before the query that reads the page.
@@ -169,7 +168,7 @@ export function runOneQueryRoutes(ctx: AppContext): Router {
   };
   // Per CI token: a burst limit per minute and a quota per day, counted in PostgreSQL by one statement.
   const tokenKey = (req: Request) => String(req.actor?.kind === 'ci' ? req.actor.token.id : 0);
-  const limits = pgLimits(q, {
+  const limits = pgLimits(ctx.db, {
     key: tokenKey,
     windows: [
       { prefix: 'upload-minute:', windowMs: 60_000, limit: ctx.config.upload.perMinute, message: `At most ${ctx.config.upload.perMinute} uploads a minute per CI token.` },
