@@ -148,7 +148,12 @@ async function drain(ctx: AppContext, q: { items: Pending[]; running: boolean })
   }
 }
 
-/** Writes several uploads with one statement: their runs, design rows and branch pointers. */
+/**
+ * Writes several uploads with one statement: their runs, design rows and branch pointers. The
+ * reports go as one JSON array made of their texts (each was parsed, so each is JSON): a text[]
+ * parameter would have every quote and backslash of every report escaped by pg and read back by
+ * PostgreSQL's array parser.
+ */
 async function ingestBatch(ctx: AppContext, batch: Pending[]): Promise<void> {
   // The first upload of each (project, branch, commit) is written; repeats get the stored run.
   const key = (p: Pending) => `${p.project.id}\u0000${p.report.git.branch}\u0000${p.report.git.commit!.toLowerCase()}`;
@@ -165,15 +170,16 @@ async function ingestBatch(ctx: AppContext, batch: Pending[]): Promise<void> {
   const dcol = <T>(f: (x: (typeof designRows)[number]) => T) => designRows.map(f);
   const rows = await rawQuery<WrittenRow & { ord: number }>(ctx.db, 
     `WITH input AS (
-       SELECT * FROM unnest($1::int[], $2::text[], $3::text[], $4::text[], $5::text[], $6::text[], $7::text[], $8::int[], $9::int[],
-                            $10::int[], $11::float8[], $12::int[], $13::int[], $14::text[], $15::timestamptz[], $16::int[])
+       SELECT t.*, rj.report FROM unnest($1::int[], $2::text[], $3::text[], $4::text[], $5::text[], $6::text[], $7::text[], $8::int[], $9::int[],
+                            $10::int[], $11::float8[], $12::int[], $13::int[], $15::timestamptz[], $16::int[])
          AS t(project_id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count, failed_count, error_count,
-              utilization, register_minimum, violation_count, report, created_at, ord)
+              utilization, register_minimum, violation_count, created_at, ord)
+       JOIN jsonb_array_elements($14::jsonb) WITH ORDINALITY AS rj(report, n) ON rj.n = t.ord + 1
      ), ins AS (
        INSERT INTO runs (project_id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count,
                          failed_count, error_count, utilization, register_minimum, violation_count, report, created_at)
        SELECT project_id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count, failed_count, error_count,
-              utilization, register_minimum, violation_count, report::jsonb, coalesce(created_at, now())
+              utilization, register_minimum, violation_count, report, coalesce(created_at, now())
        FROM input ORDER BY ord
        ON CONFLICT ON CONSTRAINT runs_one_per_commit DO NOTHING
        RETURNING ${RUN_COLUMNS}
@@ -201,7 +207,7 @@ async function ingestBatch(ctx: AppContext, batch: Pending[]): Promise<void> {
         col((r) => r.p.report.git.baseBranch ?? null), col((r) => r.p.report.git.baseCommit?.toLowerCase() ?? null),
         col((r) => r.p.report.verdict), col((r) => r.p.report.tool.version), col((r) => r.run.designCount),
         col((r) => r.run.failedCount), col((r) => r.run.errorCount), col((r) => r.run.utilization), col((r) => r.run.registerMinimum),
-        col((r) => r.run.violationCount), col((r) => r.p.reportText ?? JSON.stringify(r.p.report)), col((r) => r.p.createdAt ?? null), runs.map((_, i) => i),
+        col((r) => r.run.violationCount), `[${col((r) => r.p.reportText ?? JSON.stringify(r.p.report)).join(',')}]`, col((r) => r.p.createdAt ?? null), runs.map((_, i) => i),
         dcol((x) => x.ord), dcol((x) => x.k), dcol((x) => x.d.designName), dcol((x) => x.d.file), dcol((x) => x.d.status),
         dcol((x) => x.d.utilization), dcol((x) => x.d.registerMinimum), dcol((x) => x.d.negativeEdgeCount),
         dcol((x) => x.d.retimingFeasible), dcol((x) => x.d.violationCount),
