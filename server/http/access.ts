@@ -24,7 +24,20 @@ export function isAtLeast(role: ProjectRole, min: Role): boolean {
  * column `page`, its JSON text), given the SQL of the project's id; it adds its own bind
  * parameters to `bind`. The id is NULL for a caller who may not see the project's rows.
  */
-export type AlongWith = (projectId: string, bind: unknown[]) => string;
+export interface AlongWith {
+  /** Names the shape of the SQL `sql` makes (the same key, the same text for any values). */
+  key: string;
+  sql: (projectId: string, bind: unknown[]) => string;
+}
+
+// The statement texts of projectAccess by shape (caller kind, project key, along's key): made
+// once, so each request neither rebuilds nor rehashes a long text to find its prepared statement.
+const statements = new Map<string, string>();
+function statement(key: string, make: () => string): string {
+  let text = statements.get(key);
+  if (text === undefined) statements.set(key, (text = make()));
+  return text;
+}
 
 /**
  * Loads the project and the caller's role in it. Anonymous callers get 401; people who are not
@@ -56,8 +69,8 @@ export async function projectAccess(ctx: AppContext, req: Request, where: { slug
        LEFT JOIN memberships m ON ${person ? 'm.project_id = p.id AND m.user_id = caller."caller.id"' : 'false'}`;
     const bind = [key, ...c.bind];
     const visible = person ? 'CASE WHEN a."member_role" IS NOT NULL OR a."caller.isAdmin" THEN a."project.id" END' : 'NULL::int';
-    const more = along?.(visible, bind);
-    const sql = more ? `SELECT a.*, r.* FROM (${access}) a CROSS JOIN LATERAL (${more}) r` : access;
+    const more = along?.sql(visible, bind);
+    const sql = statement(`${req.presented.kind} ${match} ${along?.key ?? ''}`, () => (more ? `SELECT a.*, r.* FROM (${access}) a CROSS JOIN LATERAL (${more}) r` : access));
     rows = await rawQuery<Record<string, unknown>>(ctx.db, sql, bind);
     alongJoined = !!along;
     settleCaller(ctx, req, rows[0]);
@@ -81,7 +94,7 @@ export async function projectAccess(ctx: AppContext, req: Request, where: { slug
   // (the caller's role was settled just above, so the project's id is given as it is).
   if (alongJoined) return { project: project!, role, along: row! };
   const bind: unknown[] = [project!.id];
-  const [own] = await rawQuery<Record<string, unknown>>(ctx.db, along('$1::int', bind), bind);
+  const [own] = await rawQuery<Record<string, unknown>>(ctx.db, along.sql('$1::int', bind), bind);
   return { project: project!, role, along: own! };
 }
 

@@ -148,7 +148,10 @@ export function runOneQueryRoutes(ctx: AppContext): Router {
     const query: HistoryQuery = { branch: req.params.branch, at, design, limit, offset };
     // The page's JSON, written by PostgreSQL in the presenters' shape (history.ts), read in the
     // same round trip as the caller and the project, and sent as it comes.
-    const { project, role, along } = await projectAccess(ctx, req, { slug: req.params.slug }, (projectId, bind) => historyPageSql(projectId, bind, query));
+    const { project, role, along } = await projectAccess(ctx, req, { slug: req.params.slug }, {
+      key: `history ${at ? 'cursor' : ''} ${design ? 'design' : ''}`,
+      sql: (projectId, bind) => historyPageSql(projectId, bind, query),
+    });
     allow(canReadRuns(role));
     const page = along.page as JsonText<RunPage>;
     // A page with a number PostgreSQL cannot write as JavaScript does (none of a real history's).
