@@ -28,6 +28,12 @@ export interface AlongWith {
   /** Names the shape of the SQL `sql` makes (the same key, the same text for any values). */
   key: string;
   sql: (projectId: string, bind: unknown[]) => string;
+  /**
+   * Instead of `sql` (only where the caller is found in the same statement): the whole statement
+   * around the access query (the upload: its rate-limit counters, PgLimits.around), whose one
+   * row has the access columns and its own beside them.
+   */
+  around?: (access: string, bind: unknown[]) => string;
 }
 
 // The statement texts of projectAccess by shape (caller kind, project key, along's key): made
@@ -69,8 +75,10 @@ export async function projectAccess(ctx: AppContext, req: Request, where: { slug
        LEFT JOIN memberships m ON ${person ? 'm.project_id = p.id AND m.user_id = caller."caller.id"' : 'false'}`;
     const bind = [key, ...c.bind];
     const visible = person ? 'CASE WHEN a."member_role" IS NOT NULL OR a."caller.isAdmin" THEN a."project.id" END' : 'NULL::int';
-    const more = along?.sql(visible, bind);
-    const sql = statement(`${req.presented.kind} ${match} ${along?.key ?? ''}`, () => (more ? `SELECT a.*, r.* FROM (${access}) a CROSS JOIN LATERAL (${more}) r` : access));
+    let text = access;
+    if (along?.around) text = along.around(access, bind);
+    else if (along) text = `SELECT a.*, r.* FROM (${access}) a CROSS JOIN LATERAL (${along.sql(visible, bind)}) r`;
+    const sql = statement(`${req.presented.kind} ${match} ${along?.key ?? ''}`, () => text);
     rows = await rawQuery<Record<string, unknown>>(ctx.db, sql, bind);
     alongJoined = !!along;
     settleCaller(ctx, req, rows[0]);
@@ -93,6 +101,8 @@ export async function projectAccess(ctx: AppContext, req: Request, where: { slug
   // The route's row: from the same query, or, when the caller was looked up before, on its own
   // (the caller's role was settled just above, so the project's id is given as it is).
   if (alongJoined) return { project: project!, role, along: row! };
+  // (An `around` statement is not made then: the caller of `along` sees no row of its own.)
+  if (along.around) return { project: project!, role, along: {} };
   const bind: unknown[] = [project!.id];
   const [own] = await rawQuery<Record<string, unknown>>(ctx.db, along.sql('$1::int', bind), bind);
   return { project: project!, role, along: own! };

@@ -164,10 +164,23 @@ export function runOneQueryRoutes(ctx: AppContext): Router {
     // looked up on its own here: people do not upload, so this is off the path under load).
     if (req.presented?.kind === 'session') await resolveCaller(ctx, req);
     if (req.actor?.kind === 'user') throw new HttpError(403, 'token-required', 'Runs are uploaded by CI with a project token (Authorization: Bearer ...).');
-    const { project, role } = await projectAccess(ctx, req, { slug: String(req.params.slug) });
+    // The token's two rate-limit counters are counted in the same statement, for a token that is
+    // valid, not revoked and of this project (the refusals of projectAccess and canUploadRun, which
+    // still decide below): one round trip for the caller, the project, the role and the limits.
+    const { project, role, along } = await projectAccess(ctx, req, { slug: String(req.params.slug) }, {
+      key: 'upload limits',
+      sql: () => '',
+      around: (access, bind) => limits.around(access, bind, 'a."caller.id"::text',
+        'a."caller.id" IS NOT NULL AND a."caller.revokedAt" IS NULL AND a."caller.projectId" = a."project.id"'),
+    });
     allow(canUploadRun(role));
     res.locals.project = project;
-    next();
+    // Counted above, or (a caller found before this route) on their own.
+    if ('h0' in along) {
+      if (!limits.refused(res, along)) next();
+    } else {
+      await limits(req, res, next);
+    }
   };
   // Per CI token: a burst limit per minute and a quota per day, counted in PostgreSQL by one statement.
   const tokenKey = (req: Request) => String(req.actor?.kind === 'ci' ? req.actor.token.id : 0);
@@ -181,7 +194,7 @@ export function runOneQueryRoutes(ctx: AppContext): Router {
   // The body is kept as text: it is parsed once for the checks and stored as sent (PostgreSQL
   // parses it into jsonb), not serialised again from the parsed objects.
   const bodyText = express.text({ type: 'application/json', limit: ctx.config.maxReportBytes });
-  router.post('/api/projects/:slug/runs', uploadAccess, limits, bodyText, async (req, res) => {
+  router.post('/api/projects/:slug/runs', uploadAccess, bodyText, async (req, res) => {
     const project = res.locals.project as Project;
     const text = typeof req.body === 'string' ? req.body : null;
     const report = checkUpload(text === null ? req.body : parseJson(text));
