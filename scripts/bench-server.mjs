@@ -15,7 +15,14 @@
 // default 5), --connections C (default 10), --json FILE, --no-docs (do not write docs/performance.md),
 // --keep-db (keep the database pleat_bench afterwards), --analyze-edges N (the design's size, default
 // 100000; 0 leaves the measurement out), --cpu-prof DIR (the server runs under node --cpu-prof and
-// writes its profile there when it stops).
+// writes its profile there when it stops), --only LIST (measure only these rows, comma-separated:
+// health, upload, history, short, deep, filtered, analysis, branches, run; the docs are then not
+// written), --before DIR (a second checkout, e.g. the code before a change: its server is built,
+// started beside this one on the same database, and every row is measured on both, alternately,
+// the order swapped from row to row; the docs are then not written).
+// Besides the server's own CPU per request, the CPU of the PostgreSQL backends that served it
+// (found by application_name in pg_stat_activity) is given per request: on a small machine the
+// two share the cores.
 import { execFileSync } from 'node:child_process';
 import { readFileSync, writeFileSync, existsSync } from 'node:fs';
 import { cpus, loadavg } from 'node:os';
@@ -39,6 +46,8 @@ const { values: args } = parseArgs({
     'keep-db': { type: 'boolean', default: false },
     'analyze-edges': { type: 'string', default: '100000' },
     'cpu-prof': { type: 'string' },
+    only: { type: 'string' },
+    before: { type: 'string' },
   },
 });
 const STORED = Number(args.runs);
@@ -46,7 +55,12 @@ const DURATION = Number(args.duration);
 const CONNECTIONS = Number(args.connections);
 const JSON_OUT = args.json ?? null;
 const ANALYZE_EDGES = Number(args['analyze-edges']);
-const WRITE_DOCS = !args['no-docs'];
+const ROWS = ['health', 'upload', 'history', 'short', 'deep', 'filtered', 'analysis', 'branches', 'run'];
+const ONLY = args.only ? new Set(args.only.split(',').map((x) => x.trim()).filter(Boolean)) : null;
+for (const k of ONLY ?? []) if (!ROWS.includes(k)) throw new Error(`--only: no row '${k}' (${ROWS.join(', ')})`);
+const wanted = (k) => !ONLY || ONLY.has(k);
+const BEFORE = args.before ? path.resolve(args.before) : null;
+const WRITE_DOCS = !args['no-docs'] && !ONLY && !BEFORE;
 const say = (m) => process.stderr.write(`bench-server: ${m}\n`);
 const loadAtStart = loadavg()[0];
 
@@ -122,49 +136,85 @@ say(`inserted in ${insertSeconds.toFixed(1)} s`);
 
 // ---------------------------------------------------------------- the server
 const nodeArgs = args['cpu-prof'] ? ['--cpu-prof', '--cpu-prof-dir', path.resolve(args['cpu-prof'])] : [];
-const { base, stop, server } = await startServer(root, env, { nodeArgs });
-const cookie = await loginCookie(base, email, password);
-const engineerCookie = await loginCookie(base, engineerEmail, password);
+// Each server names its PostgreSQL connections (PGAPPNAME), so their backends' CPU can be told apart.
+const servers = [];
+async function addServer(label, dir) {
+  const s = await startServer(dir, { ...env, PLEAT_ROOT: dir, PGAPPNAME: `pleat-bench-${label}` }, { nodeArgs });
+  servers.push({ label, ...s, cookie: await loginCookie(s.base, email, password), engineerCookie: await loginCookie(s.base, engineerEmail, password) });
+}
+if (BEFORE) {
+  say(`building the server of ${BEFORE}`);
+  execFileSync(process.execPath, ['scripts/build.mjs', '--server-only'], { cwd: BEFORE, stdio: 'inherit' });
+  await addServer('before', BEFORE);
+}
+await addServer(BEFORE ? 'after' : 'this', root);
+const { cookie, engineerCookie } = servers[servers.length - 1];
 
 // A figure that a loaded machine disturbs far less than latency: the server process's CPU time
 // per answered request (utime + stime of /proc/<pid>/stat, in clock ticks of 10 ms). Requests
 // still in flight when a measurement ends are counted but not answered, so at a few requests a
 // second it reads high.
-const serverCpuMs = () => {
-  const f = readFileSync(`/proc/${server.pid}/stat`, 'utf8').split(') ')[1].split(' ');
-  return (Number(f[11]) + Number(f[12])) * 10;
+const cpuMsOf = (pid) => {
+  try {
+    const f = readFileSync(`/proc/${pid}/stat`, 'utf8').split(') ')[1].split(' ');
+    return (Number(f[11]) + Number(f[12])) * 10;
+  } catch {
+    return 0; // a backend that has gone
+  }
 };
+/** CPU time so far of the PostgreSQL backends of one server (by the application_name it connects with). */
+async function pgCpu(label) {
+  const { rows } = await client.query('SELECT pid FROM pg_stat_activity WHERE application_name = $1', [`pleat-bench-${label}`]);
+  return new Map(rows.map((r) => [r.pid, cpuMsOf(r.pid)]));
+}
+const pgCpuSince = (before, after) => [...after].reduce((a, [pid, ms]) => a + ms - (before.get(pid) ?? 0), 0);
 
-/** One autocannon measurement at the benchmark's connection count. */
-async function measure(name, { duration = DURATION, ...request }) {
-  const c0 = serverCpuMs();
-  const out = { name, ...(await load(base, { connections: CONNECTIONS, duration, request })) };
-  out.cpuMsPerRequest = (serverCpuMs() - c0) / out.requests;
+/** One autocannon measurement at the benchmark's connection count, against `srv` (default: this checkout's). */
+async function measure(name, { duration = DURATION, srv = servers[servers.length - 1], ...request }) {
+  const c0 = cpuMsOf(srv.server.pid);
+  const p0 = await pgCpu(srv.label);
+  const out = { name, server: srv.label, ...(await load(srv.base, { connections: CONNECTIONS, duration, request: srv.adapt ? srv.adapt(request) : request })) };
+  out.cpuMsPerRequest = (cpuMsOf(srv.server.pid) - c0) / out.requests;
+  out.pgCpuMsPerRequest = pgCpuSince(p0, await pgCpu(srv.label)) / out.requests;
+  out.loadAverage = loadavg()[0];
   if (out.errors) throw new Error(`${name}: unexpected statuses ${JSON.stringify(out.statuses)}`);
-  say(`${name}: ${out.perSecond.toFixed(0)}/s, p95 ${out.p95.toFixed(2)} ms, ${out.cpuMsPerRequest.toFixed(2)} ms server CPU per request (${JSON.stringify(out.statuses)})`);
+  say(`${servers.length > 1 ? `[${srv.label}] ` : ''}${name}: ${out.perSecond.toFixed(0)}/s, p95 ${out.p95.toFixed(2)} ms, CPU per request ${out.cpuMsPerRequest.toFixed(2)} ms server + ${out.pgCpuMsPerRequest.toFixed(2)} ms PostgreSQL (${JSON.stringify(out.statuses)}, load ${out.loadAverage.toFixed(2)})`);
   return out;
 }
 
-const warm = { duration: 1 };
-await measure('warm-up', { ...warm, path: '/api/health/live' });
-await measure('warm-up', { ...warm, path: '/api/projects/bench/branches/main/runs?limit=50', headers: { cookie } });
-
-// Each measurement is paired with the bare route measured just before it, so that a change in
-// the machine's load (other processes) hits both numbers of a ratio alike.
-const BARE = { path: '/api/health/live' };
-const pairs = [];
-async function paired(name, o) {
-  const b = await measure('  bare GET /api/health/live', BARE);
-  const t = await measure(name, o);
-  pairs.push({ name, bare: b, target: t });
-  return { bare: b, target: t };
+// A request's session cookie is the one of the server it is sent to (both servers share the
+// secret, but each signs its own).
+for (const srv of servers) {
+  srv.adapt = (r) => (r.headers?.cookie ? { ...r, headers: { ...r.headers, cookie: srv.cookie } } : r);
+  const warm = { duration: 1, srv };
+  await measure('warm-up', { ...warm, path: '/api/health/live' });
+  await measure('warm-up', { ...warm, path: '/api/projects/bench/branches/main/runs?limit=50', headers: { cookie } });
 }
 
-const bareDb = await paired('GET /api/health (one SELECT 1)', { path: '/api/health' });
+// Each measurement is paired with the bare route measured just before it, so that a change in
+// the machine's load (other processes) hits both numbers of a ratio alike. With --before, each
+// row is measured on both servers, the order swapped from one row to the next.
+const BARE = { path: '/api/health/live' };
+const pairs = [];
+let turn = 0;
+async function paired(key, name, o) {
+  if (!wanted(key)) return null;
+  const order = turn++ % 2 === 0 ? servers : [...servers].reverse();
+  let mine = null;
+  for (const srv of order) {
+    const b = await measure('  bare GET /api/health/live', { ...BARE, srv });
+    const t = await measure(name, { ...o, srv });
+    pairs.push({ key, name, server: srv.label, bare: b, target: t });
+    if (srv === servers[servers.length - 1]) mine = { key, name, server: srv.label, bare: b, target: t };
+  }
+  return mine;
+}
+
+const bareDb = await paired('health', 'GET /api/health (one SELECT 1)', { path: '/api/health' });
 let n = 0;
 const body = JSON.stringify({ ...report, git: { branch: 'ingest', commit: 'c'.repeat(40) } });
 const [bodyHead, bodyTail] = body.split('c'.repeat(40));
-const ingest = await paired('ingestion POST /api/projects/bench/runs', {
+const ingest = await paired('upload', 'ingestion POST /api/projects/bench/runs', {
   path: '/api/projects/bench/runs',
   method: 'POST',
   headers: { 'content-type': 'application/json', authorization: `Bearer ${ciToken}` },
@@ -177,22 +227,22 @@ const ingest = await paired('ingestion POST /api/projects/bench/runs', {
   },
 });
 const hdr = { cookie };
-const history = await paired(`history page (limit 50) at ${STORED.toLocaleString('en')} runs`, {
+const history = await paired('history', `history page (limit 50) at ${STORED.toLocaleString('en')} runs`, {
   path: '/api/projects/bench/branches/main/runs?limit=50', headers: hdr,
 });
-const short = await paired('history page (limit 50) of a branch with 1,000 runs', {
+const short = await paired('short', 'history page (limit 50) of a branch with 1,000 runs', {
   path: '/api/projects/bench/branches/short/runs?limit=50', headers: hdr,
 });
-const deep = await paired('history page at a deep cursor (middle of the branch)', {
+const deep = await paired('deep', 'history page at a deep cursor (middle of the branch)', {
   path: `/api/projects/bench/branches/main/runs?limit=50&cursor=${encodeURIComponent(deepCursor)}`, headers: hdr,
 });
-const filtered = await paired('history page filtered by design', {
+const filtered = await paired('filtered', 'history page filtered by design', {
   path: '/api/projects/bench/branches/main/runs?limit=50&design=fir', headers: hdr,
 });
 // The history page while the analysis threads work through a large design, one request after
 // another for the whole measurement, against the same page measured just before without it.
 let analysis = null;
-if (ANALYZE_EDGES > 0) {
+if (ANALYZE_EDGES > 0 && wanted('analysis')) {
   const text = generateDesign({ edges: ANALYZE_EDGES, seed: 7 }).text;
   const form = () => {
     const f = new FormData();
@@ -206,7 +256,7 @@ if (ANALYZE_EDGES > 0) {
   const loop = (async () => {
     while (running) {
       const t1 = performance.now();
-      const r = await fetch(`${base}/api/analyze`, { method: 'POST', headers: { cookie: engineerCookie }, body: form() });
+      const r = await fetch(`${servers[servers.length - 1].base}/api/analyze`, { method: 'POST', headers: { cookie: engineerCookie }, body: form() });
       await r.arrayBuffer();
       answers.push({ status: r.status, ms: performance.now() - t1 });
     }
@@ -220,12 +270,12 @@ if (ANALYZE_EDGES > 0) {
   analysis = { quiet, busy, analyses: answers };
   say(`analyses: ${answers.length}, each ${answers.map((a) => (a.ms / 1000).toFixed(1)).join(', ')} s`);
 }
-const branches = await paired('branch list with trends', { path: '/api/projects/bench/branches', headers: hdr });
-const oneRun = await paired('one run with its comparison', { path: `/api/runs/${mid.id}`, headers: hdr });
+const branches = await paired('branches', 'branch list with trends', { path: '/api/projects/bench/branches', headers: hdr });
+const oneRun = await paired('run', 'one run with its comparison', { path: `/api/runs/${mid.id}`, headers: hdr });
 
 const { rows: [{ count: ingested }] } = await client.query(`SELECT count(*) FROM runs WHERE branch = 'ingest'`);
 await client.end();
-await stop();
+for (const srv of servers) await srv.stop();
 // The bench database is large and only for this run; --keep-db leaves it for a look.
 if (!args['keep-db']) await dropDatabase(pgUrl, DB);
 
@@ -236,35 +286,44 @@ const results = {
   ingestedRuns: Number(ingested), pairs, analysis,
 };
 const fmt = (x, d = 1) => x.toLocaleString('en', { maximumFractionDigits: d, minimumFractionDigits: d });
-const line = (label, p, unit, rate) => [
-  label,
-  `${fmt(p.target.perSecond, 0)} ${unit}`,
-  `${fmt(p.target.p95, 2)} ms`,
-  `${fmt(p.target.cpuMsPerRequest, 2)} ms`,
-  `${fmt(p.bare.perSecond, 0)} req/s, p95 ${fmt(p.bare.p95, 2)} ms`,
-  rate ? `${fmt(p.target.perSecond / p.bare.perSecond, 3)} of bare req/s` : `${fmt(p.target.p95 / p.bare.p95, 1)}x bare p95`,
-];
-const rowsMd = [
-  line('`GET /api/health` (one `SELECT 1`)', bareDb, 'req/s', false),
-  line(`CI upload (${fmt(body.length / 1024, 0)} KiB report of the CLI, new commit each)`, ingest, 'runs/s', true),
-  line(`branch history, first page of 50, ${STORED.toLocaleString('en')} runs stored`, history, 'req/s', false),
-  line('the same page on a branch of 1,000 runs', short, 'req/s', false),
-  line('branch history, page at a cursor half-way down the 100,000', deep, 'req/s', false),
-  line('branch history filtered by design', filtered, 'req/s', false),
-  line('branch list with 12-run trends', branches, 'req/s', false),
-  line('one run with its comparison against the base branch', oneRun, 'req/s', false),
-];
+const LABELS = {
+  health: ['`GET /api/health` (one `SELECT 1`)', 'req/s', false],
+  upload: [`CI upload (${fmt(body.length / 1024, 0)} KiB report of the CLI, new commit each)`, 'runs/s', true],
+  history: [`branch history, first page of 50, ${STORED.toLocaleString('en')} runs stored`, 'req/s', false],
+  short: ['the same page on a branch of 1,000 runs', 'req/s', false],
+  deep: ['branch history, page at a cursor half-way down the 100,000', 'req/s', false],
+  filtered: ['branch history filtered by design', 'req/s', false],
+  branches: ['branch list with 12-run trends', 'req/s', false],
+  run: ['one run with its comparison against the base branch', 'req/s', false],
+};
+const line = (p) => {
+  const [label, unit, rate] = LABELS[p.key];
+  return [
+    ...(BEFORE ? [p.server] : []),
+    label,
+    `${fmt(p.target.perSecond, 0)} ${unit}`,
+    `${fmt(p.target.p95, 2)} ms`,
+    `${fmt(p.target.cpuMsPerRequest, 2)} ms + ${fmt(p.target.pgCpuMsPerRequest, 2)} ms`,
+    `${fmt(p.bare.perSecond, 0)} req/s, p95 ${fmt(p.bare.p95, 2)} ms, ${fmt(p.bare.cpuMsPerRequest, 2)} ms`,
+    rate ? `${fmt(p.target.perSecond / p.bare.perSecond, 3)} of bare req/s` : `${fmt(p.target.p95 / p.bare.p95, 1)}x bare p95`,
+    fmt(p.target.loadAverage, 1),
+  ];
+};
+// In the order measured; with --before, each row's two servers one after the other.
+const rowsMd = pairs.map(line);
 if (analysis) {
   rowsMd.push([
     `branch history while ${ANALYZE_EDGES.toLocaleString('en')}-edge designs are analysed (${analysis.analyses.length} analyses)`,
     `${fmt(analysis.busy.perSecond, 0)} req/s`,
     `${fmt(analysis.busy.p95, 2)} ms`,
-    `${fmt(analysis.busy.cpuMsPerRequest, 2)} ms`,
+    `${fmt(analysis.busy.cpuMsPerRequest, 2)} ms + ${fmt(analysis.busy.pgCpuMsPerRequest, 2)} ms`,
     `without analysis just before: ${fmt(analysis.quiet.perSecond, 0)} req/s, p95 ${fmt(analysis.quiet.p95, 2)} ms`,
     `${fmt(analysis.busy.p95 / analysis.quiet.p95, 1)}x the p95 without`,
+    fmt(analysis.busy.loadAverage, 1),
   ]);
 }
-const table = ['| measurement | throughput | p95 latency | server CPU per request | bare route just before | ratio |', '| --- | --- | --- | --- | --- | --- |', ...rowsMd.map((r) => `| ${r.join(' | ')} |`)].join('\n');
+const head = [...(BEFORE ? ['code'] : []), 'measurement', 'throughput', 'p95 latency', 'CPU per request (server + PostgreSQL)', 'bare route just before (server CPU)', 'ratio', 'load'];
+const table = [`| ${head.join(' | ')} |`, `|${head.map(() => ' --- |').join('')}`, ...rowsMd.map((r) => `| ${r.join(' | ')} |`)].join('\n');
 process.stdout.write(`\n${table}\n\n`);
 if (JSON_OUT) writeFileSync(JSON_OUT, JSON.stringify(results, null, 2));
 
@@ -286,11 +345,12 @@ if (WRITE_DOCS) {
     `History length: the first page at ${STORED.toLocaleString('en')} runs against the same page of a 1,000-run branch,`,
     `measured one after the other: ${fmt(history.target.p95 / short.target.p95, 2)}x the p95 and ${fmt(history.target.perSecond / short.target.perSecond, 2)}x the throughput.`,
     '',
-    'Reading: an upload checks the token and the project, validates the report against its schema and writes the run,',
-    'its per-design rows and the branch pointer in one SQL statement. A history page is the session check, the project',
-    'and role, and one query: index-only scans of the covering indexes of migration 006 (`runs (project_id, branch,',
-    'created_at DESC, id DESC) INCLUDE (...)` and `run_designs (run_id, id) INCLUDE (...)`), the page\'s JSON built by',
-    'PostgreSQL and sent as it comes (no object per run in the server), so its cost does not grow with the length of the history (compare the',
+    'Reading: an upload finds the token, the project and the role and counts its rate limits in one statement, validates',
+    'the report against its schema and writes the run, its per-design rows and the branch pointer in another. A history',
+    'page is one statement (prepared once per connection): the session check, the project and role, and index-only scans',
+    'of the covering indexes of migration 008 (`runs (project_id, branch, created_at DESC, id DESC) INCLUDE (...)` and',
+    '`run_designs (run_id, id) INCLUDE (...)`), the page\'s whole JSON written by PostgreSQL and sent as it comes (no',
+    'object per run in the server), so its cost does not grow with the length of the history (compare the',
     'branch of 1,000 runs and the page half-way down 100,000: cursor paging, no OFFSET). On this machine each request',
     'costs mostly system calls (socket writes to the client and to PostgreSQL) and JSON; the bare route shows what the',
     'HTTP layer alone costs under the same load.',

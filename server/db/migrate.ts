@@ -12,6 +12,7 @@ import * as m006 from './migrations/006-run-commit-meta';
 import * as m007 from './migrations/007-run-design-plan';
 import * as m008 from './migrations/008-history-indexes';
 import * as m009 from './migrations/009-run-design-hardware';
+import * as m010 from './migrations/010-report-lz4';
 import type { Migration } from './migrations/types';
 
 const MIGRATIONS: { name: string; up: Migration; down: Migration }[] = [
@@ -24,6 +25,7 @@ const MIGRATIONS: { name: string; up: Migration; down: Migration }[] = [
   { name: '007-run-design-plan', ...m007 },
   { name: '008-history-indexes', ...m008 },
   { name: '009-run-design-hardware', ...m009 },
+  { name: '010-report-lz4', ...m010 },
 ];
 
 /** Keeps applied migration names in a table of the connection's own schema (search_path). */

@@ -155,9 +155,19 @@ type ModelClass = ModelStatic<Model>;
 
 /** `alias.column AS "prefix.attribute"` for every attribute of a model: its columns beside another table's in one row. */
 export function columnsOf(model: ModelClass, alias: string, prefix = 'caller'): string {
-  return Object.entries(model.getAttributes() as Record<string, { field?: string }>)
-    .map(([attr, a]) => `${alias}.${a.field ?? attr} AS "${prefix}.${attr}"`).join(', ');
+  // Made once per model, alias and prefix: the same text every time (the models do not change).
+  let byAlias = columnLists.get(model);
+  if (!byAlias) columnLists.set(model, (byAlias = new Map()));
+  const key = `${alias} ${prefix}`;
+  let list = byAlias.get(key);
+  if (list === undefined) {
+    list = Object.entries(model.getAttributes() as Record<string, { field?: string }>)
+      .map(([attr, a]) => `${alias}.${a.field ?? attr} AS "${prefix}.${attr}"`).join(', ');
+    byAlias.set(key, list);
+  }
+  return list;
 }
+const columnLists = new WeakMap<ModelClass, Map<string, string>>();
 
 /** The model instance of the `prefix.*` columns of a row, or null when there is none (its id is null). */
 export function modelFrom<T>(model: ModelClass, row: Record<string, unknown> | undefined, prefix = 'caller'): T | null {

@@ -105,9 +105,16 @@ export interface ReportProblem {
 }
 
 // Compiled on first use: `pleat check` loads this module for --upload, and compiling costs
-// more than a whole check of a small design.
+// more than a whole check of a small design. A valid report (the usual case) is checked by a
+// validator that stops at the first error and keeps no schema in its errors; only a report it
+// refuses is checked again by the one that collects every error with its schema for the
+// messages. Both compile the same schema, so they agree on what is valid.
+let quick: ValidateFunction | null = null;
 let compiled: ValidateFunction | null = null;
 function validateSchema(data: unknown): boolean {
+  quick ??= new Ajv({ strict: false }).compile(uploadReportSchema);
+  validateSchema.errors = null;
+  if (quick(data)) return true;
   compiled ??= new Ajv({ allErrors: true, strict: false, verbose: true }).compile(uploadReportSchema);
   const ok = compiled(data);
   validateSchema.errors = compiled.errors;
@@ -127,12 +134,46 @@ function stringProblem(s: string): string | null {
   return null;
 }
 
+/** True when storableJsonProblems would find something: the same tests, without making paths. */
+function hasStorableProblem(value: unknown): boolean {
+  const stack: unknown[] = [value];
+  const depths: number[] = [0];
+  while (stack.length) {
+    const v = stack.pop();
+    const depth = depths.pop()!;
+    if (typeof v === 'string') {
+      if (stringProblem(v)) return true;
+    } else if (typeof v === 'number') {
+      if (!Number.isFinite(v)) return true;
+    } else if (v && typeof v === 'object') {
+      if (depth >= MAX_REPORT_DEPTH) return true;
+      if (Array.isArray(v)) {
+        for (const x of v) {
+          stack.push(x);
+          depths.push(depth + 1);
+        }
+      } else {
+        for (const k in v) {
+          if (!Object.prototype.hasOwnProperty.call(v, k)) continue;
+          if (stringProblem(k)) return true;
+          stack.push((v as Record<string, unknown>)[k]);
+          depths.push(depth + 1);
+        }
+      }
+    }
+  }
+  return false;
+}
+
 /**
  * Walks every value without recursion (a deep document cannot overflow the stack) and reports
  * the first problems: too deep, a string or key that is not storable text, a number that is not
  * finite (1e999 parses to Infinity).
  */
 export function storableJsonProblems(value: unknown, max = 20): ReportProblem[] {
+  // The usual document has no problem: one walk without paths says so, and only a document with
+  // a problem is walked again for where.
+  if (!hasStorableProblem(value)) return [];
   const problems: ReportProblem[] = [];
   const stack: { v: unknown; path: (string | number)[] }[] = [{ v: value, path: [] }];
   while (stack.length && problems.length < max) {

@@ -2,11 +2,12 @@
 // the same commit, also a concurrent one, returns the first run instead of adding another.
 // Uploads that arrive while a write is under way are written together by the next statement
 // (one round trip and one commit for all of them), so concurrent CI uploads do not each pay a
-// round trip and queue on the branch row one after the other.
-import { QueryTypes } from 'sequelize';
+// round trip and queue on the branch row one after the other. The statements are prepared once
+// per connection of the plain pg pool (server/db/raw.ts).
 import type { Report } from '../../../shared/types';
 import type { AppContext } from '../../context';
 import type { Project } from '../../db/models';
+import { rawQuery } from '../../db/raw';
 import { RUN_COLUMNS, type RunRow } from './compare';
 import { summarizeReport } from './summary';
 
@@ -49,8 +50,7 @@ async function ingestOne(ctx: AppContext, project: Project, report: Report, opts
   const branch = git.branch!;
   const commit = git.commit!.toLowerCase();
   const floor = report.rules?.min_utilization?.value;
-  const q = ctx.db.sequelize;
-  const inserted = await q.query<WrittenRow>(
+  const inserted = await rawQuery<WrittenRow>(ctx.db, 
     `WITH ins AS (
        INSERT INTO runs (project_id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count,
                          failed_count, error_count, utilization, register_minimum, violation_count, report, created_at,
@@ -72,8 +72,7 @@ async function ingestOne(ctx: AppContext, project: Project, report: Report, opts
      )
      SELECT ins.*, EXISTS (SELECT 1 FROM watches w WHERE w.project_id = ins.project_id AND w.branch = ins.branch) AS watched,
             EXISTS (SELECT 1 FROM host_connections h WHERE h.project_id = ins.project_id) AS hosted FROM ins`,
-    {
-      bind: [
+    [
         project.id, branch, commit, git.baseBranch ?? null, git.baseCommit?.toLowerCase() ?? null, report.verdict,
         report.tool.version, run.designCount, run.failedCount, run.errorCount, run.utilization, run.registerMinimum,
         run.violationCount, opts.reportText ?? JSON.stringify(report), opts.createdAt ?? null,
@@ -82,16 +81,14 @@ async function ingestOne(ctx: AppContext, project: Project, report: Report, opts
         designs.map((d) => d.retimingFeasible), designs.map((d) => d.violationCount),
         designs.map((d) => d.factor), designs.map((d) => d.unitCount), designs.map((d) => d.latencyAdded),
         commitMeta(git.message, 500), commitMeta(git.author, 200), typeof floor === 'number' && Number.isFinite(floor) ? floor : null,
-      ],
-      type: QueryTypes.SELECT,
-    },
+    ],
   );
   const row = inserted[0];
   if (row) return written(row);
   // Uploaded before (or by a concurrent request that committed first): keep the first run.
-  const [existing] = await q.query<RunRow>(
+  const [existing] = await rawQuery<RunRow>(ctx.db,
     `SELECT ${RUN_COLUMNS} FROM runs WHERE project_id = $1 AND branch = $2 AND commit = $3`,
-    { bind: [project.id, branch, commit], type: QueryTypes.SELECT },
+    [project.id, branch, commit],
   );
   return { id: existing!.id, created: false, createdAt: existing!.created_at, row: existing! };
 }
@@ -151,7 +148,12 @@ async function drain(ctx: AppContext, q: { items: Pending[]; running: boolean })
   }
 }
 
-/** Writes several uploads with one statement: their runs, design rows and branch pointers. */
+/**
+ * Writes several uploads with one statement: their runs, design rows and branch pointers. The
+ * reports go as one JSON array made of their texts (each was parsed, so each is JSON): a text[]
+ * parameter would have every quote and backslash of every report escaped by pg and read back by
+ * PostgreSQL's array parser.
+ */
 async function ingestBatch(ctx: AppContext, batch: Pending[]): Promise<void> {
   // The first upload of each (project, branch, commit) is written; repeats get the stored run.
   const key = (p: Pending) => `${p.project.id}\u0000${p.report.git.branch}\u0000${p.report.git.commit!.toLowerCase()}`;
@@ -166,17 +168,18 @@ async function ingestBatch(ctx: AppContext, batch: Pending[]): Promise<void> {
   const col = <T>(f: (r: (typeof runs)[number]) => T) => runs.map(f);
   const designRows = runs.flatMap((r, ord) => r.designs.map((d, k) => ({ ord, k, d })));
   const dcol = <T>(f: (x: (typeof designRows)[number]) => T) => designRows.map(f);
-  const rows = await ctx.db.sequelize.query<WrittenRow & { ord: number }>(
+  const rows = await rawQuery<WrittenRow & { ord: number }>(ctx.db, 
     `WITH input AS (
-       SELECT * FROM unnest($1::int[], $2::text[], $3::text[], $4::text[], $5::text[], $6::text[], $7::text[], $8::int[], $9::int[],
-                            $10::int[], $11::float8[], $12::int[], $13::int[], $14::text[], $15::timestamptz[], $16::int[])
+       SELECT t.*, rj.report FROM unnest($1::int[], $2::text[], $3::text[], $4::text[], $5::text[], $6::text[], $7::text[], $8::int[], $9::int[],
+                            $10::int[], $11::float8[], $12::int[], $13::int[], $15::timestamptz[], $16::int[])
          AS t(project_id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count, failed_count, error_count,
-              utilization, register_minimum, violation_count, report, created_at, ord)
+              utilization, register_minimum, violation_count, created_at, ord)
+       JOIN jsonb_array_elements($14::jsonb) WITH ORDINALITY AS rj(report, n) ON rj.n = t.ord + 1
      ), ins AS (
        INSERT INTO runs (project_id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count,
                          failed_count, error_count, utilization, register_minimum, violation_count, report, created_at)
        SELECT project_id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count, failed_count, error_count,
-              utilization, register_minimum, violation_count, report::jsonb, coalesce(created_at, now())
+              utilization, register_minimum, violation_count, report, coalesce(created_at, now())
        FROM input ORDER BY ord
        ON CONFLICT ON CONSTRAINT runs_one_per_commit DO NOTHING
        RETURNING ${RUN_COLUMNS}
@@ -199,19 +202,16 @@ async function ingestBatch(ctx: AppContext, batch: Pending[]): Promise<void> {
      )
      SELECT m.*, EXISTS (SELECT 1 FROM watches w WHERE w.project_id = m.project_id AND w.branch = m.branch) AS watched,
             EXISTS (SELECT 1 FROM host_connections h WHERE h.project_id = m.project_id) AS hosted FROM matched m`,
-    {
-      bind: [
+    [
         col((r) => r.p.project.id), col((r) => r.p.report.git.branch!), col((r) => r.p.report.git.commit!.toLowerCase()),
         col((r) => r.p.report.git.baseBranch ?? null), col((r) => r.p.report.git.baseCommit?.toLowerCase() ?? null),
         col((r) => r.p.report.verdict), col((r) => r.p.report.tool.version), col((r) => r.run.designCount),
         col((r) => r.run.failedCount), col((r) => r.run.errorCount), col((r) => r.run.utilization), col((r) => r.run.registerMinimum),
-        col((r) => r.run.violationCount), col((r) => r.p.reportText ?? JSON.stringify(r.p.report)), col((r) => r.p.createdAt ?? null), runs.map((_, i) => i),
+        col((r) => r.run.violationCount), `[${col((r) => r.p.reportText ?? JSON.stringify(r.p.report)).join(',')}]`, col((r) => r.p.createdAt ?? null), runs.map((_, i) => i),
         dcol((x) => x.ord), dcol((x) => x.k), dcol((x) => x.d.designName), dcol((x) => x.d.file), dcol((x) => x.d.status),
         dcol((x) => x.d.utilization), dcol((x) => x.d.registerMinimum), dcol((x) => x.d.negativeEdgeCount),
         dcol((x) => x.d.retimingFeasible), dcol((x) => x.d.violationCount),
-      ],
-      type: QueryTypes.SELECT,
-    },
+    ],
   );
   const created = new Map<string, WrittenRow>();
   for (const row of rows) {

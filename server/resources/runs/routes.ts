@@ -2,8 +2,8 @@
 // with its comparison), POST /api/projects/:slug/runs (CI upload).
 import express, { Router, type Request } from 'express';
 import { QueryTypes } from 'sequelize';
-import type { RunDesignRow, RunDetail, RunListItem, RunPage, UploadResult } from '../../../shared/report/api';
-import { send, type Sent } from '../../http/present';
+import type { RunDetail, RunPage, UploadResult } from '../../../shared/report/api';
+import { send, sendText, type JsonText, type Sent } from '../../http/present';
 import type { Report } from '../../../shared/types';
 import type { AppContext } from '../../context';
 import type { Project } from '../../db/models';
@@ -13,10 +13,13 @@ import { HttpError, allow, badRequest, notFound, unauthorized } from '../../http
 import { pgLimits } from '../../http/limits';
 import { idParam } from '../../http/validate';
 import { afterResponse } from '../../mail/mailer';
-import { compareRun, RUN_COLUMNS, type DesignRow, type RunRow } from './compare';
+import { compareRun, RUN_COLUMNS, type RunRow } from './compare';
 import { DOWNLOADS, edgesCsv, fileStem, rtlZip, scheduleCsv, type Download } from './downloads';
+import { historyPageSql, presentedPage, type HistoryQuery } from './history';
 import { ingestRun } from './ingest';
-import { HARDWARE_JSON, storeHardware } from './hardware';
+import { presentDesign, presentRun } from './present';
+import { UNWRITTEN } from '../../db/jsonSql';
+import { storeHardware } from './hardware';
 import { notifyWatchers } from './notify';
 import { postHostFeedback } from '../hosts/feedback';
 import { canReadRuns, canUploadRun } from './policy';
@@ -38,53 +41,6 @@ function parseJson(text: string): unknown {
   } catch {
     throw new HttpError(400, 'invalid-json', 'The request body is not valid JSON.');
   }
-}
-
-export function presentRun(r: RunRow): Sent<Omit<RunListItem, 'designs'>> {
-  return {
-    id: r.id,
-    branch: r.branch,
-    commit: r.commit,
-    baseBranch: r.base_branch,
-    baseCommit: r.base_commit,
-    verdict: r.verdict,
-    toolVersion: r.tool_version,
-    createdAt: r.created_at,
-    message: r.commit_message,
-    author: r.commit_author,
-    utilizationFloor: r.utilization_floor,
-    summary: {
-      designs: r.design_count,
-      failed: r.failed_count,
-      errors: r.error_count,
-      utilization: r.utilization,
-      registerMinimum: r.register_minimum,
-      violations: r.violation_count,
-    },
-  };
-}
-
-export function presentDesign(d: DesignRow): RunDesignRow {
-  return {
-    name: d.design_name,
-    file: d.file,
-    status: d.status,
-    utilization: d.utilization,
-    registerMinimum: d.register_minimum,
-    negativeEdges: d.negative_edge_count,
-    retimingFeasible: d.retiming_feasible,
-    violations: d.violation_count,
-    factor: d.factor,
-    units: d.unit_count,
-    latencyAdded: d.latency_added,
-    // Only when a summary was attached, so a row without one reads as it always did.
-    ...(d.hardware ? { hardware: d.hardware } : {}),
-  };
-}
-
-/** Cursor of the history: "<created_at ISO>,<id>" of the last run of the previous page. */
-export function encodeCursor(r: { created_at: Date; id: number }): string {
-  return `${r.created_at.toISOString()},${r.id}`;
 }
 
 function decodeCursor(cursor: string): { at: Date; id: number } {
@@ -177,7 +133,6 @@ export function runRoutes(ctx: AppContext): Router {
  */
 export function runOneQueryRoutes(ctx: AppContext): Router {
   const router = Router();
-  const q = ctx.db.sequelize;
 
   router.get('/api/projects/:slug/branches/:branch/runs', async (req, res) => {
     // The request's own parameters are checked before the query that reads the page.
@@ -190,38 +145,17 @@ export function runOneQueryRoutes(ctx: AppContext): Router {
     if (!Number.isInteger(offset) || offset < 0 || offset > 1_000_000 || (offsetText !== undefined && !/^\d+$/.test(offsetText))) throw badRequest('offset must be an integer from 0 to 1000000.');
     if (cursor && offset) throw badRequest('Give either cursor or offset, not both.');
     const at = cursor ? decodeCursor(cursor) : null;
-    const branch = req.params.branch;
-    // The page of runs and, beside each, its design rows (both scans can be index-only on the
-    // covering indexes of migration 008), read in the same round trip as the caller and the project.
-    const pageOf = (projectId: string, bind: unknown[]) => {
-      const param = (v: unknown) => `$${bind.push(v)}`;
-      let where = `project_id = ${projectId} AND branch = ${param(branch)}`;
-      if (at) where += ` AND (created_at, id) < (${param(at.at)}::timestamptz, ${param(at.id)}::int)`;
-      const designParam = design ? param(design) : '';
-      if (design) where += ` AND EXISTS (SELECT 1 FROM run_designs d WHERE d.run_id = runs.id AND d.design_name = ${designParam})`;
-      const designFilter = designParam ? ` AND rd.design_name = ${designParam}` : '';
-      return {
-        sql: `SELECT r.*, d.designs FROM (
-           SELECT ${RUN_COLUMNS} FROM runs WHERE ${where} ORDER BY created_at DESC, id DESC LIMIT ${param(limit + 1)}::int OFFSET ${offset}
-         ) r
-         LEFT JOIN LATERAL (
-           SELECT json_agg(json_build_object('run_id', rd.run_id, 'design_name', rd.design_name, 'file', rd.file, 'status', rd.status,
-                    'utilization', rd.utilization, 'register_minimum', rd.register_minimum, 'negative_edge_count', rd.negative_edge_count,
-                    'retiming_feasible', rd.retiming_feasible, 'violation_count', rd.violation_count, 'factor', rd.factor,
-                    'unit_count', rd.unit_count, 'latency_added', rd.latency_added, 'hardware', ${HARDWARE_JSON}) ORDER BY rd.id) AS designs
-           FROM run_designs rd WHERE rd.run_id = r.id${designFilter}
-         ) d ON true`,
-        orderBy: 'r.created_at DESC, r.id DESC',
-      };
-    };
-    const { role, rows: found } = await projectAccess(ctx, req, { slug: req.params.slug }, pageOf);
-    allow(canReadRuns(role));
-    const rows = found as unknown as (RunRow & { designs: DesignRow[] | null })[];
-    const page = rows.slice(0, limit);
-    send<RunPage>(res, {
-      runs: page.map((r) => ({ ...presentRun(r), designs: (r.designs ?? []).map(presentDesign) })),
-      nextCursor: rows.length > limit ? encodeCursor(page[page.length - 1]!) : null,
+    const query: HistoryQuery = { branch: req.params.branch, at, design, limit, offset };
+    // The page's JSON, written by PostgreSQL in the presenters' shape (history.ts), read in the
+    // same round trip as the caller and the project, and sent as it comes.
+    const { project, role, along } = await projectAccess(ctx, req, { slug: req.params.slug }, {
+      key: `history ${at ? 'cursor' : ''} ${design ? 'design' : ''}`,
+      sql: (projectId, bind) => historyPageSql(projectId, bind, query),
     });
+    allow(canReadRuns(role));
+    const page = along.page as JsonText<RunPage>;
+    // A page with a number PostgreSQL cannot write as JavaScript does (none of a real history's).
+    sendText<RunPage>(res, page.includes(UNWRITTEN) ? await presentedPage(ctx, project.id, query) : page);
   });
 
   // Authorise before reading a body of up to maxReportBytes.
@@ -230,14 +164,27 @@ export function runOneQueryRoutes(ctx: AppContext): Router {
     // looked up on its own here: people do not upload, so this is off the path under load).
     if (req.presented?.kind === 'session') await resolveCaller(ctx, req);
     if (req.actor?.kind === 'user') throw new HttpError(403, 'token-required', 'Runs are uploaded by CI with a project token (Authorization: Bearer ...).');
-    const { project, role } = await projectAccess(ctx, req, { slug: String(req.params.slug) });
+    // The token's two rate-limit counters are counted in the same statement, for a token that is
+    // valid, not revoked and of this project (the refusals of projectAccess and canUploadRun, which
+    // still decide below): one round trip for the caller, the project, the role and the limits.
+    const { project, role, along } = await projectAccess(ctx, req, { slug: String(req.params.slug) }, {
+      key: 'upload limits',
+      sql: () => '',
+      around: (access, bind) => limits.around(access, bind, 'a."caller.id"::text',
+        'a."caller.id" IS NOT NULL AND a."caller.revokedAt" IS NULL AND a."caller.projectId" = a."project.id"'),
+    });
     allow(canUploadRun(role));
     res.locals.project = project;
-    next();
+    // Counted above, or (a caller found before this route) on their own.
+    if ('h0' in along) {
+      if (!limits.refused(res, along)) next();
+    } else {
+      await limits(req, res, next);
+    }
   };
   // Per CI token: a burst limit per minute and a quota per day, counted in PostgreSQL by one statement.
   const tokenKey = (req: Request) => String(req.actor?.kind === 'ci' ? req.actor.token.id : 0);
-  const limits = pgLimits(q, {
+  const limits = pgLimits(ctx.db, {
     key: tokenKey,
     windows: [
       { prefix: 'upload-minute:', windowMs: 60_000, limit: ctx.config.upload.perMinute, message: `At most ${ctx.config.upload.perMinute} uploads a minute per CI token.` },
@@ -247,7 +194,7 @@ export function runOneQueryRoutes(ctx: AppContext): Router {
   // The body is kept as text: it is parsed once for the checks and stored as sent (PostgreSQL
   // parses it into jsonb), not serialised again from the parsed objects.
   const bodyText = express.text({ type: 'application/json', limit: ctx.config.maxReportBytes });
-  router.post('/api/projects/:slug/runs', uploadAccess, limits, bodyText, async (req, res) => {
+  router.post('/api/projects/:slug/runs', uploadAccess, bodyText, async (req, res) => {
     const project = res.locals.project as Project;
     const text = typeof req.body === 'string' ? req.body : null;
     const report = checkUpload(text === null ? req.body : parseJson(text));

@@ -1,0 +1,134 @@
+// The branch history page as PostgreSQL writes it: the whole JSON body of RunPage
+// (shared/report/api.ts), in the shape, key order and number and date notation of the presenters
+// (presentRun, presentDesign, encodeCursor in routes.ts), built in the query that reads the page
+// and sent as text. The server then neither parses the rows (dates, numbers, the designs' JSON)
+// nor serialises them again. history.test.ts holds it to the presenters, byte for byte.
+import { QueryTypes } from 'sequelize';
+import type { RunPage } from '../../../shared/report/api';
+import type { AppContext } from '../../context';
+import { jsonDate, jsonFloat, jsonObject, jsonPlain, jsonString, jsonWord } from '../../db/jsonSql';
+import { jsonText, type JsonText } from '../../http/present';
+import { RUN_COLUMNS, type DesignRow, type RunRow } from './compare';
+import { HARDWARE_JSON } from './hardware';
+import { encodeCursor, presentDesign, presentRun } from './present';
+
+export interface HistoryQuery {
+  branch: string;
+  at: { at: Date; id: number } | null;
+  design: string | undefined;
+  limit: number;
+  offset: number;
+}
+
+/** presentDesign's fields for a run_designs row `rd` and its hardware row `h` (LEFT JOINed). */
+const DESIGN_ITEM = jsonObject([
+  ['name', jsonString('rd.design_name', true)],
+  ['file', jsonString('rd.file', true)],
+  ['status', jsonWord('rd.status')],
+  ['utilization', jsonFloat('rd.utilization')],
+  ['registerMinimum', jsonPlain('rd.register_minimum')],
+  ['negativeEdges', jsonPlain('rd.negative_edge_count')],
+  ['retimingFeasible', jsonPlain('rd.retiming_feasible')],
+  ['violations', jsonPlain('rd.violation_count', true)],
+  ['factor', jsonPlain('rd.factor')],
+  ['units', jsonPlain('rd.unit_count')],
+  ['latencyAdded', jsonPlain('rd.latency_added')],
+], `CASE WHEN h.run_design_id IS NULL THEN '' ELSE ${jsonObject([
+  ['version', jsonPlain('h.version', true)],
+  ['folded', jsonObject([['cells', jsonPlain('h.folded_cells', true)], ['flipFlops', jsonPlain('h.folded_flip_flops', true)], ['depth', jsonPlain('h.folded_depth')], ['factor', jsonPlain('h.folded_factor', true)]])],
+  ['parallel', jsonObject([['cells', jsonPlain('h.parallel_cells', true)], ['flipFlops', jsonPlain('h.parallel_flip_flops', true)], ['depth', jsonPlain('h.parallel_depth')], ['factor', jsonPlain('h.parallel_factor', true)]])],
+]).replace(/^concat\('\{/, `concat(',"hardware":{`)} END`);
+
+/** presentRun's fields for a runs row `r`, then its designs (the text `d.designs`). */
+const RUN_ITEM = jsonObject([
+  ['id', jsonPlain('r.id', true)],
+  ['branch', jsonString('r.branch', true)],
+  ['commit', jsonString('r.commit', true)],
+  ['baseBranch', jsonString('r.base_branch')],
+  ['baseCommit', jsonString('r.base_commit')],
+  ['verdict', jsonWord('r.verdict')],
+  ['toolVersion', jsonString('r.tool_version', true)],
+  ['createdAt', jsonDate('r.created_at')],
+  ['message', jsonString('r.commit_message')],
+  ['author', jsonString('r.commit_author')],
+  ['utilizationFloor', jsonFloat('r.utilization_floor')],
+  ['summary', jsonObject([
+    ['designs', jsonPlain('r.design_count', true)],
+    ['failed', jsonPlain('r.failed_count', true)],
+    ['errors', jsonPlain('r.error_count', true)],
+    ['utilization', jsonFloat('r.utilization')],
+    ['registerMinimum', jsonPlain('r.register_minimum')],
+    ['violations', jsonPlain('r.violation_count', true)],
+  ])],
+  ['designs', `'[' || coalesce(d.designs, '') || ']'`],
+]);
+
+const PAGE_COLUMNS = `id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count, failed_count, error_count,
+  utilization, register_minimum, violation_count, commit_message, commit_author, utilization_floor, created_at`;
+
+/**
+ * One row with one column, `page`: the RunPage JSON of the runs of `projectId` (SQL) that `h`
+ * asks for, or `{"runs":[],"nextCursor":null}` when there are none (or `projectId` is NULL).
+ * Bind parameters are pushed onto `bind`. The runs are read as before: `limit + 1` newest before
+ * the cursor (an index-only scan of runs_history_cover), each with its design rows (of
+ * run_designs_run_cover) and their hardware summaries.
+ */
+export function historyPageSql(projectId: string, bind: unknown[], h: HistoryQuery): string {
+  const param = (v: unknown) => `$${bind.push(v)}`;
+  let where = `project_id = ${projectId} AND branch = ${param(h.branch)}`;
+  if (h.at) where += ` AND (created_at, id) < (${param(h.at.at)}::timestamptz, ${param(h.at.id)}::int)`;
+  const designParam = h.design ? param(h.design) : '';
+  if (h.design) where += ` AND EXISTS (SELECT 1 FROM run_designs d WHERE d.run_id = runs.id AND d.design_name = ${designParam})`;
+  const designFilter = designParam ? ` AND rd.design_name = ${designParam}` : '';
+  const limit = param(h.limit);
+  return `SELECT '{"runs":[' || coalesce(string_agg(p.item, ',' ORDER BY p.n) FILTER (WHERE p.n <= ${limit}::int), '')
+       || '],"nextCursor":' || CASE WHEN count(*) > ${limit}::int THEN '"' || min(p.cursor) || '"' ELSE 'null' END || '}' AS page
+    FROM (
+      SELECT r.n, ${RUN_ITEM} AS item,
+             CASE WHEN r.n = ${limit}::int THEN to_char(r.created_at AT TIME ZONE 'UTC', 'YYYY-MM-DD"T"HH24:MI:SS.MS"Z"') || ',' || r.id END AS cursor
+      FROM (
+        SELECT q.*, row_number() OVER (ORDER BY q.created_at DESC, q.id DESC) AS n FROM (
+          SELECT ${PAGE_COLUMNS} FROM runs WHERE ${where} ORDER BY created_at DESC, id DESC LIMIT ${limit}::int + 1 OFFSET ${param(h.offset)}::int
+        ) q
+      ) r
+      LEFT JOIN LATERAL (
+        SELECT string_agg(${DESIGN_ITEM}, ',' ORDER BY rd.id) AS designs
+        FROM run_designs rd LEFT JOIN run_design_hardware h ON h.run_design_id = rd.id
+        WHERE rd.run_id = r.id${designFilter}
+      ) d ON true
+    ) p`;
+}
+
+/**
+ * The same page presented in JavaScript from rows read through Sequelize: the way it was sent
+ * before, kept for the pages that hold a number PostgreSQL cannot write as JavaScript does
+ * (jsonFloat's UNWRITTEN), and the reference of history.test.ts.
+ */
+export async function presentedPage(ctx: AppContext, projectId: number, h: HistoryQuery): Promise<JsonText<RunPage>> {
+  const bind: unknown[] = [];
+  const param = (v: unknown) => `$${bind.push(v)}`;
+  let where = `project_id = ${param(projectId)} AND branch = ${param(h.branch)}`;
+  if (h.at) where += ` AND (created_at, id) < (${param(h.at.at)}::timestamptz, ${param(h.at.id)}::int)`;
+  const designParam = h.design ? param(h.design) : '';
+  if (h.design) where += ` AND EXISTS (SELECT 1 FROM run_designs d WHERE d.run_id = runs.id AND d.design_name = ${designParam})`;
+  const designFilter = designParam ? ` AND rd.design_name = ${designParam}` : '';
+  const rows = await ctx.db.sequelize.query<RunRow & { designs: DesignRow[] | null }>(
+    `SELECT r.*, d.designs FROM (
+       SELECT ${RUN_COLUMNS} FROM runs WHERE ${where} ORDER BY created_at DESC, id DESC LIMIT ${param(h.limit + 1)}::int OFFSET ${param(h.offset)}::int
+     ) r
+     LEFT JOIN LATERAL (
+       SELECT json_agg(json_build_object('run_id', rd.run_id, 'design_name', rd.design_name, 'file', rd.file, 'status', rd.status,
+                'utilization', rd.utilization, 'register_minimum', rd.register_minimum, 'negative_edge_count', rd.negative_edge_count,
+                'retiming_feasible', rd.retiming_feasible, 'violation_count', rd.violation_count, 'factor', rd.factor,
+                'unit_count', rd.unit_count, 'latency_added', rd.latency_added, 'hardware', ${HARDWARE_JSON}) ORDER BY rd.id) AS designs
+       FROM run_designs rd WHERE rd.run_id = r.id${designFilter}
+     ) d ON true
+     ORDER BY r.created_at DESC, r.id DESC`,
+    { bind, type: QueryTypes.SELECT },
+  );
+  const page = rows.slice(0, h.limit);
+  return jsonText<RunPage>({
+    runs: page.map((r) => ({ ...presentRun(r), designs: (r.designs ?? []).map(presentDesign) })),
+    nextCursor: rows.length > h.limit ? encodeCursor(page[page.length - 1]!) : null,
+  });
+}
