@@ -4,10 +4,11 @@ import type { AnalyzeResult } from '../shared/report/api';
 import type { Rules } from '../shared/types';
 import { checkDesignText } from './engine';
 import { jsonText, type JsonText } from './http/present';
+import { workerData } from 'node:worker_threads';
 import { lowerThreadPriority } from './threadPriority';
 
 // Once per thread, when the pool starts it: an analysis yields the CPU to requests and queries.
-lowerThreadPriority();
+lowerThreadPriority((workerData as { nice?: number } | null)?.nice ?? 0);
 
 export interface AnalyzeTask {
   text: string;

@@ -16,7 +16,7 @@ export interface AnalyzePool {
   close(): Promise<void>;
 }
 
-export function createAnalyzePool(o: { threads?: number; maxQueue?: number } = {}): AnalyzePool {
+export function createAnalyzePool(o: { threads?: number; maxQueue?: number; nice?: number } = {}): AnalyzePool {
   const fromSource = import.meta.url.endsWith('.ts');
   const filename = fileURLToPath(new URL(fromSource ? './analyze-worker.ts' : './analyze-worker.js', import.meta.url));
   const threads = o.threads ?? Math.max(1, availableParallelism() - 1);
@@ -28,6 +28,8 @@ export function createAnalyzePool(o: { threads?: number; maxQueue?: number } = {
     idleTimeout: 60_000,
     maxQueue: o.maxQueue ?? threads * 8,
     execArgv: fromSource ? ['--import', 'tsx'] : [],
+    // Read by each thread as it starts (server/threadPriority.ts).
+    workerData: { nice: o.nice ?? 0 },
   });
   return {
     run: (task, signal) => pool.run(task, { signal }),

@@ -33,6 +33,8 @@ export interface Config {
   invitationDays: number;
   /** Worker threads of the analysis pool (POST /api/analyze). */
   analyzeThreads: number;
+  /** Nice value the analysis threads take (0 leaves them at the server's priority). */
+  analyzeNice: number;
   /** Analyses per person per minute, and how long one may take. */
   analyze: { limit: number; timeoutMs: number };
   /** Uploads per CI token: a burst limit per minute and a quota per day. */
@@ -104,6 +106,8 @@ function numbers(env: NodeJS.ProcessEnv) {
     PLEAT_LOGIN_LIMIT: num({ default: 10 }),
     PLEAT_INVITATION_DAYS: num({ default: 7 }),
     PLEAT_ANALYZE_THREADS: num({ default: 0 }),
+    // 0 to 19, as nice(1) takes them: a higher value yields more CPU to requests and PostgreSQL.
+    PLEAT_ANALYZE_NICE: num({ default: 10, choices: Array.from({ length: 20 }, (_, i) => i) }),
     PLEAT_ANALYZE_LIMIT: num({ default: 30 }),
     PLEAT_ANALYZE_TIMEOUT_S: num({ default: 60 }),
     PLEAT_UPLOAD_LIMIT: num({ default: 120 }),
@@ -176,6 +180,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env, overrides: Part
     trustProxy: trust === undefined ? false : trust === 'true' ? true : /^\d+$/.test(trust) ? Number(trust) : trust,
     invitationDays: n.PLEAT_INVITATION_DAYS,
     analyzeThreads: n.PLEAT_ANALYZE_THREADS,
+    analyzeNice: n.PLEAT_ANALYZE_NICE,
     analyze: { limit: n.PLEAT_ANALYZE_LIMIT, timeoutMs: n.PLEAT_ANALYZE_TIMEOUT_S * 1000 },
     upload: { perMinute: n.PLEAT_UPLOAD_LIMIT, perDay: n.PLEAT_UPLOAD_QUOTA },
     outageRetrySeconds: n.PLEAT_OUTAGE_RETRY_S,

@@ -15,7 +15,6 @@ import { startFakeSmtp } from './mail/fakeSmtp';
 import { createJobQueue } from './jobs/queue';
 import { createMailer } from './mail/mailer';
 import { startMaintenance } from './maintenance';
-import { lowerThreadPriority } from './threadPriority';
 
 const log = (msg: string) => process.stderr.write(`pleat-server: ${msg}\n`);
 
@@ -46,9 +45,6 @@ async function main(command: string): Promise<void> {
     }
   }
   if (command === 'worker') {
-    // Plans and sweeps beside a server on the same machine leave the CPU to its requests first.
-    const nice = lowerThreadPriority();
-    if (nice !== null) log(`worker runs at nice ${nice}`);
     const { loadPlanner } = await import('./jobs/planner');
     const { startWorker } = await import('./jobs/worker');
     const worker = await startWorker(config, db, await loadPlanner(), log);

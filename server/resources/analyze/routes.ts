@@ -51,7 +51,7 @@ export function analyzeRoutes(ctx: AppContext): Router {
     // Off the request thread: a design of 100,000 edges takes seconds, and health checks and other
     // people's requests go on meanwhile. A full queue is 503 (try again), a run past the time
     // limit stops its thread.
-    ctx.analyzer ??= createAnalyzePool({ threads: ctx.config.analyzeThreads || undefined });
+    ctx.analyzer ??= createAnalyzePool({ threads: ctx.config.analyzeThreads || undefined, nice: ctx.config.analyzeNice });
     const signal = AbortSignal.timeout(ctx.config.analyze.timeoutMs);
     try {
       sendText<AnalyzeResult>(res, await ctx.analyzer.run({ text: file.buffer.toString('utf8'), file: name, teamRules }, signal));
