@@ -288,10 +288,10 @@ async function loadEngine(): Promise<Engine> {
 }
 
 /**
- * Designs from this size (about 12,000 edges) get a full garbage collection after loading and
+ * Designs from this size (about 13,000 edges) get a full garbage collection after loading and
  * after checking: V8 runs none between the load and the end of a large check, so the parsed
  * document and the engine's intermediate results would still count at the peak. Measured at
- * 100,000 edges: 240 -> 201 MB peak RSS for some 0.1 s of collections (docs/performance.md,
+ * 100,000 edges: 226 -> 196 MB peak RSS for some 0.1 s of collections (docs/performance.md,
  * "Peak memory"); on small files a collection would cost more than it saves.
  */
 const COLLECT_FROM_BYTES = 1024 * 1024;
