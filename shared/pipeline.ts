@@ -24,6 +24,12 @@ export interface PipelineOptions extends AnalyzeOptions {
   /** false: leave the control tables out (simulate and rtl build them whole, with reasons, from `datapath`). */
   withControl?: boolean;
   limits?: Partial<Limits>;
+  /**
+   * Called once the design is loaded, when the parsed document (about as large as the Design) has
+   * just become garbage: a caller that can force a full collection (the CLI, on a large file)
+   * does so here, since V8 otherwise keeps it until after the peak (docs/performance.md, "Peak memory").
+   */
+  afterLoad?: () => void;
 }
 
 /** What the stages made of one design: the report, and the intermediate results for hardware stages. */
@@ -50,6 +56,7 @@ export function runDesignText(text: string, file: string, options: PipelineOptio
   } catch (e) {
     return failed(file, nameOfInvalid(text), e);
   }
+  options.afterLoad?.();
   if (!loaded.design) {
     const report = designReport({ file, name: nameOfInvalid(text), diagnostics: loaded.diagnostics, analysis: null });
     return { report, design: null, analysis: null, datapath: null, control: null, diagnostics: loaded.diagnostics, violations: [] };

@@ -29,6 +29,40 @@ export interface MinRegisterOptions {
   objective?: RegisterObjective;
   /** Work budget (arc scans + queue steps); default minRegisterWorkBudget of the arcs. */
   budget?: number;
+  /** Arrays shared with the other searches on the same design (SearchArrays); default: its own. */
+  arrays?: SearchArrays;
+}
+
+type TypedArrayOf<T> = { new (buffer: ArrayBuffer, offset: number, length: number): T; readonly BYTES_PER_ELEMENT: number };
+
+/**
+ * Typed arrays that the searches on one design share, one buffer per role, so the 2-4 searches of
+ * a retiming choice allocate them once: on a design of 100,000 edges each search's arrays are
+ * about 20 MB, and memory freed between searches was mostly kept by the allocator, not returned
+ * (docs/performance.md, "Peak memory"). `vars` and `arcs` bound what the searches ask for, so a
+ * later, larger search does not allocate again; pages never written are never resident. Each
+ * array comes back filled with `fill`, as a new one would be (0 unless told).
+ */
+export class SearchArrays {
+  private readonly buffers = new Map<string, ArrayBuffer>();
+  constructor(
+    readonly vars = 0,
+    readonly arcs = 0,
+  ) {}
+  take<T extends Int32Array | Float64Array>(role: string, type: TypedArrayOf<T>, length: number, capacity: number, fill = 0): T {
+    const bytes = length * type.BYTES_PER_ELEMENT;
+    let buffer = this.buffers.get(role);
+    if (!buffer || buffer.byteLength < bytes) {
+      buffer = new ArrayBuffer(Math.max(bytes, capacity * type.BYTES_PER_ELEMENT));
+      this.buffers.set(role, buffer);
+      const fresh = new type(buffer, 0, length);
+      if (fill !== 0) fresh.fill(fill);
+      return fresh;
+    }
+    const a = new type(buffer, 0, length);
+    a.fill(fill);
+    return a;
+  }
 }
 
 export interface MinRegisterSolution {
@@ -67,13 +101,14 @@ export function minRegisterRetiming(
   const objective = options.objective ?? 'edges';
   const n0 = cg.vars.count;
   const m0 = cg.arcFrom.length;
+  const arrays = options.arrays ?? new SearchArrays();
   // Typed arrays sized for the most arcs and variables there can be (every DFG edge, the
   // latency arc, one mirror arc per folded edge; one mirror per node): no growing arrays, little
   // for the garbage collector on a design of a million edges.
   const maxArcs = 2 * m0 + 1;
-  const tails = new Int32Array(maxArcs);
-  const heads = new Int32Array(maxArcs);
-  const costs = new Float64Array(maxArcs);
+  const tails = arrays.take('tails', Int32Array, maxArcs, maxArcs);
+  const heads = arrays.take('heads', Int32Array, maxArcs, maxArcs);
+  const costs = arrays.take('costs', Float64Array, maxArcs, maxArcs);
   let arcs = 0;
   const addArc = (t: number, h: number, c: number) => {
     tails[arcs] = t;
@@ -82,8 +117,9 @@ export function minRegisterRetiming(
     arcs++;
   };
   // Objective coefficient of each variable (mirrors appended after the n0 retiming variables).
-  const coef = new Float64Array(n0 + (objective === 'fanout' ? g.nodeCount : 0));
-  const init = new Float64Array(coef.length);
+  const varsAtMost = n0 + g.nodeCount;
+  const coef = arrays.take('coef', Float64Array, n0 + (objective === 'fanout' ? g.nodeCount : 0), varsAtMost);
+  const init = arrays.take('init', Float64Array, coef.length, varsAtMost);
   init.set(start.subarray(0, n0));
   let vars = n0;
   // Constraint arcs in DFG direction: tail = var(U) = constraint arcTo, head = var(V) = arcFrom.
@@ -137,6 +173,7 @@ export function minRegisterRetiming(
     coef.subarray(0, vars),
     init.subarray(0, vars),
     options.budget ?? minRegisterWorkBudget(arcs),
+    arrays,
   );
   if (!sol) return null;
   let value = 0;
@@ -157,9 +194,10 @@ export function minCostPotentials(
   coef: ArrayLike<number>,
   start: Float64Array,
   budget: number = minRegisterWorkBudget(tails.length),
+  arrays: SearchArrays = new SearchArrays(),
 ): { values: Float64Array; work: number } | null {
   const m = tails.length;
-  const s = new FlowState(n, m, budget);
+  const s = new FlowState(n, m, budget, arrays);
   const { excess, adjStart, adj, adjTo, adjCost, r } = s;
   for (let v = 0; v < n; v++) excess[v] = -coef[v];
   // Residual arcs: 2k forward (unbounded), 2k+1 backward (capacity = flow on k). Each is stored
@@ -253,25 +291,29 @@ class FlowState {
     readonly n: number,
     m: number,
     readonly budget: number,
+    arrays: SearchArrays,
   ) {
-    this.excess = new Float64Array(n);
-    this.adjStart = new Int32Array(n + 1);
-    this.adj = new Int32Array(2 * m);
-    this.adjTo = new Int32Array(2 * m);
-    this.adjCost = new Float64Array(2 * m);
-    this.flow = new Float64Array(m);
+    const nn = Math.max(n, arrays.vars) + 1;
+    const mm = Math.max(m, arrays.arcs);
+    this.excess = arrays.take('excess', Float64Array, n, nn);
+    this.adjStart = arrays.take('adjStart', Int32Array, n + 1, nn);
+    this.adj = arrays.take('adj', Int32Array, 2 * m, 2 * mm);
+    this.adjTo = arrays.take('adjTo', Int32Array, 2 * m, 2 * mm);
+    this.adjCost = arrays.take('adjCost', Float64Array, 2 * m, 2 * mm);
+    this.flow = arrays.take('flow', Float64Array, m, mm);
+    // returned as the solution: its own array
     this.r = new Float64Array(n);
-    this.dist = new Float64Array(n);
-    this.seen = new Int32Array(n);
-    this.done = new Int32Array(n);
-    this.settled = new Int32Array(n);
-    this.labelled = new Int32Array(n);
-    this.buckets = new BucketQueue(n);
-    this.level = new Int32Array(n);
-    this.queue = new Int32Array(n);
-    this.current = new Int32Array(n);
-    this.pathNode = new Int32Array(n + 1);
-    this.pathArc = new Int32Array(n + 1);
+    this.dist = arrays.take('dist', Float64Array, n, nn);
+    this.seen = arrays.take('seen', Int32Array, n, nn);
+    this.done = arrays.take('done', Int32Array, n, nn);
+    this.settled = arrays.take('settled', Int32Array, n, nn);
+    this.labelled = arrays.take('labelled', Int32Array, n, nn);
+    this.buckets = new BucketQueue(n, arrays, nn);
+    this.level = arrays.take('level', Int32Array, n, nn);
+    this.queue = arrays.take('queue', Int32Array, n, nn);
+    this.current = arrays.take('current', Int32Array, n, nn);
+    this.pathNode = arrays.take('pathNode', Int32Array, n + 1, nn);
+    this.pathArc = arrays.take('pathArc', Int32Array, n + 1, nn);
   }
 }
 
@@ -502,12 +544,12 @@ class BucketQueue {
   private base = 0;
   /** Every bucket below `cursor` is empty. */
   private cursor = 0;
-  constructor(n: number) {
-    this.next = new Int32Array(n);
-    this.prev = new Int32Array(n);
-    this.where = new Int32Array(n).fill(NOT_QUEUED);
-    this.keys = new Float64Array(n);
-    this.overflow = new Int32Array(n);
+  constructor(n: number, arrays: SearchArrays, capacity: number) {
+    this.next = arrays.take('queueNext', Int32Array, n, capacity);
+    this.prev = arrays.take('queuePrev', Int32Array, n, capacity);
+    this.where = arrays.take('queueWhere', Int32Array, n, capacity, NOT_QUEUED);
+    this.keys = arrays.take('queueKeys', Float64Array, n, capacity);
+    this.overflow = arrays.take('queueOverflow', Int32Array, n, capacity);
   }
   clear(): void {
     const { head, next, where, overflow } = this;

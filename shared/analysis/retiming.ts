@@ -5,7 +5,7 @@ import { NO_SLOT, OPERATION, shortestPathsFromAll, type IndexedGraph } from './g
 import { foldedDelays, hasNegative } from './foldedDelay';
 import { registerFigures } from './registers';
 import { retimingConstraints, satisfiesConstraints, type ConstraintGraph, type Latency, type RetimingVariables } from './constraints';
-import { MAX_FANOUT_EDGES, MAX_MIN_REGISTER_EDGES, minRegisterRetiming, type RegisterObjective } from './minRegisterRetiming';
+import { MAX_FANOUT_EDGES, MAX_MIN_REGISTER_EDGES, minRegisterRetiming, SearchArrays, type RegisterObjective } from './minRegisterRetiming';
 
 export interface RetimingOutcome {
   result: RetimingResult;
@@ -126,6 +126,9 @@ function chooseRetiming(
   let tried = 0;
   let outOfBudget = 0;
   const objectives: RegisterObjective[] = g.edgeCount <= MAX_FANOUT_EDGES ? ['edges', 'fanout'] : ['edges'];
+  // One set of search arrays for all the searches, sized for the largest (the fan-out objective
+  // adds a mirror variable per node and a mirror arc per edge); it goes with this call.
+  const arrays = new SearchArrays(vars.count + g.nodeCount, 2 * cg.arcFrom.length + 1);
   const consider = (objective: RegisterObjective, values: Float64Array) => {
     tried++;
     const c = score(values);
@@ -137,12 +140,12 @@ function chooseRetiming(
   for (const objective of objectives) {
     // Free latency first (it may add latency when that saves registers); when its optimum adds
     // no more latency than the shortest paths, it is also the optimum under that cap.
-    const free = minRegisterRetiming(g, cg, folded, shortest, { objective, budget });
+    const free = minRegisterRetiming(g, cg, folded, shortest, { objective, budget, arrays });
     if (!free) outOfBudget++;
     else consider(objective, free.values);
     if (!twoBoundaries) continue;
     if (free && free.values[vars.outputVar] - free.values[vars.inputVar] <= base.latency) continue;
-    const capped = minRegisterRetiming(g, cg, folded, shortest, { maxLatency: base.latency, objective, budget });
+    const capped = minRegisterRetiming(g, cg, folded, shortest, { maxLatency: base.latency, objective, budget, arrays });
     if (!capped) outOfBudget++;
     else consider(objective, capped.values);
   }

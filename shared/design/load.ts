@@ -287,7 +287,10 @@ function loadUnchecked(input: string, limits: Limits, validation: ValidateOption
     if (over.length) return { design: null, diagnostics: sortDiagnostics(locate(text, over)) };
   }
 
-  const { design, diagnostics } = validateDesign(doc, validation);
+  // The document is this call's own (parsed here, never returned): without aliases, which could
+  // make one object two edges, the Design may take its objects instead of copying them.
+  const aliases = !json && text.includes('&') && text.includes('*');
+  const { design, diagnostics } = validateDesign(doc, aliases ? validation : { ...validation, adoptDocument: true });
   if (design) keepCoefficientTexts(text, design);
   if (diagnostics.length === 0) return { design, diagnostics };
   return { design, diagnostics: sortDiagnostics(locate(text, diagnostics)) };

@@ -236,6 +236,15 @@ export interface ValidateOptions {
    * design returned): `pleat plan --factor`. A file without `folding:` needs it to load.
    */
   factor?: number;
+  /**
+   * true: the caller hands the document over (loadDesign, which drops it): the Design takes the
+   * document's node and edge lists and objects, with `delays: 0` filled in, instead of copies;
+   * the document must not share them through YAML aliases. The schema
+   * admits only the fields a DfgNode or an Edge has, so a copy would only be a second full set of
+   * objects alive beside the first until the next full collection, which on a large design comes
+   * after the peak (docs/performance.md, "Peak memory"). Default false: the document is left as given.
+   */
+  adoptDocument?: boolean;
 }
 
 /** Most operation ids named in a plan-incomplete message. */
@@ -853,7 +862,8 @@ function normalise(doc: Record<string, unknown>, options: ValidateOptions): Desi
   const units = (doc.units as Record<string, unknown>[]).map(
     (u): Unit => ({ id: u.id as string, kind: u.kind as string, stages: u.stages as number }),
   );
-  const nodes = (doc.nodes as Record<string, unknown>[]).map((n): DfgNode => {
+  const adopt = options.adoptDocument === true;
+  const nodes = adopt ? (doc.nodes as DfgNode[]) : (doc.nodes as Record<string, unknown>[]).map((n): DfgNode => {
     const node: DfgNode = { id: n.id as string, kind: n.kind as string };
     if (n.time !== undefined) node.time = n.time as number;
     if (n.slot !== undefined) node.slot = n.slot as number;
@@ -865,9 +875,13 @@ function normalise(doc: Record<string, unknown>, options: ValidateOptions): Desi
     return node;
   });
   const rawEdges = doc.edges as Record<string, unknown>[];
-  const edges = new Array<Edge>(rawEdges.length);
+  const edges = adopt ? (rawEdges as unknown as Edge[]) : new Array<Edge>(rawEdges.length);
   for (let i = 0; i < rawEdges.length; i++) {
     const e = rawEdges[i];
+    if (adopt) {
+      if (e.delays === undefined) e.delays = 0;
+      continue;
+    }
     const edge: Edge = { from: e.from as string, to: e.to as string, delays: e.delays === undefined ? 0 : (e.delays as number) };
     if (e.port !== undefined) edge.port = e.port as number;
     edges[i] = edge;
