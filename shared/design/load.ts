@@ -20,7 +20,9 @@ export interface Limits {
 }
 
 export const DEFAULT_LIMITS: Limits = {
-  maxBytes: 16 * 1024 * 1024,
+  // Room for a design at the node and edge limits below: a million edges take about 85 MB as
+  // generated YAML and 120 MB as JSON (docs/format.md, "Reading").
+  maxBytes: 128 * 1024 * 1024,
   maxAliasExpansion: 1_000_000,
   maxNodes: 1_000_000,
   maxEdges: 1_000_000,

@@ -47,7 +47,7 @@ function TryDesign() {
     setProblem(null);
     setFocus(null);
     if (f.size > MAX_BYTES) {
-      setProblem(`${f.name} is ${(f.size / 1048576).toFixed(1)} MiB; design files may be at most 16 MiB.`);
+      setProblem(`${f.name} is ${(f.size / 1048576).toFixed(1)} MiB; this server takes design files of up to 16 MiB.`);
       return;
     }
     const text = await f.text();

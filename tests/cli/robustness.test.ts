@@ -100,12 +100,12 @@ describe('encodings and sizes as the CLI reads files', () => {
     const at = valid.indexOf('\n') + 3;
     writeFileSync(path.join(dir, 'bad.fold.yaml'), Buffer.concat([bytes.subarray(0, at), Buffer.from([0xc3, 0x28]), bytes.subarray(at)]));
     writeFileSync(path.join(dir, 'wide.fold.yaml'), Buffer.concat([Buffer.from([0xff, 0xfe]), Buffer.from(valid, 'utf16le')]));
-    writeFileSync(path.join(dir, 'big.fold.yaml'), Buffer.alloc(16 * 1024 * 1024 + 1, 0x23)); // '#' x (16 MiB + 1)
+    writeFileSync(path.join(dir, 'big.fold.yaml'), Buffer.alloc(128 * 1024 * 1024 + 1, 0x23)); // '#' x (128 MiB + 1)
     const r = await execa(process.execPath, [BIN, 'check', '.', '--no-color'], { cwd: dir, reject: false });
     expect(r.exitCode).toBe(2);
     expect(r.stdout).toMatch(/^ {2}bad\.fold\.yaml:2:3: error file-encoding: the file is not valid UTF-8: byte \d+ \(C3 28/m);
     expect(r.stdout).toMatch(/^ {2}wide\.fold\.yaml:1:1: error file-encoding: the file is UTF-16 \(little-endian/m);
     expect(r.stdout).not.toMatch(/null byte/);
-    expect(r.stdout).toMatch(/big\.fold\.yaml:1:1: error file-too-large: the file is 16,777,217 bytes \(16\.0 MiB\); the limit is 16,777,216 bytes \(16\.0 MiB\)/);
+    expect(r.stdout).toMatch(/big\.fold\.yaml:1:1: error file-too-large: the file is 134,217,729 bytes \(128\.0 MiB\); the limit is 134,217,728 bytes \(128\.0 MiB\)/);
   });
 });

@@ -343,10 +343,13 @@ describe('problems found while reading the text', () => {
 
   it('file-too-large: checked on UTF-8 bytes before parsing', () => {
     expect(brief(loadDesign('name: ' + 'x'.repeat(100), { limits: { maxBytes: 64 } }).diagnostics)).toEqual(['file-too-large@1:1']);
-    // 6 Mi characters of a three-byte character: 18 MiB of UTF-8 against the default 16 MiB
+    // 6 Mi characters of a three-byte character: 18 MiB of UTF-8 against a limit of 16 MiB
     const wide = 'description: ' + '\u20ac'.repeat(6 * 1024 * 1024);
-    expect(wide.length).toBeLessThan(DEFAULT_LIMITS.maxBytes);
-    expect(brief(loadDesign(wide).diagnostics)).toEqual(['file-too-large@1:1']);
+    const limit = 16 * 1024 * 1024;
+    expect(wide.length).toBeLessThan(limit);
+    expect(brief(loadDesign(wide, { limits: { maxBytes: limit } }).diagnostics)).toEqual(['file-too-large@1:1']);
+    // The default leaves room for a design at the node and edge limits (a million edges).
+    expect(DEFAULT_LIMITS.maxBytes).toBe(128 * 1024 * 1024);
   });
 
   it('too-many-nodes and too-many-edges: at the list, with their own codes', () => {

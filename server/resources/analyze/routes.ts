@@ -1,5 +1,5 @@
 // POST /api/analyze: multipart form with the design file in field `design` (at most 16 MiB, the
-// format's own limit) and optionally `project` (a slug whose team rules then apply).
+// server's limit, below the format's 128 MiB) and optionally `project` (a slug whose team rules then apply).
 import { basename } from 'node:path';
 import { Router, type NextFunction, type Request, type Response } from 'express';
 import multer from 'multer';

@@ -98,7 +98,7 @@ export function jobRoutes(ctx: AppContext): Router {
       }
       source = { runId, file: found.file ?? name, name: found.name, text: found.source };
     } else {
-      if (Buffer.byteLength(body.design.text) > ctx.config.maxDesignBytes) throw new HttpError(413, 'too-large', 'The design is larger than the format allows (16 MiB).');
+      if (Buffer.byteLength(body.design.text) > ctx.config.maxDesignBytes) throw new HttpError(413, 'too-large', 'The design is larger than this server takes (16 MiB).');
       const file = (body.design.file ?? 'design.fold.yaml').split(/[\\/]/).pop()!.slice(0, 255);
       const name = nameOfInvalidDesign(body.design.text);
       source = { runId: null, file, name, text: body.design.text };
