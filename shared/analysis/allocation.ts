@@ -446,47 +446,55 @@ function sameState(a: Snapshot, b: Snapshot): boolean {
  */
 export function rankedAllocation(vars: readonly Lifetime[], N: number, K: number): Pick<Allocation, 'cells' | 'moves'> {
   const V = vars.length;
+  const tIn = new Float64Array(V);
+  const life = new Float64Array(V);
+  for (let x = 0; x < V; x++) {
+    tIn[x] = vars[x].tIn;
+    life[x] = vars[x].tOut - vars[x].tIn;
+  }
   // Instances (variable x, elapsed e) live during each partition, keyed e * V + x so that a
   // numeric sort orders them youngest first; there are sum of lifetimes <= N*K of them.
   const count = new Int32Array(N + 1);
-  for (const x of vars) {
-    const L = x.tOut - x.tIn;
-    for (let e = 1; e <= L; e++) count[(x.tIn + e) % N]++;
+  for (let x = 0; x < V; x++) {
+    for (let e = 1; e <= life[x]; e++) count[(tIn[x] + e) % N]++;
   }
   const start = new Int32Array(N + 1);
   for (let t = 0; t < N; t++) start[t + 1] = start[t] + count[t];
   const keys = new Float64Array(start[N]);
   const fill = start.slice(0, N);
   for (let x = 0; x < V; x++) {
-    const L = vars[x].tOut - vars[x].tIn;
-    for (let e = 1; e <= L; e++) keys[fill[(vars[x].tIn + e) % N]++] = e * V + x;
+    for (let e = 1; e <= life[x]; e++) keys[fill[(tIn[x] + e) % N]++] = e * V + x;
   }
   for (let t = 0; t < N; t++) keys.subarray(start[t], start[t + 1]).sort();
-  const variableOf = (key: number) => key % V;
-  const elapsedOf = (key: number) => Math.floor(key / V);
 
   const cells: (string | null)[][] = [];
   for (let t = 0; t < N; t++) {
     const row = new Array<string | null>(K).fill(null);
     for (let k = start[t]; k < start[t + 1]; k++) {
-      row[k - start[t]] = instanceName(vars[variableOf(keys[k])].variable, elapsedOf(keys[k]), N);
+      const x = keys[k] % V;
+      row[k - start[t]] = instanceName(vars[x].variable, (keys[k] - x) / V, N);
     }
     cells.push(row);
   }
   const moves: Move[] = [];
   for (let t = 0; t < N; t++) {
     const next = (t + 1) % N;
+    // Every move lands where the next partition's row has that instance (the survivors keep
+    // their order behind the values produced at the end of t), so its name is that cell's.
+    const arriving = cells[next];
     // Values produced at the end of partition t are the youngest of the next partition.
     let born = 0;
-    for (let k = start[next]; k < start[next + 1] && elapsedOf(keys[k]) === 1; k++) {
-      moves.push({ cycle: t, variable: vars[variableOf(keys[k])].variable, from: 'unit', to: born++ });
+    for (let k = start[next]; k < start[next + 1] && keys[k] < 2 * V; k++) {
+      moves.push({ cycle: t, variable: arriving[born]!, from: 'unit', to: born });
+      born++;
     }
     let kept = 0;
     for (let k = start[t]; k < start[t + 1]; k++) {
-      const x = variableOf(keys[k]);
-      const e = elapsedOf(keys[k]);
-      if (e + 1 > vars[x].tOut - vars[x].tIn) continue; // last used in partition t
-      moves.push({ cycle: t, variable: instanceName(vars[x].variable, e + 1, N), from: k - start[t], to: born + kept++ });
+      const x = keys[k] % V;
+      const e = (keys[k] - x) / V;
+      if (e + 1 > life[x]) continue; // last used in partition t
+      const to = born + kept++;
+      moves.push({ cycle: t, variable: arriving[to]!, from: k - start[t], to });
     }
   }
   return { cells, moves };
