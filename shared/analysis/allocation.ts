@@ -177,13 +177,6 @@ class ForwardBackward {
     return { cycle: c % this.N, variable: instanceName(this.vars[x].variable, c + 1 - produced, this.N), from, to };
   }
 
-  private snapshot(iteration: number): Snapshot {
-    const vars = this.regVar.slice();
-    const ages = new Float64Array(this.K);
-    for (let k = 0; k < this.K; k++) if (vars[k] >= 0) ages[k] = this.cycle - this.regProd[k];
-    return { iteration, vars, ages };
-  }
-
   /** Packs the instances live at the current cycle (steady state) youngest or oldest first. */
   private packSteadyState(youngestFirst: boolean): void {
     const { N } = this;
@@ -223,10 +216,11 @@ class ForwardBackward {
     // From empty registers the start-up alone (until every variable is produced) may cost more
     // than the budget when production times are far apart: leave that start to the packed ones.
     if (start === 'empty' && firstBoundary * perIteration > budget) return { kind: 'transient' };
+    const ring = new Ring(this.regVar, this.regProd, this.length, this.cycle, maxLength);
     const seen = new Map<number, Snapshot[]>();
     for (let l = this.cycle / N; l <= lastIteration; l++) {
       if (l >= firstBoundary) {
-        const snap = this.snapshot(l);
+        const snap = this.ringSnapshot(ring, l);
         const h = hashState(snap);
         const same = seen.get(h)?.find((s) => sameState(s, snap));
         if (same) return l - same.iteration === 1 ? { kind: 'periodic', snapshot: same } : { kind: 'long-period' };
@@ -234,9 +228,65 @@ class ForwardBackward {
         if (list) list.push(snap);
         else seen.set(h, [snap]);
       }
-      for (let t = 0; t < N; t++) this.step(null);
+      for (let t = 0; t < N; t++) this.ringStep(ring);
     }
     return { kind: 'budget' };
+  }
+
+  /**
+   * The same cycle as `step`, without transfers, on a register file kept as a ring: register k
+   * sits in slot (base + k) mod K, so moving every value one register forward is base - 1. A
+   * value leaves its slot by a list of deaths per cycle, and free slots are found in a bitmap a
+   * word at a time, so a cycle costs its births and deaths plus K / 32 instead of K.
+   */
+  private ringStep(ring: Ring): void {
+    const { K, N } = this;
+    const c = this.cycle;
+    const d = c + 1; // cycle the registers are filled for
+    const len = this.length;
+    // Register K - 1 during c is register 0 during c + 1, which nothing moves into.
+    const base = ring.base === 0 ? K - 1 : ring.base - 1;
+    ring.base = base;
+    const held = ring.isHeld(base);
+    const last = ring.vars[base];
+    const lastProd = ring.prod[base];
+    if (held) ring.release(base);
+    ring.releaseDeaths(d);
+    let free = 0;
+    const list = this.births[c % N];
+    for (let i = 0; i < list.length; i++) {
+      const x = list[i];
+      if (c < this.tIn[x]) continue; // before its first iteration: nothing produced yet
+      free = ring.firstFree(free);
+      if (free === K) throw new Error('allocation: more live values than registers');
+      ring.hold(free, x, c, c + len[x] + 1);
+      free++;
+    }
+    if (held && d <= lastProd + len[last]) {
+      free = ring.firstFree(free);
+      if (free === K) throw new Error('allocation: more live values than registers');
+      ring.hold(free, last, lastProd, lastProd + len[last] + 1);
+    }
+    this.cycle = d;
+  }
+
+  /** The state of the ring in the form `snapshot` gives (free registers -1 with age 0). */
+  private ringSnapshot(ring: Ring, iteration: number): Snapshot {
+    const { K } = this;
+    const c = this.cycle;
+    const vars = new Int32Array(K);
+    const ages = new Float64Array(K);
+    const len = this.length;
+    let slot = ring.base;
+    for (let k = 0; k < K; k++) {
+      const x = ring.vars[slot];
+      if (x >= 0 && c <= ring.prod[slot] + len[x]) {
+        vars[k] = x;
+        ages[k] = c - ring.prod[slot];
+      } else vars[k] = -1;
+      slot = slot === K - 1 ? 0 : slot + 1;
+    }
+    return { iteration, vars, ages };
   }
 
   /** Cells and transfers of the iteration that starts in the given state. */
@@ -259,6 +309,113 @@ class ForwardBackward {
       this.step(moves);
     }
     return { cells, moves };
+  }
+}
+
+/**
+ * Register file as a ring (see ForwardBackward.ringStep): variable and production cycle per
+ * slot, a bitmap of the slots holding a live value, and per slot a place in a doubly linked
+ * list of the values that die in the same cycle (buckets by cycle mod maxLength + 2).
+ */
+class Ring {
+  readonly vars: Int32Array;
+  readonly prod: Float64Array;
+  base = 0;
+  private readonly K: number;
+  private readonly held: Uint32Array;
+  private readonly head: Int32Array;
+  private readonly next: Int32Array;
+  private readonly prev: Int32Array;
+  private readonly slotBucket: Int32Array;
+
+  constructor(vars: Int32Array, prod: Float64Array, len: Float64Array, cycle: number, maxLength: number) {
+    const K = vars.length;
+    this.K = K;
+    this.vars = new Int32Array(K).fill(-1);
+    this.prod = new Float64Array(K);
+    this.held = new Uint32Array((K + 31) >>> 5);
+    this.head = new Int32Array(maxLength + 2).fill(-1);
+    this.next = new Int32Array(K);
+    this.prev = new Int32Array(K);
+    this.slotBucket = new Int32Array(K);
+    for (let k = 0; k < K; k++) {
+      const x = vars[k];
+      if (x >= 0 && cycle <= prod[k] + len[x]) this.place(k, x, prod[k], prod[k] + len[x] + 1);
+    }
+  }
+
+  isHeld(slot: number): boolean {
+    return (this.held[slot >>> 5] & (1 << (slot & 31))) !== 0;
+  }
+
+  /** Puts a value into the register at logical index k (a free one). */
+  hold(k: number, x: number, produced: number, deathCycle: number): void {
+    let slot = this.base + k;
+    if (slot >= this.K) slot -= this.K;
+    this.place(slot, x, produced, deathCycle);
+  }
+
+  private place(slot: number, x: number, produced: number, deathCycle: number): void {
+    this.vars[slot] = x;
+    this.prod[slot] = produced;
+    this.held[slot >>> 5] |= 1 << (slot & 31);
+    const b = deathCycle % this.head.length;
+    this.slotBucket[slot] = b;
+    const h = this.head[b];
+    this.next[slot] = h;
+    this.prev[slot] = -1;
+    if (h >= 0) this.prev[h] = slot;
+    this.head[b] = slot;
+  }
+
+  /** Frees a slot that holds a value. */
+  release(slot: number): void {
+    this.held[slot >>> 5] &= ~(1 << (slot & 31));
+    this.vars[slot] = -1;
+    const n = this.next[slot];
+    const p = this.prev[slot];
+    if (p >= 0) this.next[p] = n;
+    else this.head[this.slotBucket[slot]] = n;
+    if (n >= 0) this.prev[n] = p;
+  }
+
+  /** Frees the slots whose value is no longer alive during `cycle`. */
+  releaseDeaths(cycle: number): void {
+    const b = cycle % this.head.length;
+    for (let slot = this.head[b]; slot >= 0; slot = this.next[slot]) {
+      this.held[slot >>> 5] &= ~(1 << (slot & 31));
+      this.vars[slot] = -1;
+    }
+    this.head[b] = -1;
+  }
+
+  /** Logical index of the first free register at or after logical index k; K when none. */
+  firstFree(k: number): number {
+    const K = this.K;
+    if (k >= K) return K;
+    let p = this.base + k;
+    if (p >= K) p -= K;
+    // Physical slots p..K-1 (logical k..), then 0..base-1 (after the wrap).
+    const firstEnd = p >= this.base ? K : this.base;
+    const found = this.zeroBit(p, firstEnd);
+    if (found >= 0) return found >= this.base ? found - this.base : found + K - this.base;
+    if (p < this.base) return K;
+    const wrapped = this.zeroBit(0, this.base);
+    return wrapped >= 0 ? wrapped + K - this.base : K;
+  }
+
+  /** First slot in from..to-1 whose bit is clear; -1 when none. */
+  private zeroBit(from: number, to: number): number {
+    if (from >= to) return -1;
+    let w = from >>> 5;
+    let bits = ~this.held[w] & (~0 << (from & 31));
+    const lastWord = (to - 1) >>> 5;
+    while (bits === 0) {
+      if (++w > lastWord) return -1;
+      bits = ~this.held[w];
+    }
+    const slot = (w << 5) + (31 - Math.clz32(bits & -bits));
+    return slot < to ? slot : -1;
   }
 }
 
@@ -289,47 +446,55 @@ function sameState(a: Snapshot, b: Snapshot): boolean {
  */
 export function rankedAllocation(vars: readonly Lifetime[], N: number, K: number): Pick<Allocation, 'cells' | 'moves'> {
   const V = vars.length;
+  const tIn = new Float64Array(V);
+  const life = new Float64Array(V);
+  for (let x = 0; x < V; x++) {
+    tIn[x] = vars[x].tIn;
+    life[x] = vars[x].tOut - vars[x].tIn;
+  }
   // Instances (variable x, elapsed e) live during each partition, keyed e * V + x so that a
   // numeric sort orders them youngest first; there are sum of lifetimes <= N*K of them.
   const count = new Int32Array(N + 1);
-  for (const x of vars) {
-    const L = x.tOut - x.tIn;
-    for (let e = 1; e <= L; e++) count[(x.tIn + e) % N]++;
+  for (let x = 0; x < V; x++) {
+    for (let e = 1; e <= life[x]; e++) count[(tIn[x] + e) % N]++;
   }
   const start = new Int32Array(N + 1);
   for (let t = 0; t < N; t++) start[t + 1] = start[t] + count[t];
   const keys = new Float64Array(start[N]);
   const fill = start.slice(0, N);
   for (let x = 0; x < V; x++) {
-    const L = vars[x].tOut - vars[x].tIn;
-    for (let e = 1; e <= L; e++) keys[fill[(vars[x].tIn + e) % N]++] = e * V + x;
+    for (let e = 1; e <= life[x]; e++) keys[fill[(tIn[x] + e) % N]++] = e * V + x;
   }
   for (let t = 0; t < N; t++) keys.subarray(start[t], start[t + 1]).sort();
-  const variableOf = (key: number) => key % V;
-  const elapsedOf = (key: number) => Math.floor(key / V);
 
   const cells: (string | null)[][] = [];
   for (let t = 0; t < N; t++) {
     const row = new Array<string | null>(K).fill(null);
     for (let k = start[t]; k < start[t + 1]; k++) {
-      row[k - start[t]] = instanceName(vars[variableOf(keys[k])].variable, elapsedOf(keys[k]), N);
+      const x = keys[k] % V;
+      row[k - start[t]] = instanceName(vars[x].variable, (keys[k] - x) / V, N);
     }
     cells.push(row);
   }
   const moves: Move[] = [];
   for (let t = 0; t < N; t++) {
     const next = (t + 1) % N;
+    // Every move lands where the next partition's row has that instance (the survivors keep
+    // their order behind the values produced at the end of t), so its name is that cell's.
+    const arriving = cells[next];
     // Values produced at the end of partition t are the youngest of the next partition.
     let born = 0;
-    for (let k = start[next]; k < start[next + 1] && elapsedOf(keys[k]) === 1; k++) {
-      moves.push({ cycle: t, variable: vars[variableOf(keys[k])].variable, from: 'unit', to: born++ });
+    for (let k = start[next]; k < start[next + 1] && keys[k] < 2 * V; k++) {
+      moves.push({ cycle: t, variable: arriving[born]!, from: 'unit', to: born });
+      born++;
     }
     let kept = 0;
     for (let k = start[t]; k < start[t + 1]; k++) {
-      const x = variableOf(keys[k]);
-      const e = elapsedOf(keys[k]);
-      if (e + 1 > vars[x].tOut - vars[x].tIn) continue; // last used in partition t
-      moves.push({ cycle: t, variable: instanceName(vars[x].variable, e + 1, N), from: k - start[t], to: born + kept++ });
+      const x = keys[k] % V;
+      const e = (keys[k] - x) / V;
+      if (e + 1 > life[x]) continue; // last used in partition t
+      const to = born + kept++;
+      moves.push({ cycle: t, variable: arriving[to]!, from: k - start[t], to });
     }
   }
   return { cells, moves };
