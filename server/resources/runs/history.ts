@@ -67,6 +67,18 @@ const PAGE_COLUMNS = `id, branch, commit, base_branch, base_commit, verdict, too
   utilization, register_minimum, violation_count, commit_message, commit_author, utilization_floor, created_at`;
 
 /**
+ * Which runs a page holds (the branch, before the cursor, with the design when filtered on
+ * `runs`) and which design rows each shows (`rd`), for both ways of writing the page.
+ */
+function pageFilter(projectId: string, param: (v: unknown) => string, h: HistoryQuery): { where: string; designFilter: string } {
+  let where = `project_id = ${projectId} AND branch = ${param(h.branch)}`;
+  if (h.at) where += ` AND (created_at, id) < (${param(h.at.at)}::timestamptz, ${param(h.at.id)}::int)`;
+  const designParam = h.design ? param(h.design) : '';
+  if (h.design) where += ` AND EXISTS (SELECT 1 FROM run_designs d WHERE d.run_id = runs.id AND d.design_name = ${designParam})`;
+  return { where, designFilter: designParam ? ` AND rd.design_name = ${designParam}` : '' };
+}
+
+/**
  * One row with one column, `page`: the RunPage JSON of the runs of `projectId` (SQL) that `h`
  * asks for, or `{"runs":[],"nextCursor":null}` when there are none (or `projectId` is NULL).
  * Bind parameters are pushed onto `bind`. The runs are read as before: `limit + 1` newest before
@@ -75,11 +87,7 @@ const PAGE_COLUMNS = `id, branch, commit, base_branch, base_commit, verdict, too
  */
 export function historyPageSql(projectId: string, bind: unknown[], h: HistoryQuery): string {
   const param = (v: unknown) => `$${bind.push(v)}`;
-  let where = `project_id = ${projectId} AND branch = ${param(h.branch)}`;
-  if (h.at) where += ` AND (created_at, id) < (${param(h.at.at)}::timestamptz, ${param(h.at.id)}::int)`;
-  const designParam = h.design ? param(h.design) : '';
-  if (h.design) where += ` AND EXISTS (SELECT 1 FROM run_designs d WHERE d.run_id = runs.id AND d.design_name = ${designParam})`;
-  const designFilter = designParam ? ` AND rd.design_name = ${designParam}` : '';
+  const { where, designFilter } = pageFilter(projectId, param, h);
   const limit = param(h.limit);
   return `SELECT '{"runs":[' || coalesce(string_agg(p.item, ',' ORDER BY p.n) FILTER (WHERE p.n <= ${limit}::int), '')
        || '],"nextCursor":' || CASE WHEN count(*) > ${limit}::int THEN '"' || min(p.cursor) || '"' ELSE 'null' END || '}' AS page
@@ -107,11 +115,7 @@ export function historyPageSql(projectId: string, bind: unknown[], h: HistoryQue
 export async function presentedPage(ctx: AppContext, projectId: number, h: HistoryQuery): Promise<JsonText<RunPage>> {
   const bind: unknown[] = [];
   const param = (v: unknown) => `$${bind.push(v)}`;
-  let where = `project_id = ${param(projectId)} AND branch = ${param(h.branch)}`;
-  if (h.at) where += ` AND (created_at, id) < (${param(h.at.at)}::timestamptz, ${param(h.at.id)}::int)`;
-  const designParam = h.design ? param(h.design) : '';
-  if (h.design) where += ` AND EXISTS (SELECT 1 FROM run_designs d WHERE d.run_id = runs.id AND d.design_name = ${designParam})`;
-  const designFilter = designParam ? ` AND rd.design_name = ${designParam}` : '';
+  const { where, designFilter } = pageFilter(param(projectId), param, h);
   const rows = await ctx.db.sequelize.query<RunRow & { designs: DesignRow[] | null }>(
     `SELECT r.*, d.designs FROM (
        SELECT ${RUN_COLUMNS} FROM runs WHERE ${where} ORDER BY created_at DESC, id DESC LIMIT ${param(h.limit + 1)}::int OFFSET ${param(h.offset)}::int
