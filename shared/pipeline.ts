@@ -17,8 +17,9 @@ export interface PipelineOptions extends AnalyzeOptions {
   /** The rules in force (a team floor merged with the repository's); none: no rule is checked. */
   rules?: EffectiveRules;
   /**
-   * Largest control tables (partitions x registers) that the report carries; Infinity for
-   * simulate and rtl, which need them whole. Default DEFAULT_MAX_CONTROL_CELLS.
+   * Largest register tables (partitions x registers) that the report carries: the control tables
+   * and, unless maxAllocationCells says otherwise, the allocation table, so a report has both or
+   * neither. Default DEFAULT_MAX_CONTROL_CELLS (docs/analysis.md, "Register allocation").
    */
   maxControlCells?: number;
   /** false: leave the control tables out (simulate and rtl build them whole, with reasons, from `datapath`). */
@@ -79,8 +80,11 @@ export function runDesignModel(
 ): DesignRun {
   // Under negative_delays: fail nothing is retimed: the plan is judged as written.
   const retime = options.retime ?? options.rules?.negative_delays?.value !== 'fail';
-  const { analysis: bare, datapath } = analyzeDatapath(design, { ...options, retime });
-  const analysis = options.withControl === false ? bare : withControl(design, bare, options.maxControlCells ?? DEFAULT_MAX_CONTROL_CELLS, datapath);
+  // Without control tables (simulate builds them whole) the analysis keeps its own, larger limit.
+  const reportCells = options.maxControlCells ?? DEFAULT_MAX_CONTROL_CELLS;
+  const maxAllocationCells = options.maxAllocationCells ?? (options.withControl === false ? undefined : reportCells);
+  const { analysis: bare, datapath } = analyzeDatapath(design, { ...options, retime, ...(maxAllocationCells !== undefined ? { maxAllocationCells } : {}) });
+  const analysis = options.withControl === false ? bare : withControl(design, bare, reportCells, datapath);
   const control = analysis.control ?? null;
   const { violations: raw, warnings } = applyRules(analysis, options.rules ?? NO_RULES);
   const text = options.text;

@@ -11,7 +11,7 @@ import { utilization } from './utilization';
 import { factorLowerBound, iterationBound, loopStructure } from './iterationBound';
 
 export interface AnalyzeOptions {
-  /** Largest allocation table (partitions x registers) the result may carry; default 200,000. */
+  /** Largest allocation table (partitions x registers) the result may carry; default 200,000 (a report's: 20,000, shared/pipeline.ts). */
   maxAllocationCells?: number;
   /**
    * false: never retime (the rule `negative_delays: fail`): the datapath is the one as written,
@@ -84,7 +84,11 @@ export function analyzeDatapath(design: Design, options: AnalyzeOptions = {}): {
     lifetimes = counts.lifetimes;
     const cells = N * registers.minimum;
     if (cells > maxCells) {
-      allocationOmitted = `the allocation table would have ${N} partitions x ${registers.minimum} registers = ${cells} cells, more than the limit of ${maxCells}`;
+      // A report's limit is lower than the analysis' own: say where the whole table is made.
+      const elsewhere = maxCells < DEFAULT_MAX_ALLOCATION_CELLS && cells <= DEFAULT_MAX_ALLOCATION_CELLS;
+      allocationOmitted = `the allocation table would have ${N} partitions x ${registers.minimum} registers = ${cells} cells, more than the limit of ${maxCells}${
+        elsewhere ? ` for a report; 'pleat simulate' and 'pleat rtl' allocate up to ${DEFAULT_MAX_ALLOCATION_CELLS} cells` : ''
+      }`;
     } else {
       allocation = allocateRegisters(lifetimes, registers.minimum);
     }

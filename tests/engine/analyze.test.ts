@@ -63,3 +63,38 @@ describe('decimal times as exact fractions', () => {
     expect(decimalToRational(x)).toEqual({ num, den });
   });
 });
+
+describe('register tables of a report', () => {
+  // Project convention, no outside source (docs/analysis.md, "Register allocation"): a report
+  // carries the allocation table and the control tables up to the same 20,000 register cells;
+  // simulate (no control tables in its run) keeps the analysis' limit of 200,000.
+  it('leaves both tables out of a report past 20,000 cells, and simulate still gets the allocation', async () => {
+    const { runDesignText, runDesignModel } = await import('../../shared/pipeline');
+    const { loadDesign } = await import('../../shared/design/load');
+    const { generateDesign } = await import('../../scripts/gen-design.mjs');
+    const { text } = generateDesign({ edges: 5000, seed: 11 });
+    const run = runDesignText(text, 'bank.fold.yaml');
+    const a = run.analysis!;
+    const cells = a.factor * a.registers!.minimum;
+    expect(cells).toBeGreaterThan(20_000);
+    expect(cells).toBeLessThanOrEqual(200_000);
+    expect(run.report.allocation).toBeNull();
+    expect(run.report.allocationOmitted).toContain(`= ${cells} cells, more than the limit of 20000 for a report`);
+    expect(run.report.control).toBeUndefined();
+    expect(run.report.controlOmitted).toContain('more than the limit of 20000');
+    const sim = runDesignModel(loadDesign(text).design!, 'bank.fold.yaml', { withControl: false });
+    expect(sim.analysis!.allocation!.registers).toBe(a.registers!.minimum);
+    expect(sim.analysis!.allocationOmitted).toBeUndefined();
+  });
+
+  it('keeps both tables in a report within 20,000 cells', async () => {
+    const { runDesignText } = await import('../../shared/pipeline');
+    const { generateDesign } = await import('../../scripts/gen-design.mjs');
+    const run = runDesignText(generateDesign({ edges: 600, seed: 11 }).text, 'bank.fold.yaml');
+    const a = run.analysis!;
+    expect(a.factor * a.registers!.minimum).toBeLessThanOrEqual(20_000);
+    expect(run.report.allocation!.registers).toBe(a.registers!.minimum);
+    expect(run.report.control).not.toBeNull();
+    expect(run.report.control).toBeDefined();
+  });
+});
