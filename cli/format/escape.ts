@@ -67,16 +67,21 @@ export function escapeControlsDeep<T>(value: T): T {
   let copy: Record<string, unknown> | null = null;
   const obj = value as Record<string, unknown>;
   // for...in rather than Object.entries: no array of pairs per object
+  let renamed = false;
   for (const k in obj) {
     if (!Object.prototype.hasOwnProperty.call(obj, k)) continue;
     const v = obj[k];
-    const nk = needs(k) ? escapeControls(k) : k;
+    if (needs(k)) renamed = true;
     const nv = v === null || (typeof v !== 'object' && typeof v !== 'string') ? v : escapeControlsDeep(v);
-    if (nk !== k || nv !== v) {
+    if (nv !== v) {
       copy ??= { ...obj };
-      if (nk !== k) delete copy[k];
-      copy[nk] = nv;
+      copy[k] = nv;
     }
   }
-  return (copy ?? value) as T;
+  if (!renamed) return (copy ?? value) as T;
+  // An escaped key keeps its place (a list of moved nodes stays in the engine's order).
+  const from = copy ?? obj;
+  const out: Record<string, unknown> = {};
+  for (const k in from) if (Object.prototype.hasOwnProperty.call(from, k)) out[needs(k) ? escapeControls(k) : k] = from[k];
+  return out as T;
 }

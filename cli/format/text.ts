@@ -37,17 +37,18 @@ export function formatText(raw: Report, ctx: FormatContext = {}): string {
   // Ids, names and paths come from files: their control characters must not reach the terminal.
   // Only what the text can print is escaped: the lifetime chart, the allocation and control
   // tables and the schedule are most of a large report's strings and never shown here.
-  const shown = { ...raw, designs: raw.designs.map(printable) };
+  const cut = raw.designs.map(printable);
+  const shown = { ...raw, designs: cut.map((p) => p.design) };
   const report = mayNeedEscapes(shown) ? escapeControlsDeep(shown) : shown;
   const c = ctx.color ?? NO_COLOR;
   const display = ctx.displayFile ?? ((f: string) => f);
   const show = (f: string) => escapeControls(display(f));
   const blocks: string[][] = [];
   const baselinedKeys = new Set((ctx.baseline?.outcome.baselined ?? []).map(findingKey));
-  for (const d of report.designs) {
-    if (ctx.quiet && d.status === 'pass') continue;
-    blocks.push(designLines(d, report, c, show(d.file), !!ctx.quiet, baselinedKeys));
-  }
+  report.designs.forEach((d, i) => {
+    if (ctx.quiet && d.status === 'pass') return;
+    blocks.push(designLines(d, cut[i].counts, report, c, show(d.file), !!ctx.quiet, baselinedKeys));
+  });
   const lines: string[] = [];
   for (const b of blocks) {
     if (lines.length > 0) lines.push('');
@@ -94,10 +95,30 @@ function mayNeedEscapes(value: unknown, depth = 0): boolean {
   return json !== undefined && !plainJson(json);
 }
 
-/** A design's report without the parts the text never prints. */
-function printable(d: DesignReport): DesignReport {
-  const { lifetimes, allocation, control, schedule, ...shown } = d;
-  return shown;
+/** How long the lists were that printable cut to what the text shows. */
+interface ListCounts {
+  edges: number;
+  negatives: number;
+  moved: number;
+}
+
+/**
+ * A design's report with only what the text prints, so that the escape check and walk cover a
+ * few dozen strings, not every edge of a large design: no tables, the first negative edges, the
+ * first moved nodes; the counts of the lists cut come beside it.
+ */
+function printable(d: DesignReport): { design: DesignReport; counts: ListCounts } {
+  const { lifetimes, allocation, control, schedule, edges, ...shown } = d;
+  const negatives: EdgeResult[] = [];
+  let negativeCount = 0;
+  for (const e of edges ?? []) {
+    if (e.foldedDelay === null || e.foldedDelay >= 0) continue;
+    if (negativeCount++ < MAX_EDGES) negatives.push(e);
+  }
+  const moved = d.retiming ? movedNodes(d.retiming.values) : [];
+  const design: DesignReport = { ...shown, ...(edges ? { edges: negatives } : {}) };
+  if (d.retiming) design.retiming = { ...d.retiming, values: Object.fromEntries(moved.slice(0, MAX_MOVES)) };
+  return { design, counts: { edges: edges?.length ?? 0, negatives: negativeCount, moved: moved.length } };
 }
 
 /** `gate holds|broken|invalid: ...`: the verdict of the whole check, naming who broke what. */
@@ -167,7 +188,7 @@ function at(file: string, line: number | null | undefined, column: number | null
   return line ? `${file}:${line}:${column ?? 1}` : file;
 }
 
-function designLines(d: DesignReport, report: Report, c: ChalkInstance, file: string, quiet: boolean, baselined: Set<string>): string[] {
+function designLines(d: DesignReport, counts: ListCounts, report: Report, c: ChalkInstance, file: string, quiet: boolean, baselined: Set<string>): string[] {
   const out: string[] = [headLine(d, c)];
   out.push(`${label('file', c)}${file}`);
   if (d.status !== 'error' && d.factor != null) out.push(`${label('figures', c)}${figures(d, c)}`);
@@ -212,10 +233,11 @@ function designLines(d: DesignReport, report: Report, c: ChalkInstance, file: st
 
   // Then the details: the negative folded delays and what became of each, the retiming.
   if (r && d.edges) {
-    const negatives: EdgeResult[] = d.edges.filter((e) => e.foldedDelay !== null && e.foldedDelay < 0);
-    if (negatives.length > 0) {
-      out.push(`${label('negative', c, c.yellow)}${plural(negatives.length, 'edge')} of ${d.edges.length} with a negative folded delay`);
-      for (const e of negatives.slice(0, MAX_EDGES)) {
+    // d.edges holds the first negative edges only (printable).
+    const negatives = d.edges;
+    if (counts.negatives > 0) {
+      out.push(`${label('negative', c, c.yellow)}${plural(counts.negatives, 'edge')} of ${counts.edges} with a negative folded delay`);
+      for (const e of negatives) {
         let fix: string;
         if (r.applied === false) {
           fix = 'not retimed (negative_delays: fail)';
@@ -228,15 +250,16 @@ function designLines(d: DesignReport, report: Report, c: ChalkInstance, file: st
         }
         out.push(`${label('edge', c)}${at(file, e.line, e.column)}  ${e.from} -> ${e.to}  delays ${e.delays}  folded ${c.red(String(e.foldedDelay))}  ${fix}`);
       }
-      if (negatives.length > MAX_EDGES) out.push(`${label('edge', c)}... and ${negatives.length - MAX_EDGES} more`);
+      if (counts.negatives > MAX_EDGES) out.push(`${label('edge', c)}... and ${counts.negatives - MAX_EDGES} more`);
     }
     if (r.needed && r.feasible && r.applied !== false) {
+      // r.values holds the first moved nodes only (printable).
       const moved = movedNodes(r.values);
       const latency = r.latencyAdded ? `, adds ${plural(r.latencyAdded, 'iteration')} of latency` : ', no latency added';
-      out.push(`${label('retiming', c)}${plural(moved.length, 'node')} moved${latency}`);
+      out.push(`${label('retiming', c)}${plural(counts.moved, 'node')} moved${latency}`);
       if (moved.length > 0) {
-        const shown = moved.slice(0, MAX_MOVES).map(([n, v]) => `${n} ${v > 0 ? '+' : ''}${v}`);
-        out.push(`${label('moved', c)}${shown.join(', ')}${moved.length > MAX_MOVES ? `, ... and ${moved.length - MAX_MOVES} more` : ''}`);
+        const shown = moved.map(([n, v]) => `${n} ${v > 0 ? '+' : ''}${v}`);
+        out.push(`${label('moved', c)}${shown.join(', ')}${counts.moved > MAX_MOVES ? `, ... and ${counts.moved - MAX_MOVES} more` : ''}`);
       }
       // Each output's latency, and the output that sets the shared retiming of the outputs.
       const ol = d.outputLatency;

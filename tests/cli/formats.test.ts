@@ -1,10 +1,12 @@
 // The report formats of `pleat check`, read back by tools outside the project: JSON.parse for the
 // JSON report, fast-xml-parser (npm registry) for JUnit, and the workflow-command syntax
 // that GitHub documents for Actions logs.
+import { readFileSync } from 'node:fs';
+import path from 'node:path';
 import { XMLParser, XMLValidator } from 'fast-xml-parser';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { escapeData, escapeProperty } from '../../cli/format/github';
-import { cleanupTemps, ensureBuilt, failingDesign, invalidDesign, passingDesign, pleat, tempDir, write } from './helpers';
+import { cleanupTemps, ensureBuilt, EXAMPLES, failingDesign, invalidDesign, passingDesign, pleat, tempDir, write } from './helpers';
 
 let dir: string;
 beforeAll(async () => {
@@ -244,5 +246,20 @@ describe('control characters from files never reach the terminal or the CI log r
     }
     const t = await pleat(['check', '.'], { cwd: dir });
     expect(t.stdout).toMatch(/dead\\x00end\\u2028/);
+  });
+
+  it('escapes ids in the lists the text cuts short: negative edges and moved nodes', async () => {
+    const dir = tempDir();
+    // The retimed example, its node u1 (on two negative edges, moved by the retiming) renamed
+    // with a terminal colour sequence.
+    const text = readFileSync(path.join(EXAMPLES, 'equaliser-retimed.fold.yaml'), 'utf8').replace(/\bu1\b/g, '"u1\\e[31m"');
+    write(dir, 'eq.fold.yaml', text);
+    const r = await pleat(['check', '.'], { cwd: dir });
+    expect(r.exitCode).toBe(0);
+    expect(r.stdout).not.toMatch(/\u001b/);
+    expect(r.stdout).toMatch(/mb1 -> u1\\x1b\[31m  delays 0/);
+    // In the engine's node order, the escaped id where the id was (it used to move to the end).
+    expect(r.stdout).toMatch(/moved {5}u1\\x1b\[31m \+1, t1 \+1, /);
+    expect(r.stdout).toMatch(/negative {2}4 edges of 14 with a negative folded delay/);
   });
 });
