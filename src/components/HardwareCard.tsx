@@ -2,7 +2,7 @@ import type { HardwareSide, HardwareSummary } from '../../shared/report/hardware
 import { Panel } from './Panel';
 
 const ROWS: { key: keyof HardwareSide; label: string; note: string }[] = [
-  { key: 'cells', label: 'Cells', note: 'generic cells after synthesis, flip-flops included' },
+  { key: 'cells', label: 'Cells', note: 'generic cells, flip-flops included' },
   { key: 'flipFlops', label: 'Flip-flops', note: 'bits' },
   { key: 'depth', label: 'Logic depth', note: 'levels of generic cells on the longest path, not nanoseconds' },
   { key: 'factor', label: 'Cycles per sample', note: 'the folding factor' },
@@ -19,7 +19,8 @@ function ratio(folded: number | null, parallel: number | null): string {
 /**
  * Area and depth of one design's folded datapath beside its parallel reference, from the
  * hardware summary of `pleat rtl --area` uploaded with the run (docs/rtl.md, "The hardware
- * summary"). Generic-cell figures of one synthesis run, not a timing closure.
+ * summary"). Generic-cell figures of one synthesis run, not a timing closure; the wording
+ * holds for the demo's estimates too (their tool says they were not synthesized).
  */
 export function HardwareCard({ summary }: { summary: HardwareSummary }) {
   const { folded, parallel, compared } = summary;
@@ -53,7 +54,7 @@ export function HardwareCard({ summary }: { summary: HardwareSummary }) {
         </tbody>
       </table>
       <p className="mt-3 text-xs text-ink-600">
-        Both sides at {compared.width} bits with {compared.coefFrac} fraction bits in the coefficients; every multiplier synthesized
+        Both sides at {compared.width} bits with {compared.coefFrac} fraction bits in the coefficients; every multiplier counted
         as a general one; {compared.stages === 'folded' ? "each parallel operation has its folded unit's pipeline stages" : 'the parallel reference is not pipelined'}.
         {folded.depth === null || parallel.depth === null ? ' "loop": the netlist has a combinational loop, so it has no longest path.' : ''}{' '}
         These are estimates to compare runs by, an engineering aid and not a sign-off of the hardware.
