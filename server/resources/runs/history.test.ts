@@ -119,6 +119,16 @@ describe('history page: the bytes of the presenters', () => {
     await check('?limit=4&offset=8', { limit: 4, offset: 8 });
     await check('?limit=7&design=notch', { limit: 7, design: 'notch' });
     await check('?limit=3&offset=100', { limit: 3, offset: 100 });
+    // Each row's JSON is written with the row (page_json, migration 011): an UPDATE rewrites it (the
+    // migration fills earlier rows the same way), also from a session whose float notation differs.
+    await db.transaction(async (transaction) => {
+      await db.query('SET LOCAL extra_float_digits = 3', { transaction });
+      await db.query(`UPDATE runs SET commit_message = 'changed \\ "m"', utilization = 0.1 + 0.2, utilization_floor = NULL WHERE project_id = $1 AND branch = 'feature/x' AND commit LIKE '%1'`, { bind: [project.id], transaction });
+      await db.query(`UPDATE run_designs SET factor = 9, utilization = 1e-6 WHERE design_name = 'fir' AND run_id IN (SELECT id FROM runs WHERE project_id = $1)`, { bind: [project.id], transaction });
+      await db.query('UPDATE run_design_hardware SET folded_depth = NULL, parallel_cells = 301', { transaction });
+    });
+    await check('', { limit: 50 });
+    await check('?limit=7&design=fir', { limit: 7, design: 'fir' });
     // A number from 1e15 up: the page is presented in JavaScript, with the same bytes.
     await db.query(
       `INSERT INTO runs (project_id, branch, commit, verdict, tool_version, design_count, failed_count, error_count, utilization, violation_count, report)
