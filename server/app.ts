@@ -29,6 +29,10 @@ import { watchRoutes } from './resources/watches/routes';
 export function createApp(ctx: AppContext): Express {
   const app = express();
   app.disable('x-powered-by');
+  // No ETag on res.send/res.json: every API answer is Cache-Control: no-store, so no client keeps
+  // one to revalidate (the web client's fetches included), and hashing every body (a history page
+  // is tens of KiB) was work for nothing. Static files keep theirs (express.static, sendFile).
+  app.set('etag', false);
   app.set('trust proxy', ctx.config.trustProxy);
   const https = ctx.config.publicUrl.startsWith('https:');
   // The usual security headers (helmet). The policy allows what the built web app loads: its own
