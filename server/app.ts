@@ -64,16 +64,23 @@ export function createApp(ctx: AppContext): Express {
   // The bare liveness route answers before any middleware: the benchmark's baseline.
   app.use(healthRoutes(ctx));
 
+  // What every /api request passes, in this order, as one middleware (one layer of Express's
+  // router instead of four): no caching, no NUL, the cookies, the cross-site check, the credentials.
+  const cookies = cookieParser();
+  const origin = sameOriginOnly(ctx);
+  const credentials = readCredentials(ctx);
   app.use('/api', (req, res, next) => {
-    res.set('Cache-Control', 'no-store');
+    res.setHeader('Cache-Control', 'no-store');
     // PostgreSQL text cannot hold NUL: refuse it in paths and queries before it reaches a query.
-    if (/%00/.test(req.originalUrl)) {
+    if (req.originalUrl.includes('%00')) {
       res.status(400).json({ error: { code: 'bad-path', message: 'The address contains a NUL character (%00).' } });
       return;
     }
-    next();
+    cookies(req, res, (err?: unknown) => {
+      if (err) return next(err);
+      origin(req, res, (err2?: unknown) => (err2 ? next(err2) : credentials(req, res, next)));
+    });
   });
-  app.use('/api', cookieParser(), sameOriginOnly(ctx), readCredentials(ctx));
   // The routes under load find their caller together with their project, in one query
   // (projectAccess); every route after lookUpCaller has req.actor from its own query.
   app.use(runOneQueryRoutes(ctx));
