@@ -125,14 +125,11 @@ interface Pending extends IngestOptions {
 /** Most uploads written by one statement (its bind parameters are arrays, one element per run or design). */
 const MAX_BATCH = 64;
 /**
- * Writers at a time per process. One left the other core idle while a batch was written (the
- * server waits on PostgreSQL, PostgreSQL on nothing else); two let one batch be parsed and checked
- * by PostgreSQL while the other commits. Two writers of one process are what two server processes
- * already are: a commit both upload is stored once (runs_one_per_commit, the losing statement
- * reads the stored run back), and their branch pointers are updated in one order (by project and
- * branch), so they wait for each other rather than deadlock.
+ * Writers at a time per process: one. Two (tried: one batch checked by PostgreSQL while the other
+ * commits) made smaller batches that waited on each other's branch row, and measured no better
+ * (docs/performance.md, "Third round").
  */
-const WRITERS = 2;
+const WRITERS = 1;
 type Queue = { items: Pending[]; running: number };
 const queues = new WeakMap<AppContext, Queue>();
 
