@@ -44,7 +44,12 @@ export function historyPageSql(projectId: string, bind: unknown[], h: HistoryQue
   const { where, designFilter } = pageFilter(projectId, param, h);
   const limit = param(h.limit);
   // Each run's and design row's JSON was written with the row (page_json, pageJson.ts): the page
-  // only joins those texts.
+  // only joins those texts. The page's runs are found first, by an index-only scan of
+  // runs_history_cover (id and created_at are among its keys), then each one's text by its id.
+  // Read in one scan, the statement's generic plan walked the project's newest runs of every
+  // branch (runs_age) and filtered by branch. `OFFSET 0` keeps the look-up a nested loop: the
+  // generic plan does not know the limit (it assumes a tenth of the table), and flattened into a
+  // plain join it hashed the whole table (49 ms instead of 0.3, EXPLAIN ANALYZE of the generic plan).
   return `SELECT '{"runs":[' || coalesce(string_agg(p.item, ',' ORDER BY p.n) FILTER (WHERE p.n <= ${limit}::int), '')
        || '],"nextCursor":' || CASE WHEN count(*) > ${limit}::int THEN '"' || min(p.cursor) || '"' ELSE 'null' END || '}' AS page
     FROM (
@@ -52,7 +57,9 @@ export function historyPageSql(projectId: string, bind: unknown[], h: HistoryQue
              CASE WHEN r.n = ${limit}::int THEN to_char(r.created_at AT TIME ZONE 'UTC', 'YYYY-MM-DD"T"HH24:MI:SS.MS"Z"') || ',' || r.id END AS cursor
       FROM (
         SELECT q.*, row_number() OVER (ORDER BY q.created_at DESC, q.id DESC) AS n FROM (
-          SELECT id, created_at, page_json FROM runs WHERE ${where} ORDER BY created_at DESC, id DESC LIMIT ${limit}::int + 1 OFFSET ${param(h.offset)}::int
+          SELECT k.id, k.created_at, x.page_json FROM (
+            SELECT id, created_at FROM runs WHERE ${where} ORDER BY created_at DESC, id DESC LIMIT ${limit}::int + 1 OFFSET ${param(h.offset)}::int
+          ) k CROSS JOIN LATERAL (SELECT page_json FROM runs WHERE runs.id = k.id OFFSET 0) x
         ) q
       ) r
       LEFT JOIN LATERAL (
