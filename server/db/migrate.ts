@@ -13,6 +13,7 @@ import * as m007 from './migrations/007-run-design-plan';
 import * as m008 from './migrations/008-history-indexes';
 import * as m009 from './migrations/009-run-design-hardware';
 import * as m010 from './migrations/010-report-lz4';
+import * as m011 from './migrations/011-history-page-json';
 import type { Migration } from './migrations/types';
 
 const MIGRATIONS: { name: string; up: Migration; down: Migration }[] = [
@@ -26,6 +27,7 @@ const MIGRATIONS: { name: string; up: Migration; down: Migration }[] = [
   { name: '008-history-indexes', ...m008 },
   { name: '009-run-design-hardware', ...m009 },
   { name: '010-report-lz4', ...m010 },
+  { name: '011-history-page-json', ...m011 },
 ];
 
 /** Keeps applied migration names in a table of the connection's own schema (search_path). */

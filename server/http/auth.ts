@@ -60,13 +60,41 @@ export function signSession(ctx: AppContext, userId: number, epoch = 0): { token
   return { token, jti, expiresAt: new Date(Date.now() + seconds * 1000) };
 }
 
+// Tokens whose signature and claims were verified, by secret and token text, with their claims:
+// a browser sends the same cookie with every request, and verifying it (two base64 decodes, two
+// JSON parses, an HMAC) was a tenth of a history page's server CPU. Only what the token itself
+// says is kept, and its expiry is still compared with the clock at every request; whether the
+// session was signed out, the account deactivated or its epoch moved on is asked of PostgreSQL at
+// every request as before (callerSql). A token that fails is not kept, so each try of a forged one
+// costs its HMAC as before. Bounded: past VERIFIED_MAX tokens the least recently used go first.
+const VERIFIED_MAX = 10_000;
+const verified = new Map<string, Map<string, SessionClaims>>();
+
+function remembered(secret: string): Map<string, SessionClaims> {
+  let m = verified.get(secret);
+  if (!m) verified.set(secret, (m = new Map()));
+  return m;
+}
+
 export function verifySession(ctx: AppContext, token: string): SessionClaims | null {
+  const known = remembered(ctx.config.jwtSecret);
+  const hit = known.get(token);
+  if (hit) {
+    known.delete(token);
+    // jsonwebtoken's own test: expired from the second `exp` names on.
+    if (Math.floor(Date.now() / 1000) >= hit.exp) return null;
+    known.set(token, hit);
+    return hit;
+  }
   try {
     const claims = jwt.verify(token, keyOf(ctx.config.jwtSecret), { algorithms: ['HS256'] });
     if (typeof claims !== 'object' || !claims.sub || !claims.jti || !claims.exp) return null;
     const ep = (claims as { ep?: unknown }).ep ?? 0;
     if (typeof ep !== 'number' || !Number.isInteger(ep)) return null;
-    return { sub: claims.sub, jti: claims.jti, exp: claims.exp, ep };
+    const ok: SessionClaims = { sub: claims.sub, jti: claims.jti, exp: claims.exp, ep };
+    if (known.size >= VERIFIED_MAX) known.delete(known.keys().next().value!);
+    known.set(token, ok);
+    return ok;
   } catch {
     return null;
   }

@@ -40,5 +40,10 @@ export function jsonText<T>(body: Sent<T>): JsonText<T> {
 
 /** Sends JSON text made by jsonText: the request thread neither copies the objects nor serialises them. */
 export function sendText<T>(res: Response, text: JsonText<T>): void {
-  res.type('application/json').send(text);
+  // The headers res.type().send() sets for such a body (no ETag: app.ts), set directly: send would
+  // parse and rewrite the content type and copy the text (a history page: tens of KiB) into a
+  // Buffer; Node writes the string as it is (and no body for HEAD).
+  res.setHeader('Content-Type', 'application/json; charset=utf-8');
+  res.setHeader('Content-Length', Buffer.byteLength(text));
+  res.end(text);
 }

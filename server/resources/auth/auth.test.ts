@@ -4,7 +4,7 @@
 import jwt from 'jsonwebtoken';
 import supertest from 'supertest';
 import { createApp } from '../../app';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
 import { SESSION_COOKIE } from '../../http/auth';
 import { PASSWORD, cookieFor, makeProject, makeUser, addMember } from '../../test/factories';
 import { startTestServer, type TestServer } from '../../test/server';
@@ -96,6 +96,30 @@ describe('sessions that must be refused', () => {
     const expired = jwt.sign({ exp: Math.floor(Date.now() / 1000) - 60 }, t.ctx.config.jwtSecret, { algorithm: 'HS256', subject: String(user.id), jwtid: 'z' });
     const res = await meWith(expired);
     expect(res.status).toBe(401);
+  });
+
+  it('a token that was accepted before (kept as verified) is refused once it expires, on the history page too', async () => {
+    const project = await makeProject(t.ctx);
+    const user = await makeUser(t.ctx);
+    await addMember(t.ctx, project, user, 'viewer');
+    const exp = Math.floor(Date.now() / 1000) + 3600;
+    const token = jwt.sign({ exp, ep: 0 }, t.ctx.config.jwtSecret, { algorithm: 'HS256', subject: String(user.id), jwtid: 'kept' });
+    const history = () => t.http().get(`/api/projects/${project.slug}/branches/main/runs`).set('Cookie', `${SESSION_COOKIE}=${token}`);
+    expect((await meWith(token)).status).toBe(200);
+    expect((await history()).status).toBe(200);
+    // The clock moved to the token's expiry (only Date is faked: the server's sockets keep their timers).
+    vi.useFakeTimers({ toFake: ['Date'], now: exp * 1000 });
+    try {
+      const me = await meWith(token);
+      expect(me.status).toBe(401);
+      expect(me.body.error.code).toBe('invalid-credentials');
+      expect((await history()).status).toBe(401);
+    } finally {
+      vi.useRealTimers();
+    }
+    // The same token with one character of its signature changed is refused, verified or not.
+    const forged = token.slice(0, -2) + (token.at(-2) === 'A' ? 'B' : 'A') + token.at(-1);
+    expect((await meWith(forged)).status).toBe(401);
   });
 
   it('a token after logout (revoked), while another session of the same person still works', async () => {

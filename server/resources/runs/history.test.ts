@@ -8,9 +8,11 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Project, User } from '../../db/models';
 import { jsonDate, jsonFloat, jsonString, UNWRITTEN } from '../../db/jsonSql';
 import { rawQuery } from '../../db/raw';
-import { cookieFor, makeMember, makeProject } from '../../test/factories';
+import { cookieFor, designEntry, makeMember, makeProject, makeReport } from '../../test/factories';
 import { startTestServer, type TestServer } from '../../test/server';
 import { presentedPage } from './history';
+import { ingestRun } from './ingest';
+import type { Report } from '../../../shared/types';
 
 let t: TestServer;
 let project: Project;
@@ -119,6 +121,16 @@ describe('history page: the bytes of the presenters', () => {
     await check('?limit=4&offset=8', { limit: 4, offset: 8 });
     await check('?limit=7&design=notch', { limit: 7, design: 'notch' });
     await check('?limit=3&offset=100', { limit: 3, offset: 100 });
+    // Each row's JSON is written with the row (page_json, migration 011): an UPDATE rewrites it (the
+    // migration fills earlier rows the same way), also from a session whose float notation differs.
+    await db.transaction(async (transaction) => {
+      await db.query('SET LOCAL extra_float_digits = 3', { transaction });
+      await db.query(`UPDATE runs SET commit_message = 'changed \\ "m"', utilization = 0.1 + 0.2, utilization_floor = NULL WHERE project_id = $1 AND branch = 'feature/x' AND commit LIKE '%1'`, { bind: [project.id], transaction });
+      await db.query(`UPDATE run_designs SET factor = 9, utilization = 1e-6 WHERE design_name = 'fir' AND run_id IN (SELECT id FROM runs WHERE project_id = $1)`, { bind: [project.id], transaction });
+      await db.query('UPDATE run_design_hardware SET folded_depth = NULL, parallel_cells = 301', { transaction });
+    });
+    await check('', { limit: 50 });
+    await check('?limit=7&design=fir', { limit: 7, design: 'fir' });
     // A number from 1e15 up: the page is presented in JavaScript, with the same bytes.
     await db.query(
       `INSERT INTO runs (project_id, branch, commit, verdict, tool_version, design_count, failed_count, error_count, utilization, violation_count, report)
@@ -129,5 +141,40 @@ describe('history page: the bytes of the presenters', () => {
     // A branch with no runs.
     const empty = await t.http().get(`/api/projects/${project.slug}/branches/none/runs`).set('Cookie', cookie);
     expect(empty.text).toBe('{"runs":[],"nextCursor":null}');
+  });
+});
+
+describe('history page: runs as uploads write them', () => {
+  it('matches the presenters for runs written alone and together, with the texts the upload made (pageJson.ts)', async () => {
+    const odd = (i: number) => {
+      const r = makeReport({
+        branch: 'up/load', baseBranch: i % 2 ? 'main' : null, baseCommit: i % 2 ? 'ABCDEF1234567' : null,
+        designs: [
+          designEntry(`fir "${i}" \\ ü`, { utilization: DOUBLES[(3 * i) % DOUBLES.length]! % 1e15, registers: i % 3 ? 5 : null }),
+          designEntry('notch', { status: i % 4 ? 'fail' : 'error', utilization: 1e-6 * (i + 1) }),
+        ],
+      });
+      r.git.commit = r.git.commit!.toUpperCase();
+      (r.git as Record<string, unknown>).message = i % 3 ? `fix\tthe "tap" ${i}\nsecond line` : undefined;
+      (r.git as Record<string, unknown>).author = i % 2 ? 'Zoë <z@x>' : undefined;
+      if (i % 2) r.rules = { min_utilization: { value: 0.1 + 0.2 * i, source: 'team' } } as unknown as Report['rules'];
+      return r;
+    };
+    // One alone, then eight at once (written by one statement together), one of them a repeat.
+    await ingestRun(t.ctx, project, odd(0));
+    const together = Array.from({ length: 8 }, (_, i) => odd(i + 1));
+    together.push({ ...together[2]!, git: { ...together[2]!.git } });
+    await Promise.all(together.map((r) => ingestRun(t.ctx, project, r)));
+    const cookie = cookieFor(t.ctx, viewer);
+    for (const [q, o] of [['', { limit: 50 }], ['?limit=4', { limit: 4 }], ['?limit=3&design=notch', { limit: 3, design: 'notch' }]] as const) {
+      const res = await t.http().get(`/api/projects/${project.slug}/branches/up%2Fload/runs${q}`).set('Cookie', cookie);
+      expect(res.status).toBe(200);
+      expect(res.text).toBe(await presented('up/load', o));
+    }
+    const all = JSON.parse((await t.http().get(`/api/projects/${project.slug}/branches/up%2Fload/runs`).set('Cookie', cookie)).text) as { runs: { message: string | null; author: string | null; utilizationFloor: number | null }[] };
+    expect(all.runs).toHaveLength(9);
+    // Runs written together keep the commit's message, author and floor (they once lost them).
+    expect(all.runs.filter((r) => r.message !== null).length).toBeGreaterThan(3);
+    expect(all.runs.filter((r) => r.author === 'Zoë <z@x>').length).toBe(4);
   });
 });

@@ -9,6 +9,7 @@ import type { AppContext } from '../../context';
 import type { Project } from '../../db/models';
 import { rawQuery } from '../../db/raw';
 import { RUN_COLUMNS, type RunRow } from './compare';
+import { designHeadText, runHeadParts, runHeadSql } from './pageJson';
 import { summarizeReport } from './summary';
 
 /** The first line of a commit's message, or its author, bounded: shown in lists, not kept in full. */
@@ -50,20 +51,35 @@ async function ingestOne(ctx: AppContext, project: Project, report: Report, opts
   const branch = git.branch!;
   const commit = git.commit!.toLowerCase();
   const floor = report.rules?.min_utilization?.value;
-  const inserted = await rawQuery<WrittenRow>(ctx.db, 
-    `WITH ins AS (
-       INSERT INTO runs (project_id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count,
+  const message = commitMeta(git.message, 500);
+  const author = commitMeta(git.author, 200);
+  const utilizationFloor = typeof floor === 'number' && Number.isFinite(floor) ? floor : null;
+  const [before, after] = runHeadParts({
+    branch, commit, base_branch: git.baseBranch ?? null, base_commit: git.baseCommit?.toLowerCase() ?? null, verdict: report.verdict,
+    tool_version: report.tool.version, design_count: run.designCount, failed_count: run.failedCount, error_count: run.errorCount,
+    utilization: run.utilization, register_minimum: run.registerMinimum, violation_count: run.violationCount,
+    commit_message: message, commit_author: author, utilization_floor: utilizationFloor,
+  });
+  // The id and the time are taken first (the time as the column keeps it, to the millisecond), so
+  // the row's page_json (pageJson.ts) is written with the row.
+  const inserted = await rawQuery<WrittenRow>(ctx.db,
+    `WITH v AS (
+       SELECT nextval(pg_get_serial_sequence('runs', 'id'))::int AS id, coalesce($15::timestamptz, now())::timestamptz(3) AS at
+     ), ins AS (
+       INSERT INTO runs (id, project_id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count,
                          failed_count, error_count, utilization, register_minimum, violation_count, report, created_at,
-                         commit_message, commit_author, utilization_floor)
-       VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11, $12, $13, $14::jsonb, coalesce($15::timestamptz, now()), $27, $28, $29)
+                         commit_message, commit_author, utilization_floor, page_json)
+       SELECT v.id, $1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11, $12, $13, $14::jsonb, v.at, $27, $28, $29,
+              ${runHeadSql('v.id', 'v.at', '$30::text', '$31::text')}
+       FROM v
        ON CONFLICT ON CONSTRAINT runs_one_per_commit DO NOTHING
        RETURNING ${RUN_COLUMNS}
      ), designs AS (
        INSERT INTO run_designs (run_id, design_name, file, status, utilization, register_minimum, negative_edge_count,
-                                retiming_feasible, violation_count, factor, unit_count, latency_added)
+                                retiming_feasible, violation_count, factor, unit_count, latency_added, page_json)
        SELECT ins.id, d.* FROM ins,
          unnest($16::text[], $17::text[], $18::text[], $19::float8[], $20::int[], $21::int[], $22::bool[], $23::int[],
-                $24::int[], $25::int[], $26::int[]) AS d
+                $24::int[], $25::int[], $26::int[], $32::text[]) AS d
      ), branch AS (
        INSERT INTO branches (project_id, name, last_run_id, last_run_at)
        SELECT project_id, branch, id, created_at FROM ins
@@ -80,7 +96,7 @@ async function ingestOne(ctx: AppContext, project: Project, report: Report, opts
         designs.map((d) => d.utilization), designs.map((d) => d.registerMinimum), designs.map((d) => d.negativeEdgeCount),
         designs.map((d) => d.retimingFeasible), designs.map((d) => d.violationCount),
         designs.map((d) => d.factor), designs.map((d) => d.unitCount), designs.map((d) => d.latencyAdded),
-        commitMeta(git.message, 500), commitMeta(git.author, 200), typeof floor === 'number' && Number.isFinite(floor) ? floor : null,
+        message, author, utilizationFloor, before, after, designs.map(designHeadText),
     ],
   );
   const row = inserted[0];
@@ -108,7 +124,14 @@ interface Pending extends IngestOptions {
 
 /** Most uploads written by one statement (its bind parameters are arrays, one element per run or design). */
 const MAX_BATCH = 64;
-const queues = new WeakMap<AppContext, { items: Pending[]; running: boolean }>();
+/**
+ * Writers at a time per process: one. Two (tried: one batch checked by PostgreSQL while the other
+ * commits) made smaller batches that waited on each other's branch row, and measured no better
+ * (docs/performance.md, "Third round").
+ */
+const WRITERS = 1;
+type Queue = { items: Pending[]; running: number };
+const queues = new WeakMap<AppContext, Queue>();
 
 /**
  * Stores one report as a run. Alone, it is one statement; with other uploads waiting, they are
@@ -118,16 +141,16 @@ export function ingestRun(ctx: AppContext, project: Project, report: Report, opt
   return new Promise<StoredRun>((resolve, reject) => {
     let q = queues.get(ctx);
     if (!q) {
-      q = { items: [], running: false };
+      q = { items: [], running: 0 };
       queues.set(ctx, q);
     }
     q.items.push({ project, report, createdAt: opts.createdAt, reportText: opts.reportText, resolve, reject });
-    if (!q.running) void drain(ctx, q);
+    if (q.running < WRITERS) void drain(ctx, q);
   });
 }
 
-async function drain(ctx: AppContext, q: { items: Pending[]; running: boolean }): Promise<void> {
-  q.running = true;
+async function drain(ctx: AppContext, q: Queue): Promise<void> {
+  q.running++;
   try {
     while (q.items.length > 0) {
       const batch = q.items.splice(0, MAX_BATCH);
@@ -144,7 +167,7 @@ async function drain(ctx: AppContext, q: { items: Pending[]; running: boolean })
       }
     }
   } finally {
-    q.running = false;
+    q.running--;
   }
 }
 
@@ -164,34 +187,56 @@ async function ingestBatch(ctx: AppContext, batch: Pending[]): Promise<void> {
     seen.add(key(p));
     firsts.push(p);
   }
-  const runs = firsts.map((p) => ({ p, ...summarizeReport(p.report) }));
+  const runs = firsts.map((p) => {
+    const git = p.report.git;
+    const floor = p.report.rules?.min_utilization?.value;
+    const summary = summarizeReport(p.report);
+    const meta = {
+      message: commitMeta(git.message, 500), author: commitMeta(git.author, 200),
+      floor: typeof floor === 'number' && Number.isFinite(floor) ? floor : null,
+    };
+    const parts = runHeadParts({
+      branch: git.branch!, commit: git.commit!.toLowerCase(), base_branch: git.baseBranch ?? null,
+      base_commit: git.baseCommit?.toLowerCase() ?? null, verdict: p.report.verdict, tool_version: p.report.tool.version,
+      design_count: summary.run.designCount, failed_count: summary.run.failedCount, error_count: summary.run.errorCount,
+      utilization: summary.run.utilization, register_minimum: summary.run.registerMinimum, violation_count: summary.run.violationCount,
+      commit_message: meta.message, commit_author: meta.author, utilization_floor: meta.floor,
+    });
+    return { p, ...summary, meta, parts };
+  });
   const col = <T>(f: (r: (typeof runs)[number]) => T) => runs.map(f);
   const designRows = runs.flatMap((r, ord) => r.designs.map((d, k) => ({ ord, k, d })));
   const dcol = <T>(f: (x: (typeof designRows)[number]) => T) => designRows.map(f);
-  const rows = await rawQuery<WrittenRow & { ord: number }>(ctx.db, 
+  const rows = await rawQuery<WrittenRow & { ord: number }>(ctx.db,
     `WITH input AS (
-       SELECT t.*, rj.report FROM unnest($1::int[], $2::text[], $3::text[], $4::text[], $5::text[], $6::text[], $7::text[], $8::int[], $9::int[],
-                            $10::int[], $11::float8[], $12::int[], $13::int[], $15::timestamptz[], $16::int[])
+       SELECT t.*, rj.report, nextval(pg_get_serial_sequence('runs', 'id'))::int AS id, coalesce(t.given_at, now())::timestamptz(3) AS at
+       FROM unnest($1::int[], $2::text[], $3::text[], $4::text[], $5::text[], $6::text[], $7::text[], $8::int[], $9::int[],
+                   $10::int[], $11::float8[], $12::int[], $13::int[], $15::timestamptz[], $16::int[],
+                   $27::text[], $28::text[], $29::float8[], $30::text[], $31::text[])
          AS t(project_id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count, failed_count, error_count,
-              utilization, register_minimum, violation_count, created_at, ord)
+              utilization, register_minimum, violation_count, given_at, ord, commit_message, commit_author, utilization_floor, head_before, head_after)
        JOIN jsonb_array_elements($14::jsonb) WITH ORDINALITY AS rj(report, n) ON rj.n = t.ord + 1
      ), ins AS (
-       INSERT INTO runs (project_id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count,
-                         failed_count, error_count, utilization, register_minimum, violation_count, report, created_at)
-       SELECT project_id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count, failed_count, error_count,
-              utilization, register_minimum, violation_count, report, coalesce(created_at, now())
+       INSERT INTO runs (id, project_id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count,
+                         failed_count, error_count, utilization, register_minimum, violation_count, report, created_at,
+                         commit_message, commit_author, utilization_floor, page_json)
+       SELECT id, project_id, branch, commit, base_branch, base_commit, verdict, tool_version, design_count, failed_count, error_count,
+              utilization, register_minimum, violation_count, report, at, commit_message, commit_author, utilization_floor,
+              ${runHeadSql('id', 'at', 'head_before', 'head_after')}
        FROM input ORDER BY ord
        ON CONFLICT ON CONSTRAINT runs_one_per_commit DO NOTHING
        RETURNING ${RUN_COLUMNS}
      ), matched AS (
-       SELECT ins.*, input.ord FROM ins
-       JOIN input ON input.project_id = ins.project_id AND input.branch = ins.branch AND input.commit = ins.commit
+       SELECT ins.*, input.ord FROM ins JOIN input ON input.id = ins.id
      ), designs AS (
        INSERT INTO run_designs (run_id, design_name, file, status, utilization, register_minimum, negative_edge_count,
-                                retiming_feasible, violation_count)
-       SELECT m.id, d.design_name, d.file, d.status, d.utilization, d.register_minimum, d.negative_edge_count, d.retiming_feasible, d.violation_count
-       FROM unnest($17::int[], $18::int[], $19::text[], $20::text[], $21::text[], $22::float8[], $23::int[], $24::int[], $25::bool[], $26::int[])
-         AS d(ord, k, design_name, file, status, utilization, register_minimum, negative_edge_count, retiming_feasible, violation_count)
+                                retiming_feasible, violation_count, factor, unit_count, latency_added, page_json)
+       SELECT m.id, d.design_name, d.file, d.status, d.utilization, d.register_minimum, d.negative_edge_count, d.retiming_feasible,
+              d.violation_count, d.factor, d.unit_count, d.latency_added, d.page_json
+       FROM unnest($17::int[], $18::int[], $19::text[], $20::text[], $21::text[], $22::float8[], $23::int[], $24::int[], $25::bool[], $26::int[],
+                   $32::int[], $33::int[], $34::int[], $35::text[])
+         AS d(ord, k, design_name, file, status, utilization, register_minimum, negative_edge_count, retiming_feasible, violation_count,
+              factor, unit_count, latency_added, page_json)
        JOIN matched m ON m.ord = d.ord
        ORDER BY d.ord, d.k
      ), branch AS (
@@ -211,6 +256,8 @@ async function ingestBatch(ctx: AppContext, batch: Pending[]): Promise<void> {
         dcol((x) => x.ord), dcol((x) => x.k), dcol((x) => x.d.designName), dcol((x) => x.d.file), dcol((x) => x.d.status),
         dcol((x) => x.d.utilization), dcol((x) => x.d.registerMinimum), dcol((x) => x.d.negativeEdgeCount),
         dcol((x) => x.d.retimingFeasible), dcol((x) => x.d.violationCount),
+        col((r) => r.meta.message), col((r) => r.meta.author), col((r) => r.meta.floor), col((r) => r.parts[0]), col((r) => r.parts[1]),
+        dcol((x) => x.d.factor), dcol((x) => x.d.unitCount), dcol((x) => x.d.latencyAdded), dcol((x) => designHeadText(x.d)),
     ],
   );
   const created = new Map<string, WrittenRow>();
