@@ -170,13 +170,17 @@ export function DesignReportView({
             {design.lifetimes ? (
               <LifetimeChart lifetimes={design.lifetimes} registerMinimum={design.registers?.minimum} />
             ) : (
-              <p className="text-sm text-ink-600">No lifetime chart: the folded datapath cannot exist as planned.</p>
+              <p className="text-sm text-ink-600">
+                {design.registers
+                  ? 'This report carries no lifetime chart (it was made by a Pleat version that did not write one).'
+                  : 'No lifetime chart: the folded datapath cannot exist as planned.'}
+              </p>
             )}
             <h3 className="mt-6 mb-2 text-sm font-bold text-ink-800">Register allocation</h3>
             {design.allocation ? (
               <AllocationTable allocation={design.allocation} />
             ) : (
-              <p className="text-sm text-ink-600">{design.allocationOmitted ?? 'No allocation: the folded datapath cannot exist as planned.'}</p>
+              <p className="text-sm text-ink-600" data-testid="allocation-missing">{missingAllocation(design)}</p>
             )}
           </Panel>
 
@@ -228,4 +232,17 @@ function RulesInForce({ rules }: { rules: EffectiveRules }) {
       </ul>
     </div>
   );
+}
+
+/**
+ * Why a design shows no allocation table: the report's reason; else, with registers counted (a
+ * feasible datapath), a report of a version that did not write the table; else no datapath.
+ */
+function missingAllocation(design: DesignReport): string {
+  if (design.registers) {
+    return design.allocationOmitted
+      ? `Left out of this report: ${design.allocationOmitted}.`
+      : 'This report carries no allocation table (it was made by a Pleat version that did not write one).';
+  }
+  return design.allocationOmitted ?? 'No allocation: the folded datapath cannot exist as planned.';
 }

@@ -69,6 +69,8 @@ describe('a branch history', () => {
     expect(await page.getByTestId('hardware-folded-cells').textContent()).toBe('850');
     expect(await card.locator('tbody tr').first().locator('td').allTextContents()).toEqual(['850', '3,000', '0.28x']);
     expect(await page.locator('#run-hardware').textContent()).toContain('figures by Yosys 0.23');
+    // A passing design whose report has registers but no table: not "cannot exist as planned".
+    expect(await page.getByTestId('allocation-missing').textContent()).toBe('This report carries no allocation table (it was made by a Pleat version that did not write one).');
     await screenshot(page, 'run-hardware');
     expect(await axeViolations(page)).toEqual([]);
     expect(s.errors).toEqual([]);
