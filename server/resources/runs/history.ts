@@ -1,8 +1,9 @@
 // The branch history page as PostgreSQL writes it: the whole JSON body of RunPage
 // (shared/report/api.ts), in the shape, key order and number and date notation of the presenters
 // (presentRun, presentDesign, encodeCursor in routes.ts), joined in the query that reads the page
-// from the JSON text each row was given when it was written (pageJson.ts), and sent as text. The server then neither parses the rows (dates, numbers, the designs' JSON)
-// nor serialises them again. history.test.ts holds it to the presenters, byte for byte.
+// from the JSON text each row was given when it was written (pageJson.ts), and sent as text. The
+// server then neither parses the rows (dates, numbers, the designs' JSON) nor serialises them
+// again. history.test.ts holds it to the presenters, byte for byte.
 import { QueryTypes } from 'sequelize';
 import type { RunPage } from '../../../shared/report/api';
 import type { AppContext } from '../../context';
